@@ -1,0 +1,1 @@
+"""permq: exact and permutation inference for small experiments."""

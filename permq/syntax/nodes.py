@@ -1,0 +1,185 @@
+"""Syntax nodes: frozen dataclasses whose first field is the source span.
+
+No lark object leaves the parser module; everything downstream sees only these.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Optional, Union
+
+from ..errors import Span
+
+
+@dataclass(frozen=True)
+class Name:
+    span: Span
+    text: str
+
+
+@dataclass(frozen=True)
+class Option:
+    """One option after a statement's subject: `using ranks`, `seed 7`, `levels "A", "B"` ..."""
+
+    span: Span
+    key: str
+    value: object = True
+
+
+# ---- operands of `compare ... vs ...`
+@dataclass(frozen=True)
+class ColumnOperand:
+    span: Span
+    name: Name
+
+
+@dataclass(frozen=True)
+class ValueOperand:
+    span: Span
+    value: float
+
+
+@dataclass(frozen=True)
+class ListOperand:
+    span: Span
+    values: tuple
+
+
+Operand = Union[ColumnOperand, ValueOperand, ListOperand]
+
+
+@dataclass(frozen=True)
+class Grouped:
+    span: Span
+    response: Name
+    group: Name
+
+
+@dataclass(frozen=True)
+class Versus:
+    span: Span
+    operands: tuple
+
+
+@dataclass(frozen=True)
+class Compare:
+    span: Span
+    subject: Union[Grouped, Versus]
+    options: tuple = ()
+
+
+@dataclass(frozen=True)
+class Relate:
+    span: Span
+    response: Name
+    predictor: Name
+    options: tuple = ()
+
+
+@dataclass(frozen=True)
+class CountBy:
+    span: Span
+    rows: Name
+    columns: Name
+
+
+@dataclass(frozen=True)
+class CountVersus:
+    span: Span
+    first: Name
+    second: Name
+
+
+@dataclass(frozen=True)
+class CountInline:
+    span: Span
+    rows: tuple
+
+
+@dataclass(frozen=True)
+class CountProportion:
+    span: Span
+    successes: int
+    trials: int
+    value: Optional[float] = None
+
+
+@dataclass(frozen=True)
+class Count:
+    span: Span
+    subject: Union[CountBy, CountVersus, CountInline, CountProportion]
+    options: tuple = ()
+
+
+Analysis = Union[Compare, Relate, Count]
+
+
+@dataclass(frozen=True)
+class Explain:
+    span: Span
+    analysis: Analysis
+
+
+@dataclass(frozen=True)
+class Load:
+    span: Span
+    path: str
+    alias: Optional[Name] = None
+
+
+@dataclass(frozen=True)
+class Use:
+    span: Span
+    table: Name
+
+
+@dataclass(frozen=True)
+class SetStatement:
+    span: Span
+    key: str
+    value: object
+    value_span: Optional[Span] = None
+
+
+@dataclass(frozen=True)
+class Show:
+    span: Span
+    what: str
+
+
+@dataclass(frozen=True)
+class Describe:
+    span: Span
+    table: Name
+
+
+@dataclass(frozen=True)
+class Help:
+    span: Span
+    topic: Optional[str] = None
+
+
+@dataclass(frozen=True)
+class Save:
+    span: Span
+    path: str
+
+
+@dataclass(frozen=True)
+class Quit:
+    span: Span
+
+
+Statement = Union[Load, Use, Compare, Relate, Count, Explain, SetStatement, Show, Describe,
+                  Help, Save, Quit]
+
+
+def options_of(node) -> dict:
+    """The options of an analysis as a dict key -> Option (the last one wins)."""
+    return {o.key: o for o in getattr(node, "options", ())}
+
+
+@dataclass(frozen=True)
+class Percent:
+    """A number written with a percent sign."""
+
+    value: float = field(default=0.0)

@@ -1,0 +1,432 @@
+"""Source text -> typed statements.
+
+`parse_script` splits a file into statements (line ends outside brackets, or ';'), parses each
+one with the lark grammar and turns the tree into syntax nodes. lark's exceptions are
+translated here into `QuerySyntaxError` with a span and a message in the user's words.
+"""
+from __future__ import annotations
+
+import difflib
+from dataclasses import dataclass
+from typing import Optional
+
+from lark import Token, Transformer, v_args
+from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedToken, VisitError
+
+from ..errors import PermqError, QuerySyntaxError, Span
+from . import nodes as n
+from .grammar import alternatives_of, keyword_of, parser
+
+
+@dataclass(frozen=True)
+class SourceStatement:
+    """One statement of a script: its text and position, and the node or the error."""
+
+    text: str
+    line: int
+    column: int
+    node: Optional[object] = None
+    error: Optional[PermqError] = None
+
+
+# ---------------------------------------------------------------- splitting
+
+def split_statements(source: str) -> list[tuple[str, int, int, int]]:
+    """Cut a script into (text, line, column, offset) chunks, one statement each.
+
+    A statement ends at a line end outside brackets and quotes, unless the line ends with a
+    backslash, or at ';'. Comments run from '#' to the end of the line.
+    """
+    chunks = []
+    depth = 0
+    quote = None
+    start = 0
+    line, col = 1, 1
+    start_line, start_col = 1, 1
+    i = 0
+    in_comment = False
+
+    def flush(end: int):
+        text = source[start:end]
+        if _has_content(text):
+            chunks.append((text, start_line, start_col, start))
+
+    while i < len(source):
+        ch = source[i]
+        if in_comment:
+            if ch == "\n":
+                in_comment = False
+                continue  # handle the newline below
+        elif quote:
+            if ch == quote or ch == "\n":
+                quote = None if ch == quote else None
+        elif ch == "#":
+            in_comment = True
+        elif ch in "\"'`":
+            quote = ch
+        elif ch == "[":
+            depth += 1
+        elif ch == "]":
+            depth = max(0, depth - 1)
+        if not in_comment and ch in "\n;" and depth == 0 and quote is None:
+            continuation = ch == "\n" and source[start:i].rstrip(" \t").endswith("\\")
+            if not continuation:
+                flush(i)
+                start = i + 1
+                start_line, start_col = (line + 1, 1) if ch == "\n" else (line, col + 1)
+        if ch == "\n":
+            line, col = line + 1, 1
+            if depth and quote is None:
+                pass
+        else:
+            col += 1
+        i += 1
+    flush(len(source))
+    return chunks
+
+
+def _has_content(text: str) -> bool:
+    for raw in text.splitlines() or [text]:
+        stripped = raw.split("#", 1)[0].strip().strip("\\").strip()
+        if stripped:
+            return True
+    return False
+
+
+# ---------------------------------------------------------------- parsing
+
+def parse_script(source: str) -> list[SourceStatement]:
+    out = []
+    for text, line, col, offset in split_statements(source):
+        out.append(_parse_chunk(text, line, col, offset))
+    return out
+
+
+def parse_statement(text: str):
+    """Parse one statement; raise QuerySyntaxError on a mistake."""
+    stmts = parse_script(text)
+    if not stmts:
+        raise QuerySyntaxError("the statement is empty", Span(1, 1, 1, 1, 0, 0))
+    first = stmts[0]
+    if first.error:
+        raise first.error
+    if len(stmts) > 1:
+        extra = stmts[1]
+        raise QuerySyntaxError("expected one statement, found more",
+                               Span(extra.line, extra.column, extra.line, extra.column + 1))
+    return first.node
+
+
+def _parse_chunk(text: str, line: int, col: int, offset: int) -> SourceStatement:
+    clean = text.replace("\\\n", "  ")
+    # Pad so that lark's positions are positions in the whole script.
+    pad = "\n" * (line - 1) + " " * (col - 1)
+    padded = pad + clean
+    shown = text.strip()
+    try:
+        tree = parser().parse(padded)
+        node = _ToNodes(offset - len(pad)).transform(tree)
+        return SourceStatement(shown, line, col, node=node)
+    except (UnexpectedToken, UnexpectedCharacters, UnexpectedEOF) as exc:
+        err = translate(exc, padded)
+        if err.span:
+            err.span = err.span.shifted(0, offset - len(pad))
+        return SourceStatement(shown, line, col, error=err)
+    except VisitError as exc:
+        inner = exc.orig_exc
+        if isinstance(inner, PermqError):
+            return SourceStatement(shown, line, col, error=inner)
+        raise
+
+
+# ---------------------------------------------------------------- error translation
+
+_DESCRIPTIONS = {
+    "NAME": "a name",
+    "QUOTED_NAME": "a name",
+    "WORD": "a word",
+    "STRING": 'a quoted text like "A"',
+    "SIGNED_NUMBER": "a number",
+    "INT": "a whole number",
+    "PERCENT": "a percentage like 95%",
+    "DURATION": "a duration like 5s",
+    "LSQB": "'['",
+    "RSQB": "']'",
+    "COMMA": "','",
+    "LESSTHAN": "'<'",
+    "$END": "the end of the statement",
+}
+
+
+def describe_terminal(name: str) -> str:
+    if name in _DESCRIPTIONS:
+        return _DESCRIPTIONS[name]
+    words = alternatives_of(name) if name.isupper() and not name.startswith("__") else []
+    if len(words) > 1:
+        return f"{_kind_word(name)} ({', '.join(sorted(words))})"
+    kw = keyword_of(name)
+    if kw:
+        return f"'{kw}'"
+    return name.lower()
+
+
+def _kind_word(name: str) -> str:
+    return {"FAMILY": "a test family", "ALTERNATIVE": "an alternative",
+            "SETTING": "a setting", "SHOWABLE": "what to show"}.get(name, name.lower())
+
+
+def expected_words(expected) -> list[str]:
+    names = sorted(set(expected))
+    described = []
+    for name in names:
+        text = describe_terminal(name)
+        if text not in described:
+            described.append(text)
+    # keywords first, then kinds of value
+    described.sort(key=lambda s: (not s.startswith("'"), s))
+    return described
+
+
+def _candidate_words(expected) -> list[str]:
+    words = []
+    for name in expected:
+        kw = keyword_of(name)
+        if kw:
+            words.append(kw)
+        elif name.isupper() and not name.startswith("__"):
+            words.extend(alternatives_of(name))
+    return words
+
+
+def translate(exc, text: str) -> QuerySyntaxError:
+    if isinstance(exc, UnexpectedToken):
+        tok = exc.token
+        expected = exc.expected if exc.expected else exc.accepts or set()
+        if tok.type == "$END":
+            span = _end_span(text)
+            return QuerySyntaxError(
+                "the statement ends too early; expected " + _join(expected_words(expected)), span)
+        span = Span(tok.line, tok.column, tok.end_line or tok.line,
+                    tok.end_column or tok.column + len(str(tok)), tok.start_pos or 0,
+                    tok.end_pos or 0)
+        hint = _suggest(str(tok), _candidate_words(expected))
+        return QuerySyntaxError(
+            f"unexpected '{tok}'; expected " + _join(expected_words(expected)), span, hint)
+    if isinstance(exc, UnexpectedCharacters):
+        ch = text[exc.pos_in_stream] if exc.pos_in_stream < len(text) else "?"
+        span = Span(exc.line, exc.column, exc.line, exc.column + 1, exc.pos_in_stream,
+                    exc.pos_in_stream + 1)
+        allowed = expected_words(exc.allowed or [])
+        word = _word_at(text, exc.pos_in_stream)
+        hint = _suggest(word, _candidate_words(exc.allowed or [])) if word else None
+        if ch == '"' or ch == "'":
+            msg = "a quoted text is not closed on this line"
+        else:
+            msg = f"unexpected character '{ch}'"
+        if allowed:
+            msg += "; expected " + _join(allowed)
+        return QuerySyntaxError(msg, span, hint)
+    span = _end_span(text)
+    return QuerySyntaxError("the statement ends too early", span)
+
+
+def _word_at(text: str, pos: int) -> str:
+    end = pos
+    while end < len(text) and (text[end].isalnum() or text[end] in "-_"):
+        end += 1
+    return text[pos:end]
+
+
+def _end_span(text: str) -> Span:
+    body = text.rstrip()
+    line = body.count("\n") + 1
+    col = len(body) - (body.rfind("\n") + 1) + 1
+    return Span(line, col, line, col + 1, len(body), len(body) + 1)
+
+
+def _join(words: list[str]) -> str:
+    if len(words) <= 1:
+        return "".join(words) or "something else"
+    if len(words) > 8:
+        words = words[:8] + ["..."]
+    return ", ".join(words[:-1]) + " or " + words[-1]
+
+
+def _suggest(word: str, candidates: list[str]) -> Optional[str]:
+    if not word or not candidates:
+        return None
+    close = difflib.get_close_matches(word.lower(), candidates, n=1, cutoff=0.6)
+    return f"did you mean '{close[0]}'?" if close else None
+
+
+# ---------------------------------------------------------------- tree -> nodes
+
+_DELTA = [0]  # offset correction for the statement being transformed (padding removed)
+
+
+def _span(meta) -> Span:
+    d = _DELTA[0]
+    return Span(meta.line, meta.column, meta.end_line, meta.end_column, meta.start_pos + d,
+                meta.end_pos + d)
+
+
+def _tspan(tok: Token) -> Span:
+    d = _DELTA[0]
+    return Span(tok.line, tok.column, tok.end_line, tok.end_column, tok.start_pos + d,
+                tok.end_pos + d)
+
+
+@dataclass(frozen=True)
+class _Lit:
+    span: Span
+    value: object
+
+
+@v_args(meta=True)
+class _ToNodes(Transformer):
+    def __init__(self, delta: int = 0):
+        super().__init__()
+        _DELTA[0] = delta
+    # terminals ---------------------------------------------------------------
+    def __default_token__(self, tok):
+        return _Lit(_tspan(tok), str(tok))
+
+    def NAME(self, tok):
+        return n.Name(_tspan(tok), str(tok))
+
+    def QUOTED_NAME(self, tok):
+        return n.Name(_tspan(tok), str(tok)[1:-1])
+
+    def STRING(self, tok):
+        return _Lit(_tspan(tok), str(tok)[1:-1])
+
+    def SIGNED_NUMBER(self, tok):
+        return _Lit(_tspan(tok), float(tok))
+
+    def INT(self, tok):
+        return _Lit(_tspan(tok), int(tok))
+
+    def PERCENT(self, tok):
+        return _Lit(_tspan(tok), n.Percent(float(str(tok)[:-1])))
+
+    # statements --------------------------------------------------------------
+    def start(self, meta, children):
+        return children[0]
+
+    def load(self, meta, ch):
+        return n.Load(_span(meta), ch[0].value, ch[1] if len(ch) > 1 else None)
+
+    def use(self, meta, ch):
+        return n.Use(_span(meta), ch[0])
+
+    def explain(self, meta, ch):
+        return n.Explain(_span(meta), ch[0])
+
+    def set_stmt(self, meta, ch):
+        value = ch[1]
+        v = value.value
+        return n.SetStatement(_span(meta), ch[0].value, v, value.span)
+
+    def show(self, meta, ch):
+        return n.Show(_span(meta), ch[0].value)
+
+    def describe(self, meta, ch):
+        return n.Describe(_span(meta), ch[0])
+
+    def help(self, meta, ch):
+        return n.Help(_span(meta), ch[0] if ch else None)
+
+    def topic(self, meta, ch):
+        return ch[0].value
+
+    def save(self, meta, ch):
+        return n.Save(_span(meta), ch[0].value)
+
+    def quit(self, meta, ch):
+        return n.Quit(_span(meta))
+
+    # compare -----------------------------------------------------------------
+    def compare(self, meta, ch):
+        return n.Compare(_span(meta), ch[0], tuple(ch[1:]))
+
+    def grouped(self, meta, ch):
+        return n.Grouped(_span(meta), ch[0], ch[1])
+
+    def versus(self, meta, ch):
+        return n.Versus(_span(meta), tuple(ch))
+
+    def column_operand(self, meta, ch):
+        return n.ColumnOperand(_span(meta), ch[0])
+
+    def value_operand(self, meta, ch):
+        return n.ValueOperand(_span(meta), ch[0].value)
+
+    def list_operand(self, meta, ch):
+        lst = ch[0]
+        return n.ListOperand(lst.span, lst.value)
+
+    def number_list(self, meta, ch):
+        return _Lit(_span(meta), tuple(c.value for c in ch))
+
+    # relate, count -----------------------------------------------------------
+    def relate(self, meta, ch):
+        return n.Relate(_span(meta), ch[0], ch[1], tuple(ch[2:]))
+
+    def count(self, meta, ch):
+        return n.Count(_span(meta), ch[0], tuple(ch[1:]))
+
+    def count_by(self, meta, ch):
+        return n.CountBy(_span(meta), ch[0], ch[1])
+
+    def count_versus(self, meta, ch):
+        return n.CountVersus(_span(meta), ch[0], ch[1])
+
+    def count_inline(self, meta, ch):
+        return n.CountInline(_span(meta), ch[0].value)
+
+    def table_literal(self, meta, ch):
+        return _Lit(_span(meta), tuple(c.value for c in ch))
+
+    def count_proportion(self, meta, ch):
+        value = ch[2].value if len(ch) > 2 else None
+        return n.CountProportion(_span(meta), ch[0].value, ch[1].value, value)
+
+    # options -----------------------------------------------------------------
+    def _opt(self, meta, key, value=True):
+        return n.Option(_span(meta), key, value)
+
+    def using(self, meta, ch):
+        return self._opt(meta, "using", ch[0].value)
+
+    def alternative(self, meta, ch):
+        return self._opt(meta, "alternative", ch[0].value)
+
+    def confidence(self, meta, ch):
+        return self._opt(meta, "confidence", ch[0].value)
+
+    def exact(self, meta, ch):
+        return self._opt(meta, "exact")
+
+    def sampled(self, meta, ch):
+        return self._opt(meta, "sampled", ch[0].value)
+
+    def seed(self, meta, ch):
+        return self._opt(meta, "seed", ch[0].value)
+
+    def levels(self, meta, ch):
+        return self._opt(meta, "levels", tuple((c.value, c.span) for c in ch))
+
+    def within(self, meta, ch):
+        return self._opt(meta, "within", ch[0])
+
+    def ordered(self, meta, ch):
+        return self._opt(meta, "ordered", tuple((c.value, c.span) for c in ch))
+
+    def paired(self, meta, ch):
+        return self._opt(meta, "paired")
+
+    def in_table(self, meta, ch):
+        return self._opt(meta, "in", ch[0])
+
+    def adjusting(self, meta, ch):
+        return self._opt(meta, "adjusting", tuple(ch))
