@@ -123,6 +123,7 @@ def _parse_chunk(text: str, line: int, col: int, offset: int) -> SourceStatement
     pad = "\n" * (line - 1) + " " * (col - 1)
     padded = pad + clean
     shown = text.strip()
+    col += len(text) - len(text.lstrip(" \t"))
     try:
         tree = parser().parse(padded)
         node = _ToNodes(offset - len(pad)).transform(tree)

@@ -1,0 +1,90 @@
+"""Bound designs: plain data between the binder and the planner / engines.
+
+A design holds the numbers an engine needs (already cleaned of missing values), the names of
+things in the user's words, and the settings that apply to this one statement.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class Settings:
+    family: str
+    alternative: str = "two-sided"
+    level: float = 0.95
+    exact: bool = False
+    sampled: Optional[int] = None
+    seed: Optional[int] = None
+    budget_seconds: float = 5.0
+    memory_bytes: float = 2.0e9
+    explain: bool = False
+
+
+@dataclass(frozen=True)
+class TwoSampleDesign:
+    x: np.ndarray
+    y: np.ndarray
+    labels: tuple            # (first, second) in the user's words
+    response: str
+    effect: str              # e.g. "A - B"
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "two-sample"
+
+
+@dataclass(frozen=True)
+class OneSampleDesign:
+    d: np.ndarray            # differences (paired) or values minus the reference value
+    effect: str              # e.g. "after - before", "mass - 12.5"
+    settings: Settings
+    kind: str = "paired"     # "paired" or "one-sample"
+    reference: float = 0.0   # the value subtracted, for one sample
+    labels: tuple = ()
+    warnings: tuple = ()
+
+
+@dataclass(frozen=True)
+class GroupsDesign:
+    """Three or more groups, ordered groups, or blocked designs (k-sample family)."""
+
+    values: np.ndarray
+    groups: np.ndarray       # codes 0..k-1 in level order
+    labels: tuple
+    response: str
+    settings: Settings
+    blocks: Optional[np.ndarray] = None
+    block_labels: tuple = ()
+    ordered: bool = False
+    scores: Optional[np.ndarray] = None   # dose scores of the ordered levels
+    warnings: tuple = ()
+    kind: str = "k-sample"
+
+
+@dataclass(frozen=True)
+class AssociationDesign:
+    y: np.ndarray
+    x: np.ndarray
+    names: tuple             # (response, predictor)
+    settings: Settings
+    covariates: Optional[np.ndarray] = None
+    covariate_names: tuple = ()
+    warnings: tuple = ()
+    kind: str = "association"
+
+
+@dataclass(frozen=True)
+class TableDesign:
+    table: np.ndarray        # counts, rows x columns
+    row_labels: tuple
+    col_labels: tuple
+    settings: Settings
+    form: str = "table"      # "table", "paired", "proportion"
+    ordered: bool = False
+    reference: Optional[float] = None
+    names: tuple = ()
+    warnings: tuple = field(default_factory=tuple)
+    kind: str = "table"

@@ -1,0 +1,1 @@
+"""Tables the session knows: loading files and describing them."""

@@ -1,0 +1,250 @@
+"""Two independent samples: linear permutation statistics S = sum of group-1 scores.
+
+Families: means (Pitman's permutation test on the difference in means), ranks (Wilcoxon
+rank-sum with mid-ranks), normal-scores (van der Waerden), medians (Mood's median test).
+Each reported statistic is an increasing affine function of S, so the p-value is had from the
+null distribution of S over all C(N, n1) ways to choose group 1, conditional on ties.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from math import comb
+from typing import Optional
+
+import numpy as np
+
+from ..plan.cost import Candidate
+from ..result import EngineOutcome
+from . import pvalues
+from .counting import EXACT_COUNT_LIMIT, convolve_counts, counts_by_size, layer_bytes
+from .enumeration import combinations_chunks
+from .jumps import interval_from_jumps
+from .sampling import NO_PROGRESS, Progress, blocks
+from .scores import Grid, integer_grid, median_scores, midranks, normal_scores
+
+MAX_DP_BYTES = 2.0e9
+
+
+@dataclass(frozen=True)
+class TwoSampleFamily:
+    key: str
+    statistic_name: str
+
+
+FAMILIES = {
+    "means": TwoSampleFamily("means", "difference in means"),
+    "ranks": TwoSampleFamily("ranks", "rank sum of the first group (mid-ranks)"),
+    "normal-scores": TwoSampleFamily("normal-scores", "normal-scores sum of the first group"),
+    "medians": TwoSampleFamily("medians", "count of the first group above the pooled median"),
+}
+
+
+def scores_for(family: str, x, y) -> np.ndarray:
+    pooled = np.concatenate([x, y]).astype(float)
+    if family == "means":
+        return pooled
+    if family == "ranks":
+        return midranks(pooled)
+    if family == "normal-scores":
+        return normal_scores(pooled)
+    if family == "medians":
+        return median_scores(pooled)
+    raise KeyError(family)
+
+
+def statistic_from_sum(family: str, s, a, n1: int):
+    """The reported statistic for group-1 score sum(s) s."""
+    if family == "means":
+        n2 = len(a) - n1
+        return np.asarray(s) / n1 - (a.sum() - np.asarray(s)) / n2
+    return np.asarray(s, dtype=float)
+
+
+# ---------------------------------------------------------------- cost
+
+def candidates(family: str, x, y, draws: int) -> list[Candidate]:
+    a = scores_for(family, x, y)
+    n1, N = len(x), len(a)
+    total = float(comb(N, n1))
+    out = []
+    grid = integer_grid(a)
+    if grid is not None:
+        width = float(np.sort(grid.integers)[::-1][:n1].sum()) + 1
+        ops = N * (n1 + 1) * width / 2
+        mem = layer_bytes(n1 + 1, width)
+        if family == "means":   # the exact interval counts each group on its own as well
+            ops *= 2
+            mem *= 2
+        note = ("scores are integers" if family != "means"
+                else f"data on a grid of {grid.step:g} ({grid.decimals} decimals)")
+        out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
+                             feasible=mem <= MAX_DP_BYTES, note=note, arrangements=total))
+    else:
+        out.append(Candidate("dp-integer", "dynamic programming on integer scores", True,
+                             float("inf"), float("inf"), feasible=False,
+                             note="scores do not lie on a decimal grid", arrangements=total))
+    out.append(Candidate("enumeration", "complete enumeration", True, total * (n1 + 2) * 4,
+                         min(total, 2e5) * n1 * 8 * 3, arrangements=total,
+                         note=f"{total:.3g} arrangements"))
+    out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
+                         draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=total,
+                         note=f"{draws} draws"))
+    return out
+
+
+# ---------------------------------------------------------------- run
+
+def run(family: str, x, y, alternative: str, algorithm: str, level: float,
+        draws: Optional[int] = None, seed: Optional[int] = None,
+        progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:
+    """The permutation p-value, and for `means` the exact interval for the shift x - y."""
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    a = scores_for(family, x, y)
+    n1 = len(x)
+    fam = FAMILIES[family]
+    t_obs = float(statistic_from_sum(family, a[:n1].sum(), a, n1))
+    if algorithm == "dp-integer":
+        return _run_dp(fam, x, y, a, alternative, level, t_obs, progress)
+    if algorithm == "enumeration":
+        return _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress)
+    return _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progress)
+
+
+def _run_dp(fam, x, y, a, alternative, level, t_obs, progress):
+    n1, N = len(x), len(a)
+    grid = integer_grid(a)
+    q = grid.integers
+    table = counts_by_size(q, n1, progress)
+    counts = table[n1]
+    support = np.flatnonzero(counts)
+    counts = counts[support]
+    s_obs = int(q[:n1].sum())
+    p = _integer_tail(support, counts, s_obs, int(q.sum()) * n1, N, alternative)
+    total = comb(N, n1)
+    warn = () if total < EXACT_COUNT_LIMIT else (
+        "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
+    stat_support = statistic_from_sum(fam.key, n1 * grid.origin + grid.step * support, a, n1)
+    out = EngineOutcome(fam.statistic_name, t_obs, p, "exact",
+                        "dynamic programming on integer scores", arrangements=float(total),
+                        null_support=stat_support, null_probs=counts / counts.sum(), warnings=warn)
+    interval = None
+    if fam.key == "means":
+        interval = _shift_interval_dp(q[:n1], q[n1:], grid, level, alternative, total)
+    return out, interval
+
+
+def _integer_tail(support, counts, s_obs, center_num, center_den, alternative) -> float:
+    """Exact integer comparisons: two-sided |den*s - num| >= |den*s_obs - num|."""
+    if alternative == "higher":
+        mask = support >= s_obs
+    elif alternative == "lower":
+        mask = support <= s_obs
+    else:
+        dev = np.abs(support.astype(np.int64) * center_den - center_num)
+        mask = dev >= abs(s_obs * center_den - center_num)
+    return pvalues.clip(counts[mask].sum() / counts.sum())
+
+
+def _shift_interval_dp(q1, q2, grid: Grid, level, alternative, total):
+    """Exact interval for delta in x - delta vs y, from the jumps (u moved, w = Q1_u - Q2_u)."""
+    n1, n2 = len(q1), len(q2)
+    top = min(n1, n2)
+    t1 = counts_by_size(q1, top)
+    t2 = counts_by_size(q2, top)
+    values, counts = [], []
+    for u in range(1, top + 1):
+        c1, c2 = t1[u], t2[u]
+        c1 = np.trim_zeros(c1, "b")
+        c2 = np.trim_zeros(c2, "b")
+        conv = convolve_counts(c1, c2[::-1])
+        w = np.arange(len(conv)) - (len(c2) - 1)
+        nz = conv > 0
+        values.append(grid.step * w[nz] / u)
+        counts.append(conv[nz])
+    return interval_from_jumps(np.concatenate(values), np.concatenate(counts), 1.0, float(total),
+                               level, alternative)
+
+
+def _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress):
+    n1, N = len(x), len(a)
+    total = comb(N, n1)
+    center = n1 * a.mean()
+    s_obs = a[:n1].sum()
+    sums, us, ws = [], [], []
+    x_sum = a[:n1].sum()
+    done = 0
+    for idx in combinations_chunks(N, n1):
+        s = a[idx].sum(axis=1)
+        sums.append(s)
+        if fam.key == "means":
+            in2 = idx >= n1
+            u = in2.sum(axis=1)
+            g2_in = np.where(in2, a[idx], 0.0).sum(axis=1)
+            g1_out = x_sum - (s - g2_in)
+            us.append(u)
+            ws.append(g1_out - g2_in)
+        done += len(idx)
+        progress.step(done / total, "enumerating")
+    sums = np.concatenate(sums)
+    b = pvalues.exceedances(sums, s_obs, alternative, center=center,
+                            scale=max(abs(s_obs - center), np.abs(a).max()))
+    p = pvalues.clip(b / total)
+    uniq, cnt = _tally(sums)
+    out = EngineOutcome(fam.statistic_name, t_obs, p, "exact", "complete enumeration",
+                        arrangements=float(total),
+                        null_support=statistic_from_sum(fam.key, uniq, a, n1), null_probs=cnt / total)
+    interval = None
+    if fam.key == "means":
+        u = np.concatenate(us)
+        w = np.concatenate(ws)
+        moved = u > 0
+        interval = interval_from_jumps(w[moved] / u[moved], np.ones(moved.sum()),
+                                       float((~moved).sum()), float(total), level, alternative)
+    return out, interval
+
+
+def _tally(values):
+    v = np.sort(values)
+    if v.size == 0:
+        return v, v
+    scale = max(1.0, float(np.abs(v).max()))
+    new = np.empty(v.size, dtype=bool)
+    new[0] = True
+    new[1:] = np.diff(v) > 1e-9 * scale
+    starts = np.flatnonzero(new)
+    return v[starts], np.diff(np.append(starts, v.size)).astype(float)
+
+
+def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progress):
+    n1, N = len(x), len(a)
+    s_obs = a[:n1].sum()
+    center = n1 * a.mean()
+    scale = max(abs(s_obs - center), float(np.abs(a).max()))
+    x_sum = s_obs
+    b = 0
+    jumps = []
+    base = np.arange(N)
+    for i, size, rng in blocks(seed, draws):
+        idx = rng.permuted(np.broadcast_to(base, (size, N)), axis=1)[:, :n1]
+        vals = a[idx]
+        s = vals.sum(axis=1)
+        b += pvalues.exceedances(s, s_obs, alternative, center=center, scale=scale)
+        if fam.key == "means":
+            in2 = idx >= n1
+            u = in2.sum(axis=1)
+            g2_in = np.where(in2, vals, 0.0).sum(axis=1)
+            moved = u > 0
+            jumps.append(((x_sum - (s - g2_in) - g2_in)[moved] / u[moved], int((~moved).sum())))
+        progress.step((i * 8192 + size) / draws, "sampling")
+    p, p_int = pvalues.monte_carlo_p(b, draws)
+    out = EngineOutcome(fam.statistic_name, t_obs, p, "monte-carlo",
+                        "Monte Carlo sampling of arrangements", arrangements=float(comb(N, n1)),
+                        draws=draws, p_interval=p_int, seed=seed)
+    interval = None
+    if fam.key == "means":
+        vals = np.concatenate([j[0] for j in jumps])
+        identity = 1.0 + sum(j[1] for j in jumps)   # the observed arrangement counts once more
+        interval = interval_from_jumps(vals, np.ones(vals.size), identity, float(draws + 1),
+                                       level, alternative)
+    return out, interval

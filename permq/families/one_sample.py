@@ -1,0 +1,67 @@
+"""Paired differences and one sample against a value: sign-flip tests and their estimates."""
+from __future__ import annotations
+
+import numpy as np
+
+from ..engine import onesample, rankintervals
+from ..engine.pvalues import TWO_SIDED_LINEAR
+from ..normal.theory import one_sample as normal_one_sample
+from ..plan.planner import make_plan
+from ..result import Estimate, Result
+
+ZERO_RULE = ("zero differences carry no sign and are left out of the sign flips; for ranks they "
+             "keep their place in the ranking (Pratt's rule)")
+
+
+def plan(design):
+    s = design.settings
+    return make_plan(design.kind, s.family, s,
+                     lambda draws: onesample.candidates(s.family, design.d, draws))
+
+
+def execute(design, the_plan, progress, statement: str = "") -> Result:
+    s = design.settings
+    outcome, interval = onesample.run(s.family, design.d, s.alternative,
+                                      the_plan.chosen.algorithm, s.level, draws=the_plan.draws,
+                                      seed=the_plan.seed, progress=progress)
+    normal = normal_one_sample(s.family, design.d, s.level, s.alternative)
+    estimate = _estimate(design, interval, outcome.method)
+    warnings = list(design.warnings)
+    zeros = int(np.sum(design.d == 0))
+    if zeros:
+        warnings.append(f"{zeros} zero difference{'s' if zeros > 1 else ''}: {ZERO_RULE}")
+    d = design.d + design.reference
+    groups = [{"name": design.effect if design.kind == "paired" else design.labels[0],
+               "n": int(len(d)), "mean": float(d.mean()), "median": float(np.median(d)),
+               "sd": float(d.std(ddof=1)) if len(d) > 1 else None}]
+    return Result(statement, design.kind, s.alternative, outcome, normal, estimate,
+                  effect=_effect_words(s.family, design), groups=groups,
+                  two_sided_rule=TWO_SIDED_LINEAR, warnings=warnings,
+                  extra={"zero_rule": ZERO_RULE})
+
+
+def _effect_words(family, design):
+    what = design.effect
+    if family == "means":
+        return f"mean of {what}"
+    if family == "ranks":
+        return f"pseudo-median of {what}"
+    return f"median of {what}"
+
+
+def _estimate(design, interval, method):
+    s = design.settings
+    d = design.d
+    label = design.effect
+    if s.family == "means":
+        how = ("inverting the sign-flip test under a shift model"
+               + (" (on the sampled sign patterns)" if method == "monte-carlo" else ""))
+        return Estimate(f"mean of {label}", float(d.mean()), interval, s.level, how)
+    if s.family == "ranks":
+        est, iv, exact = rankintervals.hodges_lehmann_one_sample(d, s.level, s.alternative)
+        how = ("order statistics of the Walsh averages at the exact signed-rank quantiles "
+               "(no-ties law)" if exact else "order statistics at normal-approximation ranks")
+        return Estimate(f"Hodges-Lehmann pseudo-median of {label}", est, iv, s.level, how)
+    est, iv = rankintervals.median_interval(d, s.level, s.alternative)
+    return Estimate(f"median of {label}", est, iv, s.level,
+                    "order statistics at binomial quantiles (sign-test interval)")

@@ -1,0 +1,54 @@
+"""`help` and `help TOPIC`: short pages with examples that run on the demo."""
+from __future__ import annotations
+
+TOPICS = {
+    "compare": """compare: two groups, paired data, one sample
+  compare mass by recipe                      two levels of a group column
+  compare mass by recipe levels "B", "A"      choose and order the levels (effect B - A)
+  compare after vs before paired              paired columns (effect after - before)
+  compare mass vs 12.5                        one sample against a value
+  compare [4.1, 5.3, 4.8] vs [6.0, 5.9, 7.2]  inline samples
+options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact,
+         sampled N, seed N, in TABLE""",
+    "families": """test families (after 'using')
+  means          difference in means (two samples) or mean difference (paired), by permutation
+  ranks          Wilcoxon rank-sum / signed-rank with mid-ranks
+  normal-scores  van der Waerden normal scores (two samples)
+  medians        Mood's median test (two samples)
+  signs          the sign test (paired, one sample)""",
+    "options": """options follow the statement, in any order
+  using FAMILY                   statistic family (help families)
+  alternative two-sided|higher|lower   'higher' means the effect named is positive
+  confidence 90%                 level of the intervals
+  exact                          insist on an exact method (refused past a hard ceiling)
+  sampled 50000                  Monte Carlo with that many draws
+  seed 7                         seed for Monte Carlo
+  in TABLE                       take the columns from TABLE""",
+    "session": """session statements
+  load "file.csv" as name        csv, tsv, parquet, xlsx
+  use name                       the table the statements that follow use
+  describe name                  columns, types, missing values, levels
+  show tables | show settings
+  set seed 11 | set confidence 90% | set alternative higher | set budget 5s | set format json
+  explain STATEMENT              the plan and its cost; nothing is run
+  save "file.pq"                 write what ran as a query file that replays
+  quit""",
+}
+TOPICS["ranks"] = TOPICS["families"]
+TOPICS["means"] = TOPICS["families"]
+TOPICS["set"] = TOPICS["session"]
+TOPICS["load"] = TOPICS["session"]
+
+
+def help_text(topic) -> str:
+    if topic is None:
+        return ("permq: exact permutation and rank tests beside their normal-theory counterparts\n"
+                "topics: " + ", ".join(sorted(k for k in TOPICS)) + "\n\n" + TOPICS["compare"])
+    topic = str(topic).lower()
+    if topic in TOPICS:
+        return TOPICS[topic]
+    import difflib
+
+    close = difflib.get_close_matches(topic, list(TOPICS), n=1)
+    hint = f" (did you mean '{close[0]}'?)" if close else ""
+    return f"no help on '{topic}'{hint}; topics: " + ", ".join(sorted(TOPICS))

@@ -1,0 +1,109 @@
+"""The textbook counterparts of the permutation tests of two samples and of paired data.
+
+Each function returns a `NormalTheory`: the test's name in words, statistic, degrees of
+freedom, p-value for the same alternative, and where there is one, the normal-theory interval
+for the same estimate.
+"""
+from __future__ import annotations
+
+import numpy as np
+from scipy import stats
+
+from ..engine.rankintervals import (hodges_lehmann_one_sample_normal,
+                                    hodges_lehmann_two_sample_normal, median_interval_normal)
+from ..engine.scores import median_scores, midranks, normal_scores
+from ..result import NormalTheory
+
+
+def _p_from_z(z, alternative):
+    if alternative == "higher":
+        return float(stats.norm.sf(z))
+    if alternative == "lower":
+        return float(stats.norm.cdf(z))
+    return float(min(1.0, 2 * stats.norm.sf(abs(z))))
+
+
+def _p_from_t(t, df, alternative):
+    if alternative == "higher":
+        return float(stats.t.sf(t, df))
+    if alternative == "lower":
+        return float(stats.t.cdf(t, df))
+    return float(min(1.0, 2 * stats.t.sf(abs(t), df)))
+
+
+def _t_interval(est, se, df, level, alternative):
+    if alternative == "two-sided":
+        h = stats.t.isf((1 - level) / 2, df) * se
+        return est - h, est + h
+    h = stats.t.isf(1 - level, df) * se
+    return (est - h, np.inf) if alternative == "higher" else (-np.inf, est + h)
+
+
+def _z_score(s, mean, var):
+    return (s - mean) / np.sqrt(var) if var > 0 else 0.0
+
+
+# ---------------------------------------------------------------- two samples
+
+def two_sample(family, x, y, level, alternative) -> NormalTheory:
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    n1, n2 = len(x), len(y)
+    N = n1 + n2
+    if family == "means":
+        v1, v2 = x.var(ddof=1) / n1, y.var(ddof=1) / n2
+        se = np.sqrt(v1 + v2)
+        df = (v1 + v2) ** 2 / (v1 ** 2 / (n1 - 1) + v2 ** 2 / (n2 - 1)) if se > 0 else float(N - 2)
+        est = x.mean() - y.mean()
+        t = est / se if se > 0 else 0.0
+        return NormalTheory("Welch t (unequal variances)", t, df, _p_from_t(t, df, alternative),
+                            _t_interval(est, se, df, level, alternative),
+                            "Welch t interval")
+    pooled = np.concatenate([x, y])
+    if family == "ranks":
+        a = midranks(pooled)
+        name = "normal approximation to the rank sum (tie-corrected, no continuity correction)"
+    elif family == "normal-scores":
+        a = normal_scores(pooled)
+        name = "normal approximation to the normal-scores sum"
+    else:
+        a = median_scores(pooled)
+        name = "normal approximation to the count above the median"
+    s = a[:n1].sum()
+    mean = n1 * a.mean()
+    var = n1 * n2 / (N * (N - 1)) * ((a - a.mean()) ** 2).sum()
+    z = _z_score(s, mean, var)
+    interval, how = None, ""
+    if family == "ranks":
+        interval = hodges_lehmann_two_sample_normal(x, y, level, alternative)
+        how = "order statistics of the pairwise differences at normal-approximation ranks"
+    return NormalTheory(name, z, None, _p_from_z(z, alternative), interval, how)
+
+
+# ---------------------------------------------------------------- paired / one sample
+
+def one_sample(family, d, level, alternative) -> NormalTheory:
+    d = np.asarray(d, float)
+    n = len(d)
+    if family == "means":
+        se = d.std(ddof=1) / np.sqrt(n) if n > 1 else 0.0
+        est = d.mean()
+        t = est / se if se > 0 else 0.0
+        return NormalTheory("one-sample t on the differences", t, n - 1,
+                            _p_from_t(t, n - 1, alternative),
+                            _t_interval(est, se, n - 1, level, alternative) if se > 0 else None,
+                            "t interval")
+    nz = d[d != 0]
+    if family == "ranks":
+        r = midranks(np.abs(d))[d != 0]
+        tplus = r[nz > 0].sum()
+        z = _z_score(tplus, r.sum() / 2, (r ** 2).sum() / 4)
+        return NormalTheory("normal approximation to the signed-rank sum (tie- and zero-corrected,"
+                            " no continuity correction)", z, None, _p_from_z(z, alternative),
+                            hodges_lehmann_one_sample_normal(d, level, alternative),
+                            "order statistics of the Walsh averages at normal-approximation ranks")
+    m = len(nz)
+    z = _z_score((nz > 0).sum(), m / 2, m / 4)
+    return NormalTheory("normal approximation to the sign count (no continuity correction)", z,
+                        None, _p_from_z(z, alternative),
+                        median_interval_normal(d, level, alternative),
+                        "order statistics at normal-approximation ranks")

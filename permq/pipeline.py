@@ -1,0 +1,130 @@
+"""The pipeline in one place: parse, bind, plan, execute; and the session that runs it.
+
+    statement text -> syntax node -> design -> plan -> result
+
+The shell, the file runner and the Python API are thin front ends over `Session`.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Callable, Iterable, Optional
+
+from .bind.binder import Catalog, Defaults, bind
+from .errors import Cancelled, PermqError
+from .families import handler_for
+from .engine.sampling import Progress
+from .result import Failure, Note
+from .syntax import nodes as n
+from .syntax.parser import SourceStatement, parse_script
+from . import statements
+
+
+def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Progress):
+    """One analysis statement, end to end."""
+    design = bind(node, catalog, defaults)
+    handler = handler_for(design)
+    the_plan = handler.plan(design)
+    return handler.execute(design, the_plan, progress, text)
+
+
+def explain(node, text: str, catalog: Catalog, defaults: Defaults) -> Note:
+    design = bind(node, catalog, defaults)
+    the_plan = handler_for(design).plan(design)
+    return Note(text, str(the_plan), {"plan": str(the_plan), "method": the_plan.method,
+                                      "algorithm": the_plan.chosen.description,
+                                      "estimated_seconds": the_plan.chosen.seconds})
+
+
+class Session:
+    """Tables, defaults and the statements that ran; shared by every front end."""
+
+    def __init__(self, tables: Optional[dict] = None, base_dir: Optional[Path] = None,
+                 on_progress: Optional[Callable[[float, str], None]] = None,
+                 should_stop: Optional[Callable[[], bool]] = None):
+        from .data.tables import Table
+
+        self.catalog = Catalog()
+        self.defaults = Defaults()
+        self.base_dir = Path(base_dir) if base_dir else Path.cwd()
+        self.progress = Progress(on_progress, should_stop)
+        self.history: list[str] = []     # statements that ran, replayable (seeds pinned)
+        self.quit_requested = False
+        for name, frame in (tables or {}).items():
+            self.catalog.tables[name] = Table(name, frame, "(given)")
+            self.catalog.current = self.catalog.current or name
+
+    def run(self, source: str) -> list:
+        """Run a script; one output (Result, Note or Failure) per statement that prints."""
+        outputs = []
+        for st in parse_script(source):
+            out = self.run_statement(st)
+            if out is not None:
+                outputs.append(out)
+            if self.quit_requested:
+                break
+        return outputs
+
+    def run_statement(self, st: SourceStatement):
+        if st.error is not None:
+            return failure(st, st.error)
+        try:
+            return self._dispatch(st)
+        except Cancelled as exc:
+            return failure(st, exc)
+        except PermqError as exc:
+            return failure(st, exc)
+        except KeyboardInterrupt:
+            return failure(st, Cancelled("cancelled; no result kept for this statement"))
+        except (MemoryError, RecursionError) as exc:
+            return failure(st, PermqError(f"ran out of {type(exc).__name__[:-5].lower()}; "
+                                          "try 'sampled N' for Monte Carlo"))
+        except Exception as exc:  # noqa: BLE001 - a bug must still not end the session
+            return failure(st, PermqError(f"internal error ({type(exc).__name__}: {exc}); "
+                                          "please report this statement"))
+
+    def _dispatch(self, st: SourceStatement):
+        node = st.node
+        if isinstance(node, (n.Compare, n.Relate, n.Count)):
+            result = analyse(node, st.text, self.catalog, self.defaults, self.progress)
+            result.line = st.line
+            self.history.append(statements.replayable(st.text, result))
+            return result
+        if isinstance(node, n.Explain):
+            note = explain(node.analysis, st.text, self.catalog, self.defaults)
+            note.line = st.line
+            return note
+        note = statements.run_session_statement(node, st.text, self)
+        if note is not None:
+            note.line = st.line
+        return note
+
+    def run_many(self, sources: Iterable[str]) -> list:
+        out = []
+        for s in sources:
+            out.extend(self.run(s))
+        return out
+
+
+def failure(st: SourceStatement, exc: PermqError) -> Failure:
+    span = exc.span
+    line = span.line if span else st.line
+    col = span.column if span else st.column
+    return Failure(st.text, exc.message, line, col, exc.kind, exc.hint,
+                   caret=caret_lines(st, span))
+
+
+def caret_lines(st: SourceStatement, span) -> str:
+    """The statement's line with carets under the spot (a pure function of text and span)."""
+    lines = st.text.splitlines() or [st.text]
+    if span is None:
+        return lines[0]
+    index = span.line - st.line
+    if not 0 <= index < len(lines):
+        return lines[0]
+    text = lines[index]
+    # columns count from the start of the source line; the first line starts at st.column
+    lead = (st.column - 1) if index == 0 else 0
+    start = max(0, span.column - 1 - lead)
+    end_col = span.end_column if span.end_line == span.line else span.column + 1
+    width = max(1, min(end_col - span.column, len(text) - start))
+    return text + "\n" + " " * start + "^" * width

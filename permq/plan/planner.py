@@ -1,0 +1,118 @@
+"""The planner: a small pure function from a design to a frozen plan.
+
+It asks the design's engine for its candidate algorithms with their estimated cost, and picks:
+- `sampled N` forces Monte Carlo with N draws;
+- otherwise the cheapest feasible exact algorithm within the time and memory budget;
+- `exact` forces the cheapest feasible exact algorithm up to a hard ceiling, and refuses past
+  it with the estimate;
+- otherwise Monte Carlo with the default number of draws.
+`str(plan)` is what `explain` prints.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable
+
+from ..errors import PlanError
+from ..engine.sampling import fresh_seed
+from .cost import Candidate
+
+DEFAULT_DRAWS = 100_000
+EXACT_CEILING_SECONDS = 3600.0
+
+
+@dataclass(frozen=True)
+class Plan:
+    engine: str                 # which engine module runs it
+    family: str                 # statistic family
+    chosen: Candidate
+    candidates: tuple
+    draws: int
+    seed: int
+    reason: str
+    budget_seconds: float
+
+    @property
+    def method(self) -> str:
+        return "exact" if self.chosen.exact else "monte-carlo"
+
+    def __str__(self) -> str:
+        lines = [f"plan: {self.engine}, family '{self.family}'",
+                 f"  chosen: {self.chosen.description} ({self.method})",
+                 f"  why: {self.reason}",
+                 f"  budget: {_seconds(self.budget_seconds)}",
+                 "  candidates:"]
+        for c in self.candidates:
+            mark = "*" if c is self.chosen else " "
+            if not c.feasible:
+                est = "cannot apply"
+            else:
+                est = f"about {_seconds(c.seconds)}, {_bytes(c.memory)}"
+            note = f" - {c.note}" if c.note else ""
+            lines.append(f"   {mark} {c.description:<44} {est}{note}")
+        if not self.chosen.exact:
+            lines.append(f"  draws: {self.draws:,}, seed {self.seed}")
+        if self.chosen.arrangements:
+            lines.append(f"  reference set: {_count(self.chosen.arrangements)} arrangements")
+        return "\n".join(lines)
+
+
+def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int], list]) -> Plan:
+    draws = settings.sampled or DEFAULT_DRAWS
+    cands = tuple(candidates_for(draws))
+    seed = settings.seed if settings.seed is not None else fresh_seed()
+    mc = next(c for c in cands if not c.exact)
+    exact = sorted((c for c in cands if c.exact and c.feasible), key=lambda c: c.ops)
+    budget = settings.budget_seconds
+
+    def plan(chosen, reason):
+        return Plan(engine, family, chosen, cands, draws, seed, reason, budget)
+
+    if settings.sampled:
+        return plan(mc, f"'sampled {settings.sampled}' asks for Monte Carlo")
+    fitting = [c for c in exact if c.memory <= settings.memory_bytes]
+    if settings.exact:
+        ok = [c for c in fitting if c.seconds <= EXACT_CEILING_SECONDS]
+        if not ok:
+            best = exact[0] if exact else None
+            what = (f"the cheapest exact method ({best.description}) would take about "
+                    f"{_seconds(best.seconds)} and {_bytes(best.memory)}" if best else
+                    "no exact method applies to these data")
+            raise PlanError(f"'exact' refused: {what}; the limit is "
+                            f"{_seconds(EXACT_CEILING_SECONDS)} and {_bytes(settings.memory_bytes)}",
+                            hint="drop 'exact' for Monte Carlo, or use 'sampled N'")
+        return plan(ok[0], "'exact' asks for an exact method; this is the cheapest")
+    within = [c for c in fitting if c.seconds <= budget]
+    if within:
+        return plan(within[0], "the cheapest exact method within the budget")
+    if exact:
+        return plan(mc, f"the cheapest exact method ({exact[0].description}) would take about "
+                        f"{_seconds(exact[0].seconds)}, past the budget of {_seconds(budget)}")
+    return plan(mc, "no exact method applies to these data")
+
+
+def _seconds(s: float) -> str:
+    if s != s or s == float("inf"):
+        return "unbounded time"
+    if s < 0.01:
+        return "under 0.01 s"
+    if s < 120:
+        return f"{s:.2g} s"
+    if s < 7200:
+        return f"{s / 60:.0f} min"
+    if s < 86400 * 3:
+        return f"{s / 3600:.0f} h"
+    return f"{s / 86400:.3g} days"
+
+
+def _bytes(b: float) -> str:
+    if b != b or b == float("inf"):
+        return "unbounded memory"
+    for unit, size in (("GB", 1e9), ("MB", 1e6), ("kB", 1e3)):
+        if b >= size:
+            return f"{b / size:.3g} {unit}"
+    return f"{b:.0f} B"
+
+
+def _count(v: float) -> str:
+    return f"{int(v):,}" if v < 1e15 else f"{v:.3g}"

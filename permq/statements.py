@@ -1,0 +1,166 @@
+"""Session statements: load, use, set, show, describe, help, save, quit."""
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+from .data.tables import default_name, describe, load_table
+from .errors import BindError
+from .help import help_text
+from .result import Note
+from .syntax import nodes as n
+
+FORMATS = ("text", "json", "csv", "markdown")
+
+
+def run_session_statement(node, text: str, session):
+    if isinstance(node, n.Load):
+        return _load(node, text, session)
+    if isinstance(node, n.Use):
+        return _use(node, text, session)
+    if isinstance(node, n.SetStatement):
+        return _set(node, text, session)
+    if isinstance(node, n.Show):
+        return _show(node, text, session)
+    if isinstance(node, n.Describe):
+        return _describe(node, text, session)
+    if isinstance(node, n.Help):
+        return Note(text, help_text(node.topic))
+    if isinstance(node, n.Save):
+        return _save(node, text, session)
+    if isinstance(node, n.Quit):
+        session.quit_requested = True
+        return None
+    raise BindError("this statement cannot run here", getattr(node, "span", None))
+
+
+def _load(node: n.Load, text, session):
+    name = node.alias.text if node.alias else default_name(node.path)
+    table = load_table(node.path, name, session.base_dir, node.span)
+    session.catalog.tables[name] = table
+    session.catalog.current = name
+    rows, cols = table.shape
+    abs_path = table.source
+    session.history.append(f'load "{abs_path}" as {_quote_name(name)}')
+    return Note(text, f"loaded '{name}': {rows} rows, {cols} columns (now in use)",
+                {"table": name, "rows": rows, "columns": cols})
+
+
+def _quote_name(name: str) -> str:
+    return name if re.fullmatch(r"[A-Za-z_][A-Za-z0-9_.]*", name) else f"`{name}`"
+
+
+def _use(node: n.Use, text, session):
+    name = node.table.text
+    if name not in session.catalog.tables:
+        from .bind.binder import suggest
+
+        raise BindError(f"no table named '{name}'", node.table.span,
+                        hint=suggest(name, list(session.catalog.tables)) or "load one first")
+    session.catalog.current = name
+    session.history.append(f"use {_quote_name(name)}")
+    rows, cols = session.catalog.tables[name].shape
+    return Note(text, f"using '{name}': {rows} rows, {cols} columns")
+
+
+def _set(node: n.SetStatement, text, session):
+    from .bind.binder import confidence_value
+
+    d = session.defaults
+    key, value, span = node.key, node.value, node.value_span
+    if key == "seed":
+        if not isinstance(value, float) or not value.is_integer() or value < 0:
+            raise BindError("a seed is a whole number, 0 or more", span)
+        d.seed = int(value)
+        shown = str(d.seed)
+    elif key == "confidence":
+        d.confidence = confidence_value(value, span)
+        shown = f"{d.confidence:.4g}"
+    elif key == "alternative":
+        if value not in ("two-sided", "higher", "lower"):
+            raise BindError(f"'{value}' is not an alternative", span,
+                            hint="choose two-sided, higher or lower")
+        d.alternative = value
+        shown = value
+    elif key == "budget":
+        d.budget_seconds = _duration(value, span)
+        shown = f"{d.budget_seconds:g} s"
+    else:  # format
+        if value not in FORMATS:
+            raise BindError(f"'{value}' is not an output format", span,
+                            hint="choose " + ", ".join(FORMATS))
+        d.format = value
+        shown = value
+    session.history.append(text)
+    return Note(text, f"{key} set to {shown}")
+
+
+def _duration(value, span) -> float:
+    if isinstance(value, float):
+        seconds = value
+    else:
+        m = re.fullmatch(r"([0-9.]+)(ms|s|min)", str(value))
+        if not m:
+            raise BindError(f"'{value}' is not a duration", span, hint="write e.g. 5s or 2min")
+        seconds = float(m.group(1)) * {"ms": 1e-3, "s": 1.0, "min": 60.0}[m.group(2)]
+    if not seconds > 0:
+        raise BindError("the budget must be more than zero", span)
+    return seconds
+
+
+def _show(node: n.Show, text, session):
+    if node.what == "settings":
+        d = session.defaults
+        body = (f"confidence {d.confidence:.4g}, alternative {d.alternative}, "
+                f"seed {d.seed if d.seed is not None else 'fresh each run'}, "
+                f"budget {d.budget_seconds:g} s, format {d.format}")
+        return Note(text, body)
+    tables = session.catalog.tables
+    if not tables:
+        return Note(text, "no tables loaded")
+    lines = []
+    for name, t in tables.items():
+        mark = "*" if name == session.catalog.current else " "
+        rows, cols = t.shape
+        lines.append(f"{mark} {name:<16} {rows:>6} rows {cols:>4} columns  {t.source}")
+    return Note(text, "\n".join(lines), {"tables": list(tables)})
+
+
+def _describe(node: n.Describe, text, session):
+    name = node.table.text
+    if name not in session.catalog.tables:
+        from .bind.binder import suggest
+
+        raise BindError(f"no table named '{name}'", node.table.span,
+                        hint=suggest(name, list(session.catalog.tables)))
+    rows = describe(session.catalog.tables[name])
+    lines = [f"{'column':<18} {'type':<7} {'missing':>7} {'distinct':>8}  levels / range"]
+    for r in rows:
+        if "levels" in r:
+            extra = ", ".join(r["levels"])
+        else:
+            extra = f"{r.get('min', float('nan')):g} .. {r.get('max', float('nan')):g}"
+        lines.append(f"{r['column']:<18} {r['type']:<7} {r['missing']:>7} {r['distinct']:>8}  {extra}")
+    return Note(text, "\n".join(lines), {"columns": rows})
+
+
+def _save(node: n.Save, text, session):
+    path = Path(node.path).expanduser()
+    if not path.is_absolute():
+        path = session.base_dir / path
+    body = "# saved permq session: replay with  permq run " + path.name + "\n"
+    body += "\n".join(session.history) + "\n"
+    try:
+        path.write_text(body, encoding="utf-8")
+    except OSError as exc:
+        raise BindError(f"cannot write '{node.path}': {exc.strerror}", node.span) from None
+    return Note(text, f"saved {len(session.history)} statements to {path}")
+
+
+def replayable(text: str, result) -> str:
+    """The statement as it ran, with the Monte Carlo seed pinned so a replay matches."""
+    o = result.outcome
+    if o.method == "monte-carlo" and not re.search(r"\bseed\s+\d+", text):
+        one_line = " ".join(text.replace("\\\n", " ").split())
+        return f"{one_line} seed {o.seed}"
+    return text
