@@ -47,7 +47,7 @@ class Plan:
             if not c.feasible:
                 est = "cannot apply"
             else:
-                est = f"about {_seconds(c.seconds)}, {_bytes(c.memory)}"
+                est = f"{_seconds(c.seconds)}, {_bytes(c.memory)}"
             note = f" - {c.note}" if c.note else ""
             lines.append(f"   {mark} {c.description:<44} {est}{note}")
         if not self.chosen.exact:
@@ -97,7 +97,7 @@ def _seconds(s: float) -> str:
     if s < 0.01:
         return "under 0.01 s"
     if s < 120:
-        return f"{s:.2g} s"
+        return f"about {s:.2g} s"
     if s < 7200:
         return f"{s / 60:.0f} min"
     if s < 86400 * 3:

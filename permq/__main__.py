@@ -1,0 +1,5 @@
+import sys
+
+from .frontends.cli import main
+
+sys.exit(main())

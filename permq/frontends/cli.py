@@ -1,0 +1,84 @@
+"""The `permq` command: `permq run FILE`, `permq shell`, and `permq` alone."""
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from ..pipeline import Session
+from ..render import render
+from ..result import Failure
+from ..syntax.parser import parse_script
+from .progress import ProgressLine
+
+FORMATS = ("text", "json", "csv", "markdown")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="permq", description="Exact permutation and rank tests "
+                                "beside their normal-theory counterparts.")
+    sub = p.add_subparsers(dest="command")
+    r = sub.add_parser("run", help="run a query file ('-' for standard input)")
+    r.add_argument("file")
+    r.add_argument("--format", choices=FORMATS, default="text")
+    r.add_argument("--color", choices=("auto", "always", "never"), default="auto")
+    s = sub.add_parser("shell", help="the interactive shell")
+    s.add_argument("files", nargs="*", help="tables (.csv, ...) to load or query files to run")
+    return p
+
+
+def main(argv=None) -> int:
+    args = build_parser().parse_args(argv)
+    if args.command == "run":
+        return run_file(args.file, args.format, args.color)
+    files = getattr(args, "files", [])
+    if not sys.stdin.isatty():
+        return run_file("-", "text", "never")
+    from .shell import start_shell
+
+    return start_shell(files)
+
+
+def run_file(path: str, fmt: str = "text", color: str = "auto") -> int:
+    if path == "-":
+        source, base = sys.stdin.read(), Path.cwd()
+    else:
+        p = Path(path)
+        try:
+            source = p.read_text(encoding="utf-8")
+        except FileNotFoundError:
+            print(f"permq: no query file '{path}'", file=sys.stderr)
+            return 2
+        except (OSError, UnicodeDecodeError) as exc:
+            print(f"permq: cannot read '{path}': {exc}", file=sys.stderr)
+            return 2
+        base = p.resolve().parent
+    progress = ProgressLine() if sys.stderr.isatty() else None
+    session = Session(base_dir=base, on_progress=progress)
+    use_color = color == "always" or (color == "auto" and sys.stdout.isatty())
+    outputs, failed = [], False
+    for st in parse_script(source):
+        if progress:
+            progress.start()
+        out = session.run_statement(st)
+        if progress:
+            progress.clear()
+        if out is None:
+            if session.quit_requested:
+                break
+            continue
+        failed |= isinstance(out, Failure)
+        if fmt == "text":
+            sys.stdout.write(render([out], "text", color=use_color) + "\n")
+            sys.stdout.flush()
+        else:
+            outputs.append(out)
+        if isinstance(out, Failure) and out.kind == "cancelled":
+            break
+    if fmt != "text":
+        sys.stdout.write(render(outputs, fmt))
+    return 1 if failed else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,31 @@
+"""Markdown: a table of results for reports, failures listed below it."""
+from __future__ import annotations
+
+from ..result import Failure, Result
+from . import numbers as fmt
+
+
+def render(outputs) -> str:
+    rows = ["| statement | family | statistic | p (permutation) | method | p (normal theory) |"
+            " estimate | interval | normal-theory interval |",
+            "|---|---|---|---|---|---|---|---|---|"]
+    errors = []
+    for o in outputs:
+        if isinstance(o, Failure):
+            errors.append(f"- `{o.statement}`: {o.message}" + (f" ({o.hint})" if o.hint else ""))
+            continue
+        if not isinstance(o, Result):
+            continue
+        oc, nt, est = o.outcome, o.normal, o.estimate
+        method = (f"exact, {fmt.count(oc.arrangements)} arrangements" if oc.method == "exact"
+                  else f"Monte Carlo, {oc.draws:,} draws, seed {oc.seed}")
+        cells = [f"`{o.statement}`", o.family, f"{oc.statistic_name} = {fmt.num(oc.statistic)}",
+                 fmt.p(oc.p_value), method, fmt.p(nt.p_value) if nt else "-",
+                 f"{est.name} = {fmt.num(est.value)}" if est else "-",
+                 fmt.interval(est.interval) if est and est.interval else "-",
+                 fmt.interval(nt.interval) if nt and nt.interval else "-"]
+        rows.append("| " + " | ".join(c.replace("|", "\\|") for c in cells) + " |")
+    text = "\n".join(rows) + "\n"
+    if errors:
+        text += "\nStatements that failed:\n\n" + "\n".join(errors) + "\n"
+    return text

@@ -1,0 +1,43 @@
+"""Number formats shared by the renderers."""
+from __future__ import annotations
+
+import math
+
+
+def p(v) -> str:
+    if v is None:
+        return "-"
+    if v >= 0.001:
+        return f"{v:.4f}"
+    if v == 0:
+        return "0"
+    return f"{v:.2e}"
+
+
+def num(v, digits: int = 4) -> str:
+    if v is None:
+        return "-"
+    v = float(v)
+    if math.isnan(v):
+        return "-"
+    if math.isinf(v):
+        return "+inf" if v > 0 else "-inf"
+    if v == 0:
+        return "0"
+    if abs(v) >= 1e6 or abs(v) < 1e-4:
+        return f"{v:.{digits}g}"
+    mag = int(math.floor(math.log10(abs(v))))
+    decimals = max(0, digits - 1 - mag)
+    return f"{v:.{decimals}f}"
+
+
+def interval(iv, digits: int = 4) -> str:
+    if iv is None:
+        return "-"
+    return f"[{num(iv[0], digits)}, {num(iv[1], digits)}]"
+
+
+def count(v) -> str:
+    if v is None:
+        return "-"
+    return f"{int(v):,}" if v < 1e15 else f"{v:.3g}"

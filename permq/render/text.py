@@ -1,0 +1,81 @@
+"""Terminal text: one aligned block per result, the exact and normal-theory answers side by side."""
+from __future__ import annotations
+
+from ..result import Failure, Note, Result
+from . import numbers as fmt
+
+RULE = "─"
+BOLD, DIM, RED, RESET = "\x1b[1m", "\x1b[2m", "\x1b[31m", "\x1b[0m"
+
+
+def render(outputs, color: bool = False) -> str:
+    return "\n".join(render_one(o, color) for o in outputs)
+
+
+def render_one(o, color: bool = False) -> str:
+    if isinstance(o, Result):
+        return result_block(o, color)
+    if isinstance(o, Failure):
+        return failure_block(o, color)
+    if isinstance(o, Note):
+        return o.text + "\n"
+    return str(o)
+
+
+def _c(s, code, color):
+    return f"{code}{s}{RESET}" if color else s
+
+
+def result_block(r: Result, color: bool = False) -> str:
+    o, nt, est = r.outcome, r.normal, r.estimate
+    head = f"{RULE * 2} {r.statement} "
+    lines = [_c(head + RULE * max(2, 76 - len(head)), BOLD, color)]
+    lines.append(f"{r.family} · {o.statistic_name} · effect: {r.effect}")
+    if r.groups:
+        for i, g in enumerate(r.groups):
+            label = "groups" if i == 0 else ""
+            sd = f"  sd {fmt.num(g['sd'])}" if g.get("sd") is not None else ""
+            lines.append(f"  {label:<15}{g['name']:<16} n {g['n']:<4} mean {fmt.num(g['mean']):<9}"
+                         f" median {fmt.num(g['median'])}{sd}")
+    lines.append(f"  {'statistic':<15}{fmt.num(o.statistic, 6)}")
+    method_word = "exact" if o.method == "exact" else "Monte Carlo"
+    lines.append(f"  {'':<15}{'permutation (' + method_word + ')':<28}normal theory")
+    p_label = f"p ({r.alternative})"
+    normal_p = fmt.p(nt.p_value) if nt else "-"
+    exact_p = fmt.p(o.p_value)
+    if o.method != "exact" and o.p_interval:
+        exact_p += f" ±{fmt.p(max(o.p_value - o.p_interval[0], o.p_interval[1] - o.p_value))}"
+    lines.append(_c(f"  {p_label:<15}{exact_p:<28}{normal_p}", BOLD, color))
+    if nt:
+        df = f", df {fmt.num(nt.df)}" if nt.df is not None else ""
+        lines.append(f"  {'':<15}{'':<28}{nt.test}: {fmt.num(nt.statistic)}{df}")
+    if est is not None:
+        lines.append(f"  {'estimate':<15}{est.name} = {fmt.num(est.value)}")
+        lvl = f"{est.level * 100:g}% interval"
+        exact_iv = fmt.interval(est.interval) if est.interval is not None else "none"
+        normal_iv = fmt.interval(nt.interval) if nt and nt.interval is not None else "-"
+        lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
+        lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
+    if o.method == "exact":
+        how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
+    else:
+        lo, hi = o.p_interval
+        how = (f"Monte Carlo: {o.draws:,} draws, seed {o.seed}; "
+               f"99% interval for p [{fmt.p(lo)}, {fmt.p(hi)}]")
+    lines.append(f"  {'method':<15}{how}")
+    if r.alternative == "two-sided" and r.two_sided_rule:
+        lines.append(_c(f"  {'':<15}{r.two_sided_rule}", DIM, color))
+    for w in list(r.warnings) + list(o.warnings):
+        lines.append(_c(f"  {'note':<15}{w}", DIM, color))
+    return "\n".join(lines) + "\n"
+
+
+def failure_block(f: Failure, color: bool = False) -> str:
+    where = f"line {f.line}, column {f.column}" if f.line else ""
+    head = _c(f"{f.kind}", RED, color) + (f" at {where}" if where else "") + f": {f.message}"
+    out = [head]
+    if f.caret:
+        out += ["  " + ln for ln in f.caret.splitlines()]
+    if f.hint:
+        out.append(f"  hint: {f.hint}")
+    return "\n".join(out) + "\n"
