@@ -1,15 +1,131 @@
-"""Binding of three or more groups, ordered groups and blocked designs."""
+"""Binding of three or more groups, ordered groups and blocked designs.
+
+- three or more levels: k-sample tests (means: permutation F; ranks: Kruskal-Wallis;
+  normal-scores; medians);
+- `ordered`: an ordered alternative (means: linear trend in dose scores; ranks:
+  Jonckheere-Terpstra); the order comes from `ordered "low" < "mid" < "high"`, from `levels`,
+  or from a numeric group column; dose scores are the numeric levels, else 1, 2, ...;
+- `within BLOCK`: two levels give stratified two-sample tests (means, ranks); three or more
+  levels in complete blocks give Friedman (ranks), the permutation F within blocks (means) and,
+  with `ordered`, Page's test (ranks).
+"""
 from __future__ import annotations
 
-from ..errors import BindError
+import numpy as np
+
+from ..errors import BindError, MultipleErrors
+from .designs import GroupsDesign
+
+K_SAMPLE_FAMILIES = ("means", "ranks", "normal-scores", "medians")
+ORDERED_FAMILIES = ("means", "ranks")
+BLOCKED_FAMILIES = ("means", "ranks")
 
 
 def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, table):
-    raise BindError("comparisons of three or more groups, ordered groups and blocks are not "
-                    "available in this version", subject.group.span,
-                    hint="choose two levels: levels \"A\", \"B\"")
+    from .binder import settings_for, level_text
+
+    ordered = "ordered" in opts
+    if ordered and (opts["ordered"].value or "levels" not in opts):
+        levels = _ordered_levels(opts["ordered"], levels, g, subject, table)
+        keep = g.isin(levels)
+        y, g = y[keep], g[keep]
+        if blocks is not None:
+            blocks = blocks[keep]
+    within = blocks is not None
+    if within:
+        family_set, form, kind = BLOCKED_FAMILIES, "blocked designs", "blocked"
+    elif ordered:
+        family_set, form, kind = ORDERED_FAMILIES, "ordered groups", "ordered"
+    else:
+        family_set, form, kind = K_SAMPLE_FAMILIES, "three or more groups", "k-sample"
+    allowed = ("levels", "within", "ordered")
+    default_family = "ranks" if within and len(levels) > 2 and not ordered else "means"
+    s = settings_for(node, opts, defaults, family_set, default_family, form, allowed)
+    if ordered and within and s.family != "ranks":
+        raise BindError("an ordered comparison within blocks uses Page's test",
+                        opts["ordered"].span, hint="add: using ranks")
+    if not ordered and len(levels) > 2 and s.alternative != "two-sided":
+        raise BindError(f"a comparison of {len(levels)} groups has no direction",
+                        opts["alternative"].span if "alternative" in opts else node.span,
+                        hint="drop 'alternative', or add 'ordered' for a trend")
+    codes = np.array([levels.index(v) for v in g], dtype=np.int64)
+    block_codes, block_labels = None, ()
+    if within:
+        block_text = blocks.map(level_text)
+        block_labels = tuple(sorted(block_text.unique(), key=_natural))
+        block_codes = np.array([block_labels.index(b) for b in block_text], dtype=np.int64)
+    scores = _dose_scores(levels) if ordered else None
+    if len(levels) == 2 and not within and ordered:
+        warnings += ("two ordered levels: the trend test is the two-sample test",)
+    return GroupsDesign(y.to_numpy(float), codes, tuple(levels), subject.response.text, s,
+                        block_codes, block_labels, ordered, scores, warnings, kind)
 
 
 def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
-    raise BindError("comparisons of three or more samples are not available in this version",
-                    node.subject.span)
+    from .binder import settings_for
+
+    ordered = "ordered" in opts
+    if "ordered" in opts and opts["ordered"].value:
+        raise BindError("inline samples are ordered as written; write just 'ordered'",
+                        opts["ordered"].span)
+    family_set = ORDERED_FAMILIES if ordered else K_SAMPLE_FAMILIES
+    s = settings_for(node, opts, defaults, family_set, "means",
+                     "ordered samples" if ordered else "three or more samples", ("ordered",))
+    if not ordered and s.alternative != "two-sided":
+        raise BindError(f"a comparison of {len(samples)} samples has no direction",
+                        opts["alternative"].span, hint="drop 'alternative', or add 'ordered'")
+    values = np.concatenate(samples)
+    codes = np.concatenate([np.full(len(a), i) for i, a in enumerate(samples)])
+    scores = np.arange(1, len(samples) + 1, dtype=float) if ordered else None
+    return GroupsDesign(values, codes.astype(np.int64), tuple(labels), "values", s,
+                        None, (), ordered, scores, warnings,
+                        "ordered" if ordered else "k-sample")
+
+
+def _ordered_levels(opt, levels, g, subject, table):
+    from .binder import suggest
+
+    listed = opt.value
+    present = list(g.unique())
+    if listed:
+        errors, out = [], []
+        for text, span in listed:
+            if text not in present:
+                errors.append(BindError(f"no level \"{text}\" in column '{subject.group.text}'",
+                                        span, hint=suggest(text, present)))
+            elif text in out:
+                errors.append(BindError(f"level \"{text}\" is named twice", span))
+            else:
+                out.append(text)
+        if len(errors) == 1:
+            raise errors[0]
+        if errors:
+            raise MultipleErrors(errors)
+        return out
+    column = table.frame[subject.group.text]
+    numeric = np.issubdtype(column.dtype, np.number)
+    if not numeric and not _all_numbers(levels):
+        raise BindError(f"'ordered' needs the order of the levels of '{subject.group.text}'",
+                        opt.span, hint="write: ordered " + " < ".join(f'"{v}"' for v in levels))
+    return sorted(levels, key=float)
+
+
+def _all_numbers(levels) -> bool:
+    try:
+        [float(v) for v in levels]
+        return True
+    except ValueError:
+        return False
+
+
+def _dose_scores(levels) -> np.ndarray:
+    if _all_numbers(levels):
+        return np.array([float(v) for v in levels])
+    return np.arange(1, len(levels) + 1, dtype=float)
+
+
+def _natural(text):
+    try:
+        return (0, float(text), text)
+    except ValueError:
+        return (1, 0.0, text)

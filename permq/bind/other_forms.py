@@ -1,12 +1,158 @@
-"""Binding of `relate` and `count` statements."""
+"""Binding of `relate` (association, slopes) and `count` (tables, paired binary, proportions)."""
 from __future__ import annotations
 
+import numpy as np
+import pandas as pd
+
 from ..errors import BindError
+from ..syntax import nodes as n
+from .designs import AssociationDesign, TableDesign
+
+ASSOCIATION_FAMILIES = ("pearson", "spearman", "kendall", "slope")
+TABLE_FAMILIES = ("fisher", "chi-square", "likelihood-ratio", "trend")
+PAIRED_TABLE_FAMILIES = ("fisher",)
+MAX_TABLE_CELLS = 400
 
 
-def bind_relate(node, catalog, defaults):
-    raise BindError("'relate' is not available in this version", node.span)
+def bind_relate(node: n.Relate, catalog, defaults):
+    from .binder import (check_columns, dropped_warning, numeric_column, resolve_table,
+                         settings_for)
+
+    opts = n.options_of(node)
+    s = settings_for(node, opts, defaults, ASSOCIATION_FAMILIES, "pearson", "an association",
+                     ("adjusting",))
+    table = resolve_table(opts, catalog, node.span)
+    covs = list(opts["adjusting"].value) if "adjusting" in opts else []
+    if covs and s.family != "slope":
+        raise BindError("'adjusting for' goes with the slope", opts["adjusting"].span,
+                        hint="add: using slope")
+    check_columns(table, [node.response, node.predictor] + covs)
+    cols = [numeric_column(table, c) for c in [node.response, node.predictor] + covs]
+    frame = pd.concat(cols, axis=1, keys=range(len(cols)))
+    keep = frame.notna().all(axis=1)
+    names = [node.response.text, node.predictor.text] + [c.text for c in covs]
+    warnings = dropped_warning(int((~keep).sum()), " or ".join(f"'{v}'" for v in names))
+    frame = frame[keep]
+    y, x = frame[0].to_numpy(float), frame[1].to_numpy(float)
+    need = 3 + len(covs)
+    if len(y) < need:
+        raise BindError(f"{len(y)} complete rows; this needs at least {need}", node.span)
+    if np.ptp(x) == 0:
+        raise BindError(f"column '{node.predictor.text}' is constant here", node.predictor.span)
+    if np.ptp(y) == 0:
+        raise BindError(f"column '{node.response.text}' is constant here", node.response.span)
+    z = frame[list(range(2, len(cols)))].to_numpy(float) if covs else None
+    return AssociationDesign(y, x, (node.response.text, node.predictor.text), s, z,
+                             tuple(c.text for c in covs), warnings)
 
 
-def bind_count(node, catalog, defaults):
-    raise BindError("'count' is not available in this version", node.span)
+def bind_count(node: n.Count, catalog, defaults):
+    from .binder import settings_for
+
+    opts = n.options_of(node)
+    sub = node.subject
+    if isinstance(sub, n.CountProportion):
+        s = settings_for(node, opts, defaults, ("binomial",), "binomial", "one proportion", ())
+        if sub.trials == 0 or sub.successes > sub.trials:
+            raise BindError(f"{sub.successes} of {sub.trials} is not a proportion", sub.span)
+        ref = 0.5 if sub.value is None else float(sub.value)
+        if not 0 < ref < 1:
+            raise BindError("the reference proportion must lie strictly between 0 and 1", sub.span)
+        t = np.array([[sub.successes, sub.trials - sub.successes]], dtype=np.int64)
+        return TableDesign(t, ("count",), ("successes", "failures"), s, "proportion",
+                           reference=ref, names=(f"{sub.successes} of {sub.trials}",))
+    if isinstance(sub, n.CountInline):
+        return _inline_table(node, sub, opts, defaults)
+    if isinstance(sub, n.CountVersus):
+        return _paired_binary(node, sub, opts, defaults, catalog)
+    return _crosstab(node, sub, opts, defaults, catalog)
+
+
+def _table_settings(node, opts, defaults, ordered):
+    from .binder import settings_for
+
+    default = "trend" if ordered else "fisher"
+    s = settings_for(node, opts, defaults, TABLE_FAMILIES, default, "a table", ("ordered",))
+    if s.family == "trend" and not ordered:
+        raise BindError("the trend statistic needs an order", opts["using"].span,
+                        hint="add 'ordered' (rows and columns in the order given)")
+    return s
+
+
+def _check_shape(t, span):
+    if t.shape[0] < 2 or t.shape[1] < 2:
+        raise BindError(f"a {t.shape[0]} x {t.shape[1]} table has nothing to compare; it needs "
+                        "two rows and two columns or more", span)
+    if t.size > MAX_TABLE_CELLS:
+        raise BindError(f"a {t.shape[0]} x {t.shape[1]} table is too large for this statement",
+                        span, hint=f"at most {MAX_TABLE_CELLS} cells")
+
+
+def _inline_table(node, sub, opts, defaults):
+    rows = sub.rows
+    width = {len(r) for r in rows}
+    if len(width) != 1:
+        raise BindError("every row of the table needs the same number of counts", sub.span)
+    t = np.array(rows, dtype=float)
+    if np.any(t < 0) or np.any(t != np.round(t)):
+        raise BindError("table entries must be counts (whole numbers, 0 or more)", sub.span)
+    t = t.astype(np.int64)
+    _check_shape(t, sub.span)
+    ordered = "ordered" in opts
+    s = _table_settings(node, opts, defaults, ordered)
+    r, c = t.shape
+    return TableDesign(t, tuple(f"row {i + 1}" for i in range(r)),
+                       tuple(f"column {j + 1}" for j in range(c)), s, "table", ordered)
+
+
+def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
+    from .binder import check_columns, dropped_warning, level_text, resolve_table
+
+    table = resolve_table(opts, catalog, sub.span)
+    check_columns(table, [sub.rows, sub.columns])
+    a, b = table.frame[sub.rows.text], table.frame[sub.columns.text]
+    keep = a.notna() & b.notna()
+    warnings = dropped_warning(int((~keep).sum()), f"'{sub.rows.text}' or '{sub.columns.text}'")
+    a, b = a[keep].map(level_text), b[keep].map(level_text)
+    ct = pd.crosstab(a, b)
+    ordered = "ordered" in opts
+    if ordered:
+        ct = ct.loc[sorted(ct.index, key=_natural), sorted(ct.columns, key=_natural)]
+    t = ct.to_numpy(np.int64)
+    _check_shape(t, sub.span)
+    s = _table_settings(node, opts, defaults, ordered)
+    return TableDesign(t, tuple(map(str, ct.index)), tuple(map(str, ct.columns)), s, "table",
+                       ordered, names=(sub.rows.text, sub.columns.text), warnings=warnings)
+
+
+def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
+    from .binder import check_columns, dropped_warning, level_text, resolve_table, settings_for
+
+    if "paired" not in opts:
+        raise BindError("two columns of outcomes are compared as pairs", sub.span,
+                        hint=f"write: count {sub.first.text} vs {sub.second.text} paired, or "
+                             f"count {sub.first.text} by {sub.second.text} for a table")
+    s = settings_for(node, opts, defaults, ("fisher",), "fisher", "paired outcomes", ("paired",))
+    table = resolve_table(opts, catalog, sub.span)
+    check_columns(table, [sub.first, sub.second])
+    a, b = table.frame[sub.first.text], table.frame[sub.second.text]
+    keep = a.notna() & b.notna()
+    warnings = dropped_warning(int((~keep).sum()), f"'{sub.first.text}' or '{sub.second.text}'")
+    a, b = a[keep].map(level_text), b[keep].map(level_text)
+    levels = sorted(set(a) | set(b), key=_natural)
+    if len(levels) != 2:
+        raise BindError(f"paired outcomes need exactly two values in all; found {len(levels)}"
+                        f" ({', '.join(levels[:6])})", sub.span)
+    t = np.zeros((2, 2), dtype=np.int64)
+    for u, v in zip(a, b):
+        t[levels.index(u), levels.index(v)] += 1
+    return TableDesign(t, tuple(f"{sub.first.text} {v}" for v in levels),
+                       tuple(f"{sub.second.text} {v}" for v in levels), s, "paired",
+                       names=(sub.first.text, sub.second.text), warnings=warnings)
+
+
+def _natural(text):
+    try:
+        return (0, float(text), text)
+    except ValueError:
+        return (1, 0.0, text)

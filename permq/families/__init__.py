@@ -17,4 +17,9 @@ HANDLERS = {
 
 
 def handler_for(design):
-    return HANDLERS[type(design)]
+    try:
+        return HANDLERS[type(design)]
+    except KeyError:
+        from ..errors import PlanError
+
+        raise PlanError(f"{design.kind} analyses are not available in this version") from None
