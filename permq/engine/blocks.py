@@ -1,0 +1,806 @@
+"""Exact and Monte Carlo engines for blocked and stratified designs.
+
+Inputs are plain arrays: `values` (1-D float), `groups` (int codes 0..k-1 in the user's level
+order) and `blocks` (int codes). The reference set is every arrangement of the group labels
+within each block, all equally likely; its size is the product of the per-block multinomial
+coefficients.
+
+Tests:
+- "stratified-ranks": two groups, any block sizes; sum over blocks of the group-0 mid-rank sum
+  (ranks taken within each block).
+- "stratified-means": two groups, any block sizes; sum over blocks of the group-0 sum of values.
+- "friedman": complete blocks; Friedman's chi-square with mid-ranks and the tie correction.
+- "within-block-f": complete blocks; F for treatments in the additive two-way model.
+- "page": complete blocks, ordered treatments; Page's L = sum_j j * R_j (j = 1..k in level order).
+
+For two groups the effect is group 0 minus group 1, and "higher" means group 0 tends to be
+larger. For Page's test "higher" means the response rises along the level order.
+
+Exact counts are held in float64. Every count is an integer, and integers below 2^53 are held
+exactly, as are the sums and products of the dynamic programmes and convolutions while the
+reference set has fewer than 2^53 members; beyond that each count carries a relative error
+near 1e-16 and the result says so.
+"""
+from __future__ import annotations
+
+import itertools
+from dataclasses import dataclass
+from fractions import Fraction
+from functools import lru_cache, reduce
+from math import ceil, comb, factorial, floor, gcd, log10, prod
+from typing import Optional
+
+import numpy as np
+from scipy import stats
+
+from ..errors import BindError, PlanError
+from ..plan.cost import Candidate
+from ..result import EngineOutcome
+from . import pvalues
+from .sampling import BLOCK, NO_PROGRESS, Progress, blocks as sample_blocks, fresh_seed
+
+DEFAULT_DRAWS = 10_000
+MAX_DP_BYTES = 1.0e9
+MAX_ENUMERATION = 2.0e7
+MAX_DECIMALS = 6
+EXACT_COUNT_LIMIT = 2.0 ** 53
+PAGE_MAX_TREATMENTS = 12       # the per-block Page DP runs over the 2^k subsets of units
+VECTOR_MAX_TREATMENTS = 8      # the vector DP applies each block's k! permutations
+CHUNK_ROWS = 1 << 21
+
+STRATIFIED = ("stratified-ranks", "stratified-means")
+COMPLETE = ("friedman", "within-block-f", "page")
+TESTS = STRATIFIED + COMPLETE
+
+STATISTIC_NAMES = {
+    "stratified-ranks": "stratified rank sum of group 0 (mid-ranks within blocks)",
+    "stratified-means": "stratified sum of group-0 values (within-block permutation)",
+    "friedman": "Friedman chi-square (mid-ranks within blocks, tie-corrected)",
+    "within-block-f": "F for treatments (additive two-way model, permuted within blocks)",
+    "page": "Page's L (mid-ranks within blocks)",
+}
+
+DESCRIPTIONS = {
+    "dp-integer": "dynamic programming on integer scores within blocks, convolved across blocks",
+    "dp-vector": "dynamic programming over blocks on the vector of treatment totals",
+    "enumeration": "complete enumeration of within-block arrangements",
+    "monte-carlo": "Monte Carlo sampling of within-block arrangements",
+}
+
+COUNT_WARNING = ("the reference set has more than 2^53 members: counts are held in double "
+                 "precision (relative error near 1e-16)")
+
+
+# ---------------------------------------------------------------- shared helpers
+
+def midranks(x) -> np.ndarray:
+    return stats.rankdata(np.asarray(x, dtype=float), method="average")
+
+
+def decimal_grid(values, max_decimals: int = MAX_DECIMALS) -> Optional[tuple[np.ndarray, int]]:
+    """(integers, d) with values == integers / 10^d as recorded, or None past max_decimals."""
+    a = np.asarray(values, dtype=float)
+    for d in range(max_decimals + 1):
+        scaled = a * 10.0 ** d
+        if np.max(np.abs(scaled), initial=0.0) > 2.0 ** 52:
+            return None
+        rounded = np.round(scaled)
+        if np.all(np.abs(scaled - rounded) <= 1e-9 * np.maximum(1.0, np.abs(scaled))):
+            return rounded.astype(np.int64), d
+    return None
+
+
+def design_arrays(values, groups, blocks):
+    v = np.asarray(values, dtype=float)
+    g = np.asarray(groups)
+    b = np.asarray(blocks)
+    if v.ndim != 1 or g.shape != v.shape or b.shape != v.shape:
+        raise BindError("values, groups and blocks must be 1-D and of the same length")
+    if v.size == 0:
+        raise BindError("there are no observations")
+    if not np.all(np.isfinite(v)):
+        raise BindError("values must be finite numbers (missing values are not allowed here)")
+    if not (np.issubdtype(g.dtype, np.integer) and np.issubdtype(b.dtype, np.integer)):
+        raise BindError("group and block codes must be integers")
+    if g.min() < 0 or b.min() < 0:
+        raise BindError("group and block codes must be non-negative")
+    return v, g.astype(np.int64), b.astype(np.int64)
+
+
+def _name(names, code, word):
+    return f"{word} {names[code]!r}" if names is not None else f"{word} {code}"
+
+
+def _fraction_sum(pairs) -> Fraction:
+    """Sum of num/den over (num, den) integer pairs, exactly."""
+    return sum((Fraction(int(n), int(d)) for n, d in pairs), Fraction(0))
+
+
+def integer_tail_mask(support, s_obs: int, center: Fraction, alternative: str) -> np.ndarray:
+    """Exact tail for integer statistics; two-sided is |S - center| >= |s_obs - center|."""
+    support = np.asarray(support)
+    if alternative == "higher":
+        return support >= s_obs
+    if alternative == "lower":
+        return support <= s_obs
+    mirror = 2 * center - s_obs
+    lo, hi = min(Fraction(s_obs), mirror), max(Fraction(s_obs), mirror)
+    return (support >= ceil(hi)) | (support <= floor(lo))
+
+
+def _check_alternative(test, alternative):
+    if alternative not in ("higher", "lower", "two-sided"):
+        raise BindError(f"unknown alternative {alternative!r}")
+    if test in ("friedman", "within-block-f") and alternative != "two-sided":
+        raise BindError(f"{STATISTIC_NAMES[test]} has no direction: only the two-sided "
+                        "alternative applies (Page's test handles ordered treatments)")
+
+
+def convolve_exact(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Convolution of two count arrays by direct sums (exact for integer counts below 2^53)."""
+    ia, ib = np.flatnonzero(a), np.flatnonzero(b)
+    if len(a) * len(b) <= 4 * len(ia) * len(ib):
+        return np.convolve(a, b)
+    out = np.zeros(len(a) + len(b) - 1)
+    step = max(1, CHUNK_ROWS // max(1, len(ib)))
+    for s in range(0, len(ia), step):
+        part = ia[s:s + step]
+        idx = (part[:, None] + ib[None, :]).ravel()
+        w = (a[part][:, None] * b[ib][None, :]).ravel()
+        out += np.bincount(idx, weights=w, minlength=len(out))
+    return out
+
+
+def subset_sum_counts(q, m: int) -> np.ndarray:
+    """c[s] = number of m-subsets of the non-negative integer scores q whose sum is s."""
+    q = np.asarray(q, dtype=np.int64)
+    width = int(np.sort(q)[::-1][:m].sum()) + 1
+    table = np.zeros((m + 1, width))
+    table[0, 0] = 1.0
+    for i, v in enumerate(q):
+        top = min(i + 1, m)
+        v = int(v)
+        # numpy treats overlapping operands as if the right-hand side were copied first.
+        table[1:top + 1, v:] += table[0:top, :width - v]
+    return table[m]
+
+
+def _outcome(test, statistic, p, algorithm, arrangements, support=None, probs=None,
+             warnings=(), draws=None, p_interval=None, seed=None) -> EngineOutcome:
+    method = "monte-carlo" if algorithm == "monte-carlo" else "exact"
+    if method == "exact" and arrangements >= EXACT_COUNT_LIMIT and algorithm != "enumeration":
+        warnings = tuple(warnings) + (COUNT_WARNING,)
+    return EngineOutcome(STATISTIC_NAMES[test], float(statistic), pvalues.clip(p), method,
+                         DESCRIPTIONS[algorithm], arrangements=float(arrangements), draws=draws,
+                         p_interval=p_interval, seed=seed, null_support=support, null_probs=probs,
+                         warnings=tuple(warnings))
+
+
+def _tally(values, scale):
+    """Distinct values (merged at a relative 1e-10 of scale) and their counts, for pictures."""
+    unit = max(abs(scale), 1e-300) * 1e-10
+    codes, inverse = np.unique(np.round(np.asarray(values) / unit), return_inverse=True)
+    counts = np.bincount(inverse)
+    sums = np.bincount(inverse, weights=values)
+    return sums / counts, counts.astype(float)
+
+
+def _merge_tallies(vals, counts, scale):
+    unit = max(abs(scale), 1e-300) * 1e-10
+    codes, inverse = np.unique(np.round(vals / unit), return_inverse=True)
+    c = np.bincount(inverse, weights=counts)
+    v = np.bincount(inverse, weights=vals * counts) / c
+    return v, c
+
+
+# ================================================================ stratified two-sample
+
+@dataclass(frozen=True)
+class StratifiedBlock:
+    code: int
+    scores: np.ndarray        # ranks within the block, or values
+    in_group0: np.ndarray     # bool
+    ints: Optional[np.ndarray]  # non-negative integer scores (shifted, divided by the gcd)
+
+    @property
+    def n(self) -> int:
+        return len(self.scores)
+
+    @property
+    def m(self) -> int:
+        return int(self.in_group0.sum())
+
+
+@dataclass(frozen=True)
+class Stratified:
+    test: str
+    blocks: tuple
+    t_obs: float
+    center: float
+    scale: float
+    step: Optional[float]     # statistic = offset + step * (integer sum), when on a grid
+    offset: Optional[float]
+    warnings: tuple
+
+    @property
+    def arrangements(self) -> float:
+        return float(prod(comb(b.n, b.m) for b in self.blocks))
+
+    @property
+    def on_grid(self) -> bool:
+        return self.step is not None
+
+
+def prepare_stratified(test, values, groups, blocks, block_names=None) -> Stratified:
+    v, g, bl = design_arrays(values, groups, blocks)
+    if g.max() > 1:
+        raise BindError(f"{STATISTIC_NAMES[test]} compares two groups; found {int(g.max()) + 1} "
+                        "group codes (use Friedman's test or the within-block F for more)")
+    used, lone = [], []
+    for code in np.unique(bl):
+        sel = bl == code
+        (used if len(np.unique(g[sel])) == 2 else lone).append((int(code), v[sel], g[sel] == 0))
+    warnings = ()
+    if lone:
+        names = ", ".join(_name(block_names, c, "block") for c, _, _ in lone)
+        warnings = (f"{names}: only one group present, so the block contributes nothing to the "
+                    "test and is left out",)
+    if not used:
+        raise BindError("no block contains both groups, so there is nothing to compare "
+                        "within blocks")
+    scores = [midranks(x) if test == "stratified-ranks" else x for _, x, _ in used]
+    ints, denom = _stratified_integers(test, [x for _, x, _ in used], scores)
+    step = offset = None
+    if ints is not None:
+        lows = [int(q.min()) for q in ints]
+        shifted = [q - low for q, low in zip(ints, lows)]
+        div = reduce(gcd, (int(x) for q in shifted for x in np.unique(q) if x), 0) or 1
+        ints = [q // div for q in shifted]
+        step = div / denom
+        offset = sum(int(m.sum()) * low for (_, _, m), low in zip(used, lows)) / denom
+    parts = tuple(StratifiedBlock(c, s, m, None if ints is None else ints[i])
+                  for i, ((c, _, m), s) in enumerate(zip(used, scores)))
+    t_obs = float(sum(b.scores[b.in_group0].sum() for b in parts))
+    center = float(sum(b.m * b.scores.mean() for b in parts))
+    scale = float(sum(b.m * np.abs(b.scores).max() for b in parts))
+    return Stratified(test, parts, t_obs, center, scale, step, offset, warnings)
+
+
+def _stratified_integers(test, raw, scores):
+    """Per-block integer scores and their common denominator, or (None, None) off a grid."""
+    if test == "stratified-ranks":
+        return [np.round(2 * s).astype(np.int64) for s in scores], 2
+    grid = decimal_grid(np.concatenate(raw))
+    if grid is None:
+        return None, None
+    ints, d = grid
+    cuts = np.cumsum([len(x) for x in raw])[:-1]
+    return np.split(ints, cuts), 10 ** d
+
+
+def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
+    total = prep.arrangements
+    out = []
+    if prep.on_grid:
+        ops, mem, acc = 0.0, 0.0, 1.0
+        for b in prep.blocks:
+            width = float(np.sort(b.ints)[::-1][:b.m].sum()) + 1
+            ops += b.n * (b.m + 1) * width
+            ops += acc * min(width, comb(b.n, b.m)) * 2
+            acc += width - 1
+            mem = max(mem, (b.m + 1) * width * 8, acc * 8 * 3)
+        note = ("mid-ranks within blocks (doubled, integers)" if prep.test == "stratified-ranks"
+                else f"data on a grid of {prep.step:g}")
+        out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, ops, mem,
+                             feasible=mem <= MAX_DP_BYTES, note=note, arrangements=total))
+    else:
+        out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, float("inf"),
+                             float("inf"), feasible=False,
+                             note=f"values are not on a grid of at most {MAX_DECIMALS} decimals",
+                             arrangements=total))
+    running, ops = 1.0, 0.0
+    for b in prep.blocks:
+        running *= comb(b.n, b.m)
+        ops += running * 4 + comb(b.n, b.m) * b.m
+    out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, ops, total * 8 * 4,
+                         feasible=total <= MAX_ENUMERATION, arrangements=total,
+                         note=f"{total:.4g} arrangements"))
+    n = sum(b.n for b in prep.blocks)
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
+                         min(draws, 8192) * max(b.n for b in prep.blocks) * 8 * 4,
+                         arrangements=total, note=f"{draws} draws"))
+    return out
+
+
+def _stratified_dp(prep: Stratified, alternative, progress) -> EngineOutcome:
+    if not prep.on_grid:
+        raise PlanError("the values are not on a decimal grid, so the integer dynamic "
+                        "programme does not apply; use enumeration or Monte Carlo")
+    acc = np.ones(1)
+    s_obs, pairs = 0, []
+    for i, b in enumerate(prep.blocks):
+        acc = convolve_exact(acc, subset_sum_counts(b.ints, b.m))
+        s_obs += int(b.ints[b.in_group0].sum())
+        pairs.append((b.m * int(b.ints.sum()), b.n))
+        progress.step((i + 1) / len(prep.blocks), "counting within blocks")
+    support = np.flatnonzero(acc)
+    counts = acc[support]
+    mask = integer_tail_mask(support, s_obs, _fraction_sum(pairs), alternative)
+    p = counts[mask].sum() / counts.sum()
+    return _outcome(prep.test, prep.t_obs, p, "dp-integer", prep.arrangements,
+                    prep.offset + prep.step * support, counts / counts.sum(), prep.warnings)
+
+
+def _block_subset_sums(b: StratifiedBlock):
+    idx = np.array(list(itertools.combinations(range(b.n), b.m)), dtype=np.int64)
+    sums = b.scores[idx].sum(axis=1)
+    return np.unique(sums, return_counts=True)
+
+
+def _stratified_enumeration(prep: Stratified, alternative, progress) -> EngineOutcome:
+    if prep.arrangements > MAX_ENUMERATION:
+        raise PlanError(f"{prep.arrangements:.4g} arrangements are too many to enumerate")
+    vals, counts = np.zeros(1), np.ones(1)
+    for i, b in enumerate(prep.blocks):
+        u, c = _block_subset_sums(b)
+        vals = (vals[:, None] + u[None, :]).ravel()
+        counts = (counts[:, None] * c[None, :]).ravel()
+        vals, inverse = np.unique(vals, return_inverse=True)   # merges identical values only
+        counts = np.bincount(inverse, weights=counts)
+        progress.step((i + 1) / len(prep.blocks), "enumerating")
+    p = pvalues.tail_probability(vals, counts, prep.t_obs, alternative, center=prep.center,
+                                 scale=prep.scale)
+    support, probs = _merge_tallies(vals, counts, prep.scale)
+    return _outcome(prep.test, prep.t_obs, p, "enumeration", prep.arrangements, support,
+                    probs / probs.sum(), prep.warnings)
+
+
+def _stratified_monte_carlo(prep: Stratified, alternative, draws, seed, progress):
+    hits = 0
+    for i, size, rng in sample_blocks(seed, draws):
+        t = np.zeros(size)
+        for b in prep.blocks:
+            order = np.argsort(rng.random((size, b.n)), axis=1)[:, :b.m]
+            t += b.scores[order].sum(axis=1)
+        hits += pvalues.exceedances(t, prep.t_obs, alternative, center=prep.center,
+                                    scale=prep.scale)
+        progress.step(min(1.0, (i * BLOCK + size) / draws), "sampling")
+    p, interval = pvalues.monte_carlo_p(hits, draws)
+    return _outcome(prep.test, prep.t_obs, p, "monte-carlo", prep.arrangements,
+                    warnings=prep.warnings, draws=draws, p_interval=interval, seed=seed)
+
+
+# ================================================================ complete blocks
+
+@dataclass(frozen=True)
+class Complete:
+    test: str
+    k: int
+    scores: np.ndarray          # b x k: mid-ranks (friedman, page) or values (F), by treatment
+    ints: Optional[np.ndarray]  # b x k non-negative integers, or None off a grid
+    step: Optional[float]       # scores = per-block constant + step * ints
+    t_obs: float                # the reported statistic
+    denominator: float          # Friedman: sum of squared rank deviations; F: SST - SSB
+    warnings: tuple
+
+    @property
+    def b(self) -> int:
+        return self.scores.shape[0]
+
+    @property
+    def arrangements(self) -> float:
+        return float(factorial(self.k)) ** self.b
+
+
+def check_complete_blocks(groups, blocks, n_groups: Optional[int] = None, test: str = "friedman",
+                          block_names=None, group_names=None) -> int:
+    """Raise BindError unless every block holds each treatment exactly once; returns k."""
+    g = np.asarray(groups, dtype=np.int64)
+    bl = np.asarray(blocks, dtype=np.int64)
+    k = int(n_groups) if n_groups is not None else int(g.max()) + 1
+    what = STATISTIC_NAMES.get(test, test)
+    if k < 2:
+        raise BindError(f"{what} needs at least two treatments")
+    if g.max() >= k:
+        raise BindError(f"group code {int(g.max())} is beyond the {k} treatments named")
+    for code in np.unique(bl):
+        counts = np.bincount(g[bl == code], minlength=k)
+        if np.all(counts == 1):
+            continue
+        missing = [_name(group_names, j, "treatment") for j in np.flatnonzero(counts == 0)]
+        repeated = [_name(group_names, j, "treatment") for j in np.flatnonzero(counts > 1)]
+        faults = (["it lacks " + ", ".join(missing)] if missing else []) + \
+                 (["it has " + ", ".join(repeated) + " more than once"] if repeated else [])
+        raise BindError(
+            f"{_name(block_names, int(code), 'block')} is incomplete: {'; '.join(faults)}. "
+            f"{what} needs every block to hold each of the {k} treatments exactly once "
+            "(a randomised complete block design)",
+            hint="for two groups, the stratified rank-sum or difference-in-means test applies "
+                 "to blocks of any size")
+    return k
+
+
+def block_matrix(values, groups, blocks, n_groups=None, test="friedman",
+                 block_names=None, group_names=None) -> np.ndarray:
+    """The b x k table of values (rows: blocks in code order; columns: treatments)."""
+    v, g, bl = design_arrays(values, groups, blocks)
+    k = check_complete_blocks(g, bl, n_groups, test, block_names, group_names)
+    codes, rows = np.unique(bl, return_inverse=True)
+    table = np.empty((len(codes), k))
+    table[rows, g] = v
+    return table
+
+
+def friedman_from_ranks(ranks: np.ndarray) -> tuple[float, float]:
+    """(Q, D): Q = (k-1) sum_j (R_j - b(k+1)/2)^2 / D, D = sum_ij (r_ij - (k+1)/2)^2."""
+    b, k = ranks.shape
+    dev = ranks.sum(axis=0) - b * (k + 1) / 2
+    d = float(((ranks - (k + 1) / 2) ** 2).sum())
+    return ((k - 1) * float((dev ** 2).sum()) / d if d > 0 else 0.0), d
+
+
+def f_from_table(y: np.ndarray) -> tuple[float, float, float]:
+    """(F, SS treatments, SST - SSB) for the additive two-way model on the b x k table."""
+    b, k = y.shape
+    grand = y.mean()
+    sst = float(((y.mean(axis=0) - grand) ** 2).sum() * b)
+    resid_total = float(((y - y.mean(axis=1, keepdims=True)) ** 2).sum())
+    sse = max(resid_total - sst, 0.0)
+    if sse <= 1e-12 * max(resid_total, 1e-300):
+        f = float("inf") if sst > 0 else float("nan")
+    else:
+        f = (sst / (k - 1)) / (sse / ((k - 1) * (b - 1)))
+    return f, sst, resid_total
+
+
+def prepare_complete(test, values, groups, blocks, n_groups=None, block_names=None,
+                     group_names=None) -> Complete:
+    y = block_matrix(values, groups, blocks, n_groups, test, block_names, group_names)
+    b, k = y.shape
+    warnings = []
+    if test in ("friedman", "page"):
+        ranks = np.vstack([midranks(row) for row in y])
+        ints, step = np.round(2 * ranks).astype(np.int64), 0.5
+        q, denom = friedman_from_ranks(ranks)
+        if test == "friedman" and denom == 0:
+            warnings.append("every block is tied throughout: the test has no information")
+        t_obs = q if test == "friedman" else float((np.arange(1, k + 1) * ranks.sum(0)).sum())
+        return Complete(test, k, ranks, ints, step, t_obs, denom, tuple(warnings))
+    if b < 2:
+        raise BindError("the within-block F needs at least two blocks")
+    f, _, resid_total = f_from_table(y)
+    if not np.isfinite(f):
+        warnings.append("the additive model fits exactly (no residual variation): F is infinite"
+                        if f == np.inf else "no variation within blocks: F is undefined")
+    ints, step = _table_grid(y)
+    return Complete(test, k, y, ints, step, f, resid_total, tuple(warnings))
+
+
+def _table_grid(y):
+    grid = decimal_grid(y.ravel())
+    if grid is None:
+        return None, None
+    ints, d = grid
+    ints = ints.reshape(y.shape)
+    ints = ints - ints.min(axis=1, keepdims=True)
+    div = reduce(gcd, (int(x) for x in np.unique(ints) if x), 0) or 1
+    return ints // div, div / 10 ** d
+
+
+# ---------------------------------------------------------------- complete: statistics
+
+def _centered_ss(totals):
+    """sum_j (T_j - mean T)^2 for one vector of treatment totals or for each row of many."""
+    totals = np.asarray(totals, dtype=float)
+    return ((totals - totals.mean(axis=-1, keepdims=True)) ** 2).sum(axis=-1)
+
+
+def _ss_scale(scores):
+    """A magnitude for the tolerance on sums of squares of treatment totals."""
+    return max(1e-4 * float((np.abs(scores).sum(axis=0) ** 2).sum()), 1e-300)
+
+
+def _statistic_from_ss(prep: Complete, centered):
+    """The reported statistic from the centered sum of squares of treatment totals."""
+    centered = np.asarray(centered, dtype=float)
+    if prep.test == "friedman":
+        return (prep.k - 1) * centered / prep.denominator if prep.denominator > 0 else 0 * centered
+    sst = centered / prep.b
+    sse = prep.denominator - sst     # SST - SSB is the same for every within-block order
+    with np.errstate(divide="ignore", invalid="ignore"):
+        # F = (SSt / (k-1)) / (SSE / ((k-1)(b-1))) = (b-1) SSt / SSE
+        return np.where(sse > 1e-12 * max(prep.denominator, 1e-300), (prep.b - 1) * sst / sse,
+                        np.where(sst > 0, np.inf, np.nan))
+
+
+def _page_weights(k):
+    return np.arange(1, k + 1, dtype=np.int64)
+
+
+# ---------------------------------------------------------------- complete: costs
+
+def _distinct_count(row) -> int:
+    _, c = np.unique(row, return_counts=True)
+    return factorial(len(row)) // prod(factorial(int(x)) for x in c)
+
+
+def _vector_dp_cost(ints: np.ndarray) -> tuple[float, float, bool, str]:
+    b, k = ints.shape
+    if k > VECTOR_MAX_TREATMENTS:
+        return float("inf"), float("inf"), False, f"more than {VECTOR_MAX_TREATMENTS} treatments"
+    if not _indexable(ints):
+        return float("inf"), float("inf"), False, "treatment totals too wide to index"
+    ops = mem = 0.0
+    states, reach = 1.0, 0
+    for row in ints:
+        p = factorial(k)
+        ops += states * p * k * 12
+        mem = max(mem, min(states * p, CHUNK_ROWS) * k * 8 * 4 + states * k * 8 * 2)
+        reach += int(row.max() - row.min())
+        states = min(states * _distinct_count(row), (reach + 1) ** (k - 1) / factorial(k) + 1)
+    return ops, mem, mem <= MAX_DP_BYTES, f"about {states:.3g} distinct sorted totals"
+
+
+def _page_dp_cost(ints: np.ndarray) -> tuple[float, float, bool]:
+    b, k = ints.shape
+    if k > PAGE_MAX_TREATMENTS:
+        return float("inf"), float("inf"), False
+    width = float((_page_weights(k) * np.sort(ints, axis=1)).sum(axis=1).max()) + 1
+    patterns = len({tuple(np.sort(r)) for r in ints})
+    ops = patterns * (2 ** k) * k * width + b * (b * width) * width
+    mem = (2 ** k) * width * 8 + b * width * 8 * 3
+    return ops, mem, mem <= MAX_DP_BYTES
+
+
+def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
+    total = prep.arrangements
+    out = []
+    if prep.test == "page":
+        ops, mem, ok = _page_dp_cost(prep.ints)
+        out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, ops, mem, ok,
+                             note="doubled mid-ranks are integers" if ok else
+                             f"more than {PAGE_MAX_TREATMENTS} treatments", arrangements=total))
+    elif prep.ints is not None:
+        ops, mem, ok, note = _vector_dp_cost(prep.ints)
+        out.append(Candidate("dp-vector", DESCRIPTIONS["dp-vector"], True, ops, mem, ok,
+                             note=note, arrangements=total))
+    else:
+        out.append(Candidate("dp-vector", DESCRIPTIONS["dp-vector"], True, float("inf"),
+                             float("inf"), False, arrangements=total,
+                             note=f"values are not on a grid of at most {MAX_DECIMALS} decimals"))
+    if prep.test == "within-block-f":
+        fixed = total / factorial(prep.k)   # the first block's order is fixed by symmetry
+        out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True,
+                             fixed * prep.k * 6, fixed / max(1, factorial(prep.k)) * prep.k * 8 * 3,
+                             feasible=fixed <= MAX_ENUMERATION, arrangements=total,
+                             note=f"{total:.4g} arrangements ({fixed:.4g} after fixing block 1)"))
+    n = prep.b * prep.k
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
+                         min(draws, 8192) * prep.k * 8 * 4, arrangements=total,
+                         note=f"{draws} draws"))
+    return out
+
+
+# ---------------------------------------------------------------- complete: exact runs
+
+@lru_cache(maxsize=256)
+def _distinct_permutations(row: tuple) -> tuple[np.ndarray, np.ndarray]:
+    """Every ordering of the row's entries, once each, with how many unit orders give it."""
+    k = len(row)
+    perms = np.array(list(itertools.permutations(range(k))), dtype=np.int64)
+    arranged = np.asarray(row, dtype=np.int64)[perms]
+    uniq, counts = np.unique(arranged, axis=0, return_counts=True)
+    return uniq, counts.astype(float)
+
+
+def _indexable(ints: np.ndarray) -> bool:
+    """Sorted total vectors fit one int64 code, and their sums of squares fit int64."""
+    k = ints.shape[1]
+    radix = int(ints.max(axis=1).sum()) + 1
+    return radix ** k < 2 ** 62 and k * radix ** 2 < 2 ** 62
+
+
+def _encode(rows: np.ndarray, radix: int) -> np.ndarray:
+    code = np.zeros(len(rows), dtype=np.int64)
+    for j in range(rows.shape[1]):
+        code = code * radix + rows[:, j]
+    return code
+
+
+def _decode(codes: np.ndarray, radix: int, k: int) -> np.ndarray:
+    rows = np.empty((len(codes), k), dtype=np.int64)
+    rest = codes.copy()
+    for j in range(k - 1, -1, -1):
+        rows[:, j] = rest % radix
+        rest //= radix
+    return rows
+
+
+def _merge_codes(codes: np.ndarray, counts: np.ndarray):
+    uniq, inverse = np.unique(codes, return_inverse=True)
+    return uniq, np.bincount(inverse, weights=counts)
+
+
+def vector_dp(ints: np.ndarray, progress: Progress = NO_PROGRESS):
+    """Distinct sorted treatment-total vectors over all within-block orders, with counts.
+
+    Sorting each vector is exact for statistics symmetric in the treatments: every block's
+    orders are equally likely, so the totals are exchangeable across treatments.
+    """
+    b, k = ints.shape
+    radix = int(ints.max(axis=1).sum()) + 1
+    states, counts = np.zeros((1, k), dtype=np.int64), np.ones(1)
+    for i, row in enumerate(ints):
+        perms, pc = _distinct_permutations(tuple(int(x) for x in row))
+        step = max(1, CHUNK_ROWS // len(perms))
+        codes, weights = [], []
+        for s in range(0, len(states), step):
+            new = (states[s:s + step, None, :] + perms[None, :, :]).reshape(-1, k)
+            new.sort(axis=1)
+            c = (counts[s:s + step, None] * pc[None, :]).ravel()
+            u, w = _merge_codes(_encode(new, radix), c)
+            codes.append(u)
+            weights.append(w)
+        merged, counts = _merge_codes(np.concatenate(codes), np.concatenate(weights))
+        states = _decode(merged, radix, k)
+        progress.step((i + 1) / b, "counting over blocks")
+    return states, counts
+
+
+def _quadratic_dp(prep: Complete, progress) -> EngineOutcome:
+    if prep.ints is None or not _indexable(prep.ints):
+        raise PlanError("the values are not on a narrow enough decimal grid, so the dynamic "
+                        "programme does not apply; use enumeration or Monte Carlo")
+    states, counts = vector_dp(prep.ints, progress)
+    ss = (states ** 2).sum(axis=1)
+    ss_obs = int((prep.ints.sum(axis=0) ** 2).sum())
+    p = counts[ss >= ss_obs].sum() / counts.sum()
+    uniq, inverse = np.unique(ss, return_inverse=True)
+    w = np.bincount(inverse, weights=counts)
+    total = int(prep.ints.sum())
+    centered = prep.step ** 2 * (uniq.astype(float) - total ** 2 / prep.k)
+    support = _statistic_from_ss(prep, centered)
+    return _outcome(prep.test, prep.t_obs, p, "dp-vector", prep.arrangements, support,
+                    w / w.sum(), prep.warnings)
+
+
+def linear_permutation_counts(q, c) -> np.ndarray:
+    """n[s] = number of the k! orders pi with sum_j c_j * q_pi(j) = s (q, c >= 0 integers).
+
+    Dynamic programme over the subsets of units: position j = |mask| takes a unit not in mask.
+    """
+    q = [int(x) for x in q]
+    c = [int(x) for x in c]
+    k = len(q)
+    width = sum(a * b for a, b in zip(sorted(c), sorted(q))) + 1
+    dp = np.zeros((1 << k, width))
+    dp[0, 0] = 1.0
+    for mask in range(1 << k):
+        j = bin(mask).count("1")
+        if j == k or not dp[mask].any():
+            continue
+        row = dp[mask]
+        for i in range(k):
+            if not mask >> i & 1:
+                shift = c[j] * q[i]
+                dp[mask | 1 << i, shift:] += row[:width - shift]
+    return dp[-1]
+
+
+def _page_dp(prep: Complete, alternative, progress) -> EngineOutcome:
+    if prep.k > PAGE_MAX_TREATMENTS:
+        raise PlanError(f"the exact Page programme handles at most {PAGE_MAX_TREATMENTS} "
+                        "treatments; use Monte Carlo")
+    weights = _page_weights(prep.k)
+    cache, acc = {}, np.ones(1)
+    for i, row in enumerate(prep.ints):
+        key = tuple(sorted(int(x) for x in row))
+        if key not in cache:
+            cache[key] = linear_permutation_counts(key, weights)
+        acc = convolve_exact(acc, cache[key])
+        progress.step((i + 1) / prep.b, "counting over blocks")
+    support = np.flatnonzero(acc)
+    counts = acc[support]
+    l_obs = int((weights * prep.ints.sum(axis=0)).sum())
+    center = _fraction_sum((int(weights.sum()) * int(r.sum()), prep.k) for r in prep.ints)
+    mask = integer_tail_mask(support, l_obs, center, alternative)
+    p = counts[mask].sum() / counts.sum()
+    return _outcome(prep.test, prep.t_obs, p, "dp-integer", prep.arrangements,
+                    support * prep.step, counts / counts.sum(), prep.warnings)
+
+
+def _f_enumeration(prep: Complete, progress) -> EngineOutcome:
+    """Every within-block order, with block 1's order fixed (F is symmetric in treatments)."""
+    fixed = prep.arrangements / factorial(prep.k)
+    if fixed > MAX_ENUMERATION:
+        raise PlanError(f"{prep.arrangements:.4g} arrangements are too many to enumerate")
+    y = prep.scores
+    perms = np.array(list(itertools.permutations(range(prep.k))), dtype=np.int64)
+    totals = y[0][None, :]
+    for row in y[1:-1]:
+        totals = (totals[:, None, :] + row[perms][None, :, :]).reshape(-1, prep.k)
+    obs = _centered_ss(y.sum(axis=0))
+    scale = _ss_scale(y)
+    hits, vals, counts = 0, [], []
+    last = y[-1][perms] if prep.b > 1 else np.zeros((1, prep.k))
+    for i, arranged in enumerate(last):
+        ss = _centered_ss(totals + arranged[None, :])
+        hits += pvalues.exceedances(ss, obs, "higher", scale=scale)
+        v, c = _tally(ss, scale)
+        vals.append(v)
+        counts.append(c)
+        progress.step((i + 1) / len(last), "enumerating")
+    enumerated = len(totals) * len(last)
+    v, c = _merge_tallies(np.concatenate(vals), np.concatenate(counts), scale)
+    return _outcome(prep.test, prep.t_obs, hits / enumerated, "enumeration", prep.arrangements,
+                    _statistic_from_ss(prep, v), c / c.sum(), prep.warnings)
+
+
+# ---------------------------------------------------------------- complete: Monte Carlo
+
+def _complete_monte_carlo(prep: Complete, alternative, draws, seed, progress):
+    scores = prep.ints.astype(float) if prep.ints is not None else prep.scores
+    k = prep.k
+    if prep.test == "page":
+        weights = _page_weights(k).astype(float)
+        t_obs = float(weights @ scores.sum(axis=0))
+        center = float(weights.sum() * scores.sum() / k)
+        scale = max(abs(t_obs), 1.0)
+    else:
+        t_obs = float(_centered_ss(scores.sum(axis=0)))
+        center, scale, alternative = 0.0, _ss_scale(scores), "higher"
+    hits = 0
+    for i, size, rng in sample_blocks(seed, draws):
+        totals = np.zeros((size, k))
+        for row in scores:
+            totals += row[np.argsort(rng.random((size, k)), axis=1)]
+        t = totals @ weights if prep.test == "page" else _centered_ss(totals)
+        hits += pvalues.exceedances(t, t_obs, alternative, center=center, scale=scale)
+        progress.step(min(1.0, (i * BLOCK + size) / draws), "sampling")
+    p, interval = pvalues.monte_carlo_p(hits, draws)
+    return _outcome(prep.test, prep.t_obs, p, "monte-carlo", prep.arrangements,
+                    warnings=prep.warnings, draws=draws, p_interval=interval, seed=seed)
+
+
+# ================================================================ entry points
+
+def prepare(test, values, groups, blocks, n_groups=None, block_names=None, group_names=None):
+    """Validate the design for the test and compute what every algorithm shares."""
+    if test in STRATIFIED:
+        return prepare_stratified(test, values, groups, blocks, block_names)
+    if test in COMPLETE:
+        return prepare_complete(test, values, groups, blocks, n_groups, block_names, group_names)
+    raise BindError(f"unknown blocked test {test!r}; known: {', '.join(TESTS)}")
+
+
+def candidates(test, values, groups, blocks, draws: int = DEFAULT_DRAWS,
+               n_groups: Optional[int] = None) -> list[Candidate]:
+    prep = prepare(test, values, groups, blocks, n_groups)
+    if test in STRATIFIED:
+        return _stratified_candidates(prep, draws)
+    return _complete_candidates(prep, draws)
+
+
+def run(test, values, groups, blocks, alternative, algorithm, draws: Optional[int] = None,
+        seed: Optional[int] = None, progress: Progress = NO_PROGRESS,
+        n_groups: Optional[int] = None) -> EngineOutcome:
+    """The permutation p-value of `test` by `algorithm` (a Candidate key)."""
+    _check_alternative(test, alternative)
+    prep = prepare(test, values, groups, blocks, n_groups)
+    if algorithm == "monte-carlo":
+        draws = int(draws) if draws is not None else DEFAULT_DRAWS
+        seed = int(seed) if seed is not None else fresh_seed()
+        if test in STRATIFIED:
+            return _stratified_monte_carlo(prep, alternative, draws, seed, progress)
+        return _complete_monte_carlo(prep, alternative, draws, seed, progress)
+    if test in STRATIFIED and algorithm == "dp-integer":
+        return _stratified_dp(prep, alternative, progress)
+    if test in STRATIFIED and algorithm == "enumeration":
+        return _stratified_enumeration(prep, alternative, progress)
+    if test == "page" and algorithm == "dp-integer":
+        return _page_dp(prep, alternative, progress)
+    if test in ("friedman", "within-block-f") and algorithm == "dp-vector":
+        return _quadratic_dp(prep, progress)
+    if test == "within-block-f" and algorithm == "enumeration":
+        return _f_enumeration(prep, progress)
+    raise PlanError(f"algorithm {algorithm!r} does not apply to {STATISTIC_NAMES[test]}")
