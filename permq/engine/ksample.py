@@ -1,0 +1,563 @@
+"""Exact and Monte Carlo engines for three or more unordered groups.
+
+Every statistic here is a quadratic one: it is an increasing function of the between-group
+sum of squares of some scores a_i,
+
+    SSB = sum_g S_g^2 / n_g - (sum_i a_i)^2 / N,     S_g = sum of the scores in group g,
+
+so that every exact p-value is P(SSB >= ssb_obs) under random assignment of the N items to
+groups of the observed sizes (each of the N! / (n_1! ... n_k!) assignments equally likely):
+
+- "means": the values themselves; one-way F = (SSB/(k-1)) / ((SST-SSB)/(N-k)).
+- "ranks": mid-ranks; Kruskal-Wallis H = (N-1) SSB / SST, which is the usual H divided by the
+  tie correction 1 - sum(t^3 - t) / (N^3 - N) (common practice).
+- "normal-scores": van der Waerden scores Phi^-1(r / (N+1)) of the mid-ranks r;
+  statistic (N-1) SSB / SST.
+- "medians": 1 above the pooled median, 0 otherwise (values equal to the median count as
+  not above); statistic N SSB / SST, the Pearson chi-square of the 2 x k table of counts.
+
+The statistic is already two-sided: any alternative is read as its upper tail.
+
+Algorithms (keys as in `Candidate.algorithm`):
+- "enumeration": list every assignment (`enumerate_group_sums`).
+- "dp-sums": scores on an integer grid (doubled mid-ranks always are; values recorded to a few
+  decimals are) are counted, not listed: tie blocks are added one at a time and the state is
+  the vector of (count, score sum) per group; groups of equal size are interchangeable for a
+  quadratic statistic, so states that differ only by permuting them are merged.
+- "dp-hypergeometric": the median test's tables of counts above the median, probabilities
+  from the multivariate hypergeometric law, one group at a time.
+- "monte-carlo": random assignments in seeded blocks (`sample_group_sums`).
+"""
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass
+from functools import lru_cache, reduce
+from typing import Callable, Iterator, Optional
+
+import numpy as np
+from scipy import stats
+
+from ..errors import DataError, PlanError
+from ..plan.cost import Candidate
+from ..result import EngineOutcome
+from . import pvalues, sampling
+from .sampling import NO_PROGRESS, Progress
+
+DEFAULT_DRAWS = 100_000          # Monte Carlo draws when the caller names none (and cost basis)
+ENUMERATION_MAX = 5e8            # beyond this many arrangements, listing is not offered
+NULL_KEEP_MAX = 2_000_000        # keep the null distribution when it has at most this many points
+DP_MAX_STATES = 3e7              # estimated peak states beyond which counting is not offered
+_ROWS = 1 << 18                  # rows handled at once when listing or counting
+_MAX_DECIMALS = 6
+
+
+# ----------------------------------------------------------------------------- design
+
+def design(values, groups) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Check the inputs; return (values, groups, sizes) as arrays."""
+    x = np.asarray(values, dtype=float).ravel()
+    g = np.asarray(groups).ravel()
+    if x.size != g.size:
+        raise DataError(f"{x.size} values but {g.size} group codes")
+    if not np.all(np.isfinite(x)):
+        raise DataError("values must be finite numbers (no missing values)")
+    if g.size == 0 or not np.issubdtype(g.dtype, np.integer) or g.min() < 0:
+        raise DataError("group codes must be integers 0 .. k-1")
+    g = g.astype(np.int64)
+    sizes = np.bincount(g)
+    if sizes.size < 2:
+        raise DataError("at least two groups are needed")
+    if np.any(sizes == 0):
+        empty = ", ".join(str(i) for i in np.flatnonzero(sizes == 0))
+        raise DataError(f"group(s) {empty} have no values")
+    return x, g, sizes
+
+
+def multinomial(sizes) -> int:
+    """N! / (n_1! ... n_k!): the number of assignments to groups of these sizes."""
+    total, out = 0, 1
+    for n in sizes:
+        total += int(n)
+        out *= math.comb(total, int(n))
+    return out
+
+
+def ordered_by_group(a: np.ndarray, groups: np.ndarray) -> np.ndarray:
+    """Scores laid out group after group (stable), the layout the listing and sampling use."""
+    return a[np.argsort(groups, kind="stable")]
+
+
+# ----------------------------------------------------------------------------- scores
+
+def midranks(x) -> np.ndarray:
+    return stats.rankdata(np.asarray(x, dtype=float), method="average")
+
+
+def normal_scores(x) -> np.ndarray:
+    """van der Waerden scores Phi^-1(r / (N + 1)) of the mid-ranks r."""
+    x = np.asarray(x, dtype=float)
+    return stats.norm.ppf(midranks(x) / (x.size + 1))
+
+
+def above_median(x) -> np.ndarray:
+    x = np.asarray(x, dtype=float)
+    return (x > np.median(x)).astype(float)
+
+
+@dataclass(frozen=True)
+class Grid:
+    """Scores written exactly as origin + step * z with non-negative integers z."""
+
+    z: np.ndarray
+    origin: float
+    step: float
+
+
+def integer_grid(a, max_decimals: int = _MAX_DECIMALS) -> Optional[Grid]:
+    """The coarsest grid the scores lie on (as recorded, to at most `max_decimals`), or None."""
+    a = np.asarray(a, dtype=float)
+    for d in range(max_decimals + 1):
+        scaled = a * 10.0 ** d
+        if np.max(np.abs(scaled), initial=0.0) > 2.0 ** 50:
+            return None
+        ints = np.round(scaled)
+        if np.all(np.abs(scaled - ints) <= 1e-7 * np.maximum(1.0, np.abs(scaled))):
+            ints = ints.astype(np.int64)
+            low = int(ints.min())
+            shifted = ints - low
+            step = reduce(math.gcd, (int(v) for v in np.unique(shifted)), 0) or 1
+            return Grid(shifted // step, low / 10.0 ** d, step / 10.0 ** d)
+    return None
+
+
+# ----------------------------------------------------------------------------- listing
+
+@lru_cache(maxsize=64)
+def _combination_tables(r: int, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """All n-subsets of range(r) as rows, and their complements."""
+    pick = np.array(list(itertools.combinations(range(r), n)), dtype=np.int64).reshape(-1, n)
+    mask = np.ones((len(pick), r), dtype=bool)
+    mask[np.arange(len(pick))[:, None], pick] = False
+    keep = np.nonzero(mask)[1].reshape(len(pick), r - n)
+    return pick, keep
+
+
+def enumerate_group_sums(scores, sizes, progress: Progress = NO_PROGRESS) -> Iterator[np.ndarray]:
+    """Yield the group sums of every assignment, in chunks of shape (rows, k, p).
+
+    `scores` is (N,) or (N, p); every one of the N!/(n_1!...n_k!) assignments of the items
+    to groups of the given sizes appears exactly once.
+    """
+    a = np.asarray(scores, dtype=float).reshape(len(scores), -1)
+    sizes = [int(n) for n in sizes]
+    rem = np.arange(a.shape[0], dtype=np.int64)[None, :]
+    sums = np.zeros((1, 0, a.shape[1]))
+    total = float(multinomial(sizes))
+    done = [0.0]
+    for chunk in _expand(a, sizes, 0, rem, sums):
+        done[0] += len(chunk)
+        progress.step(done[0] / total, "listing assignments")
+        yield chunk
+
+
+def _expand(a, sizes, g, rem, sums):
+    if g == len(sizes) - 1:
+        yield np.concatenate([sums, a[rem].sum(axis=1)[:, None, :]], axis=1)
+        return
+    r = rem.shape[1]
+    pick, keep = _combination_tables(r, sizes[g])
+    step = max(1, _ROWS // len(pick))
+    for lo in range(0, len(rem), step):
+        part, part_sums = rem[lo:lo + step], sums[lo:lo + step]
+        chosen = a[part[:, pick]].sum(axis=2)                      # (m, P, p)
+        new_rem = part[:, keep].reshape(-1, r - sizes[g])
+        new_sums = np.concatenate([np.repeat(part_sums, len(pick), axis=0),
+                                   chosen.reshape(-1, 1, a.shape[1])], axis=1)
+        yield from _expand(a, sizes, g + 1, new_rem, new_sums)
+
+
+# ----------------------------------------------------------------------------- sampling
+
+def sample_group_sums(scores, sizes, seed: int, draws: int,
+                      progress: Progress = NO_PROGRESS) -> Iterator[np.ndarray]:
+    """Yield group sums of `draws` random assignments, one seeded block at a time: (b, k, p)."""
+    a = np.asarray(scores, dtype=float).reshape(len(scores), -1)
+    starts = np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64)
+    done = 0
+    for _, size, rng in sampling.blocks(seed, draws):
+        order = rng.permuted(np.broadcast_to(np.arange(a.shape[0]), (size, a.shape[0])), axis=1)
+        yield np.add.reduceat(a[order], starts, axis=1)
+        done += size
+        progress.step(done / draws, "sampling assignments")
+
+
+# ----------------------------------------------------------------------------- counting
+
+def _compositions(m: int, caps: np.ndarray) -> np.ndarray:
+    """All ways (x_1..x_k) to split m tied items over k groups with x_g <= caps_g."""
+    k = len(caps)
+    rows = []
+    for bars in itertools.combinations(range(m + k - 1), k - 1):
+        edges = (-1,) + bars + (m + k - 1,)
+        x = [edges[i + 1] - edges[i] - 1 for i in range(k)]
+        if all(x[i] <= caps[i] for i in range(k)):
+            rows.append(x)
+    return np.array(rows, dtype=np.int64).reshape(-1, k)
+
+
+def _multinomial_weights(m: int, xs: np.ndarray) -> np.ndarray:
+    f = [math.factorial(v) for v in range(m + 1)]
+    return np.array([f[m] / math.prod(f[v] for v in x) for x in xs], dtype=float)
+
+
+@dataclass
+class _States:
+    """Sparse DP states: per group counts and score sums, and the number of ways."""
+
+    counts: np.ndarray   # (M, k) int64
+    sums: np.ndarray     # (M, k) int64
+    ways: np.ndarray     # (M,) float64
+
+
+def _radix(z: np.ndarray, sizes: np.ndarray) -> Optional[np.ndarray]:
+    top = np.sort(z)[::-1]
+    smax = np.array([int(top[:n].sum()) for n in sizes], dtype=np.int64)
+    radix = (sizes + 1) * (smax + 1)
+    if math.prod(int(r) for r in radix) >= 2 ** 62:
+        return None
+    return smax
+
+
+def _merge(st: _States, sizes, smax, classes) -> _States:
+    """Sum the ways of equal states (up to permuting groups of equal size)."""
+    pair = st.counts * (smax + 1) + st.sums
+    for cl in classes:
+        pair[:, cl] = np.sort(pair[:, cl], axis=1)
+    radix = (sizes + 1) * (smax + 1)
+    key = np.zeros(len(pair), dtype=np.int64)
+    for g in range(len(sizes)):
+        key = key * radix[g] + pair[:, g]
+    _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+    ways = np.bincount(inverse.ravel(), weights=st.ways)
+    pair = pair[first]
+    return _States(pair // (smax + 1), pair % (smax + 1), ways)
+
+
+def _add_block(st: _States, value: int, m: int, sizes, smax, classes) -> _States:
+    xs = _compositions(m, sizes)
+    weights = _multinomial_weights(m, xs)
+    done, parts, rows = None, [], 0
+    for x, w in zip(xs, weights):
+        ok = np.all(st.counts + x <= sizes, axis=1)
+        if not ok.any():
+            continue
+        parts.append(_States(st.counts[ok] + x, st.sums[ok] + x * value, st.ways[ok] * w))
+        rows += int(ok.sum())
+        if rows > 8 * _ROWS:
+            done = _merge(_concat(parts + ([done] if done else [])), sizes, smax, classes)
+            parts, rows = [], 0
+    return _merge(_concat(parts + ([done] if done else [])), sizes, smax, classes)
+
+
+def _concat(parts: list) -> _States:
+    return _States(np.concatenate([p.counts for p in parts]), np.concatenate([p.sums for p in parts]),
+                   np.concatenate([p.ways for p in parts]))
+
+
+def count_sum_squares(z, sizes, progress: Progress = NO_PROGRESS) -> tuple[np.ndarray, np.ndarray]:
+    """Exact null distribution of Q = sum_g Z_g^2 * (L / n_g), L = lcm of the sizes.
+
+    z: non-negative integer scores; Z_g: their sum in group g. Returns (Q values as int64,
+    numbers of assignments) over all N!/(n_1!...n_k!) assignments.
+    """
+    z = np.asarray(z, dtype=np.int64)
+    sizes = np.asarray(sizes, dtype=np.int64)
+    smax = _radix(z, sizes)
+    if smax is None:
+        raise PlanError("the score sums are too large to count exactly")
+    classes = [np.flatnonzero(sizes == v) for v in np.unique(sizes) if np.sum(sizes == v) > 1]
+    k = len(sizes)
+    st = _States(np.zeros((1, k), np.int64), np.zeros((1, k), np.int64), np.ones(1))
+    values, mult = np.unique(z, return_counts=True)
+    for i, (v, m) in enumerate(zip(values, mult)):
+        st = _add_block(st, int(v), int(m), sizes, smax, classes)
+        progress.step((i + 1) / len(values), "counting assignments")
+    lcm = int(np.lcm.reduce(sizes))
+    q = (st.sums ** 2 * (lcm // sizes)).sum(axis=1)
+    support, inverse = np.unique(q, return_inverse=True)
+    return support, np.bincount(inverse.ravel(), weights=st.ways)
+
+
+def estimate_states(z, sizes) -> float:
+    """Rough peak number of counting states (an over-estimate as a rule), before running."""
+    z = np.sort(np.asarray(z, dtype=np.int64))
+    sizes = np.asarray(sizes, dtype=np.int64)
+    N = int(sizes.sum())
+    sym = math.prod(math.factorial(int(np.sum(sizes == v))) for v in np.unique(sizes))
+    order = np.argsort(sizes)
+    best = 1.0
+    for i in sorted({max(1, N // 3), N // 2, (2 * N) // 3, (3 * N) // 4}):
+        prefix = z[:i]
+        _, mult = np.unique(prefix, return_counts=True)
+        distinct = reduce(np.convolve, (np.ones(m + 1) for m in mult), np.array([1.0]))
+        total = np.array([1.0])
+        for j, g in enumerate(order):
+            f = np.ones(int(sizes[g]) + 1)
+            if j < len(order) - 1:
+                for c in range(min(int(sizes[g]), i) + 1):
+                    span = int(prefix[::-1][:c].sum() - prefix[:c].sum()) + 1
+                    f[c] = min(span, distinct[c])
+            f[min(int(sizes[g]), i) + 1:] = 0
+            total = np.convolve(total, f)
+        if i < len(total):
+            best = max(best, float(total[i]))
+    return best / sym
+
+
+def dp_ops(z, sizes) -> tuple[float, float, float]:
+    """(estimated peak states, ops, peak bytes) of `count_sum_squares`."""
+    sizes = np.asarray(sizes)
+    k = len(sizes)
+    states = estimate_states(z, sizes)
+    _, mult = np.unique(np.asarray(z), return_counts=True)
+    branches = sum(math.comb(int(m) + k - 1, k - 1) for m in mult)
+    return states, states * branches * (k + 4) * 2.0, states * k * (16.0 * k + 40.0) * 2.0
+
+
+# ----------------------------------------------------------------------------- median counting
+
+def count_median_tables(sizes, above: int) -> tuple[list, list]:
+    """Exact law of Q = sum_g a_g^2 * (L / n_g) over the tables of counts a_g above the median.
+
+    A table has prod_g C(n_g, a_g) of the C(N, A) equally likely choices of which items lie
+    above (multivariate hypergeometric); it stands for that many times
+    N!/(n_1!...n_k!) / C(N, A) assignments, an integer once multiplied out. Returns
+    (Q values, numbers of assignments) as Python integers.
+    """
+    sizes = [int(n) for n in sizes]
+    lcm = math.lcm(*sizes)
+    states = {(0, 0): 1}
+    for n in sizes:
+        new: dict = {}
+        for (used, q), ways in states.items():
+            for a in range(0, min(n, above - used) + 1):
+                key = (used + a, q + a * a * (lcm // n))
+                new[key] = new.get(key, 0) + ways * math.comb(n, a)
+        states = new
+    laws: dict = {}
+    for (used, q), ways in states.items():
+        if used == above:
+            laws[q] = laws.get(q, 0) + ways
+    support = sorted(laws)
+    total, choices = multinomial(sizes), math.comb(sum(sizes), above)
+    return support, [laws[q] * total // choices for q in support]
+
+
+# ----------------------------------------------------------------------------- families
+
+ONE_SIDED_NOTE = ("the {stat} is already two-sided (large for any difference among groups); "
+                  "alternative '{alt}' was read as its upper tail")
+
+
+def _f_statistic(ssb, sst, N, k):
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if N == k:
+            return np.full_like(np.asarray(ssb, dtype=float), np.inf)
+        return (np.asarray(ssb) / (k - 1)) / ((sst - np.asarray(ssb)) / (N - k))
+
+
+def _scaled(c: Callable[[int], float]):
+    def statistic(ssb, sst, N, k):
+        return c(N) * np.asarray(ssb, dtype=float) / sst
+    return statistic
+
+
+def _value_grid(x):
+    return integer_grid(x)
+
+
+def _rank_grid(x):
+    return integer_grid(np.round(2 * midranks(x)))
+
+
+@dataclass(frozen=True)
+class QuadraticFamily:
+    """One k-sample statistic: its scores, how it follows from SSB, and the ways to get p."""
+
+    key: str
+    statistic_name: str
+    score: Callable[[np.ndarray], np.ndarray]
+    statistic_of: Callable            # (ssb, sst, N, k) -> statistic, increasing in ssb
+    grid: Optional[Callable] = None   # integer grid of the scores for counting, or None
+    counting: str = "dp-sums"         # the exact counting algorithm this family offers
+    counting_words: str = ""
+
+    def candidates(self, values, groups) -> list[Candidate]:
+        x, _, sizes = design(values, groups)
+        arr = multinomial(sizes)
+        out = [_enumeration_candidate(arr, len(x), len(sizes))]
+        out.append(self._counting_candidate(x, sizes, arr))
+        out.append(_monte_carlo_candidate(len(x), arr))
+        return out
+
+    def _counting_candidate(self, x, sizes, arr) -> Candidate:
+        if self.counting == "dp-hypergeometric":
+            ops = float(sum(sizes)) * float(sizes.max() + 1) * len(sizes) * 50.0
+            return Candidate("dp-hypergeometric", self.counting_words, True, ops, 1e6,
+                             arrangements=float(arr))
+        grid = self.grid(x) if self.grid else None
+        if grid is None:
+            return Candidate(self.counting, self.counting_words, True, math.inf, math.inf,
+                             feasible=False, note="scores are not on a grid", arrangements=float(arr))
+        states, ops, memory = dp_ops(grid.z, sizes)
+        fits = _radix(grid.z, sizes) is not None and states <= DP_MAX_STATES
+        return Candidate(self.counting, self.counting_words, True, ops, memory, feasible=fits,
+                         note="" if fits else "too many counting states", arrangements=float(arr))
+
+    def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
+            seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
+        x, g, sizes = design(values, groups)
+        notes = _alternative_notes(self.statistic_name, alternative)
+        a = self.score(x) - np.mean(self.score(x))
+        sst = float(np.sum(a * a))
+        N, k, arr = len(x), len(sizes), multinomial(sizes)
+        if sst <= 1e-12 * max(1.0, float(np.sum(self.score(x) ** 2))):
+            return _all_equal(self, arr, notes)
+        ssb_obs = float(np.sum(np.bincount(g, weights=a, minlength=k) ** 2 / sizes))
+        if N == k:
+            notes.append("each group has one value: every assignment gives the same statistic")
+        run = {"enumeration": self._enumerate, "monte-carlo": self._sample,
+               "dp-sums": self._count, "dp-hypergeometric": self._count_medians}.get(algorithm)
+        if run is None or (algorithm.startswith("dp-") and algorithm != self.counting):
+            raise PlanError(f"the {self.key} family has no algorithm '{algorithm}'",
+                            hint=f"use enumeration, {self.counting} or monte-carlo")
+        parts = run(x=x, g=g, sizes=sizes, a=a, sst=sst, ssb_obs=ssb_obs, draws=draws, seed=seed,
+                    progress=progress)
+        stat = float(self.statistic_of(ssb_obs, sst, N, k))
+        return EngineOutcome(statistic_name=self.statistic_name, statistic=stat,
+                             arrangements=arr if parts["method"] == "exact" else None,
+                             warnings=tuple(notes + parts.pop("notes", [])), **parts)
+
+    # -- the algorithms; each returns the EngineOutcome fields it decides
+
+    def _enumerate(self, x, sizes, a, sst, ssb_obs, progress, **_):
+        N, k = len(x), len(sizes)
+        keep = multinomial(sizes) <= NULL_KEEP_MAX
+        hits, seen, kept = 0, 0, []
+        for chunk in enumerate_group_sums(a, sizes, progress):
+            ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)
+            hits += pvalues.exceedances(ssb, ssb_obs, "higher", scale=sst)
+            seen += len(ssb)
+            if keep:
+                kept.append(ssb)
+        support = probs = None
+        if keep:
+            values = np.concatenate(kept)
+            rounded, inverse = np.unique(np.round(values / sst, 10), return_inverse=True)
+            rep = np.bincount(inverse.ravel(), weights=values) / np.bincount(inverse.ravel())
+            support = self.statistic_of(rep, sst, N, k)
+            probs = np.bincount(inverse.ravel()) / seen
+        return dict(p_value=pvalues.clip(hits / seen), method="exact",
+                    algorithm="complete enumeration of every assignment to groups",
+                    null_support=support, null_probs=probs)
+
+    def _sample(self, x, sizes, a, sst, ssb_obs, draws, seed, progress, **_):
+        draws = int(draws or DEFAULT_DRAWS)
+        seed = sampling.fresh_seed() if seed is None else int(seed)
+        hits = 0
+        for chunk in sample_group_sums(a, sizes, seed, draws, progress):
+            ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)
+            hits += pvalues.exceedances(ssb, ssb_obs, "higher", scale=sst)
+        p, interval = pvalues.monte_carlo_p(hits, draws)
+        return dict(p_value=p, method="monte-carlo", draws=draws, p_interval=interval, seed=seed,
+                    algorithm="Monte Carlo: random assignments to groups")
+
+    def _count(self, x, g, sizes, progress, **_):
+        grid = self.grid(x) if self.grid else None
+        if grid is None:
+            raise PlanError(f"exact counting needs {self.key} scores on a grid", hint="use enumeration")
+        z = grid.z
+        support, ways = count_sum_squares(z, sizes, progress)
+        lcm = int(np.lcm.reduce(sizes))
+        zg = np.bincount(g, weights=z, minlength=len(sizes)).round().astype(np.int64)
+        q_obs = int(sum(int(s) ** 2 * (lcm // int(n)) for s, n in zip(zg, sizes)))
+        p = float(ways[support >= q_obs].sum() / ways.sum())
+        return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words,
+                    **self._law(support / lcm, ways, z, sizes))
+
+    def _law(self, q, ways, z, sizes) -> dict:
+        if len(q) > NULL_KEEP_MAX:
+            return {}
+        N = float(len(z))
+        zc = np.asarray(z, dtype=float)
+        ssb = q - zc.sum() ** 2 / N
+        sst = float(np.sum((zc - zc.mean()) ** 2))
+        support = self.statistic_of(np.maximum(ssb, 0.0), sst, len(z), len(sizes))
+        return dict(null_support=np.asarray(support, dtype=float), null_probs=ways / ways.sum())
+
+    def _count_medians(self, x, g, sizes, progress, **_):
+        above = above_median(x).astype(np.int64)
+        support, ways = count_median_tables(sizes, int(above.sum()))
+        progress.step(1.0, "counting tables")
+        lcm = math.lcm(*(int(n) for n in sizes))
+        counts = np.bincount(g, weights=above, minlength=len(sizes)).round().astype(int)
+        q_obs = sum(int(c) ** 2 * (lcm // int(n)) for c, n in zip(counts, sizes))
+        total = sum(ways)
+        p = sum(w for q, w in zip(support, ways) if q >= q_obs) / total
+        law = self._law(np.array(support, dtype=float) / lcm, np.array(ways, dtype=float),
+                        above, sizes)
+        notes = ["values equal to the pooled median are counted as not above it"]
+        return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words,
+                    notes=notes, **law)
+
+
+def _alternative_notes(name: str, alternative: str) -> list:
+    if alternative in ("higher", "lower"):
+        return [ONE_SIDED_NOTE.format(stat=name, alt=alternative)]
+    if alternative != "two-sided":
+        raise PlanError(f"unknown alternative '{alternative}'", hint="higher, lower or two-sided")
+    return []
+
+
+def _all_equal(family: QuadraticFamily, arr: int, notes: list) -> EngineOutcome:
+    notes = notes + [f"all {family.key} scores are equal: the {family.statistic_name} is undefined "
+                     "and every assignment is alike, so p = 1"]
+    return EngineOutcome(statistic_name=family.statistic_name, statistic=float("nan"), p_value=1.0,
+                         method="exact", algorithm="none needed: every assignment gives the same data",
+                         arrangements=arr, warnings=tuple(notes))
+
+
+def _enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
+    fits = arr <= ENUMERATION_MAX
+    return Candidate("enumeration", "complete enumeration of every assignment to groups", True,
+                     float(arr) * (N + 2 * k) * 2.0, float(_ROWS) * N * 8 * 4, feasible=fits,
+                     note="" if fits else "too many assignments to list", arrangements=float(arr))
+
+
+def _monte_carlo_candidate(N: int, arr: int) -> Candidate:
+    return Candidate("monte-carlo", "Monte Carlo: random assignments to groups", False,
+                     DEFAULT_DRAWS * N * 6.0, float(sampling.BLOCK) * N * 8 * 3,
+                     note=f"cost for {DEFAULT_DRAWS} draws", arrangements=float(arr))
+
+
+MEANS = QuadraticFamily(
+    "means", "F", score=lambda x: np.asarray(x, dtype=float), statistic_of=_f_statistic,
+    grid=_value_grid,
+    counting_words="dynamic programming over tie blocks and group sums (values on a decimal grid)")
+RANKS = QuadraticFamily(
+    "ranks", "Kruskal-Wallis H", score=midranks, statistic_of=_scaled(lambda N: N - 1),
+    grid=_rank_grid,
+    counting_words="dynamic programming over groups and rank sums (doubled mid-ranks, exact integers)")
+NORMAL_SCORES = QuadraticFamily(
+    "normal-scores", "van der Waerden normal-scores statistic", score=normal_scores,
+    statistic_of=_scaled(lambda N: N - 1), grid=None,
+    counting_words="dynamic programming over group score sums")
+MEDIANS = QuadraticFamily(
+    "medians", "median test chi-square", score=above_median, statistic_of=_scaled(lambda N: N),
+    counting="dp-hypergeometric",
+    counting_words="exact counting of tables of counts above the median "
+                   "(multivariate hypergeometric, one group at a time)")
+
+FAMILIES = {f.key: f for f in (MEANS, RANKS, NORMAL_SCORES, MEDIANS)}
