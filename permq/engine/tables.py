@@ -1,0 +1,164 @@
+"""Exact and Monte Carlo tests for r x c tables, conditional on both margins.
+
+`candidates(table, statistic)` says what each algorithm would cost; `run(...)` carries one out.
+Statistics ("fisher", "chi-square", "likelihood-ratio", "trend") are defined in
+tables_stats; the exact algorithm is the network of tables_network, which never lists the
+tables one by one. Monte Carlo draws random tables with both margins fixed (Patefield's
+algorithm, scipy.stats.random_table) in the seeded blocks of sampling.blocks.
+
+Empty rows and columns carry no information and are left out (with a warning). A table that
+has one row or one column left is the only table with its margins: p = 1.
+"""
+from __future__ import annotations
+
+import numpy as np
+from scipy import stats
+
+from ..plan.cost import Candidate
+from ..result import EngineOutcome
+from .pvalues import clip, monte_carlo_p
+from .sampling import NO_PROGRESS, Progress, blocks, fresh_seed
+from .tables_network import count_tables, dense_size, forward, make_layout
+from .tables_stats import Prepared, check_choice, prepare
+
+NETWORK = "network"
+MONTE_CARLO = "monte-carlo"
+DEFAULT_DRAWS = 100_000
+# The backward pass keeps two floats per (stage, state): cap stages x states.
+NETWORK_CELLS = 12_000_000
+NETWORK_WORDS = ("network algorithm over columns: dynamic programming on the remaining row "
+                 "margins, with exact bounds on the rest of the statistic")
+SAMPLED_WORDS = "random tables with both margins fixed (Patefield's algorithm)"
+
+
+def as_table(table) -> np.ndarray:
+    t = np.asarray(table)
+    if t.ndim != 2 or t.size == 0:
+        raise ValueError("a contingency table needs rows and columns of counts")
+    if not np.all(np.isfinite(t)) or np.any(t < 0) or np.any(t != np.round(t)):
+        raise ValueError("table cells must be non-negative whole counts")
+    return t.astype(np.int64)
+
+
+def reduce_table(table, row_scores=None, col_scores=None):
+    """Drop empty rows and columns (and their scores); say so in warnings."""
+    t = as_table(table)
+    u = None if row_scores is None else np.asarray(row_scores, float)
+    v = None if col_scores is None else np.asarray(col_scores, float)
+    if u is not None and u.shape != (t.shape[0],) or v is not None and v.shape != (t.shape[1],):
+        raise ValueError("one score is needed for each row and for each column")
+    if u is None:
+        u = np.arange(1, t.shape[0] + 1, dtype=float)
+    if v is None:
+        v = np.arange(1, t.shape[1] + 1, dtype=float)
+    rk, ck = t.sum(axis=1) > 0, t.sum(axis=0) > 0
+    warnings = []
+    if not rk.all():
+        warnings.append(f"{int((~rk).sum())} empty row(s) left out")
+    if not ck.all():
+        warnings.append(f"{int((~ck).sum())} empty column(s) left out")
+    return t[rk][:, ck], u[rk], v[ck], warnings
+
+
+def orient(t, u, v):
+    """Transpose so that the network's state space (over the rows) is the smaller one."""
+    if dense_size(t.sum(axis=1)) > dense_size(t.sum(axis=0)):
+        return t.T.copy(), v, u
+    return t, u, v
+
+
+def _shape(table, row_scores=None, col_scores=None):
+    t, u, v, warnings = reduce_table(table, row_scores, col_scores)
+    if min(t.shape) >= 2:
+        t, u, v = orient(t, u, v)
+    return t, u, v, warnings
+
+
+def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS) -> list[Candidate]:
+    """The exact network and Monte Carlo, with their estimated cost."""
+    t, _, _, _ = _shape(table)
+    if min(t.shape) < 2:
+        return [Candidate(NETWORK, "single table with these margins", True, 1.0, 1.0,
+                          arrangements=1.0)]
+    rows, cols = t.sum(axis=1), t.sum(axis=0)
+    size, stages = dense_size(rows), t.size
+    cells = size * (stages + 1)
+    feasible = cells <= NETWORK_CELLS
+    arrangements = count_tables(make_layout(rows, cols)) if feasible else 0.0
+    choices = float(np.mean(np.minimum.outer(rows, cols))) + 1.0
+    carried = min(arrangements, cells * _values_per_state(statistic, rows, cols)) if feasible else 0
+    ops = cells * choices * 6.0 + carried * choices * 40.0
+    note = "" if feasible else f"state space of {size:.3g} row-margin states is too large"
+    out = [Candidate(NETWORK, NETWORK_WORDS, True, ops, cells * 24.0 + carried * 48.0,
+                     feasible=feasible, note=note, arrangements=arrangements)]
+    mc_ops = float(draws) * (12.0 * t.size + 60.0)
+    out.append(Candidate(MONTE_CARLO, SAMPLED_WORDS, False, mc_ops, 8192 * t.size * 24.0,
+                         arrangements=arrangements))
+    return out
+
+
+def _values_per_state(statistic, rows, cols) -> float:
+    """Rough number of partial sums a state carries once bounds have settled the rest."""
+    n = float(rows.sum())
+    if statistic == "trend":
+        return n * len(rows) * len(cols) / 4.0
+    return n / 2.0
+
+
+def run(table, statistic: str = "fisher", alternative: str = "two-sided",
+        algorithm: str = NETWORK, draws=None, seed=None, progress: Progress = NO_PROGRESS,
+        row_scores=None, col_scores=None) -> EngineOutcome:
+    """Test independence in an r x c table with both margins fixed."""
+    check_choice(statistic, alternative)
+    t, u, v, warnings = _shape(table, row_scores, col_scores)
+    if min(t.shape) < 2:
+        return _single(statistic, warnings)
+    prep = prepare(t, statistic, alternative, u, v, stages=t.size)
+    if algorithm == NETWORK:
+        return _exact(t, prep, progress, warnings)
+    if algorithm == MONTE_CARLO:
+        return _sampled(t, prep, draws or DEFAULT_DRAWS, seed, progress, warnings)
+    raise ValueError(f"unknown algorithm {algorithm!r} for tables; choose network or monte-carlo")
+
+
+def _single(statistic, warnings) -> EngineOutcome:
+    from .tables_stats import NAMES
+    value = 1.0 if statistic == "fisher" else 0.0
+    return EngineOutcome(NAMES[statistic], value, 1.0, "exact", "single table with these margins",
+                         arrangements=1.0, warnings=tuple(warnings) + (
+                             "only one table has these margins: p = 1",))
+
+
+def _exact(t, prep: Prepared, progress, warnings) -> EngineOutcome:
+    layout = make_layout(t.sum(axis=1), t.sum(axis=0))
+    arrangements = count_tables(layout)
+    support = probs = None
+    if prep.statistic == "trend":
+        res = forward(layout, prep.cell, None, prep.quantum, progress=progress)
+        support, probs = res.support, res.probs
+        total = probs.sum()
+        p = probs[prep.extreme(support)].sum()
+    else:
+        res = forward(layout, prep.cell, prep.region, prep.quantum, progress=progress)
+        total, p = res.extreme + res.ordinary, res.extreme
+    if abs(total - 1.0) > 1e-9:
+        raise ArithmeticError(f"network lost probability mass (total {total!r}); no exact p")
+    return EngineOutcome(prep.name, float(prep.reported(prep.observed)), clip(p), "exact",
+                         NETWORK_WORDS, arrangements=arrangements,
+                         null_support=None if support is None else prep.reported(support),
+                         null_probs=probs, warnings=tuple(warnings))
+
+
+def _sampled(t, prep: Prepared, draws, seed, progress, warnings) -> EngineOutcome:
+    seed = fresh_seed() if seed is None else int(seed)
+    dist = stats.random_table(t.sum(axis=1), t.sum(axis=0))
+    hits = done = 0
+    for _, size, gen in blocks(seed, draws):
+        tables = dist.rvs(size=size, method="patefield", random_state=gen)
+        hits += int(np.count_nonzero(prep.extreme(prep.sums(tables))))
+        done += size
+        progress.step(done / draws, "sampling tables")
+    p, interval = monte_carlo_p(hits, draws)
+    return EngineOutcome(prep.name, float(prep.reported(prep.observed)), p, "monte-carlo",
+                         SAMPLED_WORDS, draws=draws, p_interval=interval, seed=seed,
+                         warnings=tuple(warnings))

@@ -1,0 +1,209 @@
+"""The network algorithm for r x c tables with both margins fixed.
+
+A table is built one cell at a time, column by column, top row to bottom row. The state
+between cells is the vector of row margins still to fill; it is coded as one integer in mixed
+radix (digit i runs over 0..R_i). Every state is reachable and completable, so the network is
+dense over those codes. A move places x in cell (i, j) with the conditional (hypergeometric)
+probability
+
+    comb(r_i, x) comb(below, left - x) / comb(r_i + below, left),
+
+where `left` is what column j still needs and `below` is what the rows under i can still take.
+The moves out of a state sum to 1, and the product along a path is the table's probability
+prod R_i! prod C_j! / (N! prod n_ij!), so no mass is lost or invented on the way.
+
+The statistic is additive over cells, S = sum g_ij(n_ij). Each state carries a list of
+(partial sum, probability mass) pairs; pairs with equal partial sums are merged. Before each
+move the exact range of the remaining sum (the longest and shortest path to the end, found by a
+backward pass) settles whole pairs: if every completion is extreme the mass joins the p-value,
+if none is, the mass is set aside; only undecided pairs go on.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.special import gammaln
+
+from .sampling import NO_PROGRESS, Progress
+
+
+@dataclass(frozen=True)
+class Layout:
+    """Shape of the network: margins, mixed-radix coding and per-code digit sums."""
+
+    rows: tuple            # row margins R_i (all > 0)
+    cols: tuple            # column margins C_j (all > 0), in processing order
+    radix: np.ndarray      # radix[i] = prod_{k < i} (R_k + 1)
+    digits: np.ndarray     # (size, r): remaining row margins for each code
+    below: np.ndarray      # (size, r): sum of digits k > i
+    total: np.ndarray      # (size,): sum of digits
+    after: tuple           # after[j] = sum of C_k for k > j
+
+    @property
+    def size(self) -> int:
+        return int(self.total.size)
+
+    @property
+    def stages(self) -> int:
+        return len(self.rows) * len(self.cols)
+
+    def start_code(self) -> int:
+        return int(np.dot(self.rows, self.radix))
+
+
+def dense_size(rows) -> int:
+    return int(np.prod([int(v) + 1 for v in rows], dtype=float))
+
+
+def make_layout(rows, cols) -> Layout:
+    rows = tuple(int(v) for v in rows)
+    cols = tuple(int(v) for v in cols)
+    radix = np.cumprod([1] + [v + 1 for v in rows[:-1]]).astype(np.int64)
+    size = int(np.prod([v + 1 for v in rows]))
+    code = np.arange(size, dtype=np.int64)
+    digits = np.stack([(code // radix[i]) % (rows[i] + 1) for i in range(len(rows))], axis=1)
+    digits = digits.astype(np.int32)
+    csum = np.cumsum(digits[:, ::-1], axis=1)[:, ::-1]
+    below = np.concatenate([csum[:, 1:], np.zeros((size, 1), np.int32)], axis=1).astype(np.int32)
+    after = tuple(int(sum(cols[j + 1:])) for j in range(len(cols)))
+    return Layout(rows, cols, radix, digits, below, csum[:, 0].astype(np.int32), after)
+
+
+def _move_range(layout: Layout, stage: int, codes):
+    """(lowest x, highest x, r_i, below, left) for the cell of `stage`, per state code."""
+    r = len(layout.rows)
+    i, j = stage % r, stage // r
+    digit = layout.digits[codes, i].astype(np.int64)
+    below = layout.below[codes, i].astype(np.int64)
+    left = layout.total[codes].astype(np.int64) - layout.after[j]
+    lo = np.maximum(0, left - below)
+    hi = np.minimum(digit, left)
+    ok = (left >= 0) & (left <= layout.cols[j])
+    hi = np.where(ok, hi, -1)
+    return lo, hi, digit, below, left
+
+
+def count_tables(layout: Layout) -> float:
+    """Number of tables with these margins (one path through the network each)."""
+    counts = np.zeros(layout.size)
+    counts[layout.start_code()] = 1.0
+    codes = np.arange(layout.size)
+    r = len(layout.rows)
+    for stage in range(layout.stages):
+        lo, hi, *_ = _move_range(layout, stage, codes)
+        step = layout.radix[stage % r]
+        new = np.zeros(layout.size)
+        for x in range(int(max(hi.max(), 0)) + 1):
+            ok = np.nonzero((lo <= x) & (x <= hi) & (counts > 0))[0]
+            new[ok - x * step] += counts[ok]          # distinct targets for one x
+        counts = new
+    return float(counts[0])
+
+
+def path_bounds(layout: Layout, cell: np.ndarray):
+    """Longest and shortest remaining sum from every state at every stage.
+
+    `cell[i, j, x]` is g_ij(x). Returns two (stages + 1, size) arrays; states that cannot occur
+    at a stage hold -inf / +inf.
+    """
+    stages, r = layout.stages, len(layout.rows)
+    hi_b = np.full((stages + 1, layout.size), -np.inf)
+    lo_b = np.full((stages + 1, layout.size), np.inf)
+    hi_b[stages, 0] = lo_b[stages, 0] = 0.0
+    codes = np.arange(layout.size)
+    for stage in range(stages - 1, -1, -1):
+        i, j = stage % r, stage // r
+        lo, hi, *_ = _move_range(layout, stage, codes)
+        step = layout.radix[i]
+        for x in range(int(max(hi.max(), 0)) + 1):
+            ok = np.nonzero((lo <= x) & (x <= hi))[0]
+            nxt = ok - x * step
+            g = cell[i, j, x]
+            hi_b[stage, ok] = np.maximum(hi_b[stage, ok], g + hi_b[stage + 1, nxt])
+            lo_b[stage, ok] = np.minimum(lo_b[stage, ok], g + lo_b[stage + 1, nxt])
+    return hi_b, lo_b
+
+
+@dataclass
+class Pass:
+    """What a forward pass found: extreme mass, settled-not-extreme mass, work done."""
+
+    extreme: float = 0.0
+    ordinary: float = 0.0
+    entries: int = 0          # (state, partial sum) pairs carried, summed over stages
+    support: np.ndarray = None   # full distribution of S (only when no region is given)
+    probs: np.ndarray = None
+
+
+def _expand(layout, stage, codes, vals, mass, cell, lf):
+    """All moves out of the given pairs: new codes, partial sums and masses."""
+    r = len(layout.rows)
+    i, j = stage % r, stage // r
+    lo, hi, digit, below, left = _move_range(layout, stage, codes)
+    cnt = hi - lo + 1
+    rep = np.repeat(np.arange(codes.size), cnt)
+    x = lo[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(cnt) - cnt, cnt))
+    d, b, k = digit[rep], below[rep], left[rep]
+    logw = (lf[d] - lf[x] - lf[d - x] + lf[b] - lf[k - x] - lf[b - k + x]
+            - lf[d + b] + lf[k] + lf[d + b - k])
+    return codes[rep] - x * layout.radix[i], vals[rep] + cell[i, j, x], mass[rep] * np.exp(logw)
+
+
+def _merge(codes, vals, mass, quantum):
+    """Merge pairs with the same state and the same partial sum (on a grid of `quantum`)."""
+    if codes.size == 0:
+        return codes, vals, mass
+    keys = vals if quantum is None else np.rint(vals / quantum).astype(np.int64)
+    order = np.lexsort((keys, codes))
+    codes, keys, mass = codes[order], keys[order], mass[order]
+    first = np.ones(codes.size, bool)
+    first[1:] = (codes[1:] != codes[:-1]) | (keys[1:] != keys[:-1])
+    start = np.nonzero(first)[0]
+    mass = np.add.reduceat(mass, start)
+    keys = keys[start]
+    vals = keys if quantum is None else keys * quantum
+    return codes[start], vals, mass
+
+
+def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
+            progress: Progress = NO_PROGRESS) -> Pass:
+    """Sum the probability of tables whose S lies in the region.
+
+    `region` is (lo, hi): S is extreme when S <= lo or S >= hi; None asks for the whole null
+    distribution of S instead (no pruning). `quantum` is the merging grid for real-valued
+    sums (None: S is an integer, merged exactly).
+    """
+    n = int(sum(layout.rows))
+    lf = gammaln(np.arange(n + 2, dtype=float) + 1.0)
+    dtype = np.int64 if quantum is None else float
+    codes = np.array([layout.start_code()], np.int64)
+    vals = np.zeros(1, dtype)
+    mass = np.ones(1)
+    out = Pass()
+    if region is not None and bounds is None:
+        bounds = path_bounds(layout, cell)
+    for stage in range(layout.stages + 1):
+        progress.step(stage / (layout.stages + 1), "network")
+        if region is not None:
+            codes, vals, mass = _settle(out, stage, codes, vals, mass, region, bounds)
+        out.entries += int(codes.size)
+        if stage == layout.stages:
+            break
+        codes, vals, mass = _expand(layout, stage, codes, vals, mass, cell, lf)
+        codes, vals, mass = _merge(codes, vals, mass, quantum)
+    if region is None:
+        out.support, out.probs = vals.astype(float), mass
+    return out
+
+
+def _settle(out: Pass, stage, codes, vals, mass, region, bounds):
+    lo_thr, hi_thr = region
+    top = vals + bounds[0][stage, codes]
+    bottom = vals + bounds[1][stage, codes]
+    extreme = (bottom >= hi_thr) | (top <= lo_thr)
+    ordinary = (top < hi_thr) & (bottom > lo_thr)
+    out.extreme += float(mass[extreme].sum())
+    out.ordinary += float(mass[ordinary].sum())
+    keep = ~(extreme | ordinary)
+    return codes[keep], vals[keep], mass[keep]
