@@ -394,12 +394,12 @@ class QuadraticFamily:
     counting: str = "dp-sums"         # the exact counting algorithm this family offers
     counting_words: str = ""
 
-    def candidates(self, values, groups) -> list[Candidate]:
+    def candidates(self, values, groups, draws: int = DEFAULT_DRAWS) -> list[Candidate]:
         x, _, sizes = design(values, groups)
         arr = multinomial(sizes)
-        out = [_enumeration_candidate(arr, len(x), len(sizes))]
+        out = [enumeration_candidate(arr, len(x), len(sizes))]
         out.append(self._counting_candidate(x, sizes, arr))
-        out.append(_monte_carlo_candidate(len(x), arr))
+        out.append(monte_carlo_candidate(len(x), arr, draws))
         return out
 
     def _counting_candidate(self, x, sizes, arr) -> Candidate:
@@ -529,17 +529,18 @@ def _all_equal(family: QuadraticFamily, arr: int, notes: list) -> EngineOutcome:
                          arrangements=arr, warnings=tuple(notes))
 
 
-def _enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
+def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
     fits = arr <= ENUMERATION_MAX
     return Candidate("enumeration", "complete enumeration of every assignment to groups", True,
                      float(arr) * (N + 2 * k) * 2.0, float(_ROWS) * N * 8 * 4, feasible=fits,
                      note="" if fits else "too many assignments to list", arrangements=float(arr))
 
 
-def _monte_carlo_candidate(N: int, arr: int) -> Candidate:
-    return Candidate("monte-carlo", "Monte Carlo: random assignments to groups", False,
-                     DEFAULT_DRAWS * N * 6.0, float(sampling.BLOCK) * N * 8 * 3,
-                     note=f"cost for {DEFAULT_DRAWS} draws", arrangements=float(arr))
+def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
+                          description: str = "Monte Carlo: random assignments to groups") -> Candidate:
+    return Candidate("monte-carlo", description, False, float(draws) * N * per_item,
+                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws} draws",
+                     arrangements=float(arr))
 
 
 MEANS = QuadraticFamily(

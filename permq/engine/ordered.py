@@ -1,0 +1,405 @@
+"""Exact and Monte Carlo engines for ordered groups (an ordered alternative).
+
+Groups come in the user's order, codes 0 .. k-1; `alternative` "higher" means the response
+rises along that order. Two statistics, both linear, so two-sided p-values follow the rule
+P(|T - E0 T| >= |t - E0 T|):
+
+- "ranks": Jonckheere-Terpstra J = sum over group pairs g < h of the number of pairs
+  (x in g, y in h) with x < y, ties counting 1/2. 2J is an integer. Exact by counting: the
+  tie blocks are taken in increasing order of value, and the state is the vector of group
+  counts placed so far with the doubled partial statistic: placing x_h items of the block in
+  group h adds x_h (2 * items already in groups before h + items of the block in groups
+  before h). E0 J = (N^2 - sum n_g^2) / 4, with or without ties.
+- "means": linear trend T = sum_g d_g * (sum of the values in group g), with dose scores d_g
+  (1, 2, ... unless given). Exact by counting when the values and the scores lie on decimal
+  grids (state: group counts and the integer partial statistic; groups sharing a score are
+  merged, which changes no probability), by listing when the design is small, otherwise
+  Monte Carlo. The least-squares slope gets an exact interval by inverting the permutation
+  test of each slope when every assignment can be listed (`slope_estimate`).
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Optional
+
+import numpy as np
+
+from ..errors import DataError, PlanError
+from ..plan.cost import Candidate
+from ..result import EngineOutcome, Estimate
+from . import pvalues, sampling
+from .ksample import (DEFAULT_DRAWS, NULL_KEEP_MAX, _compositions, _multinomial_weights, design,
+                      enumerate_group_sums, enumeration_candidate, integer_grid,
+                      monte_carlo_candidate, multinomial, sample_group_sums)
+from .sampling import NO_PROGRESS, Progress
+
+INTERVAL_ENUMERATION_MAX = 2_000_000   # list at most this many assignments for the slope interval
+COUNT_MAX_STATES = 2e7
+_CHUNK_ROWS = 1 << 21
+
+
+# ----------------------------------------------------------------------------- counting
+
+def count_linear(block_values, block_mults, sizes, increment, progress: Progress = NO_PROGRESS):
+    """Exact law of an integer statistic built up tie block by tie block.
+
+    `increment(counts, x, value)` gives, for states with group counts `counts` (M, k), the
+    integer added when x_g items of the block with this value go to group g. Returns
+    (statistic values, numbers of assignments).
+    """
+    sizes = np.asarray(sizes, dtype=np.int64)
+    k = len(sizes)
+    counts, t, ways = np.zeros((1, k), np.int64), np.zeros(1, np.int64), np.ones(1)
+    radix = np.concatenate([[1], np.cumprod(sizes + 1)[:-1]]).astype(np.int64)
+    for i, (v, m) in enumerate(zip(block_values, block_mults)):
+        xs = _compositions(int(m), sizes)
+        parts = []
+        for x, w in zip(xs, _multinomial_weights(int(m), xs)):
+            ok = np.all(counts + x <= sizes, axis=1)
+            if ok.any():
+                c = counts[ok]
+                parts.append((c + x, t[ok] + increment(c, x, v), ways[ok] * w))
+        counts, t, ways = _merge(parts, radix, int(np.prod(sizes + 1)))
+        progress.step((i + 1) / len(block_values), "counting assignments")
+    support, inverse = np.unique(t, return_inverse=True)
+    return support, np.bincount(inverse.ravel(), weights=ways)
+
+
+def _merge(parts, radix, span):
+    counts = np.concatenate([p[0] for p in parts])
+    t = np.concatenate([p[1] for p in parts])
+    ways = np.concatenate([p[2] for p in parts])
+    if int(t.max(initial=0)) >= (2 ** 62) // span:
+        raise PlanError("the statistic's range is too wide to count exactly")
+    key = t * span + counts @ radix
+    _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+    return counts[first], t[first], np.bincount(inverse.ravel(), weights=ways)
+
+
+def count_estimate(sizes, t_max: float, n_blocks_mults) -> tuple[float, float, float]:
+    """(peak states, ops, bytes) of `count_linear`: count vectors half way times the range."""
+    sizes = np.asarray(sizes, dtype=np.int64)
+    k, N = len(sizes), int(sizes.sum())
+    poly = np.array([1.0])
+    for n in sizes:
+        poly = np.convolve(poly, np.ones(int(n) + 1))
+    vectors = float(poly[N // 2])
+    states = vectors * (0.75 * t_max + 1.0)
+    branches = sum(math.comb(int(m) + k - 1, k - 1) for m in n_blocks_mults)
+    return states, states * branches * (k + 4) * 2.0, states * (8.0 * k + 24.0) * 3.0
+
+
+def _blocks_of(z) -> tuple[np.ndarray, np.ndarray]:
+    return np.unique(np.asarray(z), return_counts=True)
+
+
+def _check_alternative(alternative: str) -> None:
+    if alternative not in ("higher", "lower", "two-sided"):
+        raise PlanError(f"unknown alternative '{alternative}'", hint="higher, lower or two-sided")
+
+
+# ----------------------------------------------------------------------------- Jonckheere-Terpstra
+
+def jt_doubled(values, groups, k: int) -> int:
+    """2 J for the observed data (ties count 1/2, so 2J is an integer)."""
+    x = np.asarray(values, dtype=float)
+    order = np.argsort(x, kind="stable")
+    return int(_jt_doubled_rows(np.asarray(groups)[order][None, :], _block_starts(x[order]), k)[0])
+
+
+def _block_starts(sorted_x) -> np.ndarray:
+    return np.flatnonzero(np.concatenate([[True], np.diff(sorted_x) != 0]))
+
+
+def _jt_doubled_rows(labels, starts, k: int) -> np.ndarray:
+    """2J for each row of group labels laid out in increasing order of value (vectorised)."""
+    onehot = (labels[:, :, None] == np.arange(k)).astype(np.int64)
+    e = np.add.reduceat(onehot, starts, axis=1)                 # (rows, blocks, k)
+    before = np.cumsum(e, axis=1) - e                            # items in earlier blocks
+    g = 2 * before + e
+    lower = np.cumsum(g, axis=2) - g                             # over groups before h
+    return np.sum(e * lower, axis=(1, 2))
+
+
+def _jt_increment(counts, x, value):
+    lower = np.cumsum(counts, axis=1) - counts
+    xs = np.asarray(x)
+    pairs = int((np.cumsum(xs) - xs) @ xs)
+    return 2 * (lower @ xs) + pairs
+
+
+@dataclass(frozen=True)
+class JonckheereTerpstra:
+    key: str = "ranks"
+    statistic_name: str = "Jonckheere-Terpstra J"
+
+    def candidates(self, values, groups, draws: int = DEFAULT_DRAWS) -> list[Candidate]:
+        x, _, sizes = design(values, groups)
+        arr = multinomial(sizes)
+        t_max = float(len(x) ** 2 - np.sum(sizes ** 2))          # largest 2J
+        states, ops, memory = count_estimate(sizes, t_max, _blocks_of(x)[1])
+        fits = states <= COUNT_MAX_STATES
+        words = "dynamic programming over tie blocks and group counts (doubled statistic, integers)"
+        return [Candidate("dp-counts", words, True, ops, memory, feasible=fits,
+                          note="" if fits else "too many counting states", arrangements=float(arr)),
+                monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes))]
+
+    def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
+            seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
+        _check_alternative(alternative)
+        x, g, sizes = design(values, groups)
+        k, N = len(sizes), len(x)
+        j_obs = jt_doubled(x, g, k) / 2.0
+        center = (N * N - float(np.sum(sizes ** 2))) / 4.0
+        common = dict(statistic_name=self.statistic_name, statistic=j_obs)
+        if algorithm == "dp-counts":
+            vals, mult = _blocks_of(x)
+            support, ways = count_linear(vals, mult, sizes, _jt_increment, progress)
+            p = pvalues.tail_probability(support / 2.0, ways, j_obs, alternative, center=center)
+            return EngineOutcome(p_value=p, method="exact", arrangements=multinomial(sizes),
+                                 algorithm="dynamic programming over tie blocks and group counts "
+                                           "(doubled statistic, integers)",
+                                 null_support=support / 2.0, null_probs=ways / ways.sum(), **common)
+        if algorithm == "monte-carlo":
+            return self._sample(x, sizes, j_obs, center, alternative, draws, seed, progress, common)
+        raise PlanError(f"the Jonckheere-Terpstra test has no algorithm '{algorithm}'",
+                        hint="use dp-counts or monte-carlo")
+
+    def _sample(self, x, sizes, j_obs, center, alternative, draws, seed, progress, common):
+        draws = int(draws or DEFAULT_DRAWS)
+        seed = sampling.fresh_seed() if seed is None else int(seed)
+        sx = np.sort(x)
+        starts, k = _block_starts(sx), len(sizes)
+        labels = np.repeat(np.arange(k), sizes)
+        scale = float(np.sum(sizes) ** 2) / 2.0
+        hits, done = 0, 0
+        for _, size, rng in sampling.blocks(seed, draws):
+            rows = rng.permuted(np.broadcast_to(labels, (size, len(x))), axis=1)
+            step = max(1, _CHUNK_ROWS // (len(x) * k))
+            for lo in range(0, size, step):
+                j = _jt_doubled_rows(rows[lo:lo + step], starts, k) / 2.0
+                hits += pvalues.exceedances(j, j_obs, alternative, center=center, scale=scale)
+            done += size
+            progress.step(done / draws, "sampling assignments")
+        p, interval = pvalues.monte_carlo_p(hits, draws)
+        return EngineOutcome(p_value=p, method="monte-carlo", draws=draws, p_interval=interval,
+                             seed=seed, algorithm="Monte Carlo: random assignments to groups",
+                             **common)
+
+
+# ----------------------------------------------------------------------------- linear trend
+
+def dose_scores(scores, k: int) -> np.ndarray:
+    d = np.arange(1.0, k + 1.0) if scores is None else np.asarray(scores, dtype=float).ravel()
+    if d.size != k or not np.all(np.isfinite(d)):
+        raise DataError(f"{k} groups need {k} finite dose scores, got {d.size}")
+    return d
+
+
+@dataclass(frozen=True)
+class TrendSetup:
+    """The trend statistic's pieces for one data set."""
+
+    x: np.ndarray
+    g: np.ndarray
+    sizes: np.ndarray
+    d: np.ndarray         # dose score per group
+    t_obs: float
+    center: float         # E0 T
+    scale: float          # a bound on |T - E0 T|, for the tolerance
+
+
+def trend_setup(values, groups, scores=None) -> TrendSetup:
+    x, g, sizes = design(values, groups)
+    d = dose_scores(scores, len(sizes))
+    t_obs = float(np.sum(d[g] * x))
+    center = float(np.mean(x) * np.sum(sizes * d))
+    scale = float(np.sum(np.abs(x - x.mean())) * np.max(np.abs(d - d.mean())))
+    return TrendSetup(x, g, sizes, d, t_obs, center, max(scale, 1e-300))
+
+
+def _trend_grids(setup: TrendSetup):
+    """Integer grids (values z, merged score classes e, class sizes), or None."""
+    zg, dg = integer_grid(setup.x), integer_grid(setup.d)
+    if zg is None or dg is None:
+        return None
+    e_values, cls = np.unique(dg.z, return_inverse=True)
+    class_sizes = np.bincount(cls.ravel(), weights=setup.sizes).astype(np.int64)
+    return zg, dg, e_values.astype(np.int64), class_sizes
+
+
+@dataclass(frozen=True)
+class LinearTrend:
+    key: str = "means"
+    statistic_name: str = "linear trend T = sum of dose score x group total"
+
+    def candidates(self, values, groups, scores=None, draws: int = DEFAULT_DRAWS) -> list[Candidate]:
+        st = trend_setup(values, groups, scores)
+        arr, N, k = multinomial(st.sizes), len(st.x), len(st.sizes)
+        out = [enumeration_candidate(arr, N, k)]
+        grids = _trend_grids(st)
+        words = "dynamic programming over tie blocks and group counts (values on a decimal grid)"
+        if grids is None:
+            out.append(Candidate("dp-counts", words, True, math.inf, math.inf, feasible=False,
+                                 note="values or dose scores are not on a decimal grid",
+                                 arrangements=float(arr)))
+        else:
+            zg, _, e, cls = grids
+            t_max = float(e.max() * zg.z.sum())
+            states, ops, memory = count_estimate(cls, t_max, _blocks_of(zg.z)[1])
+            fits = states <= COUNT_MAX_STATES
+            out.append(Candidate("dp-counts", words, True, ops, memory, feasible=fits,
+                                 note="" if fits else "too many counting states",
+                                 arrangements=float(arr)))
+        out.append(monte_carlo_candidate(N, arr, draws))
+        return out
+
+    def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
+            seed: Optional[int] = None, progress: Progress = NO_PROGRESS,
+            scores=None) -> EngineOutcome:
+        _check_alternative(alternative)
+        st = trend_setup(values, groups, scores)
+        common = dict(statistic_name=self.statistic_name, statistic=st.t_obs)
+        if np.ptp(st.d) == 0 or np.ptp(st.x) == 0:
+            return EngineOutcome(p_value=1.0, method="exact", arrangements=multinomial(st.sizes),
+                                 algorithm="none needed: every assignment gives the same statistic",
+                                 warnings=("all dose scores or all values are equal: no trend "
+                                           "can be seen, p = 1",), **common)
+        if algorithm == "dp-counts":
+            return self._count(st, alternative, progress, common)
+        if algorithm == "enumeration":
+            return self._enumerate(st, alternative, progress, common)
+        if algorithm == "monte-carlo":
+            return self._sample(st, alternative, draws, seed, progress, common)
+        raise PlanError(f"the trend test has no algorithm '{algorithm}'",
+                        hint="use dp-counts, enumeration or monte-carlo")
+
+    def _count(self, st: TrendSetup, alternative, progress, common):
+        grids = _trend_grids(st)
+        if grids is None:
+            raise PlanError("exact counting needs values and dose scores on decimal grids",
+                            hint="use enumeration or monte-carlo")
+        zg, dg, e, cls = grids
+        vals, mult = _blocks_of(zg.z)
+        support, ways = count_linear(vals, mult, cls, lambda c, x, v: int(v) * int(x @ e), progress)
+        # T = sum_i d_g(i) x_i = const + dg.step * zg.step * T', T' = sum_i e_g(i) z_i
+        t_int = support.astype(float)
+        e_item = dg.z[st.g]
+        t_obs_int = float(np.sum(e_item * zg.z))
+        center_int = float(zg.z.mean() * np.sum(st.sizes * dg.z))
+        p = pvalues.tail_probability(t_int, ways, t_obs_int, alternative, center=center_int)
+        t_values = st.t_obs + dg.step * zg.step * (t_int - t_obs_int)
+        return EngineOutcome(p_value=p, method="exact", arrangements=multinomial(st.sizes),
+                             algorithm="dynamic programming over tie blocks and group counts "
+                                       "(values on a decimal grid)",
+                             null_support=t_values, null_probs=ways / ways.sum(), **common)
+
+    def _enumerate(self, st: TrendSetup, alternative, progress, common):
+        hits, seen, kept = 0, 0, []
+        keep = multinomial(st.sizes) <= NULL_KEEP_MAX
+        for chunk in enumerate_group_sums(st.x, st.sizes, progress):
+            t = chunk[:, :, 0] @ st.d
+            hits += pvalues.exceedances(t, st.t_obs, alternative, center=st.center, scale=st.scale)
+            seen += len(t)
+            if keep:
+                kept.append(t)
+        law = {}
+        if keep:
+            t = np.concatenate(kept)
+            keys, inverse = np.unique(np.round((t - st.center) / st.scale, 10), return_inverse=True)
+            n = np.bincount(inverse.ravel())
+            law = dict(null_support=np.bincount(inverse.ravel(), weights=t) / n, null_probs=n / seen)
+        return EngineOutcome(p_value=pvalues.clip(hits / seen), method="exact",
+                             arrangements=multinomial(st.sizes),
+                             algorithm="complete enumeration of every assignment to groups",
+                             **law, **common)
+
+    def _sample(self, st: TrendSetup, alternative, draws, seed, progress, common):
+        draws = int(draws or DEFAULT_DRAWS)
+        seed = sampling.fresh_seed() if seed is None else int(seed)
+        hits = 0
+        for chunk in sample_group_sums(st.x, st.sizes, seed, draws, progress):
+            t = chunk[:, :, 0] @ st.d
+            hits += pvalues.exceedances(t, st.t_obs, alternative, center=st.center, scale=st.scale)
+        p, interval = pvalues.monte_carlo_p(hits, draws)
+        return EngineOutcome(p_value=p, method="monte-carlo", draws=draws, p_interval=interval,
+                             seed=seed, algorithm="Monte Carlo: random assignments to groups",
+                             **common)
+
+
+# ----------------------------------------------------------------------------- slope interval
+
+def least_squares_slope(x, d_item) -> float:
+    dc = d_item - d_item.mean()
+    return float(np.sum(dc * (x - x.mean())) / np.sum(dc * dc))
+
+
+def slope_estimate(values, groups, scores=None, level: float = 0.95, alternative: str = "two-sided",
+                   progress: Progress = NO_PROGRESS,
+                   max_arrangements: float = INTERVAL_ENUMERATION_MAX) -> Estimate:
+    """Least-squares slope of the values on the dose scores, with an exact interval.
+
+    The interval is the set of slopes b0 that the permutation test of "slope = b0" (statistic
+    sum_i d_i (y_i - b0 d_i), residuals exchangeable) does not reject at 1 - level (split
+    equally between the tails when two-sided). For each assignment the test's comparison is
+    linear in b0, so the set's ends are order statistics of ratios, found by listing every
+    assignment; when there are too many to list, no interval is given.
+    """
+    _check_alternative(alternative)
+    st = trend_setup(values, groups, scores)
+    d_item = st.d[st.g]
+    name = "trend slope (change in mean response per unit of dose score)"
+    if np.ptp(st.d) == 0:
+        return Estimate(name, float("nan"), None, level, "no slope: all dose scores are equal")
+    b = least_squares_slope(st.x, d_item)
+    arr = multinomial(st.sizes)
+    if arr > max_arrangements:
+        return Estimate(name, b, None, level, "least squares; no exact interval: "
+                        f"{arr} assignments are too many to list")
+    ratios, fixed = _slope_ratios(st, d_item, progress)
+    lo, hi = _invert(ratios, fixed, arr, level, alternative)
+    method = ("least squares; exact interval by inverting the permutation test of the slope "
+              "(complete enumeration" + (", equal tails)" if alternative == "two-sided" else ")"))
+    return Estimate(name, b, (lo, hi), level, method)
+
+
+def _slope_ratios(st: TrendSetup, d_item, progress):
+    """Ratios A/B for every assignment with B < 0, and the number with B = 0.
+
+    A = T - t_obs (values) and B = the same for the doses themselves; the test of slope b0
+    counts an assignment in its upper tail when A - b0 B >= 0.
+    """
+    both = np.column_stack([st.x, d_item])
+    t_obs, b_obs = st.t_obs, float(np.sum(d_item * d_item))
+    tol = 1e-12 * max(b_obs, 1e-300)
+    ratios, fixed = [], 0
+    for chunk in enumerate_group_sums(both, st.sizes, progress):
+        a = chunk[:, :, 0] @ st.d - t_obs
+        bb = chunk[:, :, 1] @ st.d - b_obs
+        moved = bb < -tol
+        fixed += int(np.count_nonzero(~moved))
+        ratios.append(a[moved] / bb[moved])
+    return np.sort(np.concatenate(ratios)), fixed
+
+
+def _invert(ratios, fixed, arr, level, alternative):
+    """Ends of {b0 : p(b0) > alpha_tail} in each tail, from the sorted ratios."""
+    alpha = 1.0 - level
+    tail = alpha / 2.0 if alternative == "two-sided" else alpha
+    need = int(math.floor(arr * tail + 1e-9)) - fixed + 1      # ratios needed on each side
+    m = len(ratios)
+    lo = -math.inf if need <= 0 else float(ratios[need - 1])
+    hi = math.inf if need <= 0 else float(ratios[m - need])
+    if alternative == "higher":
+        hi = math.inf
+    elif alternative == "lower":
+        lo = -math.inf
+    return lo, hi
+
+
+JONCKHEERE_TERPSTRA = JonckheereTerpstra()
+LINEAR_TREND = LinearTrend()
+
+# ordered + ranks: Jonckheere-Terpstra; ordered + means: linear trend in dose scores
+FAMILIES = {"ranks": JONCKHEERE_TERPSTRA, "means": LINEAR_TREND}
