@@ -1,0 +1,193 @@
+"""Textbook counterparts of the tests for three or more groups and for ordered groups.
+
+Each function returns a `NormalTheory`. For F tests `df` holds the numerator degrees of
+freedom and the test's name states both.
+"""
+from __future__ import annotations
+
+import math
+from typing import Optional
+
+import numpy as np
+from scipy import stats
+
+from ..engine.ksample import above_median, design, midranks, normal_scores
+from ..engine.ordered import dose_scores, jt_doubled, least_squares_slope
+from ..result import NormalTheory
+
+
+def _p_from_z(z, alternative):
+    if alternative == "higher":
+        return float(stats.norm.sf(z))
+    if alternative == "lower":
+        return float(stats.norm.cdf(z))
+    return float(min(1.0, 2 * stats.norm.sf(abs(z))))
+
+
+def _p_from_t(t, df, alternative):
+    if alternative == "higher":
+        return float(stats.t.sf(t, df))
+    if alternative == "lower":
+        return float(stats.t.cdf(t, df))
+    return float(min(1.0, 2 * stats.t.sf(abs(t), df)))
+
+
+def _t_interval(est, se, df, level, alternative):
+    if alternative == "two-sided":
+        h = float(stats.t.isf((1 - level) / 2, df) * se)
+        return est - h, est + h
+    h = float(stats.t.isf(1 - level, df) * se)
+    return (est - h, math.inf) if alternative == "higher" else (-math.inf, est + h)
+
+
+def _group_stats(values, groups):
+    x, g, sizes = design(values, groups)
+    means = np.bincount(g, weights=x) / sizes
+    ss_within = float(np.sum((x - means[g]) ** 2))
+    return x, g, sizes, means, ss_within
+
+
+# ---------------------------------------------------------------- unordered groups
+
+def one_way_anova(values, groups) -> NormalTheory:
+    """Classical one-way ANOVA F (equal variances, normal errors)."""
+    x, g, sizes, means, ssw = _group_stats(values, groups)
+    N, k = len(x), len(sizes)
+    ssb = float(np.sum(sizes * (means - x.mean()) ** 2))
+    df1, df2 = k - 1, N - k
+    if df2 < 1 or ssw <= 1e-12 * max(ssb + ssw, 1e-300):
+        f = math.inf if ssb > 0 else math.nan
+        p = 0.0 if ssb > 0 else 1.0
+    else:
+        f = (ssb / df1) / (ssw / df2)
+        p = float(stats.f.sf(f, df1, df2))
+    return NormalTheory(f"one-way ANOVA F on {df1} and {df2} df (equal variances, normal errors)",
+                        float(f), float(df1), p)
+
+
+def welch_anova(values, groups) -> NormalTheory:
+    """Welch's heteroscedastic one-way ANOVA (needs two or more values a group, some spread)."""
+    x, g, sizes, means, _ = _group_stats(values, groups)
+    k = len(sizes)
+    var = np.array([np.var(x[g == i], ddof=1) if sizes[i] > 1 else np.nan for i in range(k)])
+    if np.any(~np.isfinite(var)) or np.any(var <= 0):
+        return NormalTheory("Welch one-way ANOVA (unequal variances): not defined, a group has "
+                            "fewer than two values or no spread", math.nan, None, math.nan)
+    w = sizes / var
+    mw = float(np.sum(w * means) / np.sum(w))
+    a = float(np.sum(w * (means - mw) ** 2) / (k - 1))
+    lam = float(np.sum((1 - w / w.sum()) ** 2 / (sizes - 1)))
+    f = a / (1 + 2 * (k - 2) * lam / (k * k - 1))
+    df2 = (k * k - 1) / (3 * lam)
+    return NormalTheory(f"Welch one-way ANOVA F on {k - 1} and {df2:.2f} df (unequal variances)",
+                        float(f), float(k - 1), float(stats.f.sf(f, k - 1, df2)))
+
+
+def _quadratic_chi_square(score, values, groups, factor):
+    x, g, sizes = design(values, groups)
+    a = score(x)
+    a = a - a.mean()
+    sst = float(np.sum(a * a))
+    if sst <= 0:
+        return math.nan, 1.0, len(sizes) - 1
+    ssb = float(np.sum(np.bincount(g, weights=a) ** 2 / sizes))
+    stat = factor(len(x)) * ssb / sst
+    return stat, float(stats.chi2.sf(stat, len(sizes) - 1)), len(sizes) - 1
+
+
+def kruskal_chi_square(values, groups) -> NormalTheory:
+    """Kruskal-Wallis H (mid-ranks, divided by the tie correction) against chi-square, k-1 df."""
+    h, p, df = _quadratic_chi_square(midranks, values, groups, lambda N: N - 1)
+    return NormalTheory("Kruskal-Wallis H, chi-square approximation (tie-corrected)", h, float(df), p)
+
+
+def normal_scores_chi_square(values, groups) -> NormalTheory:
+    s, p, df = _quadratic_chi_square(normal_scores, values, groups, lambda N: N - 1)
+    return NormalTheory("van der Waerden normal-scores statistic, chi-square approximation",
+                        s, float(df), p)
+
+
+def median_chi_square(values, groups) -> NormalTheory:
+    s, p, df = _quadratic_chi_square(above_median, values, groups, lambda N: N)
+    return NormalTheory("median test, Pearson chi-square approximation (no continuity correction)",
+                        s, float(df), p)
+
+
+# ---------------------------------------------------------------- ordered groups
+
+def jonckheere_variance(values, groups) -> float:
+    """Null variance of J with the tie correction (common practice; the exact permutation
+    variance given the tie pattern)."""
+    x, _, sizes = design(values, groups)
+    N = len(x)
+    t = np.unique(x, return_counts=True)[1].astype(float)
+    n = sizes.astype(float)
+
+    def c2(v):
+        return np.sum(v * (v - 1))
+
+    def c3(v):
+        return np.sum(v * (v - 1) * (v - 2))
+
+    def c5(v):
+        return np.sum(v * (v - 1) * (2 * v + 5))
+
+    var = (N * (N - 1) * (2 * N + 5) - c5(n) - c5(t)) / 72.0
+    if N > 2:
+        var += c3(n) * c3(t) / (36.0 * N * (N - 1) * (N - 2))
+    var += c2(n) * c2(t) / (8.0 * N * (N - 1))
+    return float(var)
+
+
+def jonckheere_normal(values, groups, alternative: str) -> NormalTheory:
+    """Normal approximation of Jonckheere-Terpstra J (tie-corrected variance)."""
+    x, g, sizes = design(values, groups)
+    j = jt_doubled(x, g, len(sizes)) / 2.0
+    mean = (len(x) ** 2 - float(np.sum(sizes ** 2))) / 4.0
+    var = jonckheere_variance(x, g)
+    z = (j - mean) / math.sqrt(var) if var > 0 else 0.0
+    return NormalTheory("Jonckheere-Terpstra normal approximation (tie-corrected variance)",
+                        float(z), None, _p_from_z(z, alternative))
+
+
+def linear_trend_t(values, groups, scores=None, alternative: str = "two-sided",
+                   level: float = 0.95) -> NormalTheory:
+    """t test of the linear trend in dose scores (F = t^2), with the t interval for the slope.
+
+    The error variance is the within-group mean square (N - k df), as for a linear contrast
+    in one-way ANOVA; with one value a group, the residual about the line (N - 2 df).
+    """
+    x, g, sizes, means, ssw = _group_stats(values, groups)
+    d = dose_scores(scores, len(sizes))
+    d_item = d[g]
+    sxx = float(np.sum((d_item - d_item.mean()) ** 2))
+    if sxx <= 0:
+        return NormalTheory("linear trend t: not defined, all dose scores are equal",
+                            math.nan, None, math.nan)
+    b = least_squares_slope(x, d_item)
+    N, k = len(x), len(sizes)
+    if N > k:
+        df, mse, how = N - k, ssw / (N - k), "within-group error"
+    else:
+        resid = x - x.mean() - b * (d_item - d_item.mean())
+        df, mse, how = N - 2, float(np.sum(resid ** 2)) / max(N - 2, 1), "residual about the line"
+    se = math.sqrt(mse / sxx) if df > 0 else math.nan
+    t = b / se if se > 0 else (math.copysign(math.inf, b) if b else math.nan)
+    p = _p_from_t(t, df, alternative) if df > 0 and np.isfinite(se) else math.nan
+    interval = _t_interval(b, se, df, level, alternative) if df > 0 and se > 0 else None
+    return NormalTheory(f"linear trend t on {df} df ({how}; F = t^2)", float(t), float(df), p,
+                        interval, f"t interval for the slope ({how})")
+
+
+# ---------------------------------------------------------------- summaries
+
+def group_summaries(values, groups, labels) -> list[dict]:
+    """n, mean, median and standard deviation (n - 1 divisor) of each group, in level order."""
+    x, g, sizes = design(values, groups)
+    out = []
+    for i, n in enumerate(sizes):
+        v = x[g == i]
+        sd: Optional[float] = float(np.std(v, ddof=1)) if n > 1 else math.nan
+        out.append({"name": str(labels[i]), "n": int(n), "mean": float(v.mean()),
+                    "median": float(np.median(v)), "sd": sd})
+    return out
