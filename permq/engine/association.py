@@ -226,14 +226,9 @@ def arrangement_chunks(counts, chunk: int = CHUNK):
         yield rows
 
 
-def _values_and_counts(v):
-    vals, labels, counts = np.unique(v, return_inverse=True, return_counts=True)
-    return vals, counts
-
-
 def _enumerate_t(pb: Problem, progress: Progress):
     """T over every distinct arrangement of pb.moving (equal weights)."""
-    vals, counts = _values_and_counts(pb.moving)
+    vals, counts = np.unique(pb.moving, return_counts=True)
     total = arrangements(pb.moving)
     out, done = [], 0
     for labels in arrangement_chunks(counts):
@@ -283,7 +278,7 @@ def _run_inversions(pb: Problem, alternative: str, progress: Progress) -> Engine
     tau = 1.0 - 4.0 * np.arange(K + 1) / (n * (n - 1))
     probs = np.array([c / total for c in full], dtype=float)
     return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), p, "exact",
-                         DESCRIPTIONS["dp-inversions"], arrangements=float(total),
+                         DESCRIPTIONS["dp-inversions"], arrangements=_big(total),
                          null_support=tau[::-1], null_probs=probs[::-1])
 
 
@@ -369,6 +364,8 @@ class SlopePass:
 
 
 def slope_pass(y, x, algorithm: str, draws=None, seed=None, progress=NO_PROGRESS) -> SlopePass:
+    if algorithm not in ("enumeration", "monte-carlo"):
+        raise ValueError(f"the slope is tested by enumeration or monte-carlo, not {algorithm!r}")
     pb = problem("slope", y, x)
     ts, dens = [], []
     if algorithm == "enumeration":
@@ -412,41 +409,47 @@ def slope_outcome(sp: SlopePass, alternative: str) -> EngineOutcome:
                          p_interval=p_int, seed=sp.seed)
 
 
-def slope_jumps(sp: SlopePass):
+def slope_jumps(sp: SlopePass, side: str):
     """(jumps, identity): arrangement pi counts as extreme for 'higher' exactly when
-    beta >= jump_pi (for 'lower' when beta <= jump_pi); `identity` always count."""
+    beta >= jump_pi (for 'lower' when beta <= jump_pi); `identity` always count. The jumps
+    carry the tie tolerance of the p-value rule (relative 1e-9 on the T scale), so that an
+    arrangement tying with the observed one at beta counts there."""
     moved = sp.den > 0
-    jumps = (sp.pb.t_obs - sp.t[moved]) / sp.den[moved]
+    tol = pvalues.RTOL * sp.pb.scale
+    num = sp.pb.t_obs - sp.t[moved]
+    jumps = (num - tol if side == "higher" else num + tol) / sp.den[moved]
     identity = float(np.count_nonzero(~moved)) + (0.0 if sp.exact else 1.0)
     return jumps, identity
 
 
 def p_at(sp: SlopePass, beta: float, side: str) -> float:
     """One-sided p-value of 'slope = beta' from the jumps ('higher' or 'lower')."""
-    jumps, identity = slope_jumps(sp)
+    jumps, identity = slope_jumps(sp, side)
     k = np.count_nonzero(jumps <= beta) if side == "higher" else np.count_nonzero(jumps >= beta)
     return (identity + k) / sp.total
 
 
-def interval_from_jumps(jumps, identity: float, total: float, level: float,
+def interval_from_jumps(jumps_higher, jumps_lower, identity: float, total: float, level: float,
                         alternative: str) -> tuple:
     """{beta: p_higher(beta) > a and p_lower(beta) > a}, a = 1 - level (one-sided) or half
     of it (two-sided, equal tails); closed at finite ends."""
     side = (1.0 - level) / (2.0 if alternative == "two-sided" else 1.0)
-    c = np.sort(np.asarray(jumps, dtype=float))
-    ok = (identity + np.arange(c.size + 1)) / total > side
+    ok = (identity + np.arange(len(jumps_higher) + 1)) / total > side
     need = int(np.argmax(ok)) if ok.any() else None      # jumps needed to stop rejecting
     lo, hi = -np.inf, np.inf
     if alternative in ("two-sided", "higher"):
+        c = np.sort(np.asarray(jumps_higher, dtype=float))
         lo = np.inf if need is None else (-np.inf if need == 0 else float(c[need - 1]))
     if alternative in ("two-sided", "lower"):
+        c = np.sort(np.asarray(jumps_lower, dtype=float))
         hi = -np.inf if need is None else (np.inf if need == 0 else float(c[c.size - need]))
     return lo, hi
 
 
 def slope_estimate(sp: SlopePass, level: float, alternative: str) -> Estimate:
-    jumps, identity = slope_jumps(sp)
-    lo, hi = interval_from_jumps(jumps, identity, sp.total, level, alternative)
+    up, identity = slope_jumps(sp, "higher")
+    down, _ = slope_jumps(sp, "lower")
+    lo, hi = interval_from_jumps(up, down, identity, sp.total, level, alternative)
     tails = "equal-tailed, " if alternative == "two-sided" else ""
     if sp.exact:
         how = f"all {int(sp.total)} arrangements (exact)"
