@@ -68,6 +68,7 @@ class Result:
     warnings: list = field(default_factory=list)
     line: Optional[int] = None
     extra: dict = field(default_factory=dict)     # family-specific additions (kept in JSON)
+    also_normal: list = field(default_factory=list)  # further textbook tests (e.g. Welch ANOVA, HC3)
 
     def to_dict(self) -> dict:
         o = self.outcome
@@ -87,6 +88,8 @@ class Result:
             d["p_interval"] = [_num(v) for v in o.p_interval] if o.p_interval else None
             d["seed"] = o.seed
         d["normal_theory"] = self.normal.to_dict() if self.normal else None
+        if self.also_normal:
+            d["normal_theory_also"] = [nt.to_dict() for nt in self.also_normal]
         if self.estimate is not None:
             d["estimate"] = self.estimate.to_dict()
             if self.normal is not None and self.normal.interval is not None:

@@ -54,6 +54,8 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         block_text = blocks.map(level_text)
         block_labels = tuple(sorted(block_text.unique(), key=_natural))
         block_codes = np.array([block_labels.index(b) for b in block_text], dtype=np.int64)
+    if within and len(levels) > 2:
+        _check_complete(codes, block_codes, levels, block_labels, opts["within"].value)
     scores = _dose_scores(levels) if ordered else None
     if len(levels) == 2 and not within and ordered:
         warnings += ("two ordered levels: the trend test is the two-sample test",)
@@ -80,6 +82,27 @@ def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
     return GroupsDesign(values, codes.astype(np.int64), tuple(labels), "values", s,
                         None, (), ordered, scores, warnings,
                         "ordered" if ordered else "k-sample")
+
+
+def _check_complete(codes, block_codes, levels, block_labels, within_name):
+    """Friedman, Page and the within-block F need each level exactly once in every block."""
+    k = len(levels)
+    for b, label in enumerate(block_labels):
+        counts = np.bincount(codes[block_codes == b], minlength=k)
+        if np.all(counts == 1):
+            continue
+        missing = [levels[i] for i in range(k) if counts[i] == 0]
+        extra = [levels[i] for i in range(k) if counts[i] > 1]
+        what = []
+        if missing:
+            what.append("no " + ", ".join(f"'{m}'" for m in missing))
+        if extra:
+            what.append("more than one " + ", ".join(f"'{e}'" for e in extra))
+        raise BindError(f"block '{label}' of '{within_name.text}' has {' and '.join(what)}: "
+                        f"a comparison of {k} levels within blocks needs each level exactly once "
+                        "in every block (complete blocks)", within_name.span,
+                        hint="choose two levels (levels \"A\", \"B\") for a stratified comparison "
+                             "that takes blocks of any size")
 
 
 def _ordered_levels(opt, levels, g, subject, table):

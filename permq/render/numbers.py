@@ -41,3 +41,8 @@ def count(v) -> str:
     if v is None:
         return "-"
     return f"{int(v):,}" if v < 1e15 else f"{v:.3g}"
+
+
+def df(v) -> str:
+    v = float(v)
+    return str(int(v)) if v.is_integer() else f"{v:.2f}"

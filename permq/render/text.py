@@ -47,13 +47,20 @@ def result_block(r: Result, color: bool = False) -> str:
         exact_p += f" ±{fmt.p(max(o.p_value - o.p_interval[0], o.p_interval[1] - o.p_value))}"
     lines.append(_c(f"  {p_label:<15}{exact_p:<28}{normal_p}", BOLD, color))
     if nt:
-        df = f", df {fmt.num(nt.df)}" if nt.df is not None else ""
+        df = f", df {fmt.df(nt.df)}" if nt.df is not None else ""
         lines.append(f"  {'':<15}{'':<28}{nt.test}: {fmt.num(nt.statistic)}{df}")
+    for extra in r.also_normal:
+        df = f", df {fmt.df(extra.df)}" if extra.df is not None else ""
+        lines.append(f"  {'also':<15}{'':<28}{fmt.p(extra.p_value)}  {extra.test}: "
+                     f"{fmt.num(extra.statistic)}{df}")
     if est is not None:
         lines.append(f"  {'estimate':<15}{est.name} = {fmt.num(est.value)}")
         lvl = f"{est.level * 100:g}% interval"
         exact_iv = fmt.interval(est.interval) if est.interval is not None else "none"
         normal_iv = fmt.interval(nt.interval) if nt and nt.interval is not None else "-"
+        robust = [x for x in r.also_normal if x.interval is not None]
+        if robust:
+            normal_iv += f"  {fmt.interval(robust[0].interval)} {robust[0].interval_method}"
         lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
         lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
     if o.method == "exact":
