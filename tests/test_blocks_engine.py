@@ -564,3 +564,49 @@ def test_stratified_rank_sum_four_blocks_of_ten_is_fast():
     assert elapsed < 1.0
     mc = eb.run("stratified-ranks", v, g, bl, "two-sided", "monte-carlo", draws=8192, seed=3)
     assert mc.p_interval[0] <= out.p_value <= mc.p_interval[1]
+
+
+# ---------------------------------------------------------------- internals with a contract
+
+def test_sparse_convolution_is_exact():
+    rng = np.random.default_rng(6)
+    a = np.zeros(5000)
+    b = np.zeros(3000)
+    a[rng.choice(5000, 40, replace=False)] = rng.integers(1, 10 ** 6, 40)
+    b[rng.choice(3000, 30, replace=False)] = rng.integers(1, 10 ** 6, 30)
+    out = eb.convolve_exact(a, b)                        # takes the sparse path
+    exact = np.zeros(len(a) + len(b) - 1, dtype=object)
+    for i in np.flatnonzero(a):
+        for j in np.flatnonzero(b):
+            exact[i + j] += int(a[i]) * int(b[j])
+    assert all(int(x) == y for x, y in zip(out, exact))
+
+
+def test_subset_sum_counts_by_brute_force():
+    q = np.array([0, 3, 3, 1, 4, 2, 0])
+    got = eb.subset_sum_counts(q, 3)
+    want = np.bincount([sum(c) for c in itertools.combinations(q, 3)], minlength=len(got))
+    np.testing.assert_array_equal(got, want)
+
+
+def test_huge_reference_set_says_counts_are_floating():
+    rng = np.random.default_rng(7)
+    v = rng.normal(size=120).round(1)
+    g = np.tile(np.r_[np.zeros(10, int), np.ones(10, int)], 6)
+    bl = np.repeat(np.arange(6), 20)
+    out = eb.run("stratified-ranks", v, g, bl, "two-sided", "dp-integer")
+    assert out.arrangements > 2.0 ** 53
+    assert any("2^53" in w for w in out.warnings)
+    z = nb.stratified_rank_sum_normal(v, g, bl, "two-sided")
+    assert out.p_value == pytest.approx(z.p_value, abs=0.02)     # large design: close to normal
+
+
+def test_exact_past_its_limits_is_refused():
+    rng = np.random.default_rng(3)
+    v, g, bl = long(rng.normal(size=(8, 9)))            # nine treatments: no vector programme
+    keys = {c.algorithm: c for c in eb.candidates("friedman", v, g, bl)}
+    assert not keys["dp-vector"].feasible
+    with pytest.raises(PlanError):
+        eb.run("friedman", v, g, bl, "two-sided", "dp-vector")
+    with pytest.raises(PlanError):
+        eb.run("within-block-f", v, g, bl, "two-sided", "enumeration")

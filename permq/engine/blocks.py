@@ -532,11 +532,14 @@ def _vector_dp_cost(ints: np.ndarray) -> tuple[float, float, bool, str]:
         return float("inf"), float("inf"), False, "treatment totals too wide to index"
     ops = mem = 0.0
     states, reach = 1.0, 0
+    spread = ints - ints.min(axis=1, keepdims=True)
+    unit = reduce(gcd, (int(x) for x in np.unique(spread) if x), 0) or 1
     for row in ints:
         p = factorial(k)
         ops += states * p * k * 12
         mem = max(mem, min(states * p, CHUNK_ROWS) * k * 8 * 4 + states * k * 8 * 2)
-        reach += int(row.max() - row.min())
+        reach += int(row.max() - row.min()) // unit
+        # Sorted vectors with a fixed sum, entries on a lattice of the given reach.
         states = min(states * _distinct_count(row), (reach + 1) ** (k - 1) / factorial(k) + 1)
     return ops, mem, mem <= MAX_DP_BYTES, f"about {states:.3g} distinct sorted totals"
 
@@ -781,12 +784,25 @@ def candidates(test, values, groups, blocks, draws: int = DEFAULT_DRAWS,
     return _complete_candidates(prep, draws)
 
 
+def _require_feasible(prep, algorithm):
+    """An exact algorithm past its limits is refused rather than left to exhaust memory."""
+    if algorithm == "monte-carlo":
+        return
+    found = (_stratified_candidates(prep, 1) if prep.test in STRATIFIED
+             else _complete_candidates(prep, 1))
+    for c in found:
+        if c.algorithm == algorithm and not c.feasible:
+            raise PlanError(f"{c.description} does not apply to this design ({c.note}); "
+                            "use Monte Carlo")
+
+
 def run(test, values, groups, blocks, alternative, algorithm, draws: Optional[int] = None,
         seed: Optional[int] = None, progress: Progress = NO_PROGRESS,
         n_groups: Optional[int] = None) -> EngineOutcome:
     """The permutation p-value of `test` by `algorithm` (a Candidate key)."""
     _check_alternative(test, alternative)
     prep = prepare(test, values, groups, blocks, n_groups)
+    _require_feasible(prep, algorithm)
     if algorithm == "monte-carlo":
         draws = int(draws) if draws is not None else DEFAULT_DRAWS
         seed = int(seed) if seed is not None else fresh_seed()
