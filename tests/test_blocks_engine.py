@@ -610,3 +610,13 @@ def test_exact_past_its_limits_is_refused():
         eb.run("friedman", v, g, bl, "two-sided", "dp-vector")
     with pytest.raises(PlanError):
         eb.run("within-block-f", v, g, bl, "two-sided", "enumeration")
+
+
+def test_messages_use_the_names_given():
+    out = eb.run("stratified-ranks", SV, SG, SB, "higher", "dp-integer",
+                 block_names=["bench 1", "bench 2", "bench 3", "bench 4"])
+    assert any("block 'bench 4'" in w for w in out.warnings)
+    v, g, bl = long(C3)
+    with pytest.raises(BindError, match="lacks treatment 'high'"):
+        eb.run("page", v[g != 2], g[g != 2], bl[g != 2], "higher", "dp-integer", n_groups=3,
+               group_names=["low", "mid", "high"])

@@ -27,7 +27,7 @@ import itertools
 from dataclasses import dataclass
 from fractions import Fraction
 from functools import lru_cache, reduce
-from math import ceil, comb, factorial, floor, gcd, log10, prod
+from math import ceil, comb, factorial, floor, gcd, prod
 from typing import Optional
 
 import numpy as np
@@ -176,18 +176,11 @@ def _outcome(test, statistic, p, algorithm, arrangements, support=None, probs=No
                          warnings=tuple(warnings))
 
 
-def _tally(values, scale):
-    """Distinct values (merged at a relative 1e-10 of scale) and their counts, for pictures."""
-    unit = max(abs(scale), 1e-300) * 1e-10
-    codes, inverse = np.unique(np.round(np.asarray(values) / unit), return_inverse=True)
-    counts = np.bincount(inverse)
-    sums = np.bincount(inverse, weights=values)
-    return sums / counts, counts.astype(float)
-
-
 def _merge_tallies(vals, counts, scale):
+    """Values merged within 1e-10 of scale, with summed counts (for the null's picture only:
+    p-values never use this merge)."""
     unit = max(abs(scale), 1e-300) * 1e-10
-    codes, inverse = np.unique(np.round(vals / unit), return_inverse=True)
+    _, inverse = np.unique(np.round(vals / unit), return_inverse=True)
     c = np.bincount(inverse, weights=counts)
     v = np.bincount(inverse, weights=vals * counts) / c
     return v, c
@@ -573,8 +566,9 @@ def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
                              note=f"values are not on a grid of at most {MAX_DECIMALS} decimals"))
     if prep.test == "within-block-f":
         fixed = total / factorial(prep.k)   # the first block's order is fixed by symmetry
+        rows = fixed / factorial(prep.k)    # totals held while the last block is applied
         out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True,
-                             fixed * prep.k * 6, fixed / max(1, factorial(prep.k)) * prep.k * 8 * 3,
+                             fixed * prep.k * 6, rows * prep.k * 8 * 3,
                              feasible=fixed <= MAX_ENUMERATION, arrangements=total,
                              note=f"{total:.4g} arrangements ({fixed:.4g} after fixing block 1)"))
     n = prep.b * prep.k
@@ -729,7 +723,7 @@ def _f_enumeration(prep: Complete, progress) -> EngineOutcome:
     for i, arranged in enumerate(last):
         ss = _centered_ss(totals + arranged[None, :])
         hits += pvalues.exceedances(ss, obs, "higher", scale=scale)
-        v, c = _tally(ss, scale)
+        v, c = _merge_tallies(ss, np.ones(len(ss)), scale)
         vals.append(v)
         counts.append(c)
         progress.step((i + 1) / len(last), "enumerating")
@@ -777,8 +771,10 @@ def prepare(test, values, groups, blocks, n_groups=None, block_names=None, group
 
 
 def candidates(test, values, groups, blocks, draws: int = DEFAULT_DRAWS,
-               n_groups: Optional[int] = None) -> list[Candidate]:
-    prep = prepare(test, values, groups, blocks, n_groups)
+               n_groups: Optional[int] = None, block_names=None,
+               group_names=None) -> list[Candidate]:
+    """What each algorithm would cost; raises BindError when the design does not fit."""
+    prep = prepare(test, values, groups, blocks, n_groups, block_names, group_names)
     if test in STRATIFIED:
         return _stratified_candidates(prep, draws)
     return _complete_candidates(prep, draws)
@@ -798,10 +794,14 @@ def _require_feasible(prep, algorithm):
 
 def run(test, values, groups, blocks, alternative, algorithm, draws: Optional[int] = None,
         seed: Optional[int] = None, progress: Progress = NO_PROGRESS,
-        n_groups: Optional[int] = None) -> EngineOutcome:
-    """The permutation p-value of `test` by `algorithm` (a Candidate key)."""
+        n_groups: Optional[int] = None, block_names=None, group_names=None) -> EngineOutcome:
+    """The permutation p-value of `test` by `algorithm` (a Candidate key).
+
+    `n_groups` is the number of levels (when the last has no rows); `block_names` and
+    `group_names` (indexed by code) only make messages and warnings speak the user's names.
+    """
     _check_alternative(test, alternative)
-    prep = prepare(test, values, groups, blocks, n_groups)
+    prep = prepare(test, values, groups, blocks, n_groups, block_names, group_names)
     _require_feasible(prep, algorithm)
     if algorithm == "monte-carlo":
         draws = int(draws) if draws is not None else DEFAULT_DRAWS

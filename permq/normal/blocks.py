@@ -75,11 +75,12 @@ def friedman_chi_square(values, groups, blocks, n_groups: Optional[int] = None) 
     q, d = friedman_from_ranks(ranks)
     k = y.shape[1]
     p = float(stats.chi2.sf(q, k - 1)) if d > 0 else 1.0
-    return NormalTheory("chi-square approximation to Friedman's statistic (tie-corrected)", float(q),
-                        float(k - 1), p)
+    return NormalTheory("chi-square approximation to Friedman's statistic (tie-corrected)",
+                        float(q), float(k - 1), p)
 
 
-def page_normal(values, groups, blocks, alternative, n_groups: Optional[int] = None) -> NormalTheory:
+def page_normal(values, groups, blocks, alternative,
+                n_groups: Optional[int] = None) -> NormalTheory:
     """Normal approximation to Page's L with its exact permutation mean and variance."""
     y = block_matrix(values, groups, blocks, n_groups, "page")
     ranks = np.vstack([midranks(row) for row in y])
