@@ -120,6 +120,12 @@ class Explain:
 
 
 @dataclass(frozen=True)
+class Robustness:
+    span: Span
+    analysis: Analysis
+
+
+@dataclass(frozen=True)
 class Load:
     span: Span
     path: str
@@ -169,7 +175,7 @@ class Quit:
     span: Span
 
 
-Statement = Union[Load, Use, Compare, Relate, Count, Explain, SetStatement, Show, Describe,
+Statement = Union[Load, Use, Compare, Relate, Count, Explain, Robustness, SetStatement, Show, Describe,
                   Help, Save, Quit]
 
 

@@ -323,6 +323,9 @@ class _ToNodes(Transformer):
     def explain(self, meta, ch):
         return n.Explain(_span(meta), ch[0])
 
+    def robustness(self, meta, ch):
+        return n.Robustness(_span(meta), ch[0])
+
     def set_stmt(self, meta, ch):
         value = ch[1]
         v = value.value
@@ -431,3 +434,16 @@ class _ToNodes(Transformer):
 
     def adjusting(self, meta, ch):
         return self._opt(meta, "adjusting", tuple(ch))
+
+    def datasets(self, meta, ch):
+        return self._opt(meta, "datasets", ch[0].value)
+
+    def shift(self, meta, ch):
+        # (size, in standard deviations?)
+        return self._opt(meta, "shift", (ch[0].value, len(ch) > 1))
+
+    def significance(self, meta, ch):
+        return self._opt(meta, "significance", ch[0].value)
+
+    def picture(self, meta, ch):
+        return self._opt(meta, "picture", ch[0].value)
