@@ -57,8 +57,9 @@ class Grid:
 def integer_grid(scores, max_decimals: int = MAX_DECIMALS) -> Optional[Grid]:
     """Put scores on the coarsest integer grid they lie on, or None when they lie on none.
 
-    Tries d = 0 .. max_decimals decimals; the scaled values must be within 1e-6 of integers
-    (recorded data carry floating-point noise only far below that).
+    Tries d = 0 .. max_decimals decimals; the scaled values must be within floating-point
+    noise of integers: a few ulps of each value, plus at most 1e-6 (and at most 1e-7 of the
+    largest scaled value) for noise carried over from larger operands.
     """
     a = np.asarray(scores, dtype=float)
     if a.size == 0 or not np.all(np.isfinite(a)):
@@ -68,7 +69,13 @@ def integer_grid(scores, max_decimals: int = MAX_DECIMALS) -> Optional[Grid]:
         if np.max(np.abs(scaled), initial=0.0) > 2 ** 52:
             return None
         rounded = np.round(scaled)
-        if np.all(np.abs(scaled - rounded) <= 1e-6 * np.maximum(1.0, np.abs(scaled)) * 1e-3 + 1e-6):
+        # Floating-point noise is relative: to each value's own size, and for derived data
+        # (differences) to the largest value. A fixed absolute allowance would put data far
+        # below it (1.2e-8, 3.4e-8, ...) on the grid point 0, and a per-value allowance of
+        # 1e-9 of the value would put 1e9 + 0.5 on the grid of whole numbers.
+        top = float(np.max(np.abs(scaled), initial=0.0))
+        allowed = min(1e-6, 1e-7 * top) + 8 * np.finfo(float).eps * np.abs(scaled)
+        if np.all(np.abs(scaled - rounded) <= allowed):
             ints = rounded.astype(np.int64)
             low = int(ints.min())
             shifted = ints - low
