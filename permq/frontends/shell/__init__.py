@@ -1,0 +1,66 @@
+"""permq's interactive shell: completion and highlighting from the grammar, a toolbar with
+the table in use and the defaults, persistent searchable history, multi-line statements.
+
+    start_shell(files) -> exit status
+"""
+from __future__ import annotations
+
+import os
+import sys
+from pathlib import Path
+
+from ... import __version__
+from ...pipeline import Session
+from ..progress import ProgressLine
+from .completion import ShellCompleter
+from .history import open_history
+from .lexer import prompt_lexer, style
+from .repl import CONTINUATION, PROMPT, Shell, unfinished
+from .toolbar import toolbar
+
+BANNER = (f"permq {__version__}: exact permutation and rank tests beside their "
+          "normal-theory counterparts\n"
+          "Type a statement, 'help' for the language; Tab completes, Ctrl-D or 'quit' leaves.\n")
+
+
+def make_prompt_session(session: Session, history, input=None, output=None):
+    """The prompt_toolkit side of the shell (tests pass a pipe input and a dummy output)."""
+    from prompt_toolkit import PromptSession
+    from prompt_toolkit.auto_suggest import AutoSuggestFromHistory
+    from prompt_toolkit.shortcuts import CompleteStyle
+
+    holder = {}
+    ps = PromptSession(
+        message=[("class:prompt", PROMPT)],
+        prompt_continuation=lambda width, line, wrap: [("class:continuation", CONTINUATION)],
+        multiline=unfinished(lambda: holder["ps"].default_buffer.text),
+        completer=ShellCompleter(session),
+        complete_while_typing=False,
+        complete_style=CompleteStyle.COLUMN,
+        auto_suggest=AutoSuggestFromHistory(),
+        history=history,
+        lexer=prompt_lexer(),
+        style=style(),
+        include_default_pygments_style=False,
+        bottom_toolbar=lambda: toolbar(session),
+        search_ignore_case=True,
+        input=input,
+        output=output,
+    )
+    holder["ps"] = ps
+    return ps
+
+
+def start_shell(files=(), input=None, output=None, write=None, history_file=None) -> int:
+    tty = sys.stdout.isatty() and output is None
+    color = tty and not os.environ.get("NO_COLOR")
+    progress = ProgressLine() if sys.stderr.isatty() and output is None else None
+    session = Session(base_dir=Path.cwd(), on_progress=progress)
+    shell = Shell(session, write=write, color=color, progress=progress)
+    history, problem = open_history(history_file)
+    shell.write(BANNER + (f"({problem})\n" if problem else "") + "\n")
+    for name in files:
+        shell.open_file(name)
+    if session.quit_requested:
+        return 0
+    return shell.loop(make_prompt_session(session, history, input=input, output=output))

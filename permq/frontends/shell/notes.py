@@ -1,0 +1,144 @@
+"""The short descriptions shown beside completions.
+
+The words themselves come from the grammar (vocabulary.py); this module only says what they
+are for. A word the grammar gains without a note here is still offered, with a plain note.
+"""
+from __future__ import annotations
+
+from typing import Optional
+
+ANALYSIS_VERBS = ("compare", "relate", "count")
+
+KEYWORDS = {
+    "robustness": "check the design by simulation",
+    "datasets": "number of simulated data sets",
+    "shift": "effect to simulate",
+    "sd": "in standard deviations",
+    "significance": "level at which a test rejects",
+    "picture": "write a picture to a file",
+    "load": "read a table from a file",
+    "use": "choose the table in use",
+    "compare": "groups, paired columns, one sample",
+    "relate": "association between two columns",
+    "count": "contingency table or proportion",
+    "explain": "show the plan and its cost; nothing runs",
+    "set": "change a session default",
+    "show": "list tables or settings",
+    "describe": "the columns of a table",
+    "help": "help pages",
+    "save": "write what ran as a query file",
+    "quit": "leave the shell",
+    "exit": "leave the shell",
+    "by": "group column follows",
+    "vs": "second operand follows",
+    "to": "second column follows",
+    "of": "successes of trials",
+    "as": "name for the table",
+    "for": "covariate columns follow",
+    "using": "test family",
+    "alternative": "direction of the test",
+    "confidence": "level of the intervals",
+    "exact": "insist on an exact method",
+    "sampled": "Monte Carlo with N draws",
+    "seed": "seed for Monte Carlo",
+    "levels": "choose and order the levels",
+    "within": "blocks or strata column",
+    "ordered": "ordered alternative (trend)",
+    "paired": "paired columns",
+    "in": "take the columns from a table",
+    "adjusting": "covariates for a slope",
+}
+
+VALUES = {
+    "FAMILY": {
+        "means": "difference in means, by permutation",
+        "ranks": "Wilcoxon ranks with mid-ranks",
+        "normal-scores": "van der Waerden normal scores",
+        "medians": "Mood's median test",
+        "signs": "sign test (paired, one sample)",
+        "fisher": "Fisher's exact test",
+        "chi-square": "Pearson chi-square, exact",
+        "likelihood-ratio": "likelihood-ratio statistic, exact",
+        "trend": "linear-by-linear trend (ordered tables)",
+        "pearson": "Pearson correlation",
+        "spearman": "Spearman rank correlation",
+        "kendall": "Kendall's tau",
+        "slope": "least-squares slope",
+    },
+    "ALTERNATIVE": {
+        "two-sided": "an effect in either direction",
+        "higher": "the named effect is positive",
+        "lower": "the named effect is negative",
+    },
+    "SETTING": {
+        "seed": "seed for Monte Carlo",
+        "confidence": "level of the intervals",
+        "budget": "time allowed for exact work",
+        "format": "text, json, csv or markdown",
+        "alternative": "default direction",
+    },
+    "SHOWABLE": {"tables": "the loaded tables", "settings": "the session defaults"},
+}
+
+EXAMPLES = {
+    "PERCENT": [("95%", "level"), ("90%", "level"), ("99%", "level")],
+    "DURATION": [("5s", "seconds"), ("30s", "seconds"), ("2min", "minutes")],
+}
+
+
+def keyword_note(word: str) -> str:
+    return KEYWORDS.get(word, "keyword")
+
+
+def value_note(terminal: str, word: str) -> str:
+    return VALUES.get(terminal, {}).get(word, terminal.lower().replace("_", " "))
+
+
+def examples(terminal: str) -> list[tuple[str, str]]:
+    return list(EXAMPLES.get(terminal, []))
+
+
+def families_for(verb: Optional[str]) -> set[str]:
+    """The families the binder accepts for a verb (empty: no filter)."""
+    from ...bind import binder
+
+    if verb == "compare":
+        from ...bind import groups
+
+        names = ("TWO_SAMPLE_FAMILIES", "ONE_SAMPLE_FAMILIES")
+        fams = {f for n in names for f in getattr(binder, n, ())}
+        return fams | set(getattr(groups, "K_SAMPLE_FAMILIES", ()))
+    if verb in ("relate", "count"):
+        from ...bind import other_forms
+
+        name = "ASSOCIATION_FAMILIES" if verb == "relate" else "TABLE_FAMILIES"
+        return set(getattr(other_forms, name, ()))
+    return set()
+
+
+def family_known(word: str) -> bool:
+    """Whether any verb claims the family (an unclaimed one is offered everywhere)."""
+    return any(word in families_for(v) for v in ("compare", "relate", "count"))
+
+
+def setting_values(setting: str) -> list[tuple[str, str]]:
+    from . import vocabulary as vocab
+
+    if setting == "alternative":
+        words = vocab.value_sets().get("ALTERNATIVE", ())
+        return [(w, value_note("ALTERNATIVE", w)) for w in words]
+    if setting == "format":
+        from ...statements import FORMATS
+
+        return [(f, "output format") for f in FORMATS]
+    return []
+
+
+def column_note(series, table: str) -> str:
+    import pandas as pd
+
+    missing = int(series.isna().sum())
+    miss = f" · {missing} missing" if missing else ""
+    if pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series):
+        return f"number column of {table}{miss}"
+    return f"text column of {table} · {series.nunique()} levels{miss}"

@@ -1,0 +1,114 @@
+"""The read-run-print loop over one Session.
+
+`Shell.handle(text)` runs what was typed (several statements, or one spread over lines) and
+prints each output; `Shell.loop()` reads with prompt_toolkit until Ctrl-D or `quit`.
+Statements run in the main thread: Ctrl-C raises KeyboardInterrupt inside the engine,
+which the session turns into a "cancelled" failure and leaves the session as it was.
+"""
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import Callable, Optional
+
+from ...result import Failure
+from ...syntax.parser import parse_script
+from . import display
+from .scan import needs_more, one_line
+
+PROMPT = "permq> "
+CONTINUATION = "  ...> "
+TABLE_SUFFIXES = (".csv", ".tsv", ".tab", ".parquet", ".xlsx", ".xls")
+
+
+class Shell:
+    def __init__(self, session, write: Optional[Callable[[str], None]] = None,
+                 color: bool = False, progress=None):
+        self.session = session
+        self.write = write or _stdout_write
+        self.color = color
+        self.progress = progress    # a ProgressLine (start/clear), or None
+
+    # -- running what was typed --------------------------------------------------------------
+    def handle(self, typed: str) -> bool:
+        """Run the typed text; False once the user asked to leave."""
+        first = True
+        for st in parse_script(one_line(typed)):
+            out = self._run(st)
+            if out is not None:
+                self.show(out, typed, first)
+                first = False
+            if self.session.quit_requested:
+                return False
+            if isinstance(out, Failure) and out.kind == "cancelled":
+                break
+        return True
+
+    def _run(self, st):
+        if self.progress is not None:
+            self.progress.start()
+        try:
+            return self.session.run_statement(st)
+        finally:
+            if self.progress is not None:
+                self.progress.clear()
+
+    def show(self, out, typed: str = "", first: bool = False) -> None:
+        if isinstance(out, Failure):
+            if out.kind == "cancelled":
+                self.write(display.cancelled_text(out, self.color))
+                return
+            under = display.caret_under_prompt(out, typed, len(PROMPT), self.color) if first else None
+            self.write((under or display.output_text(out, color=self.color)) + "\n")
+            return
+        self.write(display.output_text(out, self.session.defaults.format, self.color) + "\n")
+
+    # -- files named on the command line -----------------------------------------------------
+    def open_file(self, name: str) -> None:
+        path = Path(name).expanduser()
+        if path.suffix.lower() in TABLE_SUFFIXES:
+            q = "'" if '"' in name else '"'
+            self.handle(f"load {q}{name}{q}")
+            return
+        try:
+            source = path.read_text(encoding="utf-8")
+        except (OSError, UnicodeDecodeError) as exc:
+            self.write(f"cannot read query file '{name}': {getattr(exc, 'strerror', exc)}\n\n")
+            return
+        self.write(f"running {name}\n\n")
+        before = self.session.base_dir
+        self.session.base_dir = path.resolve().parent
+        try:
+            self.handle(source)
+        finally:
+            self.session.base_dir = before
+
+    # -- the loop ----------------------------------------------------------------------------
+    def loop(self, prompt_session) -> int:
+        while not self.session.quit_requested:
+            try:
+                typed = prompt_session.prompt()
+            except KeyboardInterrupt:
+                continue            # Ctrl-C at the prompt: the line is dropped
+            except EOFError:
+                break               # Ctrl-D
+            if not typed.strip():
+                continue
+            try:
+                if not self.handle(typed):
+                    break
+            except KeyboardInterrupt:
+                self.write("cancelled\n\n")
+        return 0
+
+
+def unfinished(get_text: Callable[[], str]):
+    """A prompt_toolkit filter: Enter starts a new line while the input is unfinished."""
+    from prompt_toolkit.filters import Condition
+
+    return Condition(lambda: needs_more(get_text()))
+
+
+def _stdout_write(text: str) -> None:
+    sys.stdout.write(text)
+    sys.stdout.flush()
