@@ -135,7 +135,7 @@ def resolve_table(opts: dict, catalog: Catalog, span: Span):
         name = opts["in"].value
         if name.text not in catalog.tables:
             raise BindError(f"no table named '{name.text}'", name.span,
-                            hint=suggest(name.text, list(catalog.tables)))
+                            hint=suggest(name.text, list(catalog.tables), "tables"))
         return catalog.tables[name.text]
     if catalog.current is None:
         if not catalog.tables:
@@ -159,7 +159,8 @@ def check_columns(table, names: list) -> None:
         raise MultipleErrors(errors)
 
 
-def suggest(word: str, names: list) -> Optional[str]:
+def suggest(word: str, names: list, kind: str = "columns") -> Optional[str]:
+    """'did you mean ...?' for the nearest name, else the names there are (as `kind`)."""
     lower = {c.lower(): c for c in names}
     if word.lower() in lower:
         return f"did you mean '{lower[word.lower()]}'?"
@@ -171,7 +172,7 @@ def suggest(word: str, names: list) -> Optional[str]:
         return f"did you mean '{close[0]}'?"
     if names:
         shown = ", ".join(names[:8]) + (", ..." if len(names) > 8 else "")
-        return f"columns: {shown}"
+        return f"{kind}: {shown}"
     return None
 
 
@@ -289,7 +290,7 @@ def _chosen_levels(opt: n.Option, present: list, column: str) -> list:
     for text, span in opt.value:
         if text not in present:
             errors.append(BindError(f"no level \"{text}\" in column '{column}'", span,
-                                    hint=suggest(text, present) or f"levels: {', '.join(present)}"))
+                                    hint=suggest(text, present, "levels")))
         elif text in levels:
             errors.append(BindError(f"level \"{text}\" is named twice", span))
         else:
