@@ -8,13 +8,14 @@ HANDLERS.
 from __future__ import annotations
 
 from ..bind import designs
-from . import association, groups, one_sample, two_sample
+from . import association, groups, one_sample, tables, two_sample
 
 HANDLERS = {
     designs.TwoSampleDesign: two_sample,
     designs.OneSampleDesign: one_sample,
     designs.GroupsDesign: groups,
     designs.AssociationDesign: association,
+    designs.TableDesign: tables,
 }
 
 

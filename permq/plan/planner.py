@@ -61,15 +61,21 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
     draws = settings.sampled or DEFAULT_DRAWS
     cands = tuple(candidates_for(draws))
     seed = settings.seed if settings.seed is not None else fresh_seed()
-    mc = next(c for c in cands if not c.exact)
+    mc = next((c for c in cands if not c.exact), None)
     exact = sorted((c for c in cands if c.exact and c.feasible), key=lambda c: c.ops)
     budget = settings.budget_seconds
 
     def plan(chosen, reason):
         return Plan(engine, family, chosen, cands, draws, seed, reason, budget)
 
-    if settings.sampled:
+    if settings.sampled and mc is not None:
         return plan(mc, f"'sampled {settings.sampled}' asks for Monte Carlo")
+    if mc is None:
+        if not exact:
+            raise PlanError("no method applies to these data")
+        why = ("only an exact method applies here, and it is cheap; 'sampled' is not needed"
+               if settings.sampled else "the one exact method for this design")
+        return plan(exact[0], why)
     fitting = [c for c in exact if c.memory <= settings.memory_bytes]
     if settings.exact:
         ok = [c for c in fitting if c.seconds <= EXACT_CEILING_SECONDS]

@@ -37,6 +37,8 @@ def result_block(r: Result, color: bool = False) -> str:
             sd = f"  sd {fmt.num(g['sd'])}" if g.get("sd") is not None else ""
             lines.append(f"  {label:<15}{g['name']:<16} n {g['n']:<4} mean {fmt.num(g['mean']):<9}"
                          f" median {fmt.num(g['median'])}{sd}")
+    if "table" in r.extra:
+        lines.extend(table_lines(r.extra["table"]))
     lines.append(f"  {'statistic':<15}{fmt.num(o.statistic, 6)}")
     method_word = "exact" if o.method == "exact" else "Monte Carlo"
     lines.append(f"  {'':<15}{'permutation (' + method_word + ')':<28}normal theory")
@@ -75,6 +77,21 @@ def result_block(r: Result, color: bool = False) -> str:
     for w in list(r.warnings) + list(o.warnings):
         lines.append(_c(f"  {'note':<15}{w}", DIM, color))
     return "\n".join(lines) + "\n"
+
+
+def table_lines(tab) -> list:
+    """The counts with their margins, aligned."""
+    head = [""] + list(tab["columns"]) + ["total"]
+    body = [[r] + [str(v) for v in row] + [str(tot)]
+            for r, row, tot in zip(tab["rows"], tab["counts"], tab["row_totals"])]
+    body.append(["total"] + [str(v) for v in tab["column_totals"]] + [str(tab["total"])])
+    widths = [max(len(row[i]) for row in [head] + body) for i in range(len(head))]
+    out = []
+    for i, row in enumerate([head] + body):
+        label = "table" if i == 0 else ""
+        cells = [row[0].ljust(widths[0])] + [c.rjust(w) for c, w in zip(row[1:], widths[1:])]
+        out.append(f"  {label:<15}" + "  ".join(cells))
+    return out
 
 
 def failure_block(f: Failure, color: bool = False) -> str:

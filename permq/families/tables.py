@@ -1,0 +1,85 @@
+"""Contingency tables, paired binary outcomes and one proportion."""
+from __future__ import annotations
+
+from ..engine import tables, tables_2x2, tables_paired, tables_proportion
+from ..engine.tables_stats import RULES
+from ..errors import BindError
+from ..normal import tables as normal_tables
+from ..plan.planner import make_plan
+from ..result import Result
+
+RC_NORMAL = {"fisher": normal_tables.pearson_chi_square,
+             "chi-square": normal_tables.pearson_chi_square,
+             "likelihood-ratio": normal_tables.likelihood_ratio}
+
+
+def _route(design) -> str:
+    if design.form in ("proportion", "paired"):
+        return design.form
+    if design.table.shape == (2, 2) and design.settings.family == "fisher":
+        return "2x2"
+    return "rxc"
+
+
+def plan(design):
+    s = design.settings
+    route = _route(design)
+    t = design.table
+    if route == "rxc" and s.family != "trend" and s.alternative != "two-sided":
+        raise BindError(f"the {s.family} statistic of a {t.shape[0]} x {t.shape[1]} table has "
+                        "no direction", hint="use 'ordered' for a trend, or drop 'alternative'")
+    if route == "proportion":
+        cands = lambda draws: tables_proportion.candidates(t)
+    elif route == "paired":
+        cands = lambda draws: tables_paired.candidates(t)
+    elif route == "2x2":
+        cands = lambda draws: tables_2x2.candidates(t)
+    else:
+        cands = lambda draws: tables.candidates(t, s.family, draws)
+    return make_plan("table", s.family, s, cands)
+
+
+def execute(design, the_plan, progress, statement: str = "") -> Result:
+    s, t = design.settings, design.table
+    route = _route(design)
+    alg, draws, seed = the_plan.chosen.algorithm, the_plan.draws, the_plan.seed
+    also, estimate = [], None
+    if route == "proportion":
+        out = tables_proportion.run(t, "binomial", s.alternative, alg, p0=design.reference,
+                                    progress=progress)
+        k, n = int(t[0, 0]), int(t.sum())
+        normal = normal_tables.one_proportion(k, n, design.reference, s.level, s.alternative)
+        estimate = tables_proportion.proportion(t, s.level, s.alternative)
+        effect = f"proportion of successes - {design.reference:g}"
+        rule = tables_proportion.TWO_SIDED_RULE
+    elif route == "paired":
+        out = tables_paired.run(t, "mcnemar", s.alternative, alg, progress=progress)
+        normal = normal_tables.mcnemar(t, s.level, s.alternative)
+        estimate = tables_paired.odds_ratio(t, s.level, s.alternative)
+        a, b = design.names
+        effect = f"discordant pairs: {a} first level with {b} second, against the reverse"
+        rule = tables_paired.TWO_SIDED_RULE
+    elif route == "2x2":
+        out = tables_2x2.run(t, "fisher", s.alternative, alg, progress=progress)
+        normal = normal_tables.log_odds_ratio(t, s.level, s.alternative)
+        if s.alternative == "two-sided":
+            also.append(normal_tables.pearson_chi_square(t))
+        estimate = tables_2x2.odds_ratio(t, s.level, s.alternative)
+        effect = (f"odds ratio of '{design.col_labels[0]}' in '{design.row_labels[0]}' "
+                  f"against '{design.row_labels[1]}'")
+        rule = tables_2x2.TWO_SIDED_RULE
+    else:
+        out = tables.run(t, s.family, s.alternative, alg, draws, seed, progress)
+        if s.family == "trend":
+            normal = normal_tables.trend(t, alternative=s.alternative)
+            effect = "a rise of the column order with the row order"
+        else:
+            normal = RC_NORMAL[s.family](t)
+            if s.family == "fisher":
+                also.append(normal_tables.likelihood_ratio(t))
+            effect = "association of rows and columns"
+        rule = RULES[s.family]
+    summary = normal_tables.table_summary(t, design.row_labels, design.col_labels)
+    return Result(statement, "table", s.alternative, out, normal, estimate, effect=effect,
+                  two_sided_rule=rule, warnings=list(design.warnings), also_normal=also,
+                  extra={"table": summary})
