@@ -41,7 +41,7 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
     allowed = ("levels", "within", "ordered")
     default_family = "ranks" if within and len(levels) > 2 and not ordered else "means"
     s = settings_for(node, opts, defaults, family_set, default_family, form, allowed)
-    if ordered and within and s.family != "ranks":
+    if ordered and within and len(levels) > 2 and s.family != "ranks":
         raise BindError("an ordered comparison within blocks uses Page's test",
                         opts["ordered"].span, hint="add: using ranks")
     if not ordered and len(levels) > 2 and s.alternative != "two-sided":
@@ -125,8 +125,10 @@ def _ordered_levels(opt, levels, g, subject, table):
         if errors:
             raise MultipleErrors(errors)
         return out
+    import pandas as pd
+
     column = table.frame[subject.group.text]
-    numeric = np.issubdtype(column.dtype, np.number)
+    numeric = pd.api.types.is_numeric_dtype(column)
     if not numeric and not _all_numbers(levels):
         raise BindError(f"'ordered' needs the order of the levels of '{subject.group.text}'",
                         opt.span, hint="write: ordered " + " < ".join(f'"{v}"' for v in levels))

@@ -29,7 +29,9 @@ def plan(design):
     if design.kind == "blocked":
         test = _blocked_test(design)
         cands = lambda draws: blocks_engine.candidates(test, v, g, design.blocks, draws,
-                                                       n_groups=len(design.labels))
+                                                       n_groups=len(design.labels),
+                                                       block_names=design.block_labels,
+                                                       group_names=design.labels)
         return make_plan("blocked", test, s, cands)
     if design.kind == "ordered":
         fam = ordered.FAMILIES[s.family]
@@ -50,7 +52,8 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     if design.kind == "blocked":
         test = _blocked_test(design)
         out = blocks_engine.run(test, v, g, design.blocks, s.alternative, alg, draws, seed,
-                                progress, n_groups=len(design.labels))
+                                progress, n_groups=len(design.labels),
+                                block_names=design.block_labels, group_names=design.labels)
         normal = _blocked_normal(test, design)
         if test.startswith("stratified") or test == "page":
             rule = TWO_SIDED_LINEAR
