@@ -18,6 +18,7 @@ from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .pvalues import clip, monte_carlo_p
 from .sampling import NO_PROGRESS, Progress, blocks, fresh_seed
+from .tables_join import Turn
 from .tables_network import count_tables, dense_size, forward, make_layout
 from .tables_stats import Prepared, check_choice, prepare
 
@@ -132,21 +133,31 @@ def _single(statistic, warnings) -> EngineOutcome:
 def _exact(t, prep: Prepared, progress, warnings) -> EngineOutcome:
     layout = make_layout(t.sum(axis=1), t.sum(axis=0))
     arrangements = count_tables(layout)
-    support = probs = None
-    if prep.statistic == "trend":
-        res = forward(layout, prep.cell, None, prep.quantum, progress=progress)
-        support, probs = res.support, res.probs
-        total = probs.sum()
-        p = probs[prep.extreme(support)].sum()
+    if prep.everything:
+        p = 1.0
     else:
-        res = forward(layout, prep.cell, prep.region, prep.quantum, progress=progress)
-        total, p = res.extreme + res.ordinary, res.extreme
-    if abs(total - 1.0) > 1e-9:
-        raise ArithmeticError(f"network lost probability mass (total {total!r}); no exact p")
+        turn = Turn(layout, prep.cell, prep.region, prep.quantum)
+        res = forward(layout, prep.cell, prep.region, prep.quantum, progress=progress, turn=turn)
+        if abs(res.extreme + res.ordinary - 1.0) > 1e-9 or turn.list_error > 1e-9:
+            raise ArithmeticError("the network lost probability mass; no exact p-value")
+        p = res.extreme
     return EngineOutcome(prep.name, float(prep.reported(prep.observed)), clip(p), "exact",
-                         NETWORK_WORDS, arrangements=arrangements,
-                         null_support=None if support is None else prep.reported(support),
-                         null_probs=probs, warnings=tuple(warnings))
+                         NETWORK_WORDS, arrangements=arrangements, warnings=tuple(warnings))
+
+
+def null_distribution(table, statistic: str = "trend", row_scores=None, col_scores=None):
+    """The whole exact null distribution of a statistic: (values, probabilities), sorted.
+
+    No pruning, so it costs more than `run`; meant for pictures and checks on small tables.
+    """
+    t, u, v, _ = _shape(table, row_scores, col_scores)
+    if min(t.shape) < 2:
+        raise ValueError("a table with one row or one column has a single arrangement")
+    prep = prepare(t, statistic, "two-sided", u, v, stages=t.size)
+    res = forward(make_layout(t.sum(axis=1), t.sum(axis=0)), prep.cell, None, prep.quantum)
+    values = prep.reported(res.support)
+    order = np.argsort(values, kind="stable")
+    return values[order], res.probs[order]
 
 
 def _sampled(t, prep: Prepared, draws, seed, progress, warnings) -> EngineOutcome:

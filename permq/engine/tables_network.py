@@ -27,6 +27,13 @@ from scipy.special import gammaln
 
 from .sampling import NO_PROGRESS, Progress
 
+# Most (state, partial sum) pairs one step may create; beyond it the exact network gives way.
+MAX_ENTRIES = 40_000_000
+
+
+class NetworkTooLarge(MemoryError):
+    """The exact network would need more memory than it is allowed."""
+
 
 @dataclass(frozen=True)
 class Layout:
@@ -136,21 +143,31 @@ class Pass:
     probs: np.ndarray = None
 
 
-def _expand(layout, stage, codes, vals, mass, cell, lf):
-    """All moves out of the given pairs: new codes, partial sums and masses."""
+def moves(layout, stage, codes, lf):
+    """Every move out of the given states: (index of the source, x, next code, log weight)."""
     r = len(layout.rows)
-    i, j = stage % r, stage // r
+    i = stage % r
     lo, hi, digit, below, left = _move_range(layout, stage, codes)
-    cnt = hi - lo + 1
+    cnt = np.maximum(hi - lo + 1, 0)
+    if int(cnt.sum()) > MAX_ENTRIES:
+        raise NetworkTooLarge(f"the network would carry {int(cnt.sum()):,} pairs at one step")
     rep = np.repeat(np.arange(codes.size), cnt)
     x = lo[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(cnt) - cnt, cnt))
     d, b, k = digit[rep], below[rep], left[rep]
     logw = (lf[d] - lf[x] - lf[d - x] + lf[b] - lf[k - x] - lf[b - k + x]
             - lf[d + b] + lf[k] + lf[d + b - k])
-    return codes[rep] - x * layout.radix[i], vals[rep] + cell[i, j, x], mass[rep] * np.exp(logw)
+    return rep, x, codes[rep] - x * layout.radix[i], logw
 
 
-def _merge(codes, vals, mass, quantum):
+def _expand(layout, stage, codes, vals, mass, cell, lf):
+    """All moves out of the given pairs: new codes, partial sums and masses."""
+    r = len(layout.rows)
+    i, j = stage % r, stage // r
+    rep, x, nxt, logw = moves(layout, stage, codes, lf)
+    return nxt, vals[rep] + cell[i, j, x], mass[rep] * np.exp(logw)
+
+
+def merge(codes, vals, mass, quantum):
     """Merge pairs with the same state and the same partial sum (on a grid of `quantum`)."""
     if codes.size == 0:
         return codes, vals, mass
@@ -166,16 +183,20 @@ def _merge(codes, vals, mass, quantum):
     return codes[start], vals, mass
 
 
+def log_factorials(layout: Layout) -> np.ndarray:
+    return gammaln(np.arange(int(sum(layout.rows)) + 2, dtype=float) + 1.0)
+
+
 def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
-            progress: Progress = NO_PROGRESS) -> Pass:
+            progress: Progress = NO_PROGRESS, turn=None) -> Pass:
     """Sum the probability of tables whose S lies in the region.
 
     `region` is (lo, hi): S is extreme when S <= lo or S >= hi; None asks for the whole null
     distribution of S instead (no pruning). `quantum` is the merging grid for real-valued
-    sums (None: S is an integer, merged exactly).
+    sums (None: S is an integer, merged exactly). `turn(stage, codes, vals, mass)`, called at
+    column boundaries, may settle all remaining pairs at once and return (extreme, ordinary).
     """
-    n = int(sum(layout.rows))
-    lf = gammaln(np.arange(n + 2, dtype=float) + 1.0)
+    lf = log_factorials(layout)
     dtype = np.int64 if quantum is None else float
     codes = np.array([layout.start_code()], np.int64)
     vals = np.zeros(1, dtype)
@@ -188,10 +209,16 @@ def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
         if region is not None:
             codes, vals, mass = _settle(out, stage, codes, vals, mass, region, bounds)
         out.entries += int(codes.size)
-        if stage == layout.stages:
+        if stage == layout.stages or codes.size == 0 and region is not None:
             break
+        if turn is not None and stage % len(layout.rows) == 0 and stage > 0:
+            settled = turn(stage, codes, vals, mass)
+            if settled is not None:
+                out.extreme += settled[0]
+                out.ordinary += settled[1]
+                break
         codes, vals, mass = _expand(layout, stage, codes, vals, mass, cell, lf)
-        codes, vals, mass = _merge(codes, vals, mass, quantum)
+        codes, vals, mass = merge(codes, vals, mass, quantum)
     if region is None:
         out.support, out.probs = vals.astype(float), mass
     return out
