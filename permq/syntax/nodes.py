@@ -48,9 +48,19 @@ Operand = Union[ColumnOperand, ValueOperand, ListOperand]
 
 
 @dataclass(frozen=True)
+class Responses:
+    """Several responses: a list of columns, or every numeric column except some."""
+
+    span: Span
+    names: tuple = ()            # listed columns
+    every_numeric: bool = False
+    excluded: tuple = ()         # with every_numeric
+
+
+@dataclass(frozen=True)
 class Grouped:
     span: Span
-    response: Name
+    response: object             # Name, or Responses for several responses
     group: Name
 
 

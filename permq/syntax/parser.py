@@ -356,6 +356,12 @@ class _ToNodes(Transformer):
     def grouped(self, meta, ch):
         return n.Grouped(_span(meta), ch[0], ch[1])
 
+    def response_list(self, meta, ch):
+        return n.Responses(_span(meta), tuple(ch))
+
+    def every_numeric(self, meta, ch):
+        return n.Responses(_span(meta), (), True, tuple(ch))
+
     def versus(self, meta, ch):
         return n.Versus(_span(meta), tuple(ch))
 
@@ -447,3 +453,19 @@ class _ToNodes(Transformer):
 
     def picture(self, meta, ch):
         return self._opt(meta, "picture", ch[0].value)
+
+    def adjust(self, meta, ch):
+        # (method, step) with step "step-down", "single-step" or None
+        return self._opt(meta, "adjust", (ch[0].value, ch[1].value if len(ch) > 1 else None))
+
+    def pairwise(self, meta, ch):
+        return self._opt(meta, "pairwise")
+
+    def for_each(self, meta, ch):
+        return self._opt(meta, "for_each", ch[0])
+
+    def top(self, meta, ch):
+        return self._opt(meta, "top", ch[0].value)
+
+    def below(self, meta, ch):
+        return self._opt(meta, "below", ch[0].value)
