@@ -48,3 +48,40 @@ class Progress:
 
 
 NO_PROGRESS = Progress()
+
+
+def default_workers() -> int:
+    import os
+
+    return max(1, min(8, os.cpu_count() or 1))
+
+
+def map_blocks(seed: int, draws: int, work: Callable, progress: "Progress" = NO_PROGRESS,
+               what: str = "sampling", workers: Optional[int] = None) -> list:
+    """work(size, rng) on every block, on a pool of threads; results in block order.
+
+    Each block has its own stream, so the results do not depend on the number of workers.
+    The compiled loops release the interpreter lock, so the threads share the cores.
+    """
+    from concurrent.futures import ThreadPoolExecutor
+
+    todo = list(blocks(seed, draws))
+    workers = workers or default_workers()
+    if workers == 1 or len(todo) == 1:
+        out = []
+        for i, size, rng in todo:
+            out.append(work(size, rng))
+            progress.step((i * BLOCK + size) / draws, what)
+        return out
+    results = [None] * len(todo)
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        futures = [pool.submit(work, size, rng) for _, size, rng in todo]
+        try:
+            for i, fut in enumerate(futures):
+                results[i] = fut.result()
+                progress.step(min(1.0, (i + 1) * BLOCK / draws), what)
+        except BaseException:
+            for fut in futures:
+                fut.cancel()
+            raise
+    return results

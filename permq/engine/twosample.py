@@ -19,7 +19,8 @@ from . import pvalues
 from .counting import EXACT_COUNT_LIMIT, convolve_counts, counts_by_size, layer_bytes
 from .enumeration import combinations_chunks
 from .jumps import interval_from_jumps
-from .sampling import NO_PROGRESS, Progress, blocks
+from .fastmc import random_u32, subset_sums
+from .sampling import NO_PROGRESS, Progress, map_blocks
 from .scores import Grid, integer_grid, median_scores, midranks, normal_scores
 
 MAX_DP_BYTES = 2.0e9
@@ -221,30 +222,27 @@ def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progr
     s_obs = a[:n1].sum()
     center = n1 * a.mean()
     scale = max(abs(s_obs - center), float(np.abs(a).max()))
-    x_sum = s_obs
-    b = 0
-    jumps = []
-    base = np.arange(N)
-    for i, size, rng in blocks(seed, draws):
-        idx = rng.permuted(np.broadcast_to(base, (size, N)), axis=1)[:, :n1]
-        vals = a[idx]
-        s = vals.sum(axis=1)
-        b += pvalues.exceedances(s, s_obs, alternative, center=center, scale=scale)
-        if fam.key == "means":
-            in2 = idx >= n1
-            u = in2.sum(axis=1)
-            g2_in = np.where(in2, vals, 0.0).sum(axis=1)
-            moved = u > 0
-            jumps.append(((x_sum - (s - g2_in) - g2_in)[moved] / u[moved], int((~moved).sum())))
-        progress.step((i * 8192 + size) / draws, "sampling")
+    means = fam.key == "means"
+
+    def work(size, rng):
+        s, u, g2_in = subset_sums(a, n1, random_u32(rng, size, n1))
+        b = pvalues.exceedances(s, s_obs, alternative, center=center, scale=scale)
+        if not means:
+            return b, None, 0
+        moved = u > 0   # jump of each arrangement: (group-1 sum moved out - group-2 sum in) / u
+        jumps = (s_obs - (s - g2_in) - g2_in)[moved] / u[moved]
+        return b, jumps, int((~moved).sum())
+
+    parts = map_blocks(seed, draws, work, progress)
+    b = sum(p[0] for p in parts)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "monte-carlo",
                         "Monte Carlo sampling of arrangements", arrangements=float(comb(N, n1)),
                         draws=draws, p_interval=p_int, seed=seed)
     interval = None
-    if fam.key == "means":
-        vals = np.concatenate([j[0] for j in jumps])
-        identity = 1.0 + sum(j[1] for j in jumps)   # the observed arrangement counts once more
+    if means:
+        vals = np.concatenate([p[1] for p in parts])
+        identity = 1.0 + sum(p[2] for p in parts)   # the observed arrangement counts once more
         interval = interval_from_jumps(vals, np.ones(vals.size), identity, float(draws + 1),
                                        level, alternative)
     return out, interval
