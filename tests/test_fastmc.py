@@ -47,3 +47,23 @@ def _run_reference():
 
 
 _reference = _run_reference()
+
+
+def test_full_shuffle_paths_agree():
+    rng = np.random.default_rng(2)
+    moving, fixed = rng.normal(size=31), rng.normal(size=31)
+    r = fastmc.random_u32(np.random.default_rng(8), 400, 30)
+    np.testing.assert_allclose(fastmc.shuffled_dots(moving, fixed, r, compiled=True),
+                               fastmc.shuffled_dots(moving, fixed, r, compiled=False), rtol=1e-12)
+
+
+def test_full_shuffles_are_uniform():
+    # 4 items: all 24 orders equally likely; moving = powers of 10 make each order's dot unique
+    moving = np.array([1.0, 10.0, 100.0, 1000.0])
+    fixed = np.array([1.0, 2.0, 3.0, 4.0]) * np.array([1, 7, 49, 343])
+    r = fastmc.random_u32(np.random.default_rng(4), 48_000, 3)
+    t = fastmc.shuffled_dots(moving, fixed, r)
+    _, counts = np.unique(np.round(t, 6), return_counts=True)
+    assert len(counts) == 24
+    chi2 = ((counts - 2000) ** 2 / 2000).sum()
+    assert chi2 < 49.7   # 99.9% point of chi-square on 23 df (common practice)

@@ -86,3 +86,50 @@ def subset_sums(a, n1: int, r: np.ndarray, compiled: bool = True):
         _subset_sums_compiled(a, n1, np.ascontiguousarray(r), s, u, g)
         return s, u, g
     return _subset_sums_numpy(a, n1, r)
+
+
+# ---------------------------------------------------------------- full shuffles (association)
+
+def _shuffled_dots_numpy(moving, fixed, r):
+    size = r.shape[0]
+    n = moving.shape[0]
+    work = np.repeat(moving[:, None], size, axis=1)          # (n, size)
+    cols = np.arange(size)
+    rt = np.ascontiguousarray(r.T).astype(np.int64)
+    for i in range(n - 1):
+        j = i + ((rt[i] * (n - i)) >> 32)
+        keep = work[i].copy()
+        work[i] = work[j, cols]
+        work[j, cols] = keep
+    return fixed @ work
+
+
+if HAVE_NUMBA:
+    @numba.njit(cache=True, nogil=True)
+    def _shuffled_dots_compiled(moving, fixed, r, out):  # pragma: no cover - compiled
+        size = r.shape[0]
+        n = moving.shape[0]
+        work = np.empty(n)
+        for row in range(size):
+            work[:] = moving
+            for i in range(n - 1):
+                j = i + ((np.int64(r[row, i]) * (n - i)) >> 32)
+                t = work[i]
+                work[i] = work[j]
+                work[j] = t
+            s = 0.0
+            for i in range(n):
+                s += fixed[i] * work[i]
+            out[row] = s
+
+
+def shuffled_dots(moving, fixed, r: np.ndarray, compiled: bool = True) -> np.ndarray:
+    """sum_i fixed_i * moving[pi(i)] for the full Fisher-Yates shuffle pi of each row of r
+    (r has n - 1 random integers a row)."""
+    moving = np.ascontiguousarray(moving, dtype=np.float64)
+    fixed = np.ascontiguousarray(fixed, dtype=np.float64)
+    if compiled and HAVE_NUMBA:
+        out = np.empty(r.shape[0])
+        _shuffled_dots_compiled(moving, fixed, np.ascontiguousarray(r), out)
+        return out
+    return _shuffled_dots_numpy(moving, fixed, r)
