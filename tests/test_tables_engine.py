@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 from scipy import stats
 from scipy.stats.contingency import odds_ratio as scipy_odds_ratio
-from statsmodels.stats.contingency_tables import Table2x2, mcnemar as sm_mcnemar
+from statsmodels.stats.contingency_tables import Table, Table2x2, mcnemar as sm_mcnemar
 from statsmodels.stats.proportion import proportion_confint, proportions_ztest
 
 from permq.engine import tables as T
@@ -423,6 +423,21 @@ def test_trend_m2_is_n_minus_1_r_squared():
     up = N.trend(table, alternative="higher")
     assert up.statistic == pytest.approx(np.sqrt(got.statistic) * np.sign(r))
     assert up.p_value == pytest.approx(stats.norm.sf(up.statistic))
+
+
+def test_trend_against_statsmodels_ordinal_association():
+    # statsmodels' linear-by-linear test uses the permutation mean and variance, so its null
+    # mean and sd must match the moments of our exact null distribution. SMALL[1] (2 x 4) is
+    # the Cochran-Armitage case, checked against brute force above.
+    for table in (np.array([[3, 2, 1, 4], [2, 3, 2, 1], [1, 2, 5, 4]]), np.array(SMALL[1])):
+        u, v = np.arange(1.0, table.shape[0] + 1), np.arange(1.0, table.shape[1] + 1)
+        ref = Table(table, shift_zeros=False).test_ordinal_association(row_scores=u, col_scores=v)
+        z = N.trend(table, alternative="higher")
+        assert (z.statistic, N.trend(table).p_value) == pytest.approx((ref.zscore, ref.pvalue))
+        values, probs = T.null_distribution(table, "trend")
+        assert probs @ values == pytest.approx(ref.null_mean, rel=1e-12)
+        assert np.sqrt(probs @ (values - ref.null_mean) ** 2) == pytest.approx(ref.null_sd, rel=1e-10)
+        assert T.run(table, "trend").statistic == pytest.approx(ref.statistic)
 
 
 def test_alcohol_and_malformation():

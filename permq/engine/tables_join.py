@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .tables_network import (MAX_ENTRIES, Layout, NetworkTooLarge, _move_range, log_factorials,
+from .tables_network import (MAX_ENTRIES, Layout, _move_range, log_factorials,
                              merge, moves)
 
 # Turn round when the lists would hold at most this many sums per pair carried (or this many).
@@ -42,11 +42,11 @@ def completion_counts(layout: Layout) -> np.ndarray:
     return out
 
 
-def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf):
+def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf, budget=MAX_ENTRIES):
     """Distribution of the rest of S from each of `codes` at `stage` (a column boundary).
 
     Returns (code, rest, probability) sorted by code, then rest; each code's probabilities
-    sum to 1.
+    sum to 1. Returns None when a step would hold more than `budget` sums.
     """
     r = len(layout.rows)
     reach = [np.unique(codes)]
@@ -60,8 +60,8 @@ def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf):
         rep, x, nxt, logw = moves(layout, s, src, lf)
         start = np.searchsorted(lc, nxt, "left")
         length = np.searchsorted(lc, nxt, "right") - start
-        if int(length.sum()) > MAX_ENTRIES:
-            raise NetworkTooLarge(f"the rest of the network would list {int(length.sum()):,} sums")
+        if int(length.sum()) > budget:
+            return None
         e = np.repeat(np.arange(rep.size), length)
         idx = start[e] + (np.arange(e.size) - np.repeat(np.cumsum(length) - length, length))
         lc, lv, lp = merge(src[rep[e]], cell[i, j, x[e]] + lv[idx], np.exp(logw[e]) * lp[idx],
@@ -131,9 +131,11 @@ class Turn:
         j = stage // len(self.layout.rows)
         if j >= len(self.layout.cols) - 1:
             return None
-        size = float(self.counts[j, np.unique(codes)].sum())
-        if size > max(TURN_RATIO * codes.size, TURN_FLOOR):
+        budget = min(max(TURN_RATIO * codes.size, TURN_FLOOR), MAX_ENTRIES)
+        if float(self.counts[j, np.unique(codes)].sum()) > 1e3 * budget:
+            return None                       # hopeless: not worth an attempt
+        lists = future_lists(self.layout, self.cell, codes, stage, self.quantum, self.lf, budget)
+        if lists is None:
             return None
-        lists = future_lists(self.layout, self.cell, codes, stage, self.quantum, self.lf)
         extreme, ordinary, self.list_error = join(codes, vals, mass, lists, self.region)
         return extreme, ordinary

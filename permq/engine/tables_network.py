@@ -172,7 +172,7 @@ def merge(codes, vals, mass, quantum):
     if codes.size == 0:
         return codes, vals, mass
     keys = vals if quantum is None else np.rint(vals / quantum).astype(np.int64)
-    order = np.lexsort((keys, codes))
+    order = _order(codes, keys)
     codes, keys, mass = codes[order], keys[order], mass[order]
     first = np.ones(codes.size, bool)
     first[1:] = (codes[1:] != codes[:-1]) | (keys[1:] != keys[:-1])
@@ -181,6 +181,15 @@ def merge(codes, vals, mass, quantum):
     keys = keys[start]
     vals = keys if quantum is None else keys * quantum
     return codes[start], vals, mass
+
+
+def _order(codes, keys):
+    """Order by (code, key): one integer sort key when the two fit in 62 bits."""
+    low = int(keys.min())
+    span = int(keys.max()) - low + 1
+    if span * (int(codes.max()) + 1) < 2 ** 62:
+        return np.argsort(codes * span + (keys - low), kind="stable")
+    return np.lexsort((keys, codes))
 
 
 def log_factorials(layout: Layout) -> np.ndarray:
