@@ -187,8 +187,13 @@ def sample_group_sums(scores, sizes, seed: int, draws: int,
     starts = np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64)
     done = 0
     for _, size, rng in sampling.blocks(seed, draws):
-        order = rng.permuted(np.broadcast_to(np.arange(a.shape[0]), (size, a.shape[0])), axis=1)
-        yield np.add.reduceat(a[order], starts, axis=1)
+        if a.shape[1] == 1:          # shuffling the scores is shuffling positions: same draws
+            shuffled = rng.permuted(np.tile(a[:, 0], (size, 1)), axis=1)
+            yield np.add.reduceat(shuffled, starts, axis=1)[:, :, None]
+        else:
+            order = rng.permuted(np.tile(np.arange(a.shape[0]), (size, 1)), axis=1)
+            yield np.stack([np.add.reduceat(a[:, j][order], starts, axis=1)
+                            for j in range(a.shape[1])], axis=2)
         done += size
         progress.step(done / draws, "sampling assignments")
 
@@ -225,7 +230,9 @@ def _radix(z: np.ndarray, sizes: np.ndarray) -> Optional[np.ndarray]:
     top = np.sort(z)[::-1]
     smax = np.array([int(top[:n].sum()) for n in sizes], dtype=np.int64)
     radix = (sizes + 1) * (smax + 1)
-    if math.prod(int(r) for r in radix) >= 2 ** 62:
+    lcm = math.lcm(*(int(n) for n in sizes))
+    q_max = sum(int(m) ** 2 * (lcm // int(n)) for m, n in zip(smax, sizes))
+    if math.prod(int(r) for r in radix) >= 2 ** 62 or q_max >= 2 ** 62:
         return None
     return smax
 
@@ -420,10 +427,13 @@ class QuadraticFamily:
             seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
         x, g, sizes = design(values, groups)
         notes = _alternative_notes(self.statistic_name, alternative)
-        a = self.score(x) - np.mean(self.score(x))
+        if self.key == "medians":
+            notes.append("values equal to the pooled median are counted as not above it")
+        raw = self.score(x)
+        a = raw - np.mean(raw)
         sst = float(np.sum(a * a))
         N, k, arr = len(x), len(sizes), multinomial(sizes)
-        if sst <= 1e-12 * max(1.0, float(np.sum(self.score(x) ** 2))):
+        if sst <= 1e-12 * max(1.0, float(np.sum(raw ** 2))):
             return _all_equal(self, arr, notes)
         ssb_obs = float(np.sum(np.bincount(g, weights=a, minlength=k) ** 2 / sizes))
         if N == k:
@@ -438,7 +448,7 @@ class QuadraticFamily:
         stat = float(self.statistic_of(ssb_obs, sst, N, k))
         return EngineOutcome(statistic_name=self.statistic_name, statistic=stat,
                              arrangements=arr if parts["method"] == "exact" else None,
-                             warnings=tuple(notes + parts.pop("notes", [])), **parts)
+                             warnings=tuple(notes), **parts)
 
     # -- the algorithms; each returns the EngineOutcome fields it decides
 
@@ -508,9 +518,7 @@ class QuadraticFamily:
         p = sum(w for q, w in zip(support, ways) if q >= q_obs) / total
         law = self._law(np.array(support, dtype=float) / lcm, np.array(ways, dtype=float),
                         above, sizes)
-        notes = ["values equal to the pooled median are counted as not above it"]
-        return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words,
-                    notes=notes, **law)
+        return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words, **law)
 
 
 def _alternative_notes(name: str, alternative: str) -> list:
