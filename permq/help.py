@@ -10,12 +10,30 @@ TOPICS = {
   compare [4.1, 5.3, 4.8] vs [6.0, 5.9, 7.2]  inline samples
 options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact,
          sampled N, seed N, in TABLE""",
+    "groups": """three or more groups, ordered groups, blocks (try them on the demo's trays and plots)
+  compare mass by recipe                              k-sample (means: F; ranks: Kruskal-Wallis)
+  compare mass by recipe ordered "B" < "A" < "C"      ordered: linear trend (means), Jonckheere-Terpstra (ranks)
+  compare yield by dose within block using ranks      complete blocks: Friedman; 'ordered': Page
+  compare mass by recipe levels "A", "B" within bench two levels, blocks of any size: stratified""",
+    "relate": """relate: association and slopes
+  relate mass to light                                Pearson correlation by permutation
+  relate mass to light using kendall                  Kendall's tau (spearman: Spearman's rho)
+  relate mass to light using slope                    slope with its exact interval
+  relate mass to light using slope adjusting for tray Freedman-Lane residual permutation""",
+    "count": """count: tables, paired outcomes, one proportion
+  count sprouted by dose in plots                     r x c exact test (fisher, chi-square, likelihood-ratio)
+  count sprouted by dose in plots ordered             trend (linear-by-linear)
+  count [[9, 1], [3, 7]]                              Fisher's exact test, conditional odds ratio
+  count first vs second paired                        McNemar's exact test
+  count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval""",
     "families": """test families (after 'using')
   means          difference in means (two samples) or mean difference (paired), by permutation
   ranks          Wilcoxon rank-sum / signed-rank with mid-ranks
   normal-scores  van der Waerden normal scores (two samples)
   medians        Mood's median test (two samples)
-  signs          the sign test (paired, one sample)""",
+  signs          the sign test (paired, one sample)
+  pearson, spearman, kendall, slope                   (relate)
+  fisher, chi-square, likelihood-ratio, trend         (count)""",
     "options": """options follow the statement, in any order
   using FAMILY                   statistic family (help families)
   alternative two-sided|higher|lower   'higher' means the effect named is positive
@@ -38,6 +56,8 @@ TOPICS["ranks"] = TOPICS["families"]
 TOPICS["means"] = TOPICS["families"]
 TOPICS["set"] = TOPICS["session"]
 TOPICS["load"] = TOPICS["session"]
+TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
+TOPICS["tables"] = TOPICS["count"]
 
 
 def help_text(topic) -> str:
