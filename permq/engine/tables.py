@@ -19,8 +19,8 @@ from ..result import EngineOutcome
 from .pvalues import clip, monte_carlo_p
 from .sampling import NO_PROGRESS, Progress, blocks, fresh_seed
 from .tables_join import Turn
-from .tables_network import count_tables, dense_size, forward, make_layout
-from .tables_stats import Prepared, check_choice, prepare
+from .tables_network import NetworkTooLarge, count_tables, dense_size, forward, make_layout
+from .tables_stats import NAMES, Prepared, check_choice, prepare
 
 NETWORK = "network"
 MONTE_CARLO = "monte-carlo"
@@ -85,9 +85,12 @@ def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS) -> 
     size, stages = dense_size(rows), t.size
     cells = size * (stages + 1)
     feasible = cells <= NETWORK_CELLS
-    arrangements = count_tables(make_layout(rows, cols)) if feasible else 0.0
-    ops = cells * (float(np.mean(np.minimum.outer(rows, cols))) + 1.0) * 6.0
+    ops, arrangements = float(cells), 0.0
     if feasible:
+        layout = make_layout(rows, cols)
+        arrangements = count_tables(layout)
+        states = float(sum(r.size for r in layout.reach))
+        ops += states * (float(np.mean(np.minimum.outer(rows, cols))) + 1.0) * 10.0
         ops += _network_ops(statistic, arrangements)
     note = "" if feasible else f"state space of {size:.3g} row-margin states is too large"
     out = [Candidate(NETWORK, NETWORK_WORDS, True, ops, cells * 24.0 + ops * 0.05,
@@ -117,6 +120,10 @@ def run(table, statistic: str = "fisher", alternative: str = "two-sided",
         return _single(statistic, warnings)
     prep = prepare(t, statistic, alternative, u, v, stages=t.size)
     if algorithm == NETWORK:
+        cells = dense_size(t.sum(axis=1)) * (t.size + 1)
+        if cells > NETWORK_CELLS:
+            raise NetworkTooLarge(f"the network would need {cells:.3g} state cells "
+                                  f"(limit {NETWORK_CELLS:.3g}); use Monte Carlo")
         return _exact(t, prep, progress, warnings)
     if algorithm == MONTE_CARLO:
         return _sampled(t, prep, draws or DEFAULT_DRAWS, seed, progress, warnings)
@@ -124,7 +131,6 @@ def run(table, statistic: str = "fisher", alternative: str = "two-sided",
 
 
 def _single(statistic, warnings) -> EngineOutcome:
-    from .tables_stats import NAMES
     value = 1.0 if statistic == "fisher" else 0.0
     return EngineOutcome(NAMES[statistic], value, 1.0, "exact", "single table with these margins",
                          arrangements=1.0, warnings=tuple(warnings) + (

@@ -14,8 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .tables_network import (MAX_ENTRIES, Layout, _move_range, log_factorials,
-                             merge, moves)
+from .tables_network import MAX_ENTRIES, Layout, log_factorials, merge, moves, stage_moves
 
 # Turn round when the lists would hold at most this many sums per pair carried (or this many).
 TURN_RATIO = 4.0
@@ -28,14 +27,10 @@ def completion_counts(layout: Layout) -> np.ndarray:
     out = np.zeros((c, layout.size))
     cur = np.zeros(layout.size)
     cur[0] = 1.0
-    codes = np.arange(layout.size)
     for stage in range(layout.stages - 1, -1, -1):
-        lo, hi, *_ = _move_range(layout, stage, codes)
-        step = layout.radix[stage % r]
+        _, _, nxt, starts = stage_moves(layout, stage)
         new = np.zeros(layout.size)
-        for x in range(int(max(hi.max(), 0)) + 1):
-            ok = np.nonzero((lo <= x) & (x <= hi))[0]
-            new[ok] += cur[ok - x * step]
+        new[layout.reach[stage]] = np.add.reduceat(cur[nxt], starts)
         cur = new
         if stage % r == 0:
             out[stage // r] = cur
@@ -51,7 +46,7 @@ def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf, budget=MA
     r = len(layout.rows)
     reach = [np.unique(codes)]
     for s in range(stage, layout.stages):
-        reach.append(np.unique(moves(layout, s, reach[-1], lf)[2]))
+        reach.append(np.unique(moves(layout, s, reach[-1])[2]))
     dtype = np.int64 if quantum is None else float
     lc, lv, lp = np.zeros(1, np.int64), np.zeros(1, dtype), np.ones(1)
     for s in range(layout.stages - 1, stage - 1, -1):

@@ -20,7 +20,7 @@ if none is, the mass is set aside; only undecided pairs go on.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from scipy.special import gammaln
@@ -46,6 +46,7 @@ class Layout:
     below: np.ndarray      # (size, r): sum of digits k > i
     total: np.ndarray      # (size,): sum of digits
     after: tuple           # after[j] = sum of C_k for k > j
+    reach: tuple = ()      # reach[s]: sorted codes of the states that occur before stage s
 
     @property
     def size(self) -> int:
@@ -74,7 +75,11 @@ def make_layout(rows, cols) -> Layout:
     csum = np.cumsum(digits[:, ::-1], axis=1)[:, ::-1]
     below = np.concatenate([csum[:, 1:], np.zeros((size, 1), np.int32)], axis=1).astype(np.int32)
     after = tuple(int(sum(cols[j + 1:])) for j in range(len(cols)))
-    return Layout(rows, cols, radix, digits, below, csum[:, 0].astype(np.int32), after)
+    layout = Layout(rows, cols, radix, digits, below, csum[:, 0].astype(np.int32), after)
+    reach = [np.array([layout.start_code()], np.int64)]
+    for stage in range(layout.stages):
+        reach.append(np.unique(moves(layout, stage, reach[-1])[2]))
+    return replace(layout, reach=tuple(reach))
 
 
 def _move_range(layout: Layout, stage: int, codes):
@@ -91,20 +96,21 @@ def _move_range(layout: Layout, stage: int, codes):
     return lo, hi, digit, below, left
 
 
+def stage_moves(layout: Layout, stage: int):
+    """Moves at `stage` out of every state that occurs there: (source index, x, next code,
+    start of each source's run of moves); the moves of one source are consecutive."""
+    rep, x, nxt, _ = moves(layout, stage, layout.reach[stage])
+    starts = np.flatnonzero(np.r_[True, rep[1:] != rep[:-1]])
+    return rep, x, nxt, starts
+
+
 def count_tables(layout: Layout) -> float:
     """Number of tables with these margins (one path through the network each)."""
     counts = np.zeros(layout.size)
     counts[layout.start_code()] = 1.0
-    codes = np.arange(layout.size)
-    r = len(layout.rows)
     for stage in range(layout.stages):
-        lo, hi, *_ = _move_range(layout, stage, codes)
-        step = layout.radix[stage % r]
-        new = np.zeros(layout.size)
-        for x in range(int(max(hi.max(), 0)) + 1):
-            ok = np.nonzero((lo <= x) & (x <= hi) & (counts > 0))[0]
-            new[ok - x * step] += counts[ok]          # distinct targets for one x
-        counts = new
+        rep, _, nxt, _ = stage_moves(layout, stage)
+        counts = np.bincount(nxt, weights=counts[layout.reach[stage]][rep], minlength=layout.size)
     return float(counts[0])
 
 
@@ -118,17 +124,13 @@ def path_bounds(layout: Layout, cell: np.ndarray):
     hi_b = np.full((stages + 1, layout.size), -np.inf)
     lo_b = np.full((stages + 1, layout.size), np.inf)
     hi_b[stages, 0] = lo_b[stages, 0] = 0.0
-    codes = np.arange(layout.size)
     for stage in range(stages - 1, -1, -1):
         i, j = stage % r, stage // r
-        lo, hi, *_ = _move_range(layout, stage, codes)
-        step = layout.radix[i]
-        for x in range(int(max(hi.max(), 0)) + 1):
-            ok = np.nonzero((lo <= x) & (x <= hi))[0]
-            nxt = ok - x * step
-            g = cell[i, j, x]
-            hi_b[stage, ok] = np.maximum(hi_b[stage, ok], g + hi_b[stage + 1, nxt])
-            lo_b[stage, ok] = np.minimum(lo_b[stage, ok], g + lo_b[stage + 1, nxt])
+        _, x, nxt, starts = stage_moves(layout, stage)
+        g = cell[i, j, x]
+        codes = layout.reach[stage]
+        hi_b[stage, codes] = np.maximum.reduceat(g + hi_b[stage + 1, nxt], starts)
+        lo_b[stage, codes] = np.minimum.reduceat(g + lo_b[stage + 1, nxt], starts)
     return hi_b, lo_b
 
 
@@ -143,8 +145,11 @@ class Pass:
     probs: np.ndarray = None
 
 
-def moves(layout, stage, codes, lf):
-    """Every move out of the given states: (index of the source, x, next code, log weight)."""
+def moves(layout, stage, codes, lf=None):
+    """Every move out of the given states: (index of the source, x, next code, log weight).
+
+    The log weights (conditional probabilities) are computed only when `lf`, the table of
+    log factorials, is given."""
     r = len(layout.rows)
     i = stage % r
     lo, hi, digit, below, left = _move_range(layout, stage, codes)
@@ -153,10 +158,13 @@ def moves(layout, stage, codes, lf):
         raise NetworkTooLarge(f"the network would carry {int(cnt.sum()):,} pairs at one step")
     rep = np.repeat(np.arange(codes.size), cnt)
     x = lo[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(cnt) - cnt, cnt))
+    nxt = codes[rep] - x * layout.radix[i]
+    if lf is None:
+        return rep, x, nxt, None
     d, b, k = digit[rep], below[rep], left[rep]
     logw = (lf[d] - lf[x] - lf[d - x] + lf[b] - lf[k - x] - lf[b - k + x]
             - lf[d + b] + lf[k] + lf[d + b - k])
-    return rep, x, codes[rep] - x * layout.radix[i], logw
+    return rep, x, nxt, logw
 
 
 def _expand(layout, stage, codes, vals, mass, cell, lf):
