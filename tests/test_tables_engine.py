@@ -38,6 +38,7 @@ SMALL = [
     [[5, 0, 0], [0, 5, 0], [0, 0, 5]],
     [[2, 2, 2], [2, 2, 2]],                     # independence exactly: p = 1
     [[4, 1], [1, 4]],
+    [[12, 1, 0, 0], [0, 2, 10, 15]],            # p near 1e-10: relative accuracy of small p
 ]
 
 
