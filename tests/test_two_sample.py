@@ -114,6 +114,18 @@ def test_the_language_gives_the_brute_force_p():
             assert_exact(r.outcome.p_value, brute.two_sample_p(family, x, y, alternative))
 
 
+def test_two_sided_rule_is_distance_from_the_null_mean_not_a_doubled_tail():
+    """design.md: two-sided p = P(|T - E0 T| >= |t - E0 T|). With unequal sizes and ties the
+    null is not symmetric and doubling the smaller one-sided p gives another number."""
+    x, y = TIED[0]
+    two = engine_p("means", x, y, "two-sided", "dp-integer").p_value
+    higher = engine_p("means", x, y, "higher", "dp-integer").p_value
+    lower = engine_p("means", x, y, "lower", "dp-integer").p_value
+    assert_exact(two, brute.two_sample_p("means", x, y, "two-sided"))
+    assert_exact(two, 198 / 792)                    # brute force: 198 of the 792 splits
+    assert two != pytest.approx(min(1.0, 2 * min(higher, lower)))
+
+
 # ---------------------------------------------------------------- Monte Carlo
 
 def test_monte_carlo_lands_in_its_99_percent_interval():
