@@ -1,0 +1,99 @@
+"""The reference set the simulated permutation tests use, as one matrix for many data sets.
+
+- linear statistics T = sum_i w_pi(i) a_i: a matrix W whose rows are the arranged weights, so
+  that the statistics of a block of data sets are one product W @ a (a: units x data sets);
+- sign flips T = sum_i s_i a_i: rows of signs;
+- quadratic statistics sum_g S_g^2 / n_g: a one-hot matrix H, one row per (arrangement,
+  group), so that the group sums of every arrangement are H @ a.
+
+`exact_reference` lists every distinct arrangement once (each stands for the same number of
+permutations, so the p-value is unchanged) when there are at most EXACT_LIMIT of them; else
+`sampled_reference` draws Monte Carlo arrangements, fresh for every block of data sets.
+"""
+from __future__ import annotations
+
+import itertools
+from dataclasses import dataclass
+from math import comb
+from typing import Optional
+
+import numpy as np
+
+from .problem import Problem
+
+EXACT_LIMIT = 20_000
+
+
+@dataclass(frozen=True)
+class Reference:
+    exact: bool
+    matrix: np.ndarray
+    count: int          # arrangements listed (exact) or drawn (Monte Carlo)
+
+
+def _base_codes(problem: Problem) -> tuple[np.ndarray, np.ndarray]:
+    """(code of each unit, value per code): what an arrangement moves around."""
+    if problem.form == "quadratic":
+        return problem.codes, np.arange(len(problem.sizes), dtype=float)
+    values, codes = np.unique(problem.weights, return_inverse=True)
+    return codes.astype(np.int64), values
+
+
+def reference_size(problem: Problem) -> int:
+    """The number of distinct arrangements (sign patterns) of the design."""
+    if problem.form == "signs":
+        return 2 ** problem.n
+    codes, _ = _base_codes(problem)
+    total, out = 0, 1
+    for c in np.bincount(codes):
+        total += int(c)
+        out *= comb(total, int(c))
+    return out
+
+
+def distinct_arrangements(codes: np.ndarray) -> np.ndarray:
+    """Every distinct arrangement of the multiset `codes`, one row each."""
+    codes = np.asarray(codes, dtype=np.int64)
+    n = len(codes)
+    values, counts = np.unique(codes, return_counts=True)
+    rows = np.full((1, n), -1, dtype=np.int64)
+    for v, c in zip(values[:-1], counts[:-1]):
+        free = np.nonzero(rows == -1)[1].reshape(len(rows), -1)
+        combos = np.array(list(itertools.combinations(range(free.shape[1]), int(c))),
+                          dtype=np.int64)
+        reps = np.repeat(rows, len(combos), axis=0)
+        where = free[:, combos].reshape(len(reps), int(c))
+        reps[np.arange(len(reps))[:, None], where] = v
+        rows = reps
+    rows[rows == -1] = values[-1]
+    return rows
+
+
+def _as_matrix(problem: Problem, arranged_codes: np.ndarray, values: np.ndarray) -> np.ndarray:
+    if problem.form == "quadratic":
+        k = len(problem.sizes)
+        onehot = arranged_codes[:, None, :] == np.arange(k)[None, :, None]
+        return onehot.reshape(-1, problem.n).astype(float)
+    return values[arranged_codes]
+
+
+def exact_reference(problem: Problem, limit: int = EXACT_LIMIT) -> Optional[Reference]:
+    size = reference_size(problem)
+    if size > limit:
+        return None
+    if problem.form == "signs":
+        bits = np.arange(problem.n, dtype=np.int64)
+        codes = np.arange(size, dtype=np.int64)
+        signs = ((codes[:, None] >> bits) & 1) * 2.0 - 1.0
+        return Reference(True, signs, size)
+    codes, values = _base_codes(problem)
+    arranged = distinct_arrangements(codes)
+    return Reference(True, _as_matrix(problem, arranged, values), len(arranged))
+
+
+def sampled_reference(problem: Problem, rng: np.random.Generator, draws: int) -> Reference:
+    if problem.form == "signs":
+        return Reference(False, rng.integers(0, 2, (draws, problem.n)) * 2.0 - 1.0, draws)
+    codes, values = _base_codes(problem)
+    perms = rng.permuted(np.tile(np.arange(problem.n), (draws, 1)), axis=1)
+    return Reference(False, _as_matrix(problem, codes[perms], values), draws)

@@ -1,0 +1,215 @@
+"""Both tests on many data sets at once: rows of Y are data sets, columns the design's units.
+
+- `scores(problem, Y)`: the family's scores of each data set (values, mid-ranks, normal
+  scores, above-the-median indicators, signed ranks, signs), row by row.
+- `normal_p(problem, Y, A)`: the family's normal-theory counterpart, the same formulas as
+  `permq.normal` (Welch t, t on the differences, normal approximations, one-way F,
+  chi-square approximations, linear-trend t, the t test of the slope), vectorised.
+- `permutation_p(problem, A, reference)`: the permutation p-value of each data set against
+  one reference set of arrangements (all of them, or Monte Carlo draws shared by a block of
+  data sets), with the p-value rules of `engine.pvalues`: the relative tolerance, the two-sided
+  rule |T - E0 T| >= |t - E0 T| for linear statistics, (b + 1) / (m + 1) for Monte Carlo.
+"""
+from __future__ import annotations
+
+import numpy as np
+from scipy import stats
+
+from ..engine.pvalues import RTOL
+from .arrangements import Reference
+from .problem import Problem
+
+CHUNK_WORK = 160_000     # multiply-adds a piece of a product (below BLAS's threading threshold)
+
+
+# ---------------------------------------------------------------- scores
+
+def _ranks(Y):
+    return stats.rankdata(Y, axis=1)
+
+
+def scores(problem: Problem, Y: np.ndarray) -> np.ndarray:
+    fam, kind = problem.family, problem.kind
+    if kind in ("paired", "one-sample"):
+        if fam == "means":
+            return Y
+        if fam == "ranks":   # zeros keep their place in the ranking (Pratt) and carry no sign
+            return np.sign(Y) * _ranks(np.abs(Y))
+        return np.sign(Y)
+    if fam in ("means", "slope", "pearson"):
+        return Y
+    r = _ranks(Y)
+    if fam in ("ranks", "spearman"):
+        return r
+    if fam == "normal-scores":
+        return stats.norm.ppf(r / (Y.shape[1] + 1))
+    if fam == "medians":
+        return (Y > np.median(Y, axis=1, keepdims=True)).astype(float)
+    raise KeyError(fam)
+
+
+# ---------------------------------------------------------------- normal theory
+
+def _p_t(t, df, alternative):
+    if alternative == "higher":
+        return stats.t.sf(t, df)
+    if alternative == "lower":
+        return stats.t.cdf(t, df)
+    return np.minimum(1.0, 2 * stats.t.sf(np.abs(t), df))
+
+
+def _p_z(z, alternative):
+    if alternative == "higher":
+        return stats.norm.sf(z)
+    if alternative == "lower":
+        return stats.norm.cdf(z)
+    return np.minimum(1.0, 2 * stats.norm.sf(np.abs(z)))
+
+
+def normal_p(problem: Problem, Y: np.ndarray, A: np.ndarray) -> np.ndarray:
+    with np.errstate(divide="ignore", invalid="ignore"):
+        kind = problem.kind
+        if kind == "two-sample":
+            return _two_sample_normal(problem, Y, A)
+        if kind in ("paired", "one-sample"):
+            return _one_sample_normal(problem, Y, A)
+        if kind == "k-sample":
+            return _k_sample_normal(problem, Y, A)
+        if kind == "ordered":
+            return _trend_normal(problem, Y)
+        return _slope_normal(problem, A)
+
+
+def _two_sample_normal(pb, Y, A):
+    g1 = pb.codes == 0
+    n1, n2 = int(g1.sum()), int((~g1).sum())
+    if pb.family == "means":
+        x, y = Y[:, g1], Y[:, ~g1]
+        v1, v2 = x.var(axis=1, ddof=1) / n1, y.var(axis=1, ddof=1) / n2
+        se = np.sqrt(v1 + v2)
+        df = (v1 + v2) ** 2 / (v1 ** 2 / (n1 - 1) + v2 ** 2 / (n2 - 1))
+        return _p_t((x.mean(axis=1) - y.mean(axis=1)) / se, df, pb.alternative)
+    N = n1 + n2
+    abar = A.mean(axis=1)
+    var = n1 * n2 / (N * (N - 1)) * ((A - abar[:, None]) ** 2).sum(axis=1)
+    z = (A[:, g1].sum(axis=1) - n1 * abar) / np.sqrt(var)
+    return _p_z(np.where(var > 0, z, 0.0), pb.alternative)
+
+
+def _one_sample_normal(pb, Y, A):
+    n = Y.shape[1]
+    if pb.family == "means":
+        t = Y.mean(axis=1) / (Y.std(axis=1, ddof=1) / np.sqrt(n))
+        return _p_t(t, n - 1, pb.alternative)
+    r = np.abs(A)
+    pos = (A > 0).sum(axis=1) if pb.family == "signs" else np.where(A > 0, r, 0.0).sum(axis=1)
+    if pb.family == "signs":
+        m = (A != 0).sum(axis=1)
+        z = (pos - m / 2) / np.sqrt(m / 4)
+    else:
+        z = (pos - r.sum(axis=1) / 2) / np.sqrt((r * r).sum(axis=1) / 4)
+    return _p_z(np.nan_to_num(z), pb.alternative)
+
+
+def _k_sample_normal(pb, Y, A):
+    sizes = pb.sizes
+    N, k = len(pb.codes), len(sizes)
+    a = A - A.mean(axis=1, keepdims=True)
+    onehot = (pb.codes[:, None] == np.arange(k)).astype(float)
+    ssb = ((a @ onehot) ** 2 / sizes).sum(axis=1)
+    sst = (a * a).sum(axis=1)
+    if pb.family == "means":
+        f = (ssb / (k - 1)) / ((sst - ssb) / (N - k))
+        return stats.f.sf(f, k - 1, N - k)
+    factor = N if pb.family == "medians" else N - 1
+    return stats.chi2.sf(factor * ssb / sst, k - 1)
+
+
+def _trend_normal(pb, Y):
+    sizes = pb.sizes
+    N, k = len(pb.codes), len(sizes)
+    w = pb.weights
+    sxx = float((w * w).sum())
+    b = (Y @ w) / sxx
+    onehot = (pb.codes[:, None] == np.arange(k)).astype(float)
+    means = (Y @ onehot) / sizes
+    ssw = ((Y - means[:, pb.codes]) ** 2).sum(axis=1)
+    df = N - k
+    if df < 1:
+        resid = Y - Y.mean(axis=1, keepdims=True) - b[:, None] * w
+        ssw, df = (resid ** 2).sum(axis=1), N - 2
+    return _p_t(b / np.sqrt(ssw / df / sxx), df, pb.alternative)
+
+
+def _slope_normal(pb, A):
+    n = A.shape[1]
+    w = pb.weights
+    a = A - A.mean(axis=1, keepdims=True)
+    r = (a @ w) / np.sqrt((a * a).sum(axis=1) * (w * w).sum())
+    r = np.clip(r, -1.0, 1.0)
+    t = r * np.sqrt((n - 2) / (1 - r * r))
+    return _p_t(t, n - 2, pb.alternative)
+
+
+# ---------------------------------------------------------------- permutation
+
+def observed_statistic(problem: Problem, A: np.ndarray) -> np.ndarray:
+    """The permutation statistic of each data set as it stands (internal units)."""
+    if problem.form == "signs":
+        return A.sum(axis=1)
+    if problem.form == "linear":
+        return A @ problem.weights
+    k = len(problem.sizes)
+    onehot = (problem.codes[:, None] == np.arange(k)).astype(float)
+    return ((A @ onehot) ** 2 / problem.sizes).sum(axis=1)
+
+
+def permutation_p(problem: Problem, A: np.ndarray, reference: Reference) -> np.ndarray:
+    if problem.form == "quadratic":
+        b = _quadratic_exceedances(problem, A, reference)
+    else:
+        b = _linear_exceedances(problem, A, reference)
+    if reference.exact:
+        return b / reference.count
+    return (b + 1) / (reference.count + 1)
+
+
+def _products(matrix: np.ndarray, a: np.ndarray) -> np.ndarray:
+    """matrix @ a.T, one arrangement a row, in pieces small enough that a multi-threaded BLAS
+    keeps each on one thread (on a busy machine, threads on tiny products stall each other;
+    the cores are shared out by the simulation's own threads instead)."""
+    aT = np.ascontiguousarray(a.T)
+    out = np.empty((matrix.shape[0], a.shape[0]))
+    rows = max(16, CHUNK_WORK // max(1, aT.size))
+    for start in range(0, matrix.shape[0], rows):
+        np.matmul(matrix[start:start + rows], aT, out=out[start:start + rows])
+    return out
+
+
+def _quadratic_exceedances(problem, A, reference):
+    t0 = observed_statistic(problem, A)
+    k = len(problem.sizes)
+    s = _products(reference.matrix, A).reshape(-1, k, A.shape[0])
+    s *= s
+    t = np.einsum("pgd,g->pd", s, 1.0 / problem.sizes)
+    tol = RTOL * np.maximum(np.abs(t0), (A * A).sum(axis=1))
+    return np.count_nonzero(t >= t0 - tol, axis=0)
+
+
+def _linear_exceedances(problem, A, reference):
+    """Exceedances of T - E0 T; the scores are centred first, which makes E0 T = 0 (every
+    arranged weight vector has the same sum, and sign flips have mean zero)."""
+    if problem.form == "linear":
+        a = A - A.mean(axis=1, keepdims=True)
+        w_max = np.abs(problem.weights).max()
+    else:
+        a, w_max = A, 1.0
+    t0 = observed_statistic(problem, a)
+    tol = RTOL * np.maximum(np.abs(t0), np.abs(A).sum(axis=1) * w_max)
+    t = _products(reference.matrix, a)
+    if problem.alternative == "higher":
+        return np.count_nonzero(t >= t0 - tol, axis=0)
+    if problem.alternative == "lower":
+        return np.count_nonzero(t <= t0 + tol, axis=0)
+    np.abs(t, out=t)
+    return np.count_nonzero(t >= np.abs(t0) - tol, axis=0)

@@ -1,0 +1,187 @@
+"""A bound design reduced to what the simulation needs: its layout, its test, its effect.
+
+`problem_for(design)` keeps the design as the user has it (group sizes, dose scores, the
+values of x) and the family's statistic, and reads off the observed effect in standard
+deviations, so that simulated data sets are drawn as
+
+    y = pattern + errors,   errors with variance 1 (on average) from one law of the panel,
+
+where `pattern` is zero under the null and the observed (or the requested) effect otherwise.
+Every test here is unchanged by a change of location and scale of y, so working in
+standard-deviation units loses nothing.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Optional
+
+import numpy as np
+
+from ..bind import designs
+from ..errors import PlanError
+
+
+@dataclass(frozen=True)
+class Problem:
+    kind: str                  # two-sample, paired, one-sample, k-sample, ordered, slope
+    family: str                # the design's family (means, ranks, ..., slope, pearson, spearman)
+    alternative: str
+    form: str                  # "linear", "signs" or "quadratic" permutation statistic
+    codes: np.ndarray          # group code of each unit (zeros without groups)
+    weights: Optional[np.ndarray]   # linear statistics: T = sum_i w_pi(i) a_i
+    x: Optional[np.ndarray]    # the predictor (slopes) or the dose score of each unit (ordered)
+    sd: float                  # the standard-deviation unit, in the data's units
+    sd_words: str
+    effect: float              # the observed effect, in the data's units
+    effect_words: str
+    observed_pattern: np.ndarray   # the observed effect per unit, in sd units
+    unit_pattern: np.ndarray       # a shift of 1 sd, per unit
+    design_words: str
+    per_sd: float              # the effect (in the data's units) that a shift of 1 sd stands for
+
+    @property
+    def n(self) -> int:
+        return len(self.codes)
+
+    @property
+    def sizes(self) -> np.ndarray:
+        return np.bincount(self.codes)
+
+
+def problem_for(design) -> Problem:
+    if isinstance(design, designs.TwoSampleDesign):
+        return _two_sample(design)
+    if isinstance(design, designs.OneSampleDesign):
+        return _one_sample(design)
+    if isinstance(design, designs.GroupsDesign):
+        return _groups(design)
+    if isinstance(design, designs.AssociationDesign):
+        return _slope(design)
+    raise PlanError(f"robustness is not available for {design.kind} analyses yet",
+                    hint="it covers two samples, paired data, one sample, k groups, "
+                         "ordered groups (means) and the simple slope or correlation")
+
+
+def pattern_for(problem: Problem, shift) -> tuple[np.ndarray, float, float]:
+    """(pattern per unit in sd units, shift in the data's units, shift in sd) for `shift`:
+    None (the observed effect), or (size, in_sd) as the statement wrote it."""
+    if shift is not None and shift[1]:
+        size = float(shift[0])
+        return size * problem.unit_pattern, size * problem.per_sd, size
+    if not np.isfinite(problem.per_sd) or problem.per_sd <= 0:
+        raise PlanError(f"the {problem.sd_words} is zero here, so a shift cannot be put in "
+                        "standard deviations", hint="give it in standard deviations: shift 1 sd")
+    if shift is None:
+        return problem.observed_pattern, problem.effect, problem.effect / problem.per_sd
+    size = float(shift[0])
+    return size / problem.per_sd * problem.unit_pattern, size, size / problem.per_sd
+
+
+def _two_sample(d) -> Problem:
+    x, y = d.x, d.y
+    n1, n2 = len(x), len(y)
+    if n1 < 2 or n2 < 2:
+        raise PlanError("robustness needs at least two values in each group")
+    fam = d.settings.family
+    ss = ((x - x.mean()) ** 2).sum() + ((y - y.mean()) ** 2).sum()
+    sd = float(np.sqrt(ss / (n1 + n2 - 2)))
+    if fam == "means":
+        effect, words = float(x.mean() - y.mean()), f"difference in means {d.effect}"
+    elif fam in ("ranks", "normal-scores"):
+        effect = float(np.median(np.subtract.outer(x, y)))
+        words = f"Hodges-Lehmann shift {d.effect}"
+    else:
+        effect, words = float(np.median(x) - np.median(y)), f"difference in medians {d.effect}"
+    codes = np.r_[np.zeros(n1, np.int64), np.ones(n2, np.int64)]
+    unit = (codes == 0).astype(float)
+    return Problem("two-sample", fam, d.settings.alternative, "linear", codes, unit, None,
+                   sd, "pooled within-group sd", effect, words,
+                   unit * effect / _safe(sd), unit,
+                   f"two samples of {n1} and {n2} ({d.labels[0]}, {d.labels[1]})", sd)
+
+
+def _one_sample(d) -> Problem:
+    v = d.d
+    if len(v) < 2:
+        raise PlanError("robustness needs at least two values")
+    fam = d.settings.family
+    sd = float(v.std(ddof=1))
+    if fam == "means":
+        effect, words = float(v.mean()), f"mean of {d.effect}"
+    elif fam == "ranks":
+        i, j = np.triu_indices(len(v))
+        effect = float(np.median((v[i] + v[j]) / 2))
+        words = f"Hodges-Lehmann pseudo-median of {d.effect}"
+    else:
+        effect, words = float(np.median(v)), f"median of {d.effect}"
+    n = len(v)
+    what = f"{n} pairs" if d.kind == "paired" else f"one sample of {n}"
+    ones = np.ones(n)
+    return Problem(d.kind, fam, d.settings.alternative, "signs", np.zeros(n, np.int64), None,
+                   None, sd, "sd of the differences" if d.kind == "paired" else "sd",
+                   effect, words, ones * effect / _safe(sd), ones, what, sd)
+
+
+def _groups(d) -> Problem:
+    fam = d.settings.family
+    if d.kind == "blocked":
+        raise PlanError("robustness is not available for blocked designs yet")
+    if d.kind == "ordered" and fam != "means":
+        raise PlanError("robustness is not available for the Jonckheere-Terpstra test yet",
+                        hint="it covers the ordered comparison of means (linear trend)")
+    v, g = d.values, d.groups
+    sizes = np.bincount(g)
+    k, N = len(sizes), len(v)
+    if N <= k:
+        raise PlanError("robustness needs a group with two or more values")
+    means = np.bincount(g, weights=v) / sizes
+    sd = float(np.sqrt(((v - means[g]) ** 2).sum() / (N - k)))
+    shape = " + ".join(str(s) for s in sizes)
+    if d.kind == "ordered":
+        s = d.scores[g]
+        sc = s - s.mean()
+        slope = float((sc * v).sum() / (sc * sc).sum())
+        unit = sc / np.ptp(d.scores)
+        return Problem("ordered", fam, d.settings.alternative, "linear", g.copy(), sc, s, sd,
+                       "pooled within-group sd", slope,
+                       "trend slope (per unit of dose score)", slope * sc / _safe(sd), unit,
+                       f"{k} ordered groups of {shape}", sd / float(np.ptp(d.scores)))
+    dev = (means - v.mean())[g]
+    unit = (np.arange(k) / (k - 1) - 0.5)[g]
+    return Problem("k-sample", fam, d.settings.alternative, "quadratic", g.copy(), None, None,
+                   sd, "pooled within-group sd", float(np.ptp(means)),
+                   "range of the group means", dev / _safe(sd), unit,
+                   f"{k} groups of {shape}", sd)
+
+
+def _slope(d) -> Problem:
+    fam = d.settings.family
+    if d.covariates is not None:
+        raise PlanError("robustness is not available for the slope adjusted for covariates yet")
+    if fam == "kendall":
+        raise PlanError("robustness is not available for Kendall's tau yet",
+                        hint="it covers using slope, pearson and spearman")
+    y, x = d.y, d.x
+    n = len(y)
+    if n < 4:
+        raise PlanError("robustness needs at least four pairs")
+    xc = x - x.mean()
+    b = float((xc * y).sum() / (xc * xc).sum())
+    resid = y - y.mean() - b * xc
+    sd = float(np.sqrt((resid ** 2).sum() / (n - 2)))
+    if fam == "spearman":
+        from scipy.stats import rankdata
+
+        rx = rankdata(x)
+        w = rx - rx.mean()
+    else:
+        w = xc
+    unit = xc / x.std(ddof=1)
+    return Problem("slope", fam, d.settings.alternative, "linear", np.zeros(n, np.int64), w,
+                   x.copy(), sd, "residual sd about the line", b,
+                   f"slope of {d.names[0]} on {d.names[1]}", b * xc / _safe(sd), unit,
+                   f"{n} pairs of {d.names[0]} and {d.names[1]}", sd / float(x.std(ddof=1)))
+
+
+def _safe(sd: float) -> float:
+    return sd if sd > 0 and np.isfinite(sd) else np.nan
