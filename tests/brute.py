@@ -42,17 +42,10 @@ def midranks(values) -> list:
 
 
 def normal_scores(values) -> list:
-    """van der Waerden scores Phi^-1(k / (N + 1)), k = 1..N by order, averaged within ties."""
-    vals = list(values)
-    n = len(vals)
+    """van der Waerden scores Phi^-1(r / (N + 1)) of the mid-ranks r (tied values share one)."""
+    n = len(values)
     phi_inv = NormalDist().inv_cdf
-    out = []
-    for v in vals:
-        less = sum(1 for w in vals if w < v)
-        equal = sum(1 for w in vals if w == v)
-        ks = range(less + 1, less + equal + 1)
-        out.append(sum(phi_inv(k / (n + 1)) for k in ks) / equal)
-    return out
+    return [phi_inv(float(r) / (n + 1)) for r in midranks(values)]
 
 
 def median_scores(values) -> list:
