@@ -81,8 +81,8 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
         ok = [c for c in fitting if c.seconds <= EXACT_CEILING_SECONDS]
         if not ok:
             best = exact[0] if exact else None
-            what = (f"the cheapest exact method ({best.description}) would take about "
-                    f"{_seconds(best.seconds)} and {_bytes(best.memory)}" if best else
+            what = (f"the cheapest exact method ({best.description}) would take "
+                    f"{_about(best.seconds)} and {_bytes(best.memory)}" if best else
                     "no exact method applies to these data")
             raise PlanError(f"'exact' refused: {what}; the limit is "
                             f"{_seconds(EXACT_CEILING_SECONDS)} and {_bytes(settings.memory_bytes)}",
@@ -92,9 +92,15 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
     if within:
         return plan(within[0], "the cheapest exact method within the budget")
     if exact:
-        return plan(mc, f"the cheapest exact method ({exact[0].description}) would take about "
-                        f"{_seconds(exact[0].seconds)}, past the budget of {_seconds(budget)}")
+        return plan(mc, f"the cheapest exact method ({exact[0].description}) would take "
+                        f"{_about(exact[0].seconds)}, past the budget of {_seconds(budget)}")
     return plan(mc, "no exact method applies to these data")
+
+
+def _about(s: float) -> str:
+    """An estimate in words: 'about 2 s', 'under 0.01 s', 'about 3 h' (never 'about about')."""
+    text = _seconds(s)
+    return text if text.startswith(("about", "under", "unbounded")) else f"about {text}"
 
 
 def _seconds(s: float) -> str:
