@@ -21,10 +21,14 @@ except ImportError:  # pragma: no cover - exercised where numba is absent
 
 
 def random_u32(rng: np.random.Generator, size: int, k: int) -> np.ndarray:
-    """(size, k) 32-bit random integers from the generator's raw 64-bit output."""
-    count = size * k
-    raw = rng.bit_generator.random_raw((count + 1) // 2)
-    return raw.view(np.uint32)[:count].reshape(size, k)
+    """(size, k) 32-bit random integers from the generator's raw 64-bit output.
+
+    Each row takes ceil(k / 2) raw values of its own, so the integers a draw gets do not
+    depend on how the draws are cut into batches.
+    """
+    per_row = (k + 1) // 2
+    raw = rng.bit_generator.random_raw(size * per_row)
+    return raw.view(np.uint32).reshape(size, 2 * per_row)[:, :k]
 
 
 def _subset_sums_numpy(a, n1, r):

@@ -22,7 +22,7 @@ from . import pvalues
 from .counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size, layer_bytes
 from .enumeration import sign_patterns_chunks
 from .jumps import interval_from_jumps
-from .sampling import BLOCK, NO_PROGRESS, Progress, blocks
+from .sampling import BLOCK, NO_PROGRESS, Progress, map_blocks
 from .scores import integer_grid, midranks
 
 MAX_DP_BYTES = 2.0e9
@@ -197,28 +197,33 @@ def _mean_interval_enumerate(d, level, alternative):
 
 
 def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed, progress):
-    n = len(r)
+    """One random sign for every difference in every draw (zeros included, so the mean's
+    interval can use the same draws); the test flips the non-zero ones."""
+    d = np.asarray(d, dtype=float)
+    nonzero = d != 0
     p_obs = r[pos].sum()
-    b = 0
-    jumps, identity = [], 1.0
-    for i, size, rng in blocks(seed, draws):
-        signs = rng.random((size, n)) < 0.5
-        s = signs.astype(float) @ r
-        b += _tail(s, p_obs, r.sum(), alternative)
-        if family == "means":
-            flips = rng.random((size, len(d))) < 0.5
-            k = flips.sum(axis=1)
-            sf = flips.astype(float) @ d
-            keep = k > 0
-            jumps.append(sf[keep] / k[keep])
-            identity += float((~keep).sum())
-        progress.step((i * BLOCK + size) / draws, "sampling")
+    means = family == "means"
+
+    def work(size, rng):
+        flips = rng.random((size, len(d))) < 0.5
+        s = flips[:, nonzero].astype(float) @ r
+        b = _tail(s, p_obs, r.sum(), alternative)
+        if not means:
+            return b, None, 0
+        k = flips.sum(axis=1)
+        sf = flips.astype(float) @ d
+        keep = k > 0
+        return b, sf[keep] / k[keep], int((~keep).sum())
+
+    parts = map_blocks(seed, draws, work, progress)
+    b = sum(p[0] for p in parts)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(name, t_obs, p, "monte-carlo", "Monte Carlo sampling of sign patterns",
-                        arrangements=2.0 ** n, draws=draws, p_interval=p_int, seed=seed)
+                        arrangements=2.0 ** len(r), draws=draws, p_interval=p_int, seed=seed)
     interval = None
-    if family == "means":
-        v = np.concatenate(jumps)
+    if means:
+        v = np.concatenate([p[1] for p in parts])
+        identity = 1.0 + sum(p[2] for p in parts)
         interval = interval_from_jumps(v, np.ones(v.size), identity, float(draws + 1), level,
                                        alternative)
     return out, interval

@@ -13,7 +13,8 @@ import numpy as np
 
 from ..errors import Cancelled
 
-BLOCK = 8192
+STREAM_UNIT = 8192   # draws per random stream: part of what a seed means; never changes
+BLOCK = STREAM_UNIT  # default batch size (how many draws are handled at once)
 
 
 def fresh_seed() -> int:
@@ -22,14 +23,26 @@ def fresh_seed() -> int:
 
 
 def blocks(seed: int, draws: int, block: int = BLOCK) -> Iterator[tuple[int, int, np.random.Generator]]:
-    """Yield (block index, draws in this block, generator) covering `draws` draws."""
+    """Yield (stream index, draws in this batch, generator) covering `draws` draws.
+
+    The random streams come in fixed units of STREAM_UNIT draws: unit i always uses
+    SeedSequence(seed, spawn_key=(i,)). `block` is only the batch size: a smaller batch splits a
+    unit into several batches that share its generator, in order, so an engine that takes the
+    same amount of randomness for each draw gets the same draws whatever the batch size.
+    """
     done = 0
-    i = 0
+    unit = 0
+    block = max(1, int(block))
     while done < draws:
-        size = min(block, draws - done)
-        yield i, size, np.random.Generator(np.random.PCG64(np.random.SeedSequence(seed, spawn_key=(i,))))
-        done += size
-        i += 1
+        in_unit = min(STREAM_UNIT, draws - done)
+        rng = np.random.Generator(np.random.PCG64(np.random.SeedSequence(seed, spawn_key=(unit,))))
+        start = 0
+        while start < in_unit:
+            size = min(block, in_unit - start)
+            yield unit, size, rng
+            start += size
+        done += in_unit
+        unit += 1
 
 
 class Progress:
@@ -58,28 +71,40 @@ def default_workers() -> int:
 
 def map_blocks(seed: int, draws: int, work: Callable, progress: "Progress" = NO_PROGRESS,
                what: str = "sampling", workers: Optional[int] = None) -> list:
-    """work(size, rng) on every block, on a pool of threads; results in block order.
+    """work(size, rng) on every batch, on a pool of threads; results in batch order.
 
-    Each block has its own stream, so the results do not depend on the number of workers.
-    The compiled loops release the interpreter lock, so the threads share the cores.
+    Each stream unit has its own generator, so the results do not depend on the number of
+    workers; batches of one unit run in order, in one task. The compiled loops release the
+    interpreter lock, so the threads share the cores.
     """
     from concurrent.futures import ThreadPoolExecutor
 
-    todo = list(blocks(seed, draws))
+    units: list[list] = []
+    for unit, size, rng in blocks(seed, draws):
+        if not units or units[-1][0] != unit:
+            units.append([unit, []])
+        units[-1][1].append((size, rng))
+
+    def run_unit(batches):
+        return [work(size, rng) for size, rng in batches]
+
     workers = workers or default_workers()
-    if workers == 1 or len(todo) == 1:
-        out = []
-        for i, size, rng in todo:
-            out.append(work(size, rng))
-            progress.step((i * BLOCK + size) / draws, what)
-        return out
-    results = [None] * len(todo)
+    results = []
+    if workers == 1 or len(units) == 1:
+        done = 0
+        for _, batches in units:
+            results.extend(run_unit(batches))
+            done += sum(size for size, _ in batches)
+            progress.step(done / draws, what)
+        return results
     with ThreadPoolExecutor(max_workers=workers) as pool:
-        futures = [pool.submit(work, size, rng) for _, size, rng in todo]
+        futures = [pool.submit(run_unit, batches) for _, batches in units]
         try:
-            for i, fut in enumerate(futures):
-                results[i] = fut.result()
-                progress.step(min(1.0, (i + 1) * BLOCK / draws), what)
+            done = 0
+            for fut, (_, batches) in zip(futures, units):
+                results.extend(fut.result())
+                done += sum(size for size, _ in batches)
+                progress.step(done / draws, what)
         except BaseException:
             for fut in futures:
                 fut.cancel()

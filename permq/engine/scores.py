@@ -22,11 +22,9 @@ def midranks(x) -> np.ndarray:
 
 
 def normal_scores(x) -> np.ndarray:
-    """van der Waerden scores Phi^-1(r / (N + 1)) of the mid-ranks, averaged within ties."""
+    """van der Waerden scores Phi^-1(r / (N + 1)) of the mid-ranks r (tied values share one)."""
     x = np.asarray(x, dtype=float)
-    ranks = stats.rankdata(x, method="ordinal")
-    raw = stats.norm.ppf(ranks / (len(x) + 1))
-    return _average_within_ties(x, raw)
+    return stats.norm.ppf(midranks(x) / (len(x) + 1))
 
 
 def median_scores(x) -> np.ndarray:

@@ -84,7 +84,8 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True,
                              float("inf"), float("inf"), feasible=False,
                              note="scores do not lie on a decimal grid", arrangements=total))
-    out.append(Candidate("enumeration", "complete enumeration", True, total * (n1 + 2) * 4,
+    # listing runs at about 3 microseconds an arrangement (itertools, gathers, sums)
+    out.append(Candidate("enumeration", "complete enumeration", True, total * (n1 * 8 + 600),
                          min(total, 2e5) * n1 * 8 * 3, arrangements=total,
                          note=f"{total:.3g} arrangements"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,

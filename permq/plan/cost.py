@@ -6,11 +6,16 @@ machine rate turns ops into seconds.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+import json
+from dataclasses import dataclass, replace
+from functools import lru_cache
+from pathlib import Path
 
 # Elementary operations a second on one core of this class of machine, for vectorised numpy
 # work (calibrated by bench/calibrate.py; order of magnitude is what matters here).
 OPS_PER_SECOND = 2.0e8
+# What any statement costs before its algorithm starts (binding, scores, set-up), in seconds.
+BASE_SECONDS = 0.004
 
 
 @dataclass(frozen=True)
@@ -26,4 +31,24 @@ class Candidate:
 
     @property
     def seconds(self) -> float:
-        return self.ops / OPS_PER_SECOND
+        return BASE_SECONDS + self.ops / OPS_PER_SECOND
+
+
+CALIBRATION_FILE = Path(__file__).with_name("calibration.json")
+
+
+@lru_cache(maxsize=1)
+def calibration() -> dict:
+    """Measured seconds / estimated seconds per (engine, algorithm), from bench/calibrate.py."""
+    try:
+        data = json.loads(CALIBRATION_FILE.read_text())
+    except (OSError, ValueError):
+        return {}
+    return {tuple(k.split("/", 1)): float(v) for k, v in data.get("factors", {}).items()}
+
+
+def calibrated(engine: str, c: Candidate) -> Candidate:
+    factor = calibration().get((engine, c.algorithm))
+    if factor is None or not c.feasible or c.ops == float("inf"):
+        return c
+    return replace(c, ops=c.ops * factor)

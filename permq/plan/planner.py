@@ -15,7 +15,7 @@ from typing import Callable
 
 from ..errors import PlanError
 from ..engine.sampling import fresh_seed
-from .cost import Candidate
+from .cost import Candidate, calibrated
 
 DEFAULT_DRAWS = 100_000
 EXACT_CEILING_SECONDS = 3600.0
@@ -59,7 +59,7 @@ class Plan:
 
 def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int], list]) -> Plan:
     draws = settings.sampled or DEFAULT_DRAWS
-    cands = tuple(candidates_for(draws))
+    cands = tuple(calibrated(engine, c) for c in candidates_for(draws))
     seed = settings.seed if settings.seed is not None else fresh_seed()
     mc = next((c for c in cands if not c.exact), None)
     exact = sorted((c for c in cands if c.exact and c.feasible), key=lambda c: c.ops)

@@ -118,7 +118,7 @@ def parse_statement(text: str):
 
 
 def _parse_chunk(text: str, line: int, col: int, offset: int) -> SourceStatement:
-    clean = text.replace("\\\n", "  ")
+    clean = text.replace("\\\n", " \n")   # keep the line break: positions stay true
     # Pad so that lark's positions are positions in the whole script.
     pad = "\n" * (line - 1) + " " * (col - 1)
     padded = pad + clean
