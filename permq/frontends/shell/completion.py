@@ -17,7 +17,7 @@ from typing import Optional
 from prompt_toolkit.completion import Completer, Completion
 
 from . import notes, vocabulary as vocab
-from .scan import scan
+from .scan import current_word, scan  # noqa: F401 - current_word is part of the API
 
 Suggestion = tuple[str, str]
 NAME_RE = re.compile(r"[A-Za-z_][A-Za-z0-9_.]*")
@@ -37,9 +37,8 @@ def suggest(text: str, catalog, base_dir=None, text_after: str = "") -> list[Sug
     if found is None:
         return []
     tokens, terminals = found
-    ctx = _Context(tokens + _rest_tokens(s.statement, text_after), terminals, catalog,
-                   Path(base_dir) if base_dir else Path.cwd(), s.word)
-    ctx.prev = tokens[-1] if tokens else None
+    ctx = _Context(tokens, terminals, catalog, Path(base_dir) if base_dir else Path.cwd(),
+                   s.word, _rest_tokens(s.statement, text_after))
     out: list[Suggestion] = []
     for make in (ctx.keywords, ctx.names, ctx.strings, ctx.words, ctx.numbers):
         out.extend(make())
@@ -80,8 +79,9 @@ def _unique(items: list[Suggestion]) -> list[Suggestion]:
 class _Context:
     """What the tokens so far say about the spot being completed."""
 
-    def __init__(self, tokens, terminals, catalog, base_dir: Path, word: str):
-        self.tokens = list(tokens)
+    def __init__(self, tokens, terminals, catalog, base_dir: Path, word: str, rest=()):
+        self.tokens = list(tokens)      # before the word being typed
+        self.rest = list(rest)          # after the cursor, in the same statement
         self.word = word
         self.terminals = terminals
         self.catalog = catalog
@@ -146,7 +146,8 @@ class _Context:
         return [(default_name(str(paths[-1])[1:-1]), "name for the table")]
 
     def table_in_use(self):
-        for a, b in zip(self.tokens, self.tokens[1:]):
+        both = self.tokens + self.rest
+        for a, b in zip(both, both[1:]):
             if a.type == "IN" and _name_text(b) in self.catalog.tables:
                 return self.catalog.tables[_name_text(b)]
         if self.catalog.current in self.catalog.tables:
@@ -171,6 +172,8 @@ class _Context:
             return self.paths((".pq",)) or [('"session.pq"', "query file to write")]
         if prev in ("LEVELS", "ORDERED", "COMMA", "LESSTHAN"):
             return self.levels()
+        if prev == "SETTING":
+            return []                   # setting values are offered by words()
         return self.paths(("",))
 
     def levels(self) -> list[Suggestion]:
