@@ -88,3 +88,27 @@ class TableDesign:
     names: tuple = ()
     warnings: tuple = field(default_factory=tuple)
     kind: str = "table"
+
+
+@dataclass(frozen=True)
+class ManyDesign:
+    """Several responses (or every pair of levels) across the same groups, permuted together."""
+
+    values: np.ndarray       # (units, tested responses), NaN where a value is missing
+    groups: np.ndarray       # codes 0..k-1 in level order, one per unit
+    labels: tuple            # the levels, in order
+    names: tuple             # the tested responses (features, or the one response of pairwise)
+    settings: Settings
+    adjustment: str = "max-t"        # none | holm | fdr | max-t | min-p
+    step: str = "step-down"          # step-down | single-step (holm single-step: Bonferroni)
+    pairwise: bool = False
+    top: Optional[int] = None
+    below: Optional[float] = None
+    untested: tuple = ()     # ((name, reason), ...) in the order named
+    feature: str = ""        # `for each` column, if any
+    response: str = ""       # the response column of `for each` / `pairwise`
+    group: str = ""          # the group column
+    workers: Optional[int] = None
+    cluster: object = None   # an address or a dask.distributed Client
+    warnings: tuple = ()
+    kind: str = "many"
