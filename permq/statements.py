@@ -85,6 +85,9 @@ def _set(node: n.SetStatement, text, session):
     elif key == "budget":
         d.budget_seconds = _duration(value, span)
         shown = f"{d.budget_seconds:g} s"
+    elif key == "memory":
+        d.memory_bytes = _size(value, span)
+        shown = f"{d.memory_bytes / 1e9:g} GB"
     else:  # format
         if value not in FORMATS:
             raise BindError(f"'{value}' is not an output format", span,
@@ -108,12 +111,23 @@ def _duration(value, span) -> float:
     return seconds
 
 
+def _size(value, span) -> float:
+    m = re.fullmatch(r"([0-9.]+)(kB|MB|GB)", str(value))
+    if not m:
+        raise BindError(f"'{value}' is not an amount of memory", span, hint="write e.g. 500MB or 2GB")
+    size = float(m.group(1)) * {"kB": 1e3, "MB": 1e6, "GB": 1e9}[m.group(2)]
+    if not size > 0:
+        raise BindError("the memory budget must be more than zero", span)
+    return size
+
+
 def _show(node: n.Show, text, session):
     if node.what == "settings":
         d = session.defaults
         body = (f"confidence {d.confidence:.4g}, alternative {d.alternative}, "
                 f"seed {d.seed if d.seed is not None else 'fresh each run'}, "
-                f"budget {d.budget_seconds:g} s, format {d.format}")
+                f"budget {d.budget_seconds:g} s, memory {d.memory_bytes / 1e9:g} GB, "
+                f"format {d.format}")
         return Note(text, body)
     tables = session.catalog.tables
     if not tables:
