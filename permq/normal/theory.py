@@ -50,7 +50,13 @@ def two_sample(family, x, y, level, alternative) -> NormalTheory:
     n1, n2 = len(x), len(y)
     N = n1 + n2
     if family == "means":
+        if n1 < 2 or n2 < 2:
+            return NormalTheory("Welch t: not available (a group has a single value)",
+                                float("nan"), None, float("nan"))
         v1, v2 = x.var(ddof=1) / n1, y.var(ddof=1) / n2
+        if v1 + v2 == 0:
+            return NormalTheory("Welch t: not available (no spread within the groups)",
+                                float("nan"), None, float("nan"))
         se = np.sqrt(v1 + v2)
         df = (v1 + v2) ** 2 / (v1 ** 2 / (n1 - 1) + v2 ** 2 / (n2 - 1)) if se > 0 else float(N - 2)
         est = x.mean() - y.mean()
@@ -86,6 +92,10 @@ def one_sample(family, d, level, alternative) -> NormalTheory:
     n = len(d)
     if family == "means":
         se = d.std(ddof=1) / np.sqrt(n) if n > 1 else 0.0
+        if se == 0:
+            why = "a single difference" if n < 2 else "the differences have no spread"
+            return NormalTheory(f"one-sample t: not available ({why})", float("nan"), None,
+                                float("nan"))
         est = d.mean()
         t = est / se if se > 0 else 0.0
         return NormalTheory("one-sample t on the differences", t, n - 1,
