@@ -5,7 +5,7 @@ import math
 
 
 def p(v) -> str:
-    if v is None:
+    if v is None or v != v:
         return "-"
     if v >= 0.001:
         return f"{v:.4f}"
