@@ -5,6 +5,7 @@ import csv
 import io
 
 from .jsonout import records
+from .robustness import csv_row
 
 COLUMNS = ["statement", "family", "statistic_name", "statistic", "alternative", "p_value",
            "method", "algorithm", "arrangements", "draws", "p_low", "p_high", "seed",
@@ -19,6 +20,8 @@ def flatten(d: dict) -> dict:
     if "error" in d:
         row["error"] = d["error"]["message"]
         return row
+    if d.get("family") == "robustness":
+        return csv_row(d, COLUMNS)
     if "plan" in d:
         row["algorithm"] = d["plan"].get("algorithm", "")
         row["method"] = d["plan"].get("method", "")

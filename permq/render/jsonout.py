@@ -4,12 +4,13 @@ from __future__ import annotations
 import json
 
 from ..result import Failure, Note, Result
+from ..robustness.result import RobustnessResult
 
 
 def records(outputs) -> list[dict]:
     out = []
     for o in outputs:
-        if isinstance(o, (Result, Failure)):
+        if isinstance(o, (Result, Failure, RobustnessResult)):
             out.append(o.to_dict())
         elif isinstance(o, Note) and "plan" in o.data:
             out.append({"statement": o.statement, "plan": o.data})

@@ -2,15 +2,20 @@
 from __future__ import annotations
 
 from ..result import Failure, Result
+from ..robustness.result import RobustnessResult
 from . import numbers as fmt
+from .robustness import markdown_section
 
 
 def render(outputs) -> str:
     rows = ["| statement | family | statistic | p (permutation) | method | p (normal theory) |"
             " estimate | interval | normal-theory interval |",
             "|---|---|---|---|---|---|---|---|---|"]
-    errors = []
+    errors, checks = [], []
     for o in outputs:
+        if isinstance(o, RobustnessResult):
+            checks.append(markdown_section(o))
+            continue
         if isinstance(o, Failure):
             errors.append(f"- `{o.statement}`: {o.message}" + (f" ({o.hint})" if o.hint else ""))
             continue
@@ -26,6 +31,8 @@ def render(outputs) -> str:
                  fmt.interval(nt.interval) if nt and nt.interval else "-"]
         rows.append("| " + " | ".join(c.replace("|", "\\|") for c in cells) + " |")
     text = "\n".join(rows) + "\n"
+    if checks:
+        text += "\nRobustness:\n\n" + "\n".join(checks)
     if errors:
         text += "\nStatements that failed:\n\n" + "\n".join(errors) + "\n"
     return text

@@ -2,7 +2,9 @@
 from __future__ import annotations
 
 from ..result import Failure, Note, Result
+from ..robustness.result import RobustnessResult
 from . import numbers as fmt
+from .robustness import diagnostics_line, null_picture_block, robustness_block
 
 RULE = "─"
 BOLD, DIM, RED, RESET = "\x1b[1m", "\x1b[2m", "\x1b[31m", "\x1b[0m"
@@ -14,7 +16,9 @@ def render(outputs, color: bool = False) -> str:
 
 def render_one(o, color: bool = False) -> str:
     if isinstance(o, Result):
-        return result_block(o, color)
+        return result_block(o, color) + "".join(ln + "\n" for ln in null_picture_block(o))
+    if isinstance(o, RobustnessResult):
+        return robustness_block(o, color)
     if isinstance(o, Failure):
         return failure_block(o, color)
     if isinstance(o, Note):
@@ -65,6 +69,8 @@ def result_block(r: Result, color: bool = False) -> str:
             normal_iv += f"  {fmt.interval(robust[0].interval)} {robust[0].interval_method}"
         lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
         lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
+    if diagnostics_line(r):
+        lines.append(diagnostics_line(r))
     if o.method == "exact":
         how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
     else:

@@ -75,7 +75,7 @@ class ErrorLaw:
 
 
 NORMAL = ErrorLaw("normal", "normal", "normal errors", _normal)
-T3 = ErrorLaw("t3", "t, 3 df", "Student t with 3 df (heavy tails)", _t3)
+T3 = ErrorLaw("t3", "t (3 df)", "Student t with 3 df (heavy tails)", _t3)
 LOGNORMAL = ErrorLaw("lognormal", "lognormal", "lognormal, sigma 1 (strongly right-skewed)",
                      _lognormal, symmetric=False)
 EXPONENTIAL = ErrorLaw("exponential", "exponential", "exponential (right-skewed)",

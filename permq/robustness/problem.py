@@ -185,3 +185,14 @@ def _slope(d) -> Problem:
 
 def _safe(sd: float) -> float:
     return sd if sd > 0 and np.isfinite(sd) else np.nan
+
+
+def data_row(design) -> np.ndarray:
+    """The design's responses in the order of the problem's units."""
+    if isinstance(design, designs.TwoSampleDesign):
+        return np.r_[design.x, design.y]
+    if isinstance(design, designs.OneSampleDesign):
+        return np.asarray(design.d, dtype=float)
+    if isinstance(design, designs.GroupsDesign):
+        return np.asarray(design.values, dtype=float)
+    return np.asarray(design.y, dtype=float)

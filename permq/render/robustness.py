@@ -1,0 +1,115 @@
+"""The robustness check and the diagnostics line, in text, Markdown and CSV (they never compute)."""
+from __future__ import annotations
+
+import textwrap
+
+from . import numbers as fmt
+from .pictures import picture_lines
+
+RULE = "─"
+BOLD, DIM, RESET = "\x1b[1m", "\x1b[2m", "\x1b[0m"
+
+
+def _c(s, code, color):
+    return f"{code}{s}{RESET}" if color else s
+
+
+def _pct(alpha: float) -> str:
+    return f"{alpha * 100:g}%"
+
+
+def _rate(v, se, digits=3) -> str:
+    return f"{v:.{digits}f} ±{se:.{digits}f}"
+
+
+# ---------------------------------------------------------------- text
+
+def robustness_block(rr, color: bool = False) -> str:
+    head = f"{RULE * 2} {rr.statement} "
+    lines = [_c(head + RULE * max(2, 76 - len(head)), BOLD, color)]
+    lines.append(f"robustness · {rr.family} · {rr.design} · {rr.statistic}")
+    obs = rr.observed
+    if obs is not None:
+        normal = (f" · normal theory p {fmt.p(obs.normal.p_value)}, {obs.normal.test}"
+                  if obs.normal else "")
+        lines.append(f"  {'observed':<15}permutation p {fmt.p(obs.outcome.p_value)} "
+                     f"({'exact' if obs.outcome.method == 'exact' else 'Monte Carlo'}){normal}")
+    lines.append(f"  {'significance':<15}{_pct(rr.significance)} ({rr.alternative}); "
+                 f"{rr.datasets:,} data sets a law; seed {rr.seed}")
+    lines.append(f"  {'shift':<15}{rr.shift_words}")
+    lines.append(f"  {'simulated test':<15}{rr.reference}")
+    lines.extend(_table(rr, color))
+    for s in rr.summary:
+        lines.append(textwrap.fill(s, 100, initial_indent="  ", subsequent_indent="    "))
+    if rr.picture is not None:
+        lines.extend(picture_lines(rr.picture.to_dict()))
+    for w in rr.warnings:
+        lines.append(_c(f"  {'note':<15}{w}", DIM, color))
+    return "\n".join(lines) + "\n"
+
+
+def _table(rr, color) -> list:
+    law_w = max(15, max(len(r.name) for r in rr.rows) + 2)
+    out = [f"  {'':<{law_w}}{'rejection rate under the null':<32}power at the shift",
+           _c(f"  {'law':<{law_w}}{'normal theory':<16}{'permutation':<16}"
+              f"{'normal theory':<16}{'permutation':<16}verdict", BOLD, color)]
+    for r in rr.rows:
+        out.append(f"  {r.name:<{law_w}}{_rate(r.normal_rate, r.normal_se):<16}"
+                   f"{_rate(r.permutation_rate, r.permutation_se):<16}"
+                   f"{_rate(r.normal_power, r.normal_power_se):<16}"
+                   f"{_rate(r.permutation_power, r.permutation_power_se):<16}{r.verdict}")
+    return out
+
+
+def diagnostics_line(r) -> str:
+    """One line for a result block, or "" when the result carries no diagnostics."""
+    d = r.extra.get("diagnostics")
+    if not d:
+        return ""
+    parts = []
+    if d.get("skewness") is not None:
+        parts.append(f"skewness {d['skewness']:.2f}")
+    if d.get("largest_residual_sd") is not None:
+        parts.append(f"largest residual {d['largest_residual_sd']:.2f} sd")
+    if d.get("spread_ratio") is not None:
+        parts.append(f"spread ratio {d['spread_ratio']:.2f}")
+    if d.get("disagree") is not None:
+        parts.append(("permutation and normal theory fall on opposite sides of "
+                      if d["disagree"] else "both p-values on the same side of ")
+                     + _pct(d["level"]))
+    return f"  {'diagnostics':<15}" + "; ".join(parts) if parts else ""
+
+
+def null_picture_block(r) -> list:
+    pic = r.extra.get("null_picture")
+    return picture_lines(pic) if pic else []
+
+
+# ---------------------------------------------------------------- Markdown and CSV
+
+def markdown_section(rr) -> str:
+    rows = [f"**`{rr.statement}`**: {rr.design}, {rr.statistic}; {rr.datasets:,} data sets a "
+            f"law, significance {_pct(rr.significance)}, seed {rr.seed}; shift: {rr.shift_words}; "
+            f"simulated test: {rr.reference}.", "",
+            "| law | normal theory: rate under the null | permutation: rate under the null |"
+            " normal theory: power | permutation: power | verdict |",
+            "|---|---|---|---|---|---|"]
+    for r in rr.rows:
+        rows.append(f"| {r.name} | {_rate(r.normal_rate, r.normal_se)} | "
+                    f"{_rate(r.permutation_rate, r.permutation_se)} | "
+                    f"{_rate(r.normal_power, r.normal_power_se)} | "
+                    f"{_rate(r.permutation_power, r.permutation_power_se)} | {r.verdict} |")
+    rows.append("")
+    rows.extend(f"- {s}" for s in rr.summary)
+    return "\n".join(rows) + "\n"
+
+
+def csv_row(d: dict, columns: list) -> dict:
+    """A robustness record as one row of the results table (the laws are in the JSON)."""
+    row = {k: "" for k in columns}
+    sim = d["simulated_permutation_test"]
+    row.update(statement=d["statement"], family="robustness", alternative=d["analysis"]["alternative"],
+               method=sim["method"], algorithm=sim["description"], seed=d["seed"],
+               normal_test=d["analysis"]["normal_test"], statistic_name=d["analysis"]["statistic"],
+               level=d["significance"], warnings="; ".join(d["summary"] + d["warnings"]))
+    return row

@@ -1,0 +1,111 @@
+"""`robustness STATEMENT`: the statement's own analysis, then its design under the panel.
+
+The options that belong to the check (datasets, shift, significance) are taken off the inner
+statement, which is then bound as usual, so that its design (group sizes, blocks, values of
+x) and its family are the user's own. `picture "file"` (any analysis takes it) asks for the
+panel as a picture file; the session writes it.
+"""
+from __future__ import annotations
+
+import dataclasses
+import re
+from typing import Optional
+
+from ..bind.binder import bind
+from ..engine import sampling
+from ..errors import BindError
+from ..families import handler_for
+from ..syntax import nodes as n
+from . import report
+from .diagnostics import attach as attach_diagnostics
+from .pictures import null_picture
+from .problem import pattern_for, problem_for
+from .simulate import simulate
+
+OPTIONS = ("datasets", "shift", "significance")
+DEFAULT_DATASETS = 2000
+DEFAULT_SIGNIFICANCE = 0.05
+
+
+@dataclasses.dataclass(frozen=True)
+class Check:
+    datasets: int = DEFAULT_DATASETS
+    alpha: float = DEFAULT_SIGNIFICANCE
+    shift: Optional[tuple] = None          # (size, in_sd) or None for the observed effect
+    picture: Optional[str] = None
+
+
+def significance_value(opt: n.Option) -> float:
+    value = opt.value
+    if isinstance(value, n.Percent):
+        alpha = value.value / 100.0
+    else:
+        alpha = float(value)
+        if alpha >= 1:
+            raise BindError(f"significance {alpha:g} is not a level", opt.span,
+                            hint=f"write {alpha:g}% or {alpha / 100:g}")
+    if not 0 < alpha < 0.5:
+        raise BindError("the significance level must lie between 0% and 50%", opt.span)
+    return alpha
+
+
+def check_settings(opts: dict) -> Check:
+    datasets = DEFAULT_DATASETS
+    if "datasets" in opts:
+        datasets = int(opts["datasets"].value)
+        if not 100 <= datasets <= 1_000_000:
+            raise BindError("'datasets' takes 100 to 1,000,000 data sets a law",
+                            opts["datasets"].span)
+    alpha = significance_value(opts["significance"]) if "significance" in opts else \
+        DEFAULT_SIGNIFICANCE
+    shift = tuple(opts["shift"].value) if "shift" in opts else None
+    picture = opts["picture"].value if "picture" in opts else None
+    return Check(datasets, alpha, shift, picture)
+
+
+def without_check_options(node):
+    return dataclasses.replace(node, options=tuple(o for o in node.options
+                                                   if o.key not in OPTIONS))
+
+
+def run(node: n.Robustness, text: str, catalog, defaults, progress):
+    inner = node.analysis
+    check = check_settings(n.options_of(inner))
+    design = bind(without_check_options(inner), catalog, defaults)
+    problem = problem_for(design)
+    pattern, shift, shift_sd = pattern_for(problem, check.shift)
+    seed = design.settings.seed if design.settings.seed is not None else sampling.fresh_seed()
+    design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
+                                                                      seed=int(seed)))
+    handler = handler_for(design)
+    observed = handler.execute(design, handler.plan(design), progress, text)
+    attach_diagnostics(design, observed, check.alpha)
+    sim = simulate(problem, pattern, check.datasets, check.alpha, int(seed), progress)
+    picture = null_picture(design, observed.outcome, int(seed))
+    warnings = list(design.warnings)
+    if problem.kind == "paired":
+        warnings.append("pairs are simulated as two values from the law, so their differences "
+                        "are symmetric under the null, as random order within a pair makes them")
+    if problem.kind == "one-sample":
+        warnings.append("one sample: errors are centred so that the family's parameter (mean, "
+                        "pseudo-median or median) is zero under the null")
+    return report.build(text, problem, observed, sim, shift, shift_sd,
+                        _shift_words(problem, check.shift, shift, shift_sd), picture, warnings)
+
+
+def _shift_words(problem, asked, shift, shift_sd) -> str:
+    unit = f"sd = {problem.sd_words} {_g(problem.sd)}"
+    if asked is None:
+        return f"the observed {problem.effect_words}, {_g(shift)} = {_g(shift_sd)} sd ({unit})"
+    return f"a {problem.effect_words} of {_g(shift)} = {_g(shift_sd)} sd ({unit})"
+
+
+def _g(v: float) -> str:
+    return f"{v:.4g}"
+
+
+def replayable(text: str, result) -> str:
+    """The statement with its seed pinned, so that a replay gives the same numbers."""
+    if re.search(r"\bseed\s+\d+", text):
+        return text
+    return " ".join(text.replace("\\\n", " ").split()) + f" seed {result.seed}"
