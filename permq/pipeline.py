@@ -40,11 +40,12 @@ class Session:
 
     def __init__(self, tables: Optional[dict] = None, base_dir: Optional[Path] = None,
                  on_progress: Optional[Callable[[float, str], None]] = None,
-                 should_stop: Optional[Callable[[], bool]] = None):
+                 should_stop: Optional[Callable[[], bool]] = None,
+                 cluster=None, workers: Optional[int] = None):
         from .data.tables import Table
 
         self.catalog = Catalog()
-        self.defaults = Defaults()
+        self.defaults = Defaults(workers=workers, cluster=cluster)
         self.base_dir = Path(base_dir) if base_dir else Path.cwd()
         self.progress = Progress(on_progress, should_stop)
         self.history: list[str] = []     # statements that ran, replayable (seeds pinned)

@@ -85,6 +85,10 @@ def _set(node: n.SetStatement, text, session):
     elif key == "budget":
         d.budget_seconds = _duration(value, span)
         shown = f"{d.budget_seconds:g} s"
+    elif key == "workers":
+        d.workers, shown = _workers(value, span)
+    elif key == "cluster":
+        d.cluster, shown = _cluster(value, span)
     elif key == "memory":
         d.memory_bytes = _size(value, span)
         shown = f"{d.memory_bytes / 1e9:g} GB"
@@ -96,6 +100,25 @@ def _set(node: n.SetStatement, text, session):
         shown = value
     session.history.append(text)
     return Note(text, f"{key} set to {shown}")
+
+
+def _workers(value, span):
+    """`set workers 2`; `set workers all` for every core."""
+    if value == "all":
+        return None, "all cores"
+    if not isinstance(value, float) or not value.is_integer() or value < 1:
+        raise BindError("workers is a whole number, 1 or more (or 'all')", span)
+    return int(value), str(int(value))
+
+
+def _cluster(value, span):
+    """`set cluster "tcp://host:8786"`; `set cluster none` to run here again."""
+    if value in ("none", "local"):
+        return None, "none (runs here)"
+    if not isinstance(value, str) or ":" not in value:
+        raise BindError(f"'{value}' is not a scheduler address", span,
+                        hint='write e.g. set cluster "tcp://127.0.0.1:8786", or set cluster none')
+    return value, value
 
 
 def _duration(value, span) -> float:
@@ -127,7 +150,8 @@ def _show(node: n.Show, text, session):
         body = (f"confidence {d.confidence:.4g}, alternative {d.alternative}, "
                 f"seed {d.seed if d.seed is not None else 'fresh each run'}, "
                 f"budget {d.budget_seconds:g} s, memory {d.memory_bytes / 1e9:g} GB, "
-                f"format {d.format}")
+                f"format {d.format}, workers {d.workers or 'all cores'}, "
+                f"cluster {d.cluster if d.cluster is not None else 'none'}")
         return Note(text, body)
     tables = session.catalog.tables
     if not tables:
@@ -173,7 +197,7 @@ def _save(node: n.Save, text, session):
 
 def replayable(text: str, result) -> str:
     """The statement as it ran, with the Monte Carlo seed pinned so a replay matches."""
-    o = result.outcome
+    o = getattr(result, "outcome", result)     # several-test results carry method and seed
     if o.method == "monte-carlo" and not re.search(r"\bseed\s+\d+", text):
         one_line = " ".join(text.replace("\\\n", " ").split())
         return f"{one_line} seed {o.seed}"

@@ -33,6 +33,8 @@ class Defaults:
     budget_seconds: float = 5.0
     memory_bytes: float = 2.0e9
     format: str = "text"
+    workers: Optional[int] = None      # local workers for several-response statements (None: all)
+    cluster: object = None             # a Dask scheduler address (or Client) to run them on
 
 
 @dataclass
@@ -220,6 +222,10 @@ def level_text(v) -> str:
 # ---------------------------------------------------------------- grouped: Y by G
 
 def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
+    if isinstance(subject.response, n.Responses) or "for_each" in opts or "pairwise" in opts:
+        from .many import bind_many
+
+        return bind_many(node, subject, opts, catalog, defaults)
     table = resolve_table(opts, catalog, subject.span)
     check_columns(table, [subject.response, subject.group] +
                   ([opts["within"].value] if "within" in opts else []))

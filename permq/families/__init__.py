@@ -8,7 +8,7 @@ HANDLERS.
 from __future__ import annotations
 
 from ..bind import designs
-from . import association, groups, one_sample, tables, two_sample
+from . import association, groups, many, one_sample, tables, two_sample
 
 HANDLERS = {
     designs.TwoSampleDesign: two_sample,
@@ -16,6 +16,7 @@ HANDLERS = {
     designs.GroupsDesign: groups,
     designs.AssociationDesign: association,
     designs.TableDesign: tables,
+    designs.ManyDesign: many,
 }
 
 

@@ -22,6 +22,11 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("file")
     r.add_argument("--format", choices=FORMATS, default="text")
     r.add_argument("--color", choices=("auto", "always", "never"), default="auto")
+    r.add_argument("--cluster", metavar="ADDRESS", default=None,
+                   help="run several-response statements on this Dask scheduler "
+                        "(e.g. tcp://127.0.0.1:8786); the numbers are the same as here")
+    r.add_argument("--workers", type=int, default=None,
+                   help="local workers for several-response statements (default: every core)")
     s = sub.add_parser("shell", help="the interactive shell")
     s.add_argument("files", nargs="*", help="tables (.csv, ...) to load or query files to run")
     return p
@@ -30,7 +35,7 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv=None) -> int:
     args = build_parser().parse_args(argv)
     if args.command == "run":
-        return run_file(args.file, args.format, args.color)
+        return run_file(args.file, args.format, args.color, args.cluster, args.workers)
     files = getattr(args, "files", [])
     if not sys.stdin.isatty():
         return run_file("-", "text", "never")
@@ -39,7 +44,8 @@ def main(argv=None) -> int:
     return start_shell(files)
 
 
-def run_file(path: str, fmt: str = "text", color: str = "auto") -> int:
+def run_file(path: str, fmt: str = "text", color: str = "auto", cluster=None,
+             workers=None) -> int:
     if path == "-":
         source, base = sys.stdin.read(), Path.cwd()
     else:
@@ -54,7 +60,7 @@ def run_file(path: str, fmt: str = "text", color: str = "auto") -> int:
             return 2
         base = p.resolve().parent
     progress = ProgressLine() if sys.stderr.isatty() else None
-    session = Session(base_dir=base, on_progress=progress)
+    session = Session(base_dir=base, on_progress=progress, cluster=cluster, workers=workers)
     use_color = color == "always" or (color == "auto" and sys.stdout.isatty())
     outputs, failed = [], False
     for st in parse_script(source):

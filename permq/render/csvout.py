@@ -4,6 +4,7 @@ from __future__ import annotations
 import csv
 import io
 
+from . import many
 from .jsonout import records
 from .robustness import csv_row
 
@@ -12,6 +13,7 @@ COLUMNS = ["statement", "family", "statistic_name", "statistic", "alternative", 
            "normal_test", "normal_statistic", "normal_df", "normal_p_value", "estimate_name",
            "estimate", "level", "interval_low", "interval_high", "normal_interval_low",
            "normal_interval_high", "warnings", "error"]
+COLUMNS += many.CSV_EXTRA       # several tests at once: one line per row
 
 
 def flatten(d: dict) -> dict:
@@ -54,5 +56,6 @@ def render(outputs) -> str:
     w = csv.DictWriter(buf, fieldnames=COLUMNS, lineterminator="\n")
     w.writeheader()
     for d in records(outputs):
-        w.writerow(flatten(d))
+        for row in (many.csv_rows(d, COLUMNS) if "rows" in d else [flatten(d)]):
+            w.writerow(row)
     return buf.getvalue()

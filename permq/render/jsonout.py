@@ -8,8 +8,13 @@ from ..robustness.result import RobustnessResult
 
 
 def records(outputs) -> list[dict]:
+    from ..result_many import ManyResult
+
     out = []
     for o in outputs:
+        if isinstance(o, ManyResult):
+            out.append(o.to_dict())
+            continue
         if isinstance(o, (Result, Failure, RobustnessResult)):
             out.append(o.to_dict())
         elif isinstance(o, Note) and "plan" in o.data:

@@ -5,14 +5,19 @@ from ..result import Failure, Result
 from ..robustness.result import RobustnessResult
 from . import numbers as fmt
 from .robustness import markdown_section
+from ..result_many import ManyResult
+from .many import markdown_section as many_section
 
 
 def render(outputs) -> str:
     rows = ["| statement | family | statistic | p (permutation) | method | p (normal theory) |"
             " estimate | interval | normal-theory interval |",
             "|---|---|---|---|---|---|---|---|---|"]
-    errors, checks = [], []
+    errors, checks, families = [], [], []
     for o in outputs:
+        if isinstance(o, ManyResult):
+            families.append(many_section(o))
+            continue
         if isinstance(o, RobustnessResult):
             checks.append(markdown_section(o))
             continue
@@ -31,6 +36,8 @@ def render(outputs) -> str:
                  fmt.interval(nt.interval) if nt and nt.interval else "-"]
         rows.append("| " + " | ".join(c.replace("|", "\\|") for c in cells) + " |")
     text = "\n".join(rows) + "\n"
+    if families:
+        text += "\nSeveral tests at once:\n\n" + "\n".join(families)
     if checks:
         text += "\nRobustness:\n\n" + "\n".join(checks)
     if errors:

@@ -1,6 +1,7 @@
 """Terminal text: one aligned block per result, the exact and normal-theory answers side by side."""
 from __future__ import annotations
 
+from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
 from . import numbers as fmt
@@ -15,6 +16,10 @@ def render(outputs, color: bool = False) -> str:
 
 
 def render_one(o, color: bool = False) -> str:
+    if isinstance(o, ManyResult):
+        from .many import text_block
+
+        return text_block(o, color, BOLD, DIM, RESET)
     if isinstance(o, Result):
         return result_block(o, color) + "".join(ln + "\n" for ln in null_picture_block(o))
     if isinstance(o, RobustnessResult):

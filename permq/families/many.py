@@ -1,0 +1,228 @@
+"""Several responses, `for each` features, or every pair of levels: one row per test.
+
+Joins a `ManyDesign` to the many-response engine (the same arrangements for every test, the
+adjustment from their joint distribution), the per-response estimates, and the filters.
+"""
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+from scipy import stats
+
+from ..engine import many, many_estimates, rankintervals
+from ..engine.workers import pool_for
+from ..normal.theory import two_sample as normal_two_sample
+from ..plan.planner import make_plan
+from ..result_many import ManyResult, ManyRow
+
+RULES = {
+    ("max-t", "step-down"): "Westfall-Young max-T, step-down, from the joint permutation "
+                            "distribution (family-wise error)",
+    ("max-t", "single-step"): "Westfall-Young max-T, single-step, from the joint permutation "
+                              "distribution (family-wise error)",
+    ("min-p", "step-down"): "Westfall-Young min-P, step-down, from the joint permutation "
+                            "distribution (family-wise error)",
+    ("min-p", "single-step"): "Westfall-Young min-P, single-step, from the joint permutation "
+                              "distribution (family-wise error)",
+    ("holm", "step-down"): "Holm step-down on the raw p-values (family-wise error)",
+    ("holm", "single-step"): "Bonferroni on the raw p-values (family-wise error)",
+    ("fdr", "step-up"): "Benjamini-Hochberg step-up on the raw p-values (false discovery rate)",
+    ("none", ""): "no adjustment: the adjusted p is the raw p",
+}
+
+
+def _tests(design) -> int:
+    k = len(design.labels)
+    return k * (k - 1) // 2 if design.pairwise else design.values.shape[1]
+
+
+def plan(design):
+    s = design.settings
+    tests = _tests(design)
+    draws = s.sampled or many.default_draws(tests)
+    sizes = np.bincount(design.groups, minlength=len(design.labels))
+    the_plan = make_plan("many", s.family, s,
+                         lambda _: many.candidates(sizes, tests, draws, design.adjustment,
+                                                   design.pairwise))
+    return replace(the_plan, draws=draws)
+
+
+def execute(design, the_plan, progress, statement: str = "") -> ManyResult:
+    s = design.settings
+    alg, draws, seed = the_plan.chosen.algorithm, the_plan.draws, the_plan.seed
+    if design.pairwise:
+        out = many.run_pairwise(design.values[:, 0], design.groups, s.family, design.adjustment,
+                                design.step, alg, draws, seed, progress)
+        rows, names = _pair_rows(design, out), _pair_names(s.family)
+        where = "this machine"
+    else:
+        pool = pool_for(design.workers, design.cluster)
+        out = many.run_family(design.values, design.groups, s.family, s.alternative,
+                              design.adjustment, design.step, alg, draws, seed, progress, pool)
+        rows, names = _response_rows(design, out), _response_names(design)
+        where = pool.where
+    shown = _filtered(design, rows)
+    return ManyResult(statement, _family_word(design), s.alternative, names["test"],
+                      names["statistic"], _adjustment_word(design),
+                      RULES[(design.adjustment, design.step)], out.method, out.algorithm,
+                      out.arrangements, out.draws, out.seed, shown, design.labels,
+                      names.get("effect", ""), names.get("estimate", ""),
+                      names.get("interval", ""), s.level, len(rows),
+                      len(design.untested), len(rows) + len(design.untested),
+                      _filters(design), _overall(design, out), list(design.warnings), where)
+
+
+# ---------------------------------------------------------------- words
+
+def _family_word(design) -> str:
+    if design.pairwise:
+        return "pairwise"
+    return "for each" if design.feature else "several responses"
+
+
+def _adjustment_word(design) -> str:
+    if design.adjustment == "holm" and design.step == "single-step":
+        return "bonferroni"
+    return f"{design.adjustment} {design.step}".strip()
+
+
+def _response_names(design) -> dict:
+    fam, labels = design.settings.family, design.labels
+    if len(labels) > 2:
+        return {"test": "permutation F" if fam == "means" else
+                "Kruskal-Wallis (mid-ranks, tie-corrected)",
+                "statistic": "F" if fam == "means" else "H",
+                "effect": f"differences among {', '.join(labels)}"}
+    a, b = labels
+    if fam == "means":
+        return {"test": "difference in means (permutation)",
+                "statistic": "z: difference in means over its permutation standard error",
+                "effect": f"difference in means {a} - {b}",
+                "estimate": f"difference in means {a} - {b}",
+                "interval": "Welch t interval (normal theory, unequal variances), per response, "
+                            "not adjusted for multiplicity"}
+    return {"test": "Wilcoxon rank-sum (mid-ranks)",
+            "statistic": "z: difference in mean ranks over its permutation standard error",
+            "effect": f"shift {a} - {b}",
+            "estimate": f"Hodges-Lehmann shift {a} - {b}",
+            "interval": "order statistics of the pairwise differences at the exact rank-sum "
+                        "quantiles (no-ties law), per response, not adjusted for multiplicity"}
+
+
+def _pair_names(family) -> dict:
+    scores = "values" if family == "means" else "mid-ranks of all units"
+    return {"test": f"pairs of levels, all units permuted together (differences of mean "
+                    f"{scores})",
+            "statistic": "z: difference of the pair's mean scores over its standard error "
+                         "(pooled over all units)",
+            "effect": "first level - second level, per pair",
+            "estimate": "difference in means" if family == "means" else "Hodges-Lehmann shift",
+            "interval": ("Welch t interval (normal theory), per pair, not adjusted"
+                         if family == "means" else
+                         "order statistics of the pair's differences at the exact rank-sum "
+                         "quantiles (no-ties law), per pair, not adjusted")}
+
+
+# ---------------------------------------------------------------- rows
+
+def _group_counts(design) -> np.ndarray:
+    observed = ~np.isnan(design.values)
+    return np.stack([observed[design.groups == g].sum(axis=0)
+                     for g in range(len(design.labels))], axis=1)
+
+
+def _response_rows(design, out) -> list:
+    s = design.settings
+    counts = _group_counts(design)
+    k = len(design.labels)
+    est = lo = hi = [None] * len(design.names)
+    stat = out.t_obs.copy()
+    if k == 2:
+        x1, x2 = design.values[design.groups == 0], design.values[design.groups == 1]
+        fn = many_estimates.welch if s.family == "means" else many_estimates.hodges_lehmann
+        est, lo, hi = fn(x1, x2, s.level, s.alternative)
+        if s.alternative == "two-sided":
+            stat = stat * _direction(design)
+        elif s.alternative == "lower":
+            stat = -stat
+    else:
+        n = counts.sum(axis=1).astype(float)
+        if s.family == "means":
+            with np.errstate(divide="ignore", invalid="ignore"):
+                stat = (stat / (k - 1)) / ((n - 1 - stat) / (n - k))
+    rows = []
+    for j, name in enumerate(design.names):
+        iv = None
+        if k == 2 and lo[j] == lo[j] and hi[j] == hi[j]:
+            iv = (float(lo[j]), float(hi[j]))
+        rows.append(ManyRow(name, tuple(int(c) for c in counts[j]), float(stat[j]),
+                            float(out.p_raw[j]), float(out.p_adjusted[j]),
+                            None if est[j] is None or est[j] != est[j] else float(est[j]), iv))
+    return rows
+
+
+def _direction(design) -> np.ndarray:
+    """+1 where the first level's mean score is the higher, else -1."""
+    v = design.values
+    if design.settings.family == "ranks":
+        v = stats.rankdata(v, axis=0, nan_policy="omit")
+    with np.errstate(invalid="ignore"):
+        d = np.nanmean(v[design.groups == 0], axis=0) - np.nanmean(v[design.groups == 1], axis=0)
+    return np.where(d < 0, -1.0, 1.0)
+
+
+def _pair_rows(design, out) -> list:
+    s = design.settings
+    y = design.values[:, 0]
+    scores = y if s.family == "means" else stats.rankdata(y)
+    rows = []
+    for i, (a, b) in enumerate(out.pairs):
+        xa, xb = y[design.groups == a], y[design.groups == b]
+        la, lb = design.labels[a], design.labels[b]
+        sign = 1.0 if scores[design.groups == a].mean() >= scores[design.groups == b].mean() else -1.0
+        if s.family == "means":
+            est = float(xa.mean() - xb.mean())
+            iv = (normal_two_sample("means", xa, xb, s.level, "two-sided").interval
+                  if len(xa) > 1 and len(xb) > 1 else None)
+        else:
+            est, iv, _ = rankintervals.hodges_lehmann_two_sample(xa, xb, s.level, "two-sided")
+        rows.append(ManyRow(f"{la} - {lb}", (len(xa), len(xb)), sign * float(out.t_obs[i]),
+                            float(out.p_raw[i]), float(out.p_adjusted[i]), est,
+                            None if iv is None else (float(iv[0]), float(iv[1]))))
+    return rows
+
+
+def _filtered(design, rows) -> list:
+    order = sorted(range(len(rows)), key=lambda j: (rows[j].p_value, j))
+    shown = [rows[j] for j in order]
+    if design.below is not None:
+        shown = [r for r in shown if r.p_adjusted < design.below]
+    if design.top is not None:
+        shown = shown[:design.top]
+    if design.below is None and design.top is None:
+        shown += [ManyRow(name, (), None, None, None, note=f"not tested: {why}")
+                  for name, why in design.untested]
+    return shown
+
+
+def _filters(design) -> dict:
+    out = {}
+    if design.top is not None:
+        out["top"] = design.top
+    if design.below is not None:
+        out["below"] = design.below
+    return out
+
+
+def _overall(design, out) -> dict:
+    if not design.pairwise:
+        return {}
+    k = len(design.labels)
+    n = float(len(design.groups))
+    t = out.overall["statistic"]
+    if design.settings.family == "means":
+        return {"test": "permutation F", "statistic": (t / (k - 1)) / ((n - 1 - t) / (n - k)),
+                "p_value": out.overall["p_value"]}
+    return {"test": "Kruskal-Wallis (mid-ranks, tie-corrected)", "statistic": t,
+            "p_value": out.overall["p_value"]}
