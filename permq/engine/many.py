@@ -67,7 +67,7 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
     def ops(rows):
         if pairwise:
             return rows * (N * len(sizes) + 6 * tests) * 4
-        return rows * tests * (summed + 8) * passes * OPS_PER_CELL * 20
+        return rows * (tests * (summed + 8) * passes * OPS_PER_CELL + N * 5)
 
     def memory(rows):
         mem = rows * N + rows * 8 * (3 if pairwise else 1)
