@@ -91,6 +91,7 @@ def cases():
                  f"scipy permutation_test: {ts:.2f} s (permq {ts / t:.1f}x faster)"))
     rows.extend(group_cases(rng))
     rows.extend(association_cases(rng))
+    rows.extend(robustness_cases(rng))
     return rows
 
 
@@ -168,6 +169,20 @@ def association_cases(rng):
     rows.append(("Pearson Monte Carlo, 100,000 draws, n = 1,000", t, 2.0, out[0],
                  f"scipy permutation_test: {ts * 10:.1f} s per 100,000 (timed on 10,000)"))
     return rows
+
+
+def robustness_cases(rng):
+    """A 2 x 8 design under the six error laws, 2,000 data sets each (null and shift)."""
+    x = np.round(rng.normal(10, 1, 8), 2)
+    y = np.round(rng.normal(11, 1, 8), 2)
+    cpu = time.process_time()
+    t, rr = best(lambda: permq.run(f"robustness compare {lst(x)} vs {lst(y)} datasets 2000 "
+                                   "seed 3")[0], 1)
+    cpu = time.process_time() - cpu
+    if not hasattr(rr, "observed"):
+        raise SystemExit(f"benchmark statement failed: robustness compare ...: {rr.message}")
+    return [("robustness, 2 x 8, 6 laws x 2,000 data sets", t, 30.0, rr.observed,
+             f"no counterpart; simulated test {rr.reference}; {cpu:.1f} s of CPU")]
 
 
 def table(rows) -> str:

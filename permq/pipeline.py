@@ -14,6 +14,7 @@ from .errors import Cancelled, PermqError
 from .families import handler_for
 from .engine.sampling import Progress
 from .result import Failure, Note
+from .robustness import diagnostics, executor as robustness, pictures
 from .syntax import nodes as n
 from .syntax.parser import SourceStatement, parse_script
 from . import statements
@@ -24,7 +25,13 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     design = bind(node, catalog, defaults)
     handler = handler_for(design)
     the_plan = handler.plan(design)
-    return handler.execute(design, the_plan, progress, text)
+    result = handler.execute(design, the_plan, progress, text)
+    if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
+        return result
+    diagnostics.attach(design, result)
+    if "picture" in n.options_of(node):
+        pictures.attach(design, result)
+    return result
 
 
 def explain(node, text: str, catalog: Catalog, defaults: Defaults) -> Note:
@@ -88,8 +95,15 @@ class Session:
         if isinstance(node, (n.Compare, n.Relate, n.Count)):
             result = analyse(node, st.text, self.catalog, self.defaults, self.progress)
             result.line = st.line
+            self._picture_file(node, result)
             self.history.append(statements.replayable(st.text, result))
             return result
+        if isinstance(node, n.Robustness):
+            check = robustness.run(node, st.text, self.catalog, self.defaults, self.progress)
+            check.line = st.line
+            self._picture_file(node.analysis, check)
+            self.history.append(robustness.replayable(st.text, check))
+            return check
         if isinstance(node, n.Explain):
             note = explain(node.analysis, st.text, self.catalog, self.defaults)
             note.line = st.line
@@ -98,6 +112,14 @@ class Session:
         if note is not None:
             note.line = st.line
         return note
+
+    def _picture_file(self, node, output) -> None:
+        """`picture "file.png"`: write the picture beside the query (a sentence says how it went)."""
+        opt = n.options_of(node).get("picture")
+        if opt is not None:
+            from .render import figures
+
+            output.warnings.append(figures.save(output, self.base_dir / opt.value))
 
     def run_many(self, sources: Iterable[str]) -> list:
         out = []

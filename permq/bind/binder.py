@@ -78,9 +78,12 @@ def settings_for(node, opts: dict, defaults: Defaults, allowed_families: tuple,
                  default_family: str, form: str, allowed_options: tuple) -> Settings:
     for key, opt in opts.items():
         if key not in allowed_options and key not in ("using", "alternative", "confidence",
-                                                      "exact", "sampled", "seed", "in"):
+                                                      "exact", "sampled", "seed", "in",
+                                                      "picture"):
             raise BindError(f"'{key}' does not apply to {form}", opt.span,
                             hint=_option_hint(key))
+    if "picture" in opts:
+        check_picture(opts["picture"])
     family = default_family
     if "using" in opts:
         family = opts["using"].value
@@ -120,6 +123,13 @@ def confidence_value(value, span: Optional[Span]) -> float:
     return level
 
 
+def check_picture(opt) -> None:
+    """A picture file is written as PNG or SVG, chosen by its extension."""
+    if not str(opt.value).lower().endswith((".png", ".svg")):
+        raise BindError(f"a picture is written as .png or .svg, not '{opt.value}'", opt.span,
+                        hint='for example: picture "null.png"')
+
+
 def _option_hint(key: str) -> Optional[str]:
     return {
         "paired": "'paired' goes with two columns: compare after vs before paired",
@@ -127,6 +137,10 @@ def _option_hint(key: str) -> Optional[str]:
         "within": "'within' goes with a group column: compare mass by recipe within bench",
         "ordered": "'ordered' goes with a group column: compare mass by dose ordered",
         "adjusting": "'adjusting for' goes with: relate Y to X using slope adjusting for Z",
+        "datasets": "'datasets' goes with a robustness check: robustness compare ... datasets 5000",
+        "shift": "'shift' goes with a robustness check: robustness compare ... shift 1 sd",
+        "significance": "'significance' goes with a robustness check: "
+                        "robustness compare ... significance 1%",
     }.get(key)
 
 

@@ -94,10 +94,11 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
 
 
 def _shift_words(problem, asked, shift, shift_sd) -> str:
-    unit = f"sd = {problem.sd_words} {_g(problem.sd)}"
+    per = {"slope": " per sd of x", "ordered": " across the doses"}.get(problem.kind, "")
+    size = f"{_g(shift)} = {_g(shift_sd)} sd{per} (sd = {problem.sd_words} {_g(problem.sd)})"
     if asked is None:
-        return f"the observed {problem.effect_words}, {_g(shift)} = {_g(shift_sd)} sd ({unit})"
-    return f"a {problem.effect_words} of {_g(shift)} = {_g(shift_sd)} sd ({unit})"
+        return f"the observed {problem.effect_words}, {size}"
+    return f"a {problem.effect_words} of {size}"
 
 
 def _g(v: float) -> str:

@@ -1,0 +1,362 @@
+"""Robustness checks, diagnostics and pictures.
+
+The simulated tests are checked against the engines they stand for (same p-values on the same
+data), the simulated rates against what theory says they must be (the level of a test that is
+exact under normal errors; the permutation test under exchangeable errors), against the
+published direction of the t test's error under skew, and the pictures against the exact null
+distributions they draw. Every simulation has a fixed seed, so the numbers do not move.
+"""
+from __future__ import annotations
+
+import csv
+import io
+import itertools
+import json
+import math
+import sys
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy import stats
+
+import permq
+from permq.bind.binder import Defaults, bind
+from permq.engine.sampling import Progress
+from permq.render import render
+from permq.render.pictures import picture_lines
+from permq.robustness import laws as L
+from permq.robustness.arrangements import distinct_arrangements, exact_reference
+from permq.robustness.batch import normal_p, observed_statistic, permutation_p, scores
+from permq.robustness.pictures import reported
+from permq.robustness.problem import data_row, pattern_for, problem_for
+from permq.robustness.result import RobustnessResult
+from permq.robustness.simulate import simulate
+from permq.syntax.parser import parse_script
+
+from conftest import inline
+
+RNG = np.random.default_rng(20261202)
+A5, B5, C4 = RNG.normal(0, 1, 5), RNG.normal(0.8, 1, 5), RNG.normal(1.2, 1.5, 4)
+D10 = RNG.normal(0.5, 1, 10)
+E10 = D10 * 0.5 + RNG.normal(0, 0.3, 10)
+XS = np.arange(1.0, 8.0)
+TABLES = {"t": pd.DataFrame({"y": 0.3 * XS + RNG.normal(0, 1, 7), "x": XS})}
+
+
+def _statements():
+    out = []
+    for fam in ("means", "ranks", "normal-scores", "medians"):
+        out += [f"compare {inline(A5)} vs {inline(B5)} using {fam} alternative {alt}"
+                for alt in ("two-sided", "higher", "lower")]
+        out.append(f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} using {fam}")
+    for fam in ("means", "ranks", "signs"):
+        for alt in ("two-sided", "higher", "lower"):
+            out.append(f"compare {inline(D10)} vs 0.2 using {fam} alternative {alt}")
+            out.append(f"compare {inline(D10)} vs {inline(E10)} paired using {fam} "
+                       f"alternative {alt}")
+    for alt in ("two-sided", "higher", "lower"):
+        out.append(f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered "
+                   f"alternative {alt}")
+        out += [f"relate y to x in t using {fam} alternative {alt}"
+                for fam in ("slope", "pearson", "spearman")]
+    return out
+
+
+def _design_and_result(text):
+    session = permq.Session(tables=TABLES)
+    design = bind(parse_script(text)[0].node, session.catalog, Defaults())
+    return design, session.run(text)[0]
+
+
+# ---------------------------------------------------------------- the simulated tests
+
+@pytest.mark.parametrize("text", _statements())
+def test_vectorised_tests_give_the_engines_p_values(text):
+    """One data set through the vectorised tests gives the exact p-value, the normal-theory
+    p-value and the statistic that the pipeline reports for it."""
+    design, result = _design_and_result(text)
+    pb = problem_for(design)
+    y = data_row(design)[None, :]
+    a = scores(pb, y)
+    ref = exact_reference(pb, limit=10 ** 7)
+    assert result.outcome.method == "exact"
+    assert permutation_p(pb, a, ref)[0] == pytest.approx(result.outcome.p_value, rel=1e-9)
+    assert normal_p(pb, y, a)[0] == pytest.approx(result.normal.p_value, rel=1e-9)
+    t = reported(pb, a[0], observed_statistic(pb, a))[0]
+    assert t == pytest.approx(result.outcome.statistic, rel=1e-9, abs=1e-12)
+
+
+def test_distinct_arrangements_list_every_arrangement_once():
+    codes = np.array([0, 0, 1, 1, 2])
+    rows = distinct_arrangements(codes)
+    brute = set(itertools.permutations(codes.tolist()))
+    assert len(rows) == len(brute) == math.factorial(5) // (2 * 2)
+    assert {tuple(r) for r in rows} == brute
+
+
+def test_laws_are_standardised_and_centred():
+    rng = np.random.default_rng(5)
+    for law in L.SHAPES:
+        e = law.draw(rng, 400_000)
+        assert abs(e.mean()) < 0.02 and abs(e.var() - 1) < (0.2 if law is L.T3 else 0.03), law.key
+    exp = L.EXPONENTIAL.draw(rng, 400_000)
+    m = L.centre("exponential", "signs")
+    assert m == pytest.approx(math.log(2) - 1, abs=1e-9)
+    # pseudo-median of the centred exponential: (e1 + e2) / 2 has the median of Gamma(2, 1/2)
+    assert L.centre("exponential", "ranks") == pytest.approx(stats.gamma.median(2) / 2 - 1,
+                                                             abs=1e-7)
+    assert np.mean(exp - m < 0) == pytest.approx(0.5, abs=0.003)
+
+
+def _problem(text, tables=None):
+    session = permq.Session(tables=tables or TABLES)
+    return problem_for(bind(parse_script(text)[0].node, session.catalog, Defaults()))
+
+
+def _sim(text, datasets, seed, panel=None, alpha=0.05):
+    pb = _problem(text)
+    pattern, _, _ = pattern_for(pb, (1.0, True))
+    return {r.law.key: r for r in simulate(pb, pattern, datasets, alpha, seed, panel=panel).rates}
+
+
+def _within(rate, alpha, z=3.0):
+    se = max(rate.se, math.sqrt(alpha * (1 - alpha) / 4000))
+    return abs(rate.value - alpha) <= z * se
+
+
+X8 = [10.1, 9.4, 11.0, 10.6, 9.9, 10.3, 9.1, 10.8]
+Y8 = [11.2, 10.7, 11.9, 10.4, 11.5, 12.0, 10.9, 11.3]
+
+
+def test_normal_theory_holds_its_level_under_normal_errors():
+    """The paired t, the one-way F and the slope t are exact under normal errors, Welch's t
+    nearly so: their simulated rates are the level within Monte Carlo error."""
+    for text in (f"compare {inline(D10)} vs {inline(E10)} paired",
+                 f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)}",
+                 "relate y to x in t using slope",
+                 f"compare {inline(X8)} vs {inline(Y8)}"):
+        rates = _sim(text, 4000, 17, panel=(L.NORMAL,))
+        assert _within(rates["normal"].normal_null, 0.05), (text, rates["normal"].normal_null)
+
+
+def test_permutation_test_never_exceeds_the_level_under_exchangeable_laws():
+    cases = [(f"compare {inline(X8)} vs {inline(Y8)}", True),            # exact, 12,870
+             (f"compare {inline(X8)} vs {inline(Y8)} using ranks", True),
+             (f"compare {inline(D10)} vs {inline(E10)} paired", True),   # exact, 1,024
+             (f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)}", False),   # Monte Carlo
+             ("relate y to x in t using slope", True)]                   # exact, 5,040
+    checked = 0
+    for text, exact in cases:
+        pb = _problem(text)
+        assert (exact_reference(pb) is not None) == exact
+        pattern, _, _ = pattern_for(pb, (1.0, True))
+        sim = simulate(pb, pattern, 1500, 0.05, 23)
+        for r in sim.rates:
+            if r.not_exact:
+                continue
+            rate = r.permutation_null
+            se = max(rate.se, math.sqrt(0.05 * 0.95 / 1500))
+            assert rate.value <= 0.05 + 3 * se, (text, r.law.key, rate)
+            checked += 1
+    assert checked == 4 * 5 + 6        # paired: every law keeps the pairs exchangeable
+
+
+def test_t_test_under_strong_skew_at_tiny_n_errs_in_the_published_direction():
+    """Right-skewed errors, one sample of 6, t test of the mean. Reineke, Baggett and Elfessi,
+    "A Note on the Effect of Skewness, Kurtosis, and Shifting on One-Sample t and Sign Tests",
+    Journal of Statistics Education 11(3), 2003, Introduction (reporting Chaffin and Rhiel,
+    1993): the level of the one-sample t test is above the nominal level when the
+    population's skewness is opposite to the tail of the rejection region (and, as the same
+    studies imply, below it in the same tail). Cressie, "Relaxing assumptions in the one
+    sample t-test", Australian Journal of Statistics 22, 1980, summary: positively skewed data
+    give a negatively skewed t. So: liberal for 'lower', conservative for 'higher'."""
+    data = [1.1, 2.3, 0.4, 3.5, 1.9, 0.7]
+    panel = (L.EXPONENTIAL, L.LOGNORMAL)
+    lower = _sim(f"compare {inline(data)} vs 0 alternative lower", 4000, 31, panel)
+    higher = _sim(f"compare {inline(data)} vs 0 alternative higher", 4000, 31, panel)
+    for key in ("exponential", "lognormal"):
+        lo, hi = lower[key].normal_null, higher[key].normal_null
+        assert lo.value > 0.05 + 3 * lo.se, (key, lo)
+        assert hi.value < 0.05 - 3 * max(hi.se, 0.0034), (key, hi)
+        assert lower[key].not_exact        # sign flips need symmetry; the report says so
+
+
+def test_unequal_spread_breaks_the_permutation_test_and_the_report_says_so():
+    """4 against 12, the small group three times as wide: the permutation test of the mean
+    difference (like the pooled t) rejects too often, Welch's t does not (common practice)."""
+    small, large = [5.1, 4.2, 6.3, 5.7], [5.0, 5.5, 4.9, 5.2, 4.4, 6.1, 5.3, 4.7, 5.8, 5.1, 4.6, 5.4]
+    out = permq.run(f"robustness compare {inline(small)} vs {inline(large)} datasets 2000 seed 5")
+    rr = out[0]
+    assert isinstance(rr, RobustnessResult), out
+    row = next(r for r in rr.rows if r.key == "unequal-spread")
+    assert row.not_exact and row.permutation_rate > 0.05 + 3 * row.permutation_se
+    assert row.normal_verdict == "holds its level"
+    assert any("loses its exactness" in s and "unequal spread" in s for s in rr.summary)
+    assert "permutation not exact (too liberal)" in row.verdict
+
+
+# ---------------------------------------------------------------- the statement
+
+def test_robustness_statement_end_to_end_and_reproducible():
+    text = f"robustness compare {inline(X8)} vs {inline(Y8)} using ranks datasets 300 seed 9"
+    first, second = permq.run(text)[0], permq.run(text)[0]
+    assert isinstance(first, RobustnessResult)
+    assert [r.to_dict() for r in first.rows] == [r.to_dict() for r in second.rows]
+    d = json.loads(json.dumps(first.to_dict()))
+    assert d["family"] == "robustness" and len(d["laws"]) == 6
+    assert d["simulated_permutation_test"] == {
+        "method": "exact", "arrangements": 12870,
+        "description": "exact: all 12,870 arrangements, for every data set"}
+    plain = permq.run(f"compare {inline(X8)} vs {inline(Y8)} using ranks")[0]
+    assert d["observed"]["p_value"] == pytest.approx(plain.outcome.p_value)
+    block = render([first], "text")
+    for word in ("rejection rate under the null", "verdict", "unequal spread", "▲"):
+        assert word in block
+    assert "| unequal spread |" in render([first], "markdown")
+    row = next(csv.DictReader(io.StringIO(render([first], "csv"))))
+    assert (row["family"], row["method"], row["seed"]) == ("robustness", "exact", "9")
+
+
+def test_session_history_pins_the_seed():
+    s = permq.Session()
+    s.run(f"robustness compare {inline(X8)} vs {inline(Y8)} datasets 200")
+    seed = int(s.history[-1].rsplit("seed ", 1)[1])
+    again = permq.run(s.history[-1])[0]
+    assert again.seed == seed
+
+
+def test_shift_in_sd_and_in_data_units_agree():
+    pb = _problem(f"compare {inline(X8)} vs {inline(Y8)}")
+    p1, value, in_sd = pattern_for(pb, (0.8, True))
+    p2, value2, in_sd2 = pattern_for(pb, (value, False))
+    assert np.allclose(p1, p2) and in_sd2 == pytest.approx(0.8) and value2 == value
+    observed, effect, _ = pattern_for(pb, None)
+    assert effect == pytest.approx(np.mean(X8) - np.mean(Y8))
+
+
+@pytest.mark.parametrize("suffix, message", [
+    ("datasets 50", "100 to 1,000,000"),
+    ("significance 70%", "between 0% and 50%"),
+    ("significance 5", "is not a level"),
+    ('picture "x.jpg"', ".png or .svg"),
+])
+def test_robustness_options_are_checked(suffix, message):
+    f = permq.run(f"robustness compare {inline(X8)} vs {inline(Y8)} {suffix}")[0]
+    assert isinstance(f, permq.Failure) and message in f.message
+
+
+def test_check_options_outside_a_check_are_refused_with_a_hint():
+    f = permq.run(f"compare {inline(X8)} vs {inline(Y8)} datasets 500")[0]
+    assert isinstance(f, permq.Failure) and "robustness" in f.hint
+
+
+def test_significance_sets_the_level():
+    rr = permq.run(f"robustness compare {inline(D10)} vs 0 significance 1% datasets 200 seed 2")[0]
+    assert rr.significance == 0.01 and "at 1%" in " ".join(rr.summary) or \
+        "1% level" in " ".join(rr.summary)
+
+
+@pytest.mark.parametrize("text, words", [
+    ("robustness count [[9, 1], [3, 7]]", "table analyses"),
+    ("robustness relate y to x in t using kendall", "Kendall"),
+])
+def test_families_without_a_check_say_so(text, words):
+    f = permq.run(text, tables=TABLES)[0]
+    assert isinstance(f, permq.Failure) and "not available" in f.message and words in f.message
+
+
+def test_a_cancel_stops_the_simulation():
+    calls = []
+
+    def stop():
+        calls.append(1)
+        return len(calls) > 3
+
+    s = permq.Session(should_stop=stop)
+    f = s.run(f"robustness compare {inline(X8)} vs {inline(Y8)} datasets 100000 seed 1")[0]
+    assert isinstance(f, permq.Failure) and f.kind == "cancelled"
+
+
+# ---------------------------------------------------------------- diagnostics
+
+def test_diagnostics_on_every_result():
+    x, y = [4.1, 5.3, 4.8, 5.0, 7.9], [6.0, 5.9, 7.2, 6.6, 6.1, 6.3]
+    r = permq.run(f"compare {inline(x)} vs {inline(y)}")[0]
+    d = r.extra["diagnostics"]
+    resid = np.r_[np.subtract(x, np.mean(x)), np.subtract(y, np.mean(y))]
+    sd = math.sqrt((resid ** 2).sum() / (len(resid) - 2))
+    assert d["skewness"] == pytest.approx(stats.skew(resid, bias=False))
+    assert d["largest_residual_sd"] == pytest.approx(np.abs(resid).max() / sd)
+    assert d["spread_ratio"] == pytest.approx(np.std(x, ddof=1) / np.std(y, ddof=1))
+    assert d["disagree"] is False
+    assert "diagnostics" in render([r], "text")
+    assert json.loads(render([r], "json"))[0]["diagnostics"]["level"] == 0.05
+
+
+def test_diagnostics_flag_p_values_on_opposite_sides():
+    """3 against 3: the smallest two-sided permutation p-value is 2/20 = 0.1, while Welch's t
+    finds a clear shift significant."""
+    r = permq.run("compare [1.0, 1.1, 1.2] vs [2.0, 2.1, 2.2]")[0]
+    assert r.outcome.p_value == pytest.approx(0.1) and r.normal.p_value < 0.05
+    assert r.extra["diagnostics"]["disagree"] is True
+    assert "opposite sides of 5%" in render([r], "text")
+
+
+def test_diagnostics_for_slopes_and_tables():
+    r = permq.run("relate y to x in t using slope", tables=TABLES)[0]
+    d = r.extra["diagnostics"]
+    assert d["spread_ratio_of"].startswith("residual sd above the median of x")
+    t = permq.run("count [[9, 1], [3, 7]]")[0]
+    assert t.extra["diagnostics"]["skewness"] is None
+
+
+# ---------------------------------------------------------------- pictures
+
+@pytest.mark.parametrize("alternative", ["higher", "lower", "two-sided"])
+def test_null_picture_mass_is_one_and_the_observed_value_sits_in_its_bin(alternative, tmp_path):
+    r = permq.run(f"compare {inline(X8)} vs {inline(Y8)} alternative {alternative} "
+                  'picture "n.png"', base_dir=tmp_path)[0]
+    pic = r.extra["null_picture"]
+    masses, edges, b = np.array(pic["masses"]), pic["edges"], pic["observed_bin"]
+    assert masses.sum() == pytest.approx(1.0, abs=1e-12)
+    assert edges[b] <= pic["observed"] <= edges[b + 1]
+    assert pic["observed"] == pytest.approx(r.outcome.statistic)
+    p = r.outcome.p_value
+    if alternative == "higher":      # bins wholly above the observed one hold at most p
+        assert masses[b + 1:].sum() - 1e-9 <= p <= masses[b:].sum() + 1e-9
+    if alternative == "lower":
+        assert masses[:b].sum() - 1e-9 <= p <= masses[:b + 1].sum() + 1e-9
+    lines = picture_lines(pic)
+    marker = lines[-2]
+    assert marker.index("▲") - 17 == b and len(marker) - 17 == len(masses)
+
+
+def test_null_picture_from_monte_carlo_draws(tmp_path):
+    r = permq.run('relate y to x in t using slope sampled 2000 seed 4 picture "s.svg"',
+                  tables=TABLES, base_dir=tmp_path)[0]
+    pic = r.extra["null_picture"]
+    assert pic["source"].startswith("Monte Carlo, 20,000 random arrangements")
+    assert sum(pic["masses"]) == pytest.approx(1.0)
+    assert pic["edges"][pic["observed_bin"]] <= pic["observed"] <= pic["edges"][pic["observed_bin"] + 1]
+    # the null of the slope is symmetric about 0: half the mass on each side (Monte Carlo)
+    centres = (np.array(pic["edges"][:-1]) + np.array(pic["edges"][1:])) / 2
+    assert np.sum(np.array(pic["masses"])[centres > 0]) == pytest.approx(0.5, abs=0.03)
+
+
+def test_picture_file_needs_matplotlib_and_says_how_to_get_it(monkeypatch, tmp_path):
+    monkeypatch.setitem(sys.modules, "matplotlib", None)
+    monkeypatch.setitem(sys.modules, "matplotlib.figure", None)
+    r = permq.run(f'compare {inline(X8)} vs {inline(Y8)} picture "n.png"', base_dir=tmp_path)[0]
+    assert any('pip install "permq[pictures]"' in w for w in r.warnings)
+    assert not (tmp_path / "n.png").exists()
+    assert "▲" in render([r], "text")          # the terminal picture is still there
+
+
+def test_picture_files_are_written_with_matplotlib(tmp_path):
+    pytest.importorskip("matplotlib")
+    r = permq.run(f'compare {inline(X8)} vs {inline(Y8)} picture "n.png"', base_dir=tmp_path)[0]
+    assert (tmp_path / "n.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n", r.warnings
+    rr = permq.run(f'robustness compare {inline(X8)} vs {inline(Y8)} datasets 200 seed 3 '
+                   'picture "panel.svg"', base_dir=tmp_path)[0]
+    assert "<svg" in (tmp_path / "panel.svg").read_text()[:2000], rr.warnings
