@@ -253,8 +253,8 @@ def test_check_options_outside_a_check_are_refused_with_a_hint():
 
 def test_significance_sets_the_level():
     rr = permq.run(f"robustness compare {inline(D10)} vs 0 significance 1% datasets 200 seed 2")[0]
-    assert rr.significance == 0.01 and "at 1%" in " ".join(rr.summary) or \
-        "1% level" in " ".join(rr.summary)
+    assert rr.significance == 0.01
+    assert "at 1%" in rr.summary[0] or "its 1% level" in rr.summary[0]
 
 
 @pytest.mark.parametrize("text, words", [
@@ -279,6 +279,13 @@ def test_a_cancel_stops_the_simulation():
 
 
 # ---------------------------------------------------------------- diagnostics
+
+def test_a_design_too_small_for_the_level_is_said_to_be_so():
+    rr = permq.run("robustness compare [1.2, 3.4, 2.2] vs [2.2, 0.3, 1.1] datasets 200 seed 8")[0]
+    assert all(r.permutation_rate == 0 for r in rr.rows)      # 20 arrangements: p >= 0.1
+    assert any("never rejected" in s and "20 arrangements" in s for s in rr.summary)
+    assert rr.normal_test == "Welch t"
+
 
 def test_diagnostics_on_every_result():
     x, y = [4.1, 5.3, 4.8, 5.0, 7.9], [6.0, 5.9, 7.2, 6.6, 6.1, 6.3]

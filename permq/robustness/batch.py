@@ -50,6 +50,27 @@ def scores(problem: Problem, Y: np.ndarray) -> np.ndarray:
 
 # ---------------------------------------------------------------- normal theory
 
+def normal_test_name(problem: Problem) -> str:
+    """The normal-theory test simulated here (the family's own counterpart), in words."""
+    fam, kind = problem.family, problem.kind
+    if kind == "two-sample":
+        return {"means": "Welch t", "ranks": "normal approximation to the rank sum",
+                "normal-scores": "normal approximation to the normal-scores sum",
+                "medians": "normal approximation to the count above the median"}[fam]
+    if kind in ("paired", "one-sample"):
+        return {"means": "one-sample t on the differences" if kind == "paired"
+                else "one-sample t", "ranks": "normal approximation to the signed-rank sum",
+                "signs": "normal approximation to the sign count"}[fam]
+    if kind == "k-sample":
+        return {"means": "one-way ANOVA F", "ranks": "Kruskal-Wallis chi-square approximation",
+                "normal-scores": "van der Waerden chi-square approximation",
+                "medians": "median test chi-square approximation"}[fam]
+    if kind == "ordered":
+        return "linear trend t"
+    return {"slope": "least-squares t test of the slope", "pearson": "t test of Pearson's r",
+            "spearman": "t approximation for Spearman's rho"}[fam]
+
+
 def _p_t(t, df, alternative):
     if alternative == "higher":
         return stats.t.sf(t, df)

@@ -95,6 +95,8 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
 
 def _shift_words(problem, asked, shift, shift_sd) -> str:
     per = {"slope": " per sd of x", "ordered": " across the doses"}.get(problem.kind, "")
+    if not problem.per_sd > 0:
+        return f"a shift of {_g(shift_sd)} sd{per} of the simulated errors (the data have no spread)"
     size = f"{_g(shift)} = {_g(shift_sd)} sd{per} (sd = {problem.sd_words} {_g(problem.sd)})"
     if asked is None:
         return f"the observed {problem.effect_words}, {size}"

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 
+from .batch import normal_test_name
 from .result import LawRow, RobustnessResult
 from .simulate import Simulation
 
@@ -138,10 +139,13 @@ def build(statement, problem, observed, sim: Simulation, shift, shift_sd,
     else:
         ref = (f"Monte Carlo: {sim.arrangements:,} random arrangements a data set, drawn afresh "
                f"for every block of data sets; p = (b + 1) / (m + 1)")
-    normal_test = observed.normal.test if observed.normal else "normal theory"
+    normal_test = normal_test_name(problem)
+    lines = summary(table, sim.alpha, normal_test, shift_words)
+    if all(r.permutation_rate == 0 and r.permutation_power == 0 for r in table):
+        lines.insert(1, f"The permutation test never rejected a data set at {sim.alpha:.0%}: with "
+                        f"{sim.arrangements:,} arrangements its p-values do not fall that low.")
     return RobustnessResult(
         statement, observed.family, problem.design_words, observed.outcome.statistic_name,
         normal_test, problem.alternative, sim.alpha, sim.datasets, ref, sim.exact,
         sim.arrangements, sim.seed, shift, shift_sd, shift_words, problem.sd, problem.sd_words,
-        table, summary(table, sim.alpha, normal_test, shift_words), observed, picture,
-        list(warnings))
+        table, lines, observed, picture, list(warnings))
