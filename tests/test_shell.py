@@ -24,8 +24,9 @@ from permq.frontends.shell.completion import current_word, suggest
 from permq.frontends.shell.history import history_path, open_history
 from permq.frontends.shell.lexer import lexer_class
 from permq.frontends.shell.repl import PROMPT, Shell
+from permq.frontends.shell.running import StopFlag, run_stoppable
 from permq.frontends.shell.scan import needs_more, one_line
-from permq.frontends.shell.toolbar import toolbar_text
+from permq.frontends.shell.toolbar import toolbar, toolbar_text
 from permq.pipeline import Session
 from permq.result import Failure
 from permq.syntax.grammar import parser
@@ -248,6 +249,9 @@ def test_toolbar_shows_table_size_and_defaults():
     text = toolbar_text(s)
     assert "confidence 90%" in text and "seed 11" in text and "budget 30 s" in text
     assert "no table in use" in toolbar_text(Session())
+    narrow = "".join(t for _, t in toolbar(s, 80))
+    assert "trays" in narrow and "Tab completes" not in narrow and len(narrow) <= 80
+    assert "Tab completes" in "".join(t for _, t in toolbar(s, 160))
 
 
 def test_history_location(tmp_path):
@@ -333,6 +337,18 @@ def test_files_on_the_command_line(tmp_path):
 
 # ---------------------------------------------------------------- printing and cancelling
 
+def test_notes_print_as_text_whatever_the_format():
+    printed = []
+    shell = Shell(demo_session(), write=printed.append)
+    shell.handle("set format json")
+    assert "format set to json" in "".join(printed)
+    printed.clear()
+    shell.handle('compare mass by recipe levels "A", "B"')
+    import json
+    (obj,) = json.loads("".join(printed))
+    assert obj["p_value"] == pytest.approx(0.0065, abs=5e-5) and obj["method"] == "exact"
+
+
 def test_an_error_points_under_the_typed_line():
     printed = []
     shell = Shell(demo_session(), write=printed.append)
@@ -348,30 +364,73 @@ def test_an_error_points_under_the_typed_line():
     assert "did you mean 'mass'?" in lines[2]
 
 
-@pytest.mark.skipif(not hasattr(signal, "SIGINT") or os.name != "posix", reason="POSIX signals")
-def test_ctrl_c_while_numpy_works_cancels_and_keeps_the_session():
-    session = demo_session()
-    printed = []
-    shell = Shell(session, write=printed.append)
-    history = list(session.history)
+def interrupts(*times):
+    """SIGINT to this process at the given times (seconds from now), as Ctrl-C would."""
+    return [threading.Timer(t, os.kill, (os.getpid(), signal.SIGINT)) for t in times]
+
+
+@pytest.fixture
+def sigint():
     old = signal.signal(signal.SIGINT, signal.default_int_handler)
-    # a second interrupt later is a watchdog: if the first were lost, fail rather than hang
-    timers = [threading.Timer(t, os.kill, (os.getpid(), signal.SIGINT)) for t in (0.8, 10.0)]
-    try:
-        started = time.monotonic()
-        for t in timers:
-            t.start()
-        assert shell.handle('compare mass by recipe levels "A","B" sampled 200000000')
-        took = time.monotonic() - started
-    finally:
-        for t in timers:
-            t.cancel()
-        signal.signal(signal.SIGINT, old)
-    assert "cancelled" in "".join(printed) and took < 5
+    started = []
+    yield lambda *times: started.extend(t for t in interrupts(*times) if t.start() or True)
+    for t in started:
+        t.cancel()
+    signal.signal(signal.SIGINT, old)
+
+
+@pytest.mark.skipif(os.name != "posix", reason="POSIX signals")
+def test_ctrl_c_during_a_long_run_cancels_and_keeps_the_session(sigint):
+    stop = StopFlag()
+    session = Session(base_dir=DEMO, should_stop=stop)
+    session.run('load "trays.csv" as trays\nload "seedlings.csv" as pots\nuse trays')
+    printed = []
+    shell = Shell(session, write=printed.append, stop=stop)
+    history = list(session.history)
+    started = time.monotonic()
+    sigint(0.8, 10.0)      # the second one is a watchdog: fail rather than hang
+    assert shell.handle('compare mass by recipe levels "A","B" sampled 200000000')
+    took = time.monotonic() - started
+    assert took < 5, "".join(printed)
+    assert "stopping the running statement" in "".join(printed)
+    assert "cancelled; no result kept" in "".join(printed)
     assert session.history == history and set(session.catalog.tables) == {"trays", "pots"}
+    assert not stop()
     printed.clear()
     shell.handle('compare mass by recipe levels "A", "B"')
     assert "0.0065" in "".join(printed)       # exact p, as in `permq run demo/greenhouse.pq`
+
+
+@pytest.mark.skipif(os.name != "posix", reason="POSIX signals")
+def test_a_second_ctrl_c_interrupts_work_that_never_checks(sigint):
+    def stubborn():
+        end = time.monotonic() + 8
+        while time.monotonic() < end:
+            sum(range(1000))
+        return "finished"
+
+    notes = []
+    started = time.monotonic()
+    sigint(0.3, 0.6)
+    with pytest.raises(KeyboardInterrupt):
+        run_stoppable(stubborn, StopFlag(), notes.append)
+    assert time.monotonic() - started < 3 and notes == [1, 2]
+
+
+@pytest.mark.skipif(os.name != "posix", reason="POSIX signals")
+def test_one_ctrl_c_stops_work_that_checks(sigint):
+    stop = StopFlag()
+
+    def polite():
+        end = time.monotonic() + 8
+        while time.monotonic() < end:
+            if stop():
+                return "stopped"
+            time.sleep(0.01)
+        return "finished"
+
+    sigint(0.3)
+    assert run_stoppable(polite, stop) == "stopped" and not stop()
 
 
 def test_save_replays_to_the_same_numbers(tmp_path):

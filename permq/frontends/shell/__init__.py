@@ -16,6 +16,7 @@ from .completion import ShellCompleter
 from .history import open_history
 from .lexer import prompt_lexer, style
 from .repl import CONTINUATION, PROMPT, Shell, unfinished
+from .running import StopFlag
 from .toolbar import toolbar
 
 BANNER = (f"permq {__version__}: exact permutation and rank tests beside their "
@@ -42,7 +43,7 @@ def make_prompt_session(session: Session, history, input=None, output=None):
         lexer=prompt_lexer(),
         style=style(),
         include_default_pygments_style=False,
-        bottom_toolbar=lambda: toolbar(session),
+        bottom_toolbar=lambda: toolbar(session, _columns(holder["ps"])),
         search_ignore_case=True,
         input=input,
         output=output,
@@ -51,12 +52,20 @@ def make_prompt_session(session: Session, history, input=None, output=None):
     return ps
 
 
+def _columns(prompt_session) -> int:
+    try:
+        return prompt_session.app.output.get_size().columns
+    except Exception:  # noqa: BLE001 - no size known: show everything
+        return 0
+
+
 def start_shell(files=(), input=None, output=None, write=None, history_file=None) -> int:
     tty = sys.stdout.isatty() and output is None
     color = tty and not os.environ.get("NO_COLOR")
     progress = ProgressLine() if sys.stderr.isatty() and output is None else None
-    session = Session(base_dir=Path.cwd(), on_progress=progress)
-    shell = Shell(session, write=write, color=color, progress=progress)
+    stop = StopFlag()
+    session = Session(base_dir=Path.cwd(), on_progress=progress, should_stop=stop)
+    shell = Shell(session, write=write, color=color, progress=progress, stop=stop)
     history, problem = open_history(history_file)
     shell.write(BANNER + (f"({problem})\n" if problem else "") + "\n")
     for name in files:

@@ -290,5 +290,9 @@ class ShellCompleter(Completer):
         except Exception:  # noqa: BLE001 - a completer must never end the shell
             return
         word = scan(text).word
+        after = document.text_after_cursor[:1]
         for value, desc in items:
-            yield Completion(value, start_position=-len(word), display_meta=desc)
+            # a finished word gets its space, so that the next Tab offers what follows
+            done = not value.endswith("/") and after in ("", "\n")
+            yield Completion(value + (" " if done else ""), start_position=-len(word),
+                             display=value, display_meta=desc)

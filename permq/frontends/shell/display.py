@@ -8,15 +8,16 @@ from __future__ import annotations
 
 from ...render import render
 from ...render.text import RED, RESET
-from ...result import Failure
+from ...result import Failure, Result
 
 YELLOW = "\x1b[33m"
 
 
 def output_text(out, fmt: str = "text", color: bool = False) -> str:
-    if isinstance(out, Failure):
+    """Results in the session's format; notes and errors always as text."""
+    if fmt == "text" or not isinstance(out, Result):
         return render([out], "text", color=color)
-    return render([out], fmt, color=color if fmt == "text" else False)
+    return render([out], fmt)
 
 
 def caret_under_prompt(f: Failure, typed: str, prompt_width: int, color: bool = False):

@@ -2,8 +2,8 @@
 
 `Shell.handle(text)` runs what was typed (several statements, or one spread over lines) and
 prints each output; `Shell.loop()` reads with prompt_toolkit until Ctrl-D or `quit`.
-Statements run in the main thread: Ctrl-C raises KeyboardInterrupt inside the engine,
-which the session turns into a "cancelled" failure and leaves the session as it was.
+Given a StopFlag (the session's should_stop), statements run in a worker thread and Ctrl-C
+stops them (see running.py); the session reports a "cancelled" failure and stays as it was.
 """
 from __future__ import annotations
 
@@ -14,6 +14,7 @@ from typing import Callable, Optional
 from ...result import Failure
 from ...syntax.parser import parse_script
 from . import display
+from .running import StopFlag, run_stoppable
 from .scan import needs_more, one_line
 
 PROMPT = "permq> "
@@ -23,8 +24,9 @@ TABLE_SUFFIXES = (".csv", ".tsv", ".tab", ".parquet", ".xlsx", ".xls")
 
 class Shell:
     def __init__(self, session, write: Optional[Callable[[str], None]] = None,
-                 color: bool = False, progress=None):
+                 color: bool = False, progress=None, stop: Optional[StopFlag] = None):
         self.session = session
+        self.stop = stop            # the session's should_stop; None: run in this thread
         self.write = write or _stdout_write
         self.color = color
         self.progress = progress    # a ProgressLine (start/clear), or None
@@ -48,10 +50,19 @@ class Shell:
         if self.progress is not None:
             self.progress.start()
         try:
-            return self.session.run_statement(st)
+            if self.stop is None:
+                return self.session.run_statement(st)
+            return run_stoppable(lambda: self.session.run_statement(st), self.stop,
+                                 self._stopping)
         finally:
             if self.progress is not None:
                 self.progress.clear()
+
+    def _stopping(self, presses: int) -> None:
+        if self.progress is not None:
+            self.progress.clear()
+        word = "stopping" if presses == 1 else "interrupting"
+        self.write(f"{word} the running statement ...\n")
 
     def show(self, out, typed: str = "", first: bool = False) -> None:
         if isinstance(out, Failure):

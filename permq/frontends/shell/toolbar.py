@@ -28,8 +28,10 @@ def toolbar_text(session) -> str:
     return f" {table_part(session)} │ {defaults_part(session)} │ {KEYS}"
 
 
-def toolbar(session):
-    """The toolbar as prompt_toolkit formatted text."""
-    return [("class:bottom-toolbar.table", f" {table_part(session)}"),
-            ("", f" │ {defaults_part(session)} │ "),
-            ("class:bottom-toolbar.key", KEYS)]
+def toolbar(session, width: int = 0):
+    """The toolbar as prompt_toolkit formatted text; the key hints only where they fit."""
+    parts = [("class:bottom-toolbar.table", f" {table_part(session)}"),
+             ("", f" │ {defaults_part(session)}")]
+    if not width or sum(len(t) for _, t in parts) + 3 + len(KEYS) <= width:
+        parts += [("", " │ "), ("class:bottom-toolbar.key", KEYS)]
+    return parts
