@@ -46,7 +46,9 @@ def enumerate_codes(sizes, progress: Progress = NO_PROGRESS) -> np.ndarray:
     free = np.arange(N)[None, :]              # units not yet given a group, per row
     for g, n in enumerate(sizes[:-1]):
         r = free.shape[1]
-        pick = np.array(list(itertools.combinations(range(r), n)), dtype=np.int64).reshape(-1, n)
+        total = math.comb(r, n)
+        pick = np.fromiter(itertools.chain.from_iterable(itertools.combinations(range(r), n)),
+                           dtype=np.int64, count=total * n).reshape(total, n)
         rest = np.ones((len(pick), r), dtype=bool)
         rest[np.arange(len(pick))[:, None], pick] = False
         keep = np.nonzero(rest)[1].reshape(len(pick), r - n)

@@ -21,6 +21,7 @@ from ..errors import PermqError
 from .sampling import NO_PROGRESS, Progress, default_workers
 
 _CLIENTS: dict = {}
+CONNECT_SECONDS = 10
 
 
 class LocalPool:
@@ -98,7 +99,7 @@ def connect(address: str):
         raise PermqError("a cluster needs dask.distributed, which is not installed",
                          hint='pip install "permq[dask]"') from None
     try:
-        client = Client(address, timeout=10, set_as_default=False)
+        client = Client(address, timeout=CONNECT_SECONDS, set_as_default=False)
     except (OSError, TimeoutError) as exc:
         raise PermqError(f"cannot reach the cluster at {address}: {exc}",
                          hint="check the address, or 'set cluster none' to run here") from None
