@@ -68,8 +68,11 @@ def start_shell(files=(), input=None, output=None, write=None, history_file=None
     shell = Shell(session, write=write, color=color, progress=progress, stop=stop)
     history, problem = open_history(history_file)
     shell.write(BANNER + (f"({problem})\n" if problem else "") + "\n")
-    for name in files:
-        shell.open_file(name)
+    try:
+        for name in files:
+            shell.open_file(name)
+    except KeyboardInterrupt:
+        shell.write("stopped reading the files named on the command line\n\n")
     if session.quit_requested:
         return 0
     return shell.loop(make_prompt_session(session, history, input=input, output=output))

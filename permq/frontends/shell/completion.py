@@ -16,12 +16,13 @@ from typing import Optional
 
 from prompt_toolkit.completion import Completer, Completion
 
+from ...data.tables import READERS
 from . import notes, vocabulary as vocab
 from .scan import current_word, scan  # noqa: F401 - current_word is part of the API
 
 Suggestion = tuple[str, str]
 NAME_RE = re.compile(r"[A-Za-z_][A-Za-z0-9_.]*")
-TABLE_FILES = (".csv", ".tsv", ".tab", ".txt", ".parquet", ".xlsx", ".xls")
+TABLE_FILES = tuple(READERS)            # the extensions `load` can read
 MAX_FILES = 200
 
 

@@ -11,6 +11,7 @@ import sys
 from pathlib import Path
 from typing import Callable, Optional
 
+from ...data.tables import READERS
 from ...result import Failure
 from ...syntax.parser import parse_script
 from . import display
@@ -19,7 +20,8 @@ from .scan import needs_more, one_line
 
 PROMPT = "permq> "
 CONTINUATION = "  ...> "
-TABLE_SUFFIXES = (".csv", ".tsv", ".tab", ".parquet", ".xlsx", ".xls")
+# files named on the command line: tables by extension (a .txt is taken for a query file)
+TABLE_SUFFIXES = tuple(ext for ext in READERS if ext != ".txt")
 
 
 class Shell:
@@ -62,7 +64,7 @@ class Shell:
         if self.progress is not None:
             self.progress.clear()
         word = "stopping" if presses == 1 else "interrupting"
-        self.write(f"{word} the running statement ...\n")
+        self.write(f"\r{word} the running statement ...\n")
 
     def show(self, out, typed: str = "", first: bool = False) -> None:
         if isinstance(out, Failure):
