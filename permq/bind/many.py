@@ -152,9 +152,15 @@ def _response_columns(frame, subject, response) -> list:
 def _matrix(frame, columns, response, several) -> tuple:
     """(values, tested-so-far names, untested, warnings) from the named or found columns."""
     every = several and response.every_numeric
+    block, in_block = _numeric_block(frame, columns)
     numeric, untested, skipped = [], [], []
     for name in columns:
-        col, reason = _numeric(frame, name)
+        if name in in_block:
+            col, reason = block[:, in_block[name]], None
+            if np.isinf(col).any():
+                reason = "holds an infinite value"
+        else:
+            col, reason = _numeric(frame, name)
         if reason is None:
             numeric.append((name, col))
         elif every and reason.startswith("not numeric"):
@@ -175,6 +181,21 @@ def _matrix(frame, columns, response, several) -> tuple:
     else:
         values = np.empty((len(frame), 0))
     return values, [nm for nm, _ in numeric], untested, warnings
+
+
+def _numeric_block(frame, columns):
+    """The plain numeric columns (not bool, names not repeated) read at once: (block, index)."""
+    names = [str(c) for c in frame.columns]
+    repeated = {nm for nm, dup in zip(names, pd.Index(names).duplicated(keep=False)) if dup}
+    kinds = dict(zip(names, frame.dtypes))
+    plain = [nm for nm in columns if nm not in repeated and nm in kinds
+             and pd.api.types.is_numeric_dtype(kinds[nm])
+             and not pd.api.types.is_bool_dtype(kinds[nm])]
+    if not plain:
+        return np.empty((len(frame), 0)), {}
+    position = {nm: i for i, nm in enumerate(names)}
+    block = frame.iloc[:, [position[nm] for nm in plain]].to_numpy(dtype=float, na_value=np.nan)
+    return block, {nm: i for i, nm in enumerate(plain)}
 
 
 def _numeric(frame, name):

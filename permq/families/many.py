@@ -151,15 +151,17 @@ def _response_rows(design, out) -> list:
         if s.family == "means":
             with np.errstate(divide="ignore", invalid="ignore"):
                 stat = (stat / (k - 1)) / ((n - 1 - stat) / (n - k))
-    rows = []
-    for j, name in enumerate(design.names):
-        iv = None
-        if k == 2 and lo[j] == lo[j] and hi[j] == hi[j]:
-            iv = (float(lo[j]), float(hi[j]))
-        rows.append(ManyRow(name, tuple(int(c) for c in counts[j]), float(stat[j]),
-                            float(out.p_raw[j]), float(out.p_adjusted[j]),
-                            None if est[j] is None or est[j] != est[j] else float(est[j]), iv))
-    return rows
+    m = len(design.names)
+    est = [None if v is None or v != v else float(v) for v in np.asarray(est, dtype=object)]
+    if k == 2:
+        ivs = [(a, b) if a == a and b == b else None for a, b in zip(np.asarray(lo).tolist(),
+                                                                     np.asarray(hi).tolist())]
+    else:
+        ivs = [None] * m
+    n = [tuple(c) for c in counts.astype(int).tolist()]
+    return [ManyRow(name, n[j], s_j, p, q, est[j], ivs[j]) for j, (name, s_j, p, q) in
+            enumerate(zip(design.names, stat.tolist(), out.p_raw.tolist(),
+                          out.p_adjusted.tolist()))]
 
 
 def _direction(design) -> np.ndarray:
