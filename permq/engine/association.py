@@ -35,7 +35,7 @@ from ..plan.cost import Candidate
 from ..result import EngineOutcome, Estimate
 from . import pvalues
 from .fastmc import random_u32, shuffled_dots
-from .sampling import map_blocks, NO_PROGRESS, Progress, blocks, fresh_seed
+from .sampling import iter_blocks, NO_PROGRESS, Progress, blocks, fresh_seed
 
 STATISTICS = ("pearson", "spearman", "kendall", "slope")
 ALTERNATIVES = ("higher", "lower", "two-sided")
@@ -332,7 +332,7 @@ def _run_monte_carlo(pb: Problem, alternative, draws, seed, progress) -> EngineO
             t = shuffled_dots(pb.moving, pb.fixed, r)
             return pvalues.exceedances(t, pb.t_obs, alternative, 0.0, pb.scale)
 
-        b = sum(map_blocks(seed, draws, work, progress))
+        b = sum(iter_blocks(seed, draws, work, progress))
     p, p_int = pvalues.monte_carlo_p(b, draws)
     return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), p, "monte-carlo",
                          DESCRIPTIONS["monte-carlo"], arrangements=_big(arrangements(pb.moving)),

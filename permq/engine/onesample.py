@@ -22,10 +22,12 @@ from . import pvalues
 from .counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size, layer_bytes
 from .enumeration import sign_patterns_chunks
 from .jumps import interval_from_jumps
-from .sampling import BLOCK, NO_PROGRESS, Progress, map_blocks
+from .sampling import BLOCK, NO_PROGRESS, Progress, iter_blocks
 from .scores import integer_grid, midranks
 
 MAX_DP_BYTES = 2.0e9
+# the Monte Carlo interval uses the first draws up to this many (memory stays bounded)
+MAX_INTERVAL_DRAWS = 2_000_000
 
 STATISTIC_NAMES = {
     "means": "mean difference",
@@ -215,15 +217,19 @@ def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed
         keep = k > 0
         return b, sf[keep] / k[keep], int((~keep).sum())
 
-    parts = map_blocks(seed, draws, work, progress)
-    b = sum(p[0] for p in parts)
+    b, kept, identity, used = 0, [], 1.0, 0
+    for part in iter_blocks(seed, draws, work, progress):
+        b += part[0]
+        if means and used < MAX_INTERVAL_DRAWS:
+            kept.append(part[1])
+            identity += part[2]
+            used += len(part[1]) + part[2]
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(name, t_obs, p, "monte-carlo", "Monte Carlo sampling of sign patterns",
                         arrangements=2.0 ** len(r), draws=draws, p_interval=p_int, seed=seed)
     interval = None
     if means:
-        v = np.concatenate([p[1] for p in parts])
-        identity = 1.0 + sum(p[2] for p in parts)
-        interval = interval_from_jumps(v, np.ones(v.size), identity, float(draws + 1), level,
+        v = np.concatenate(kept)
+        interval = interval_from_jumps(v, np.ones(v.size), identity, float(used + 1), level,
                                        alternative)
     return out, interval

@@ -69,44 +69,55 @@ def default_workers() -> int:
     return max(1, min(8, os.cpu_count() or 1))
 
 
-def map_blocks(seed: int, draws: int, work: Callable, progress: "Progress" = NO_PROGRESS,
-               what: str = "sampling", workers: Optional[int] = None) -> list:
-    """work(size, rng) on every batch, on a pool of threads; results in batch order.
+def iter_blocks(seed: int, draws: int, work: Callable, progress: "Progress" = NO_PROGRESS,
+                what: str = "sampling", workers: Optional[int] = None) -> Iterator:
+    """work(size, rng) on every batch, on a pool of threads; yields results in batch order.
 
     Each stream unit has its own generator, so the results do not depend on the number of
-    workers; batches of one unit run in order, in one task. The compiled loops release the
-    interpreter lock, so the threads share the cores.
+    workers; batches of one unit run in order, in one task. At most two units per worker are
+    in flight, so memory stays bounded whatever the number of draws, and a cancel (at each
+    progress step) stops the pool at once. The compiled loops release the interpreter lock,
+    so the threads share the cores.
     """
+    from collections import deque
     from concurrent.futures import ThreadPoolExecutor
+    from itertools import groupby
 
-    units: list[list] = []
-    for unit, size, rng in blocks(seed, draws):
-        if not units or units[-1][0] != unit:
-            units.append([unit, []])
-        units[-1][1].append((size, rng))
+    units = ((unit, [(size, rng) for _, size, rng in group])
+             for unit, group in groupby(blocks(seed, draws), key=lambda b: b[0]))
 
     def run_unit(batches):
-        return [work(size, rng) for size, rng in batches]
+        return [work(size, rng) for size, rng in batches], sum(size for size, _ in batches)
 
     workers = workers or default_workers()
-    results = []
-    if workers == 1 or len(units) == 1:
-        done = 0
+    done = 0
+    if workers == 1:
         for _, batches in units:
-            results.extend(run_unit(batches))
-            done += sum(size for size, _ in batches)
+            results, size = run_unit(batches)
+            yield from results
+            done += size
             progress.step(done / draws, what)
-        return results
-    with ThreadPoolExecutor(max_workers=workers) as pool:
-        futures = [pool.submit(run_unit, batches) for _, batches in units]
-        try:
-            done = 0
-            for fut, (_, batches) in zip(futures, units):
-                results.extend(fut.result())
-                done += sum(size for size, _ in batches)
+        return
+    pool = ThreadPoolExecutor(max_workers=workers)
+    pending: deque = deque()
+    try:
+        for _, batches in units:
+            pending.append(pool.submit(run_unit, batches))
+            while len(pending) >= 2 * workers:
+                results, size = pending.popleft().result()
+                yield from results
+                done += size
                 progress.step(done / draws, what)
-        except BaseException:
-            for fut in futures:
-                fut.cancel()
-            raise
-    return results
+        while pending:
+            results, size = pending.popleft().result()
+            yield from results
+            done += size
+            progress.step(done / draws, what)
+    finally:
+        pool.shutdown(wait=True, cancel_futures=True)
+
+
+def map_blocks(seed: int, draws: int, work: Callable, progress: "Progress" = NO_PROGRESS,
+               what: str = "sampling", workers: Optional[int] = None) -> list:
+    """The results of iter_blocks as a list (for results that are small)."""
+    return list(iter_blocks(seed, draws, work, progress, what, workers))

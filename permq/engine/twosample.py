@@ -20,10 +20,12 @@ from .counting import EXACT_COUNT_LIMIT, convolve_counts, counts_by_size, layer_
 from .enumeration import combinations_chunks
 from .jumps import interval_from_jumps
 from .fastmc import random_u32, subset_sums
-from .sampling import NO_PROGRESS, Progress, map_blocks
+from .sampling import NO_PROGRESS, Progress, iter_blocks
 from .scores import Grid, integer_grid, median_scores, midranks, normal_scores
 
 MAX_DP_BYTES = 2.0e9
+# the Monte Carlo interval uses the first draws up to this many (memory stays bounded)
+MAX_INTERVAL_DRAWS = 2_000_000
 
 
 @dataclass(frozen=True)
@@ -234,16 +236,20 @@ def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progr
         jumps = (s_obs - (s - g2_in) - g2_in)[moved] / u[moved]
         return b, jumps, int((~moved).sum())
 
-    parts = map_blocks(seed, draws, work, progress)
-    b = sum(p[0] for p in parts)
+    b, kept, identity, used = 0, [], 1.0, 0
+    for part in iter_blocks(seed, draws, work, progress):
+        b += part[0]
+        if means and used < MAX_INTERVAL_DRAWS:
+            kept.append(part[1])
+            identity += part[2]
+            used += len(part[1]) + part[2]
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "monte-carlo",
                         "Monte Carlo sampling of arrangements", arrangements=float(comb(N, n1)),
                         draws=draws, p_interval=p_int, seed=seed)
     interval = None
-    if means:
-        vals = np.concatenate([p[1] for p in parts])
-        identity = 1.0 + sum(p[2] for p in parts)   # the observed arrangement counts once more
-        interval = interval_from_jumps(vals, np.ones(vals.size), identity, float(draws + 1),
+    if means:   # the observed arrangement counts once more (identity starts at 1)
+        vals = np.concatenate(kept)
+        interval = interval_from_jumps(vals, np.ones(vals.size), identity, float(used + 1),
                                        level, alternative)
     return out, interval

@@ -6,6 +6,7 @@ import numpy as np
 from ..engine import onesample, rankintervals
 from ..engine.pvalues import TWO_SIDED_LINEAR
 from ..normal.theory import one_sample as normal_one_sample
+from ..engine.onesample import MAX_INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
 
@@ -25,7 +26,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                                       the_plan.chosen.algorithm, s.level, draws=the_plan.draws,
                                       seed=the_plan.seed, progress=progress)
     normal = normal_one_sample(s.family, design.d, s.level, s.alternative)
-    estimate = _estimate(design, interval, outcome.method)
+    estimate = _estimate(design, interval, outcome.method, the_plan.draws)
     warnings = list(design.warnings)
     zeros = int(np.sum(design.d == 0))
     if zeros:
@@ -49,13 +50,13 @@ def _effect_words(family, design):
     return f"median of {what}"
 
 
-def _estimate(design, interval, method):
+def _estimate(design, interval, method, the_draws=0):
     s = design.settings
     d = design.d
     label = design.effect
     if s.family == "means":
         how = ("inverting the sign-flip test under a shift model"
-               + (" (on the sampled sign patterns)" if method == "monte-carlo" else ""))
+               + _sampled_words(method, the_draws, "sign patterns"))
         return Estimate(f"mean of {label}", float(d.mean()), interval, s.level, how)
     if s.family == "ranks":
         est, iv, exact = rankintervals.hodges_lehmann_one_sample(d, s.level, s.alternative)
@@ -65,3 +66,11 @@ def _estimate(design, interval, method):
     est, iv = rankintervals.median_interval(d, s.level, s.alternative)
     return Estimate(f"median of {label}", est, iv, s.level,
                     "order statistics at binomial quantiles (sign-test interval)")
+
+
+def _sampled_words(method, draws, what):
+    if method != "monte-carlo":
+        return ""
+    if draws > MAX_INTERVAL_DRAWS:
+        return f" (on the first {MAX_INTERVAL_DRAWS:,} sampled {what})"
+    return f" (on the sampled {what})"

@@ -6,6 +6,7 @@ import numpy as np
 from ..engine import rankintervals, twosample
 from ..engine.pvalues import TWO_SIDED_LINEAR
 from ..normal.theory import two_sample as normal_two_sample
+from ..engine.twosample import MAX_INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
 
@@ -22,7 +23,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                                       the_plan.chosen.algorithm, s.level,
                                       draws=the_plan.draws, seed=the_plan.seed, progress=progress)
     normal = normal_two_sample(s.family, design.x, design.y, s.level, s.alternative)
-    estimate = _estimate(design, interval, outcome.method)
+    estimate = _estimate(design, interval, outcome.method, the_plan.draws)
     a, b = design.labels
     groups = [_summary(a, design.x), _summary(b, design.y)]
     return Result(statement, "two-sample", s.alternative, outcome, normal, estimate,
@@ -37,12 +38,12 @@ def _effect_words(family, effect):
             "medians": f"difference in medians {effect}"}[family]
 
 
-def _estimate(design, interval, method):
+def _estimate(design, interval, method, the_draws=0):
     s = design.settings
     x, y = design.x, design.y
     if s.family == "means":
         how = ("inverting the permutation test under a shift model"
-               + (" (on the sampled arrangements)" if method == "monte-carlo" else ""))
+               + _sampled_words(method, the_draws, "arrangements"))
         return Estimate(f"difference in means {design.effect}", float(x.mean() - y.mean()),
                         interval, s.level, how)
     if s.family == "ranks":
@@ -58,3 +59,11 @@ def _estimate(design, interval, method):
 def _summary(name, v):
     return {"name": name, "n": int(len(v)), "mean": float(np.mean(v)),
             "median": float(np.median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
+
+
+def _sampled_words(method, draws, what):
+    if method != "monte-carlo":
+        return ""
+    if draws > MAX_INTERVAL_DRAWS:
+        return f" (on the first {MAX_INTERVAL_DRAWS:,} sampled {what})"
+    return f" (on the sampled {what})"
