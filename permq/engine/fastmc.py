@@ -11,13 +11,19 @@ from __future__ import annotations
 
 import numpy as np
 
-try:  # numba is optional: without it the numpy path gives the same numbers, more slowly
-    import numba
+from functools import lru_cache
+from importlib.util import find_spec
 
-    HAVE_NUMBA = True
-except ImportError:  # pragma: no cover - exercised where numba is absent
-    numba = None
-    HAVE_NUMBA = False
+# numba is optional: without it the numpy path gives the same numbers, more slowly
+HAVE_NUMBA = find_spec("numba") is not None
+
+
+@lru_cache(maxsize=1)
+def kernels():
+    """The compiled loops, imported (and loaded from numba's cache) on first use."""
+    from . import fastmc_kernels
+
+    return fastmc_kernels
 
 
 def random_u32(rng: np.random.Generator, size: int, k: int) -> np.ndarray:
@@ -48,38 +54,6 @@ def _subset_sums_numpy(a, n1, r):
     return vals.sum(axis=0), moved.sum(axis=0), np.where(moved, vals, 0.0).sum(axis=0)
 
 
-if HAVE_NUMBA:
-    @numba.njit(cache=True, nogil=True)
-    def _subset_sums_compiled(a, n1, r, s_out, u_out, g_out):  # pragma: no cover - compiled
-        size = r.shape[0]
-        N = a.shape[0]
-        idx = np.arange(N)
-        js = np.empty(n1, np.int64)
-        for row in range(size):
-            s = 0.0
-            g = 0.0
-            u = 0
-            for i in range(n1):
-                j = i + ((np.int64(r[row, i]) * (N - i)) >> 32)   # below 2^63: exact
-                js[i] = j
-                t = idx[i]
-                idx[i] = idx[j]
-                idx[j] = t
-                v = a[idx[i]]
-                s += v
-                if idx[i] >= n1:
-                    u += 1
-                    g += v
-            s_out[row] = s
-            u_out[row] = u
-            g_out[row] = g
-            for i in range(n1 - 1, -1, -1):   # undo the swaps: back to 0..N-1
-                j = js[i]
-                t = idx[i]
-                idx[i] = idx[j]
-                idx[j] = t
-
-
 def subset_sums(a, n1: int, r: np.ndarray, compiled: bool = True):
     """For each row of random integers r: (sum of the chosen scores, how many chosen items
     came from the second group (index >= n1), their sum)."""
@@ -87,7 +61,7 @@ def subset_sums(a, n1: int, r: np.ndarray, compiled: bool = True):
     if compiled and HAVE_NUMBA:
         size = r.shape[0]
         s, u, g = np.empty(size), np.empty(size, np.int64), np.empty(size)
-        _subset_sums_compiled(a, n1, np.ascontiguousarray(r), s, u, g)
+        kernels()._subset_sums_compiled(a, n1, np.ascontiguousarray(r), s, u, g)
         return s, u, g
     return _subset_sums_numpy(a, n1, r)
 
@@ -108,25 +82,6 @@ def _shuffled_dots_numpy(moving, fixed, r):
     return fixed @ work
 
 
-if HAVE_NUMBA:
-    @numba.njit(cache=True, nogil=True)
-    def _shuffled_dots_compiled(moving, fixed, r, out):  # pragma: no cover - compiled
-        size = r.shape[0]
-        n = moving.shape[0]
-        work = np.empty(n)
-        for row in range(size):
-            work[:] = moving
-            for i in range(n - 1):
-                j = i + ((np.int64(r[row, i]) * (n - i)) >> 32)
-                t = work[i]
-                work[i] = work[j]
-                work[j] = t
-            s = 0.0
-            for i in range(n):
-                s += fixed[i] * work[i]
-            out[row] = s
-
-
 def shuffled_dots(moving, fixed, r: np.ndarray, compiled: bool = True) -> np.ndarray:
     """sum_i fixed_i * moving[pi(i)] for the full Fisher-Yates shuffle pi of each row of r
     (r has n - 1 random integers a row)."""
@@ -134,6 +89,15 @@ def shuffled_dots(moving, fixed, r: np.ndarray, compiled: bool = True) -> np.nda
     fixed = np.ascontiguousarray(fixed, dtype=np.float64)
     if compiled and HAVE_NUMBA:
         out = np.empty(r.shape[0])
-        _shuffled_dots_compiled(moving, fixed, np.ascontiguousarray(r), out)
+        kernels()._shuffled_dots_compiled(moving, fixed, np.ascontiguousarray(r), out)
         return out
     return _shuffled_dots_numpy(moving, fixed, r)
+
+
+def __getattr__(name):
+    """`numba` itself, for modules that define compiled loops of their own (imported lazily)."""
+    if name == "numba" and HAVE_NUMBA:
+        import numba
+
+        return numba
+    raise AttributeError(name)
