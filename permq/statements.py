@@ -56,7 +56,7 @@ def _use(node: n.Use, text, session):
         from .bind.binder import suggest
 
         raise BindError(f"no table named '{name}'", node.table.span,
-                        hint=suggest(name, list(session.catalog.tables)) or "load one first")
+                        hint=suggest(name, list(session.catalog.tables), "tables") or "load one first")
     session.catalog.current = name
     session.history.append(f"use {_quote_name(name)}")
     rows, cols = session.catalog.tables[name].shape
@@ -170,7 +170,7 @@ def _describe(node: n.Describe, text, session):
         from .bind.binder import suggest
 
         raise BindError(f"no table named '{name}'", node.table.span,
-                        hint=suggest(name, list(session.catalog.tables)))
+                        hint=suggest(name, list(session.catalog.tables), "tables"))
     rows = describe(session.catalog.tables[name])
     lines = [f"{'column':<18} {'type':<7} {'missing':>7} {'distinct':>8}  levels / range"]
     for r in rows:

@@ -115,7 +115,7 @@ def _ordered_levels(opt, levels, g, subject, table):
         for text, span in listed:
             if text not in present:
                 errors.append(BindError(f"no level \"{text}\" in column '{subject.group.text}'",
-                                        span, hint=suggest(text, present)))
+                                        span, hint=suggest(text, present, "levels")))
             elif text in out:
                 errors.append(BindError(f"level \"{text}\" is named twice", span))
             else:
