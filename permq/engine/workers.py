@@ -74,7 +74,8 @@ class DaskPool:
             big = self.client.scatter(shared, broadcast=True, hash=False)
             futures = [self.client.submit(fn, big, *args, pure=False) for args in arguments]
         except OSError as exc:
-            raise PermqError(f"the cluster at {self.address} did not take the work: {exc}") from None
+            raise PermqError(f"the cluster at {self.address} did not take the work: "
+                             f"{exc}") from None
         results = []
         try:
             for i, fut in enumerate(futures):

@@ -182,7 +182,8 @@ def _pair_rows(design, out) -> list:
     for i, (a, b) in enumerate(out.pairs):
         xa, xb = y[design.groups == a], y[design.groups == b]
         la, lb = design.labels[a], design.labels[b]
-        sign = 1.0 if scores[design.groups == a].mean() >= scores[design.groups == b].mean() else -1.0
+        higher = scores[design.groups == a].mean() >= scores[design.groups == b].mean()
+        sign = 1.0 if higher else -1.0
         if s.family == "means":
             est = float(xa.mean() - xb.mean())
             iv = (normal_two_sample("means", xa, xb, s.level, "two-sided").interval

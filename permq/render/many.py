@@ -17,7 +17,8 @@ def _head(r) -> list:
         how = f"exact: {r.algorithm}, {fmt.count(r.arrangements)} arrangements"
     else:
         how = (f"Monte Carlo: {r.draws:,} joint draws, seed {r.seed}; "
-               f"p = (b + 1) / ({r.draws:,} + 1), the smallest possible is {fmt.p(1 / (r.draws + 1))}")
+               f"p = (b + 1) / ({r.draws:,} + 1), the smallest possible is "
+               f"{fmt.p(1 / (r.draws + 1))}")
     unit = {"pairwise": "pairs", "for each": "features"}.get(r.family, "responses")
     tested = f"{r.tested:,} {unit}" + (f" ({r.untested:,} not tested)" if r.untested else "")
     lines = [f"  {'adjustment':<15}{r.adjustment}: {r.adjustment_rule}",
