@@ -9,6 +9,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Callable, Iterable, Optional
 
+import numpy as np
+
 from .bind.binder import Catalog, Defaults, bind
 from .errors import Cancelled, PermqError
 from .families import handler_for
@@ -76,7 +78,8 @@ class Session:
         if st.error is not None:
             return failure(st, st.error)
         try:
-            return self._dispatch(st)
+            with np.errstate(all="ignore"):   # overflow in a textbook formula shows as "-"
+                return self._dispatch(st)
         except Cancelled as exc:
             return failure(st, exc)
         except PermqError as exc:

@@ -47,7 +47,10 @@ def alternatives_of(terminal_name: str) -> list[str]:
     """The words a keyword-set terminal (FAMILY, ALTERNATIVE, SETTING ...) accepts."""
     import re
 
-    term = parser().get_terminal(terminal_name)
+    try:
+        term = parser().get_terminal(terminal_name)
+    except KeyError:   # '$END' and other names that are not terminals of the grammar
+        return []
     if term.pattern.type == "str":
         return [term.pattern.value]
     body = term.pattern.value
