@@ -6,6 +6,7 @@ The shell, the file runner and the Python API are thin front ends over `Session`
 """
 from __future__ import annotations
 
+import warnings
 from pathlib import Path
 from typing import Callable, Iterable, Optional
 
@@ -78,7 +79,9 @@ class Session:
         if st.error is not None:
             return failure(st, st.error)
         try:
-            with np.errstate(all="ignore"):   # overflow in a textbook formula shows as "-"
+            # overflow in a textbook formula shows as "-"; library warnings stay off the screen
+            with np.errstate(all="ignore"), warnings.catch_warnings():
+                warnings.simplefilter("ignore")
                 return self._dispatch(st)
         except Cancelled as exc:
             return failure(st, exc)
