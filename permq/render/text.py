@@ -59,10 +59,10 @@ def result_block(r: Result, color: bool = False) -> str:
     lines.append(_c(f"  {p_label:<15}{exact_p:<28}{normal_p}", BOLD, color))
     if nt:
         df = f", df {fmt.df(nt.df)}" if nt.df is not None else ""
-        lines.append(f"  {'':<15}{'':<28}{nt.test}: {fmt.num(nt.statistic)}{df}")
+        lines.append(f"  {'':<15}normal theory: {nt.test}: {fmt.num(nt.statistic)}{df}")
     for extra in r.also_normal:
         df = f", df {fmt.df(extra.df)}" if extra.df is not None else ""
-        lines.append(f"  {'also':<15}{'':<28}{fmt.p(extra.p_value)}  {extra.test}: "
+        lines.append(f"  {'also':<15}p {fmt.p(extra.p_value)} from {extra.test}: "
                      f"{fmt.num(extra.statistic)}{df}")
     if est is not None:
         lines.append(f"  {'estimate':<15}{est.name} = {fmt.num(est.value)}")
