@@ -153,16 +153,21 @@ def _matrix(frame, columns, response, several) -> tuple:
     """(values, tested-so-far names, untested, warnings) from the named or found columns."""
     every = several and response.every_numeric
     block, in_block = _numeric_block(frame, columns)
-    numeric, untested, skipped = [], [], []
+    infinite = np.isinf(block).any(axis=0)
+    tested, from_block, others, untested, skipped = [], [], [], [], []
     for name in columns:
         if name in in_block:
-            col, reason = block[:, in_block[name]], None
-            if np.isinf(col).any():
-                reason = "holds an infinite value"
-        else:
-            col, reason = _numeric(frame, name)
+            i = in_block[name]
+            if infinite[i]:
+                untested.append((name, "holds an infinite value"))
+            else:
+                from_block.append((len(tested), i))
+                tested.append(name)
+            continue
+        col, reason = _numeric(frame, name)
         if reason is None:
-            numeric.append((name, col))
+            others.append((len(tested), col))
+            tested.append(name)
         elif every and reason.startswith("not numeric"):
             skipped.append(name)
         else:
@@ -173,24 +178,24 @@ def _matrix(frame, columns, response, several) -> tuple:
         more = f" and {len(skipped) - SHOWN_NAMES} more" if len(skipped) > SHOWN_NAMES else ""
         warnings += (f"skipped {len(skipped)} column{'s' if len(skipped) != 1 else ''} that "
                      f"{'are' if len(skipped) != 1 else 'is'} not numeric: {shown}{more}",)
-    if every and not numeric and not untested:
+    if every and not tested and not untested:
         raise BindError("no numeric column to compare", response.span,
                         hint="the table's columns: " + ", ".join(map(str, frame.columns[:8])))
-    if numeric:
-        values = np.column_stack([c for _, c in numeric])
-    else:
-        values = np.empty((len(frame), 0))
-    return values, [nm for nm, _ in numeric], untested, warnings
+    values = np.empty((len(frame), len(tested)))
+    if from_block:
+        at, i = (np.array(v) for v in zip(*from_block))
+        values[:, at] = block[:, i]
+    for at, col in others:
+        values[:, at] = col
+    return values, tested, untested, warnings
 
 
 def _numeric_block(frame, columns):
     """The plain numeric columns (not bool, names not repeated) read at once: (block, index)."""
     names = [str(c) for c in frame.columns]
     repeated = {nm for nm, dup in zip(names, pd.Index(names).duplicated(keep=False)) if dup}
-    kinds = dict(zip(names, frame.dtypes))
-    plain = [nm for nm in columns if nm not in repeated and nm in kinds
-             and pd.api.types.is_numeric_dtype(kinds[nm])
-             and not pd.api.types.is_bool_dtype(kinds[nm])]
+    kinds = {nm: getattr(dt, "kind", "O") for nm, dt in zip(names, frame.dtypes)}
+    plain = [nm for nm in columns if kinds.get(nm, "O") in "iuf" and nm not in repeated]
     if not plain:
         return np.empty((len(frame), 0)), {}
     position = {nm: i for i, nm in enumerate(names)}
@@ -320,15 +325,17 @@ def _screen(values, codes, levels, names, untested) -> tuple:
         low = np.where(observed, values, np.inf).min(axis=0) if len(values) else np.zeros(0)
         high = np.where(observed, values, -np.inf).max(axis=0) if len(values) else np.zeros(0)
     reasons = {}
-    for j, name in enumerate(names):
+    short = (per_group < MIN_PER_GROUP).any(axis=0)
+    for j in np.flatnonzero(short | (low == high)):
         few = [f"{int(per_group[i, j])} in {lev}" for i, lev in enumerate(levels)
                if per_group[i, j] < MIN_PER_GROUP]
         if few:
             reasons[j] = f"too few values ({', '.join(few)}; each group needs {MIN_PER_GROUP})"
-        elif low[j] == high[j]:
+        else:
             reasons[j] = f"constant (every value is {low[j]:g})"
-    keep = [j for j in range(len(names)) if j not in reasons]
-    out = tuple(untested) + tuple((names[j], r) for j, r in reasons.items())
+    keep = [j for j in range(len(names)) if j not in reasons] if reasons else list(
+        range(len(names)))
+    out = tuple(untested) + tuple((names[j], r) for j, r in sorted(reasons.items()))
     return values[:, keep], [names[j] for j in keep], out
 
 
