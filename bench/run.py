@@ -92,6 +92,7 @@ def cases():
     rows.extend(group_cases(rng))
     rows.extend(association_cases(rng))
     rows.extend(robustness_cases(rng))
+    rows.extend(many_cases())
     return rows
 
 
@@ -183,6 +184,74 @@ def robustness_cases(rng):
         raise SystemExit(f"benchmark statement failed: robustness compare ...: {rr.message}")
     return [("robustness, 2 x 8, 6 laws x 2,000 data sets", t, 30.0, rr.observed,
              f"no counterpart; simulated test {rr.reference}; {cpu:.1f} s of CPU")]
+
+
+def _many_frame(rng, m, n):
+    g = np.repeat(["A", "B"], n)
+    values = rng.normal(size=(2 * n, m))
+    values[:, : m // 20] += 1.0 * (g == "A")[:, None]
+    import pandas as pd
+
+    frame = pd.DataFrame(values, columns=[f"v{j}" for j in range(m)])
+    frame.insert(0, "g", g)
+    return {"t": frame}
+
+
+def _many_row(r):
+    """The table's reference-set column from a several-tests result."""
+    from types import SimpleNamespace
+
+    return SimpleNamespace(outcome=SimpleNamespace(method=r.method, arrangements=r.arrangements,
+                                                   algorithm=r.algorithm, draws=r.draws))
+
+
+def many_cases(repeat=3):
+    """Several responses at once: exact max-T on 2,000 responses; 20,000 responses x 10,000
+    joint draws on 1 and 2 local workers and on a 2-worker local Dask cluster (same numbers)."""
+    from permq.engine import many
+    from permq.engine.workers import LocalPool
+
+    rng = np.random.default_rng(20261203)
+    rows = []
+    tables = _many_frame(rng, 2000, 6)
+    st = "compare every numeric by g"
+    permq.run(st, tables=tables)                                   # warm the compiled loops
+    t, out = best(lambda: permq.run(st, tables=tables), repeat)
+    rows.append(("2,000 responses, 6 + 6, exact marginal p and max-T step-down", t, 5.0,
+                 _many_row(out[0]), "every response on the same 924 splits"))
+    tables = _many_frame(rng, 20000, 20)
+    st = "compare every numeric by g sampled 10000 seed 1"
+    cells = 20000 * 10001
+    timed, engine = {}, {}
+    frame = tables["t"]
+    values = frame.drop(columns="g").to_numpy(float)
+    codes = (frame["g"] == "B").to_numpy().astype(np.int64)
+    for workers in (1, 2):
+        timed[workers], out = best(lambda: permq.run(st, tables=tables, workers=workers), repeat)
+        reference = [(r.p_value, r.p_adjusted) for r in out[0].rows]
+        engine[workers], _ = best(lambda: many.run_family(
+            values, codes, "means", "two-sided", "max-t", "step-down", "monte-carlo", 10000, 1,
+            pool=LocalPool(workers)), repeat)
+        rows.append((f"20,000 responses, 20 + 20, 10,000 joint draws, max-T, {workers} "
+                     f"worker{'s' if workers > 1 else ''}", timed[workers], 10.0,
+                     _many_row(out[0]),
+                     f"{cells / engine[workers] / 1e6:.0f} M response-draws/s in the engine "
+                     f"({engine[workers]:.2f} s), {cells / timed[workers] / 1e6:.0f} M end to end"
+                     + (f"; x{engine[1] / engine[2]:.2f} engine, x{timed[1] / timed[2]:.2f} end "
+                        "to end over 1 worker" if workers == 2 else "")))
+    try:
+        from distributed import Client, LocalCluster
+    except ImportError:
+        return rows
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                      dashboard_address=None) as cluster, Client(cluster) as client:
+        permq.run(st, tables=tables, cluster=client)                # workers load the loops
+        t, out = best(lambda: permq.run(st, tables=tables, cluster=client), repeat)
+        same = [(r.p_value, r.p_adjusted) for r in out[0].rows] == reference
+    rows.append(("the same on a 2-worker local Dask cluster", t, 10.0, _many_row(out[0]),
+                 f"{cells / t / 1e6:.0f} M response-draws/s; "
+                 f"{'identical' if same else 'DIFFERENT'} numbers"))
+    return rows
 
 
 def table(rows) -> str:
