@@ -54,10 +54,14 @@ def _subset_sums_numpy(a, n1, r):
     return vals.sum(axis=0), moved.sum(axis=0), np.where(moved, vals, 0.0).sum(axis=0)
 
 
-def subset_sums(a, n1: int, r: np.ndarray, compiled: bool = True):
+def subset_sums(a, n1: int, r: np.ndarray, compiled: bool = True, sums_only: bool = False):
     """For each row of random integers r: (sum of the chosen scores, how many chosen items
-    came from the second group (index >= n1), their sum)."""
+    came from the second group (index >= n1), their sum); with sums_only, (sums, None, None)."""
     a = np.ascontiguousarray(a, dtype=np.float64)
+    if sums_only and compiled and HAVE_NUMBA:
+        s = np.empty(r.shape[0])
+        kernels()._subset_sums_only(a, n1, np.ascontiguousarray(r), s)
+        return s, None, None
     if compiled and HAVE_NUMBA:
         size = r.shape[0]
         s, u, g = np.empty(size), np.empty(size, np.int64), np.empty(size)

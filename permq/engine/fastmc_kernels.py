@@ -6,9 +6,12 @@ import numpy as np
 
 @numba.njit(cache=True, nogil=True)
 def _subset_sums_compiled(a, n1, r, s_out, u_out, g_out):
+    """Sum of the chosen scores, how many came from the second group, and their sum."""
     size = r.shape[0]
     N = a.shape[0]
-    idx = np.arange(N)
+    w = a.copy()
+    second = np.zeros(N, np.int64)
+    second[n1:] = 1
     js = np.empty(n1, np.int64)
     for row in range(size):
         s = 0.0
@@ -17,23 +20,26 @@ def _subset_sums_compiled(a, n1, r, s_out, u_out, g_out):
         for i in range(n1):
             j = i + ((np.int64(r[row, i]) * (N - i)) >> 32)   # below 2^63: exact
             js[i] = j
-            t = idx[i]
-            idx[i] = idx[j]
-            idx[j] = t
-            v = a[idx[i]]
-            s += v
-            if idx[i] >= n1:
-                u += 1
-                g += v
+            t = w[i]
+            w[i] = w[j]
+            w[j] = t
+            f = second[i]
+            second[i] = second[j]
+            second[j] = f
+            s += w[i]
+            u += second[i]              # branch-free: the group of a chosen item is random
+            g += w[i] * second[i]
         s_out[row] = s
         u_out[row] = u
         g_out[row] = g
-        for i in range(n1 - 1, -1, -1):   # undo the swaps: back to 0..N-1
+        for i in range(n1 - 1, -1, -1):   # undo the swaps: back to the original order
             j = js[i]
-            t = idx[i]
-            idx[i] = idx[j]
-            idx[j] = t
-
+            t = w[i]
+            w[i] = w[j]
+            w[j] = t
+            f = second[i]
+            second[i] = second[j]
+            second[j] = f
 
 
 @numba.njit(cache=True, nogil=True)
@@ -54,3 +60,26 @@ def _shuffled_dots_compiled(moving, fixed, r, out):
         out[row] = s
 
 
+
+
+@numba.njit(cache=True, nogil=True)
+def _subset_sums_only(a, n1, r, s_out):
+    size = r.shape[0]
+    N = a.shape[0]
+    w = a.copy()
+    js = np.empty(n1, np.int64)
+    for row in range(size):
+        s = 0.0
+        for i in range(n1):
+            j = i + ((np.int64(r[row, i]) * (N - i)) >> 32)
+            js[i] = j
+            t = w[i]
+            w[i] = w[j]
+            w[j] = t
+            s += w[i]
+        s_out[row] = s
+        for i in range(n1 - 1, -1, -1):   # undo the swaps: back to the original order
+            j = js[i]
+            t = w[i]
+            w[i] = w[j]
+            w[j] = t

@@ -19,11 +19,16 @@ import numpy as np
 def interval_from_jumps(values, counts, identity: float, total: float, level: float,
                         alternative: str) -> tuple[float, float]:
     values = np.asarray(values, dtype=float)
-    counts = np.asarray(counts, dtype=float)
-    keep = counts > 0
-    values, counts = values[keep], counts[keep]
-    order = np.argsort(values, kind="stable")
-    values, counts = _merge_equal(values[order], counts[order])
+    if counts is None:                 # every jump counts once (sampled arrangements)
+        values = np.sort(values)
+        counts = np.ones(values.size)
+    else:
+        counts = np.asarray(counts, dtype=float)
+        keep = counts > 0
+        values, counts = values[keep], counts[keep]
+        order = np.argsort(values, kind="stable")
+        values, counts = values[order], counts[order]
+    values, counts = _merge_equal(values, counts)
     alpha = 1.0 - level
     side = alpha if alternative != "two-sided" else alpha / 2
     lo, hi = -np.inf, np.inf

@@ -230,6 +230,6 @@ def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed
     interval = None
     if means:
         v = np.concatenate(kept)
-        interval = interval_from_jumps(v, np.ones(v.size), identity, float(used + 1), level,
+        interval = interval_from_jumps(v, None, identity, float(used + 1), level,
                                        alternative)
     return out, interval

@@ -228,7 +228,7 @@ def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progr
     means = fam.key == "means"
 
     def work(size, rng):
-        s, u, g2_in = subset_sums(a, n1, random_u32(rng, size, n1))
+        s, u, g2_in = subset_sums(a, n1, random_u32(rng, size, n1), sums_only=not means)
         b = pvalues.exceedances(s, s_obs, alternative, center=center, scale=scale)
         if not means:
             return b, None, 0
@@ -250,6 +250,6 @@ def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progr
     interval = None
     if means:   # the observed arrangement counts once more (identity starts at 1)
         vals = np.concatenate(kept)
-        interval = interval_from_jumps(vals, np.ones(vals.size), identity, float(used + 1),
+        interval = interval_from_jumps(vals, None, identity, float(used + 1),
                                        level, alternative)
     return out, interval
