@@ -255,14 +255,20 @@ def many_cases(repeat=3):
 
 
 def table(rows) -> str:
-    out = ["| design | permq | target | met | reference set | beside scipy |",
-           "|---|---|---|---|---|---|"]
+    out = ["| design | permq | target | met | explain predicted | reference set | beside scipy |",
+           "|---|---|---|---|---|---|---|"]
     for name, t, target, r, note in rows:
-        o = r.outcome
-        ref = (f"{o.arrangements:.3g} arrangements, {o.algorithm}" if o.method == "exact"
-               else f"{o.draws:,} draws")
+        o = getattr(r, "outcome", None)
+        if o is None:
+            ref = getattr(r, "reference", "")
+        else:
+            ref = (f"{o.arrangements:.3g} arrangements, {o.algorithm}" if o.method == "exact"
+                   else f"{o.draws:,} draws")
+        extra = getattr(r, "extra", {}) or {}
+        predicted = extra.get("estimated_seconds")
+        pred = f"{predicted:.3g} s ({t / predicted:.2g}x)" if predicted else "-"
         out.append(f"| {name} | {t:.3f} s | < {target:g} s | {'yes' if t < target else 'NO'} "
-                   f"| {ref} | {note} |")
+                   f"| {pred} | {ref} | {note} |")
     return "\n".join(out)
 
 

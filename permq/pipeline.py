@@ -31,6 +31,7 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     result = handler.execute(design, the_plan, progress, text)
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
+    result.extra["estimated_seconds"] = round(the_plan.chosen.seconds, 4)   # what explain said
     diagnostics.attach(design, result)
     if "picture" in n.options_of(node):
         pictures.attach(design, result)
