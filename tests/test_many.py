@@ -330,6 +330,14 @@ def test_one_and_two_local_workers_give_identical_numbers():
         assert one.where == "1 local worker" and two.where == "2 local workers"
 
 
+def test_windows_of_draws_do_not_change_the_numbers(monkeypatch):
+    frame = big_table(m=50)
+    st = "compare every numeric by g adjust max-t single-step sampled 5000 seed 13"
+    whole = many_of(st, {"t": frame})
+    monkeypatch.setattr(many, "WINDOW_ROWS", 777)
+    assert numbers(many_of(st, {"t": frame})) == numbers(whole)
+
+
 def test_compiled_and_numpy_paths_agree():
     rng = np.random.default_rng(0)
     for k, sizes in ((2, [7, 9]), (3, [4, 5, 6])):

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import itertools
 import math
+from typing import Iterator
 
 import numpy as np
 
@@ -78,14 +79,19 @@ def _partial_shuffle(N: int, n1: int, r: np.ndarray) -> np.ndarray:
 
 
 def sampled_codes(codes, seed: int, draws: int, progress: Progress = NO_PROGRESS) -> np.ndarray:
+    """The observed assignment, then `draws` random ones: (draws + 1, N) int8."""
+    return np.concatenate(list(sampled_windows(codes, seed, draws, draws + 1, progress)))
+
+
+def sampled_windows(codes, seed: int, draws: int, window: int,
+                    progress: Progress = NO_PROGRESS) -> Iterator[np.ndarray]:
+    """The same rows as `sampled_codes`, at most `window` at a time (memory bounded)."""
     codes = np.asarray(codes).astype(np.int8)
     N = codes.size
     k = int(codes.max()) + 1
     order = layout(codes)                      # position p of the layout holds unit order[p]
     by_position = codes[order]                 # group of each layout position
-    out = np.empty((draws + 1, N), dtype=np.int8)
-    out[0] = codes
-    done = 1
+    parts, held, done = [codes[None, :].copy()], 1, 0
     for _, size, rng in blocks(seed, draws):
         block = np.empty((size, N), dtype=np.int8)
         if k == 2:
@@ -96,7 +102,13 @@ def sampled_codes(codes, seed: int, draws: int, progress: Progress = NO_PROGRESS
         else:
             perm = rng.permuted(np.tile(np.arange(N), (size, 1)), axis=1)
             block[np.arange(size)[:, None], order[perm]] = by_position[None, :]
-        out[done:done + size] = block
+        parts.append(block)
+        held += size
         done += size
-        progress.step((done - 1) / draws, "drawing arrangements")
-    return out
+        progress.step(done / draws, "drawing arrangements")
+        while held >= window:
+            rows = np.concatenate(parts)
+            yield rows[:window]
+            parts, held = [rows[window:]], len(rows) - window
+    if held:
+        yield np.concatenate(parts)

@@ -33,6 +33,7 @@ from .workers import LocalPool
 ENUMERATION_MAX = 2_000_000      # arrangements listed at most
 TILE = 256                       # tests per tile in the streaming pass
 TILE_ELEMENTS = 4_000_000        # arrangements x tests held at once by min-P
+WINDOW_ROWS = 1 << 18            # Monte Carlo arrangements held at once by the streaming pass
 TASKS = 16                       # the streaming pass cuts the arrangements into this many tasks
 MIN_ROWS_PER_TASK = 256
 OPS_PER_CELL = 0.05              # estimated elementary ops per (arrangement, test, unit added)
@@ -69,22 +70,24 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
             return rows * (N * len(sizes) + 6 * tests) * 4
         return rows * (tests * (summed + 8) * passes * OPS_PER_CELL + N * 5)
 
-    def memory(rows):
-        mem = rows * N + rows * 8 * (3 if pairwise else 1)
+    def memory(rows, listed):
+        per_row = N + 4 * summed + (24 * N if listed else 0)   # codes, members, listing
+        data = tests * N * 8 * 4
         if pairwise:
-            return mem + rows * tests * 8 * 3
+            return rows * (per_row + 8 * (3 * tests + len(sizes) + 1)) + data
         if method == "min-p":
             width = max(1, min(TILE, TILE_ELEMENTS // max(1, rows)))
-            mem += rows * width * 8 * 3 + (tests / width) * rows * 4
-        return mem
+            return rows * per_row + rows * width * 8 * 3 + (tests / width) * rows * 8 + data
+        held = rows if listed else min(rows, WINDOW_ROWS)
+        return held * per_row + data
 
     out = [Candidate("enumeration", "complete enumeration, shared by every test", True,
-                     ops(total), memory(total), feasible=total <= ENUMERATION_MAX,
+                     ops(total), memory(total, True), feasible=total <= ENUMERATION_MAX,
                      note=f"{total:.3g} arrangements" + ("" if total <= ENUMERATION_MAX else
                                                           " (more than can be listed)"),
                      arrangements=total),
            Candidate("monte-carlo", "Monte Carlo joint draws (one arrangement for every test)",
-                     False, ops(draws + 1), memory(draws + 1), arrangements=total,
+                     False, ops(draws + 1), memory(draws + 1, False), arrangements=total,
                      note=f"{draws} draws")]
     return out
 
@@ -155,12 +158,22 @@ def observed_statistics(fam: kernels.Family, codes_k) -> np.ndarray:
 
 # ---------------------------------------------------------------- reference set
 
+EXACT_WORDS = "complete enumeration, shared by every test"
+SAMPLED_WORDS = "Monte Carlo joint draws (one arrangement for every test)"
+
+
 def reference_set(codes, sizes, algorithm, draws, seed, progress):
+    """The whole reference set at once (pairwise, min-P): (R, N) codes, method, words."""
     if algorithm == "enumeration":
-        ref = arrangements.enumerate_codes(sizes, progress)
-        return ref, "exact", "complete enumeration, shared by every test"
-    ref = arrangements.sampled_codes(codes, seed, draws, progress)
-    return ref, "monte-carlo", "Monte Carlo joint draws (one arrangement for every test)"
+        return arrangements.enumerate_codes(sizes, progress), "exact", EXACT_WORDS
+    return arrangements.sampled_codes(codes, seed, draws, progress), "monte-carlo", SAMPLED_WORDS
+
+
+def reference_windows(codes, sizes, algorithm, draws, seed, progress):
+    """The reference set a window of rows at a time (memory bounded for any number of draws)."""
+    if algorithm == "enumeration":
+        return iter([arrangements.enumerate_codes(sizes, progress)])
+    return arrangements.sampled_windows(codes, seed, draws, WINDOW_ROWS, progress)
 
 
 # ---------------------------------------------------------------- responses
@@ -176,28 +189,31 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
     y, observed = standardised_scores(np.asarray(values, dtype=float), family)
     fam, lut = build_family(y, observed, codes, sizes, alternative)
     t_obs = observed_statistics(fam, lut[codes])
-    ref, how, words = reference_set(codes, sizes, algorithm, draws, seed, progress)
-    ref_k = kernels.members_of(lut[ref], fam.sizes)
-    R = ref_k.shape[0]
     tol = multiplicity.tolerances(t_obs)
     order = np.argsort(-t_obs, kind="stable")
     ys, obs = _reorder(y, observed, order)
     fam_sorted, _ = build_family(ys, obs, codes, sizes, alternative, thr=(t_obs - tol)[order])
     step_down = method == "max-t" and step == "step-down"
-    marg_sorted, sd_counts, rowmax = _row_passes(ref_k, fam_sorted, step_down, pool, progress)
+    if method == "min-p":           # min-P needs every arrangement of a test at once
+        ref, how, words = reference_set(codes, sizes, algorithm, draws, seed, progress)
+        whole = kernels.members_of(lut[ref], fam.sizes)
+        windows = iter([whole])
+    else:
+        how, words = (("exact", EXACT_WORDS) if algorithm == "enumeration"
+                      else ("monte-carlo", SAMPLED_WORDS))
+        windows = (kernels.members_of(lut[w], fam.sizes) for w in
+                   reference_windows(codes, sizes, algorithm, draws, seed, progress))
+    R, marg_sorted, sd_counts, ss_counts = _row_passes(windows, fam_sorted, step_down, pool,
+                                                       progress)
     marg = np.empty_like(marg_sorted)
     marg[order] = marg_sorted
     raw = marg / R
     if method == "max-t":
-        if step_down:
-            adj_sorted = multiplicity.enforce_step_down(sd_counts) / R
-        else:
-            ascending = np.sort(rowmax)
-            adj_sorted = (R - np.searchsorted(ascending, fam_sorted.thr, side="left")) / R
+        counts = multiplicity.enforce_step_down(sd_counts) if step_down else ss_counts
         adjusted = np.empty(len(raw))
-        adjusted[order] = adj_sorted
+        adjusted[order] = counts / R
     elif method == "min-p":
-        adjusted = _min_p(y, observed, codes, sizes, alternative, ref_k, t_obs, tol, marg, step,
+        adjusted = _min_p(y, observed, codes, sizes, alternative, whole, t_obs, tol, marg, step,
                           pool, progress)
     else:
         adjusted = multiplicity.from_raw(raw, method, step)
@@ -206,15 +222,21 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
                          seed if how == "monte-carlo" else None)
 
 
-def _row_passes(ref_k, fam, step_down, pool, progress):
-    R = ref_k.shape[0]
-    chunk = max(MIN_ROWS_PER_TASK, -(-R // TASKS))
-    tasks = [(lo, min(R, lo + chunk), step_down) for lo in range(0, R, chunk)]
-    parts = pool.map(kernels.row_task, kernels.Job(ref_k, fam), tasks, progress, "permuting")
-    marg = sum(p[0] for p in parts)
-    sd = sum(p[1] for p in parts)
-    rowmax = np.concatenate([p[2] for p in parts])
-    return marg, sd, rowmax
+def _row_passes(windows, fam, step_down, pool, progress):
+    """Sum the tasks' counts over every window of arrangements (members): R and the counts."""
+    m = fam.y.shape[1]
+    R, marg, sd, ss = 0, np.zeros(m, np.int64), np.zeros(m, np.int64), np.zeros(m, np.int64)
+    for members in windows:
+        rows = members.shape[0]
+        chunk = max(MIN_ROWS_PER_TASK, -(-rows // TASKS))
+        tasks = [(lo, min(rows, lo + chunk), step_down) for lo in range(0, rows, chunk)]
+        for part in pool.map(kernels.row_task, kernels.Job(members, fam), tasks, progress,
+                             "permuting"):
+            marg += part[0]
+            sd += part[1]
+            ss += part[2]
+        R += rows
+    return R, marg, sd, ss
 
 
 def _min_p(y, observed, codes, sizes, alternative, ref_k, t_obs, tol, marg, step, pool,

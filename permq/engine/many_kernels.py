@@ -180,7 +180,10 @@ def tile_statistics(members, f: Family, c0: int, c1: int, compiled: bool = True)
 # ---------------------------------------------------------------- tasks (run on any worker)
 
 def row_task(job: Job, lo: int, hi: int, step_down: bool):
-    return row_pass(job.members[lo:hi], job.family, step_down)
+    """Counts over arrangements lo .. hi-1: exceedances, step-down and single-step max-T."""
+    marg, sd, top = row_pass(job.members[lo:hi], job.family, step_down)
+    single = top.size - np.searchsorted(np.sort(top), job.family.thr, side="left")
+    return marg, sd, single.astype(np.int64)
 
 
 def min_p_tile_task(job: Job, c0: int, c1: int, tol, carry, observed_counts):

@@ -12,6 +12,7 @@ from scipy import stats
 
 from ..engine import many, many_estimates, rankintervals
 from ..engine.workers import pool_for
+from ..errors import PlanError
 from ..normal.theory import two_sample as normal_two_sample
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
@@ -45,6 +46,13 @@ def plan(design):
     the_plan = make_plan("many", s.family, s,
                          lambda _: many.candidates(sizes, tests, draws, design.adjustment,
                                                    design.pairwise))
+    if the_plan.chosen.memory > s.memory_bytes:
+        need = the_plan.chosen.memory / 1e9
+        raise PlanError(f"{the_plan.chosen.description} would need about {need:.2g} GB of "
+                        f"memory, past the limit of {s.memory_bytes / 1e9:g} GB",
+                        hint="use fewer draws ('sampled N')" + (
+                            ", or adjust max-t (it streams the arrangements)"
+                            if design.adjustment == "min-p" else ""))
     return replace(the_plan, draws=draws)
 
 
