@@ -54,8 +54,9 @@ def small_table(seed=4, n=(5, 4), m=6, missing=True, decimals=1):
 
 # ---------------------------------------------------------------- brute force (this file)
 
-def brute_statistics(frame, names, family="means"):
-    """Every split of the units: |difference in mean scores| / its fixed standard error."""
+def brute_statistics(frame, names, family="means", alternative="two-sided"):
+    """Every split of the units: difference in mean scores A - B over its fixed standard error
+    (absolute value for two-sided, negated for 'lower')."""
     g = frame["g"].to_numpy()
     units = np.arange(len(g))
     nA = int((g == "A").sum())
@@ -77,7 +78,8 @@ def brute_statistics(frame, names, family="means"):
         def stat(chosen):
             a = [scores[u] for u in units if seen[u] and u in chosen]
             b = [scores[u] for u in units if seen[u] and u not in chosen]
-            return abs(np.mean(a) - np.mean(b)) / se
+            z = (np.mean(a) - np.mean(b)) / se
+            return abs(z) if alternative == "two-sided" else (z if alternative == "higher" else -z)
 
         t_obs[j] = stat(observed_A)
         null[:, j] = [stat(s) for s in splits]
@@ -176,6 +178,53 @@ def test_max_t_and_min_p_against_brute_force(family):
                 assert got[name].p_adjusted == pytest.approx(expected[j], abs=1e-12), (
                     adjust, step, name)
                 assert abs(got[name].statistic) == pytest.approx(t_obs[j], rel=1e-9)
+
+
+@pytest.mark.parametrize("alternative", ["higher", "lower"])
+def test_one_sided_max_t_against_brute_force(alternative):
+    frame = small_table(seed=6)
+    names = [c for c in frame.columns if c != "g"]
+    null, t_obs = brute_statistics(frame, names, "means", alternative)
+    r = many_of(f"compare every numeric by g alternative {alternative}", {"t": frame})
+    got = rows_by_name(r)
+    expected = brute_max_t(null, t_obs, "step-down")
+    for j, name in enumerate(names):
+        assert got[name].p_value == pytest.approx(np.mean([ge(v, t_obs[j]) for v in null[:, j]]),
+                                                  abs=1e-12)
+        assert got[name].p_adjusted == pytest.approx(expected[j], abs=1e-12)
+
+
+def test_three_groups_with_a_missing_value_against_brute_force():
+    """k groups: T = sum over groups of n_g (mean score)^2 on the observed values, scores
+    centred on their observed mean over their sd; every assignment of 3 + 3 + 3 units."""
+    rng = np.random.default_rng(12)
+    g = np.repeat([0, 1, 2], 3)
+    values = np.round(rng.normal(size=(9, 4)) + np.outer(g == 2, [1.5, 0, 0.8, 0]), 1)
+    values[4, 1] = np.nan
+    frame = pd.DataFrame(values, columns=["a", "b", "c", "d"]).assign(g=np.array(list("xyz"))[g])
+    assignments = []
+    for first in itertools.combinations(range(9), 3):
+        rest = [u for u in range(9) if u not in first]
+        for second in itertools.combinations(rest, 3):
+            codes = np.full(9, 2)
+            codes[list(first)], codes[list(second)] = 0, 1
+            assignments.append(codes)
+
+    def stat(codes, y):
+        seen = ~np.isnan(y)
+        z = (y[seen] - y[seen].mean()) / y[seen].std(ddof=1)
+        c = codes[seen]
+        return sum((c == k).sum() * z[c == k].mean() ** 2 for k in range(3) if (c == k).any())
+
+    null = np.array([[stat(a, values[:, j]) for j in range(4)] for a in assignments])
+    t_obs = np.array([stat(g, values[:, j]) for j in range(4)])
+    r = many_of("compare a, b, c, d by g adjust max-t", {"t": frame})
+    got = rows_by_name(r)
+    expected = brute_max_t(null, t_obs, "step-down")
+    for j, name in enumerate("abcd"):
+        assert got[name].p_value == pytest.approx(np.mean([ge(v, t_obs[j]) for v in null[:, j]]),
+                                                  abs=1e-12)
+        assert got[name].p_adjusted == pytest.approx(expected[j], abs=1e-12)
 
 
 def test_exact_marginal_p_is_the_one_response_test():
