@@ -81,6 +81,10 @@ class DaskPool:
             for i, fut in enumerate(futures):
                 results.append(fut.result())
                 progress.step((i + 1) / total, what)
+        except ImportError as exc:
+            self.client.cancel(futures)
+            raise PermqError(f"a worker of the cluster at {self.address} cannot run permq: "
+                             f"{exc}", hint="install the same permq on every worker") from None
         except BaseException:
             self.client.cancel(futures)
             raise
