@@ -26,6 +26,12 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   count [[9, 1], [3, 7]]                              Fisher's exact test, conditional odds ratio
   count first vs second paired                        McNemar's exact test
   count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval""",
+    "many": """several responses or comparisons at once, permuted together
+  compare mass, light by recipe levels "A", "B" adjust max-t step-down
+  compare every numeric except tray by recipe pairwise adjust max-t
+  compare value by recipe for each marker adjust fdr top 20
+adjustments: holm, fdr (Benjamini-Hochberg), max-t, min-p [single-step | step-down], none
+filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scale out""",
     "families": """test families (after 'using')
   means          difference in means (two samples) or mean difference (paired), by permutation
   ranks          Wilcoxon rank-sum / signed-rank with mid-ranks
@@ -58,6 +64,7 @@ TOPICS["set"] = TOPICS["session"]
 TOPICS["load"] = TOPICS["session"]
 TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
 TOPICS["tables"] = TOPICS["count"]
+TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
 
 
 def help_text(topic) -> str:
