@@ -39,6 +39,7 @@ def designs(rng):
         out.append(f"compare {lst(x)} vs {lst(y)}")
         out.append(f"compare {lst(x)} vs {lst(y)} using ranks")
         out.append(f"compare {lst(x)} vs {lst(y)} sampled 50000 seed 1")
+        out.append(f"compare {lst(x)} vs {lst(y)} sampled 1000000 seed 1")
     for n in (6, 8, 10):
         x, y = rng.normal(size=n), rng.normal(size=n)
         out.append(f"compare {lst(x)} vs {lst(y)} using normal-scores")
@@ -46,11 +47,13 @@ def designs(rng):
         d = np.round(rng.normal(0.2, 1, n), 2)
         out.append(f"compare {lst(d)} vs 0")
         out.append(f"compare {lst(d)} vs 0 using ranks")
+        out.append(f"compare {lst(d)} vs 0 sampled 500000 seed 1")
     for k, m in ((3, 5), (3, 8), (4, 5)):
         g = [rng.integers(1, 9, m).astype(float) for _ in range(k)]
         out.append("compare " + " vs ".join(lst(v) for v in g) + " using ranks")
         out.append("compare " + " vs ".join(lst(v) for v in g) + " ordered using ranks")
         out.append("compare " + " vs ".join(lst(v) for v in g))
+        out.append("compare " + " vs ".join(lst(v) for v in g) + " sampled 200000 seed 1")
     for shape, n in (((3, 4), 60), ((2, 6), 120), ((4, 4), 50), ((3, 3), 40)):
         t = rng.multinomial(n, np.full(shape[0] * shape[1], 1 / (shape[0] * shape[1]))).reshape(shape)
         out.append("count [" + ", ".join(lst(r) for r in t) + "]")
