@@ -185,17 +185,17 @@ def sample_group_sums(scores, sizes, seed: int, draws: int,
     """Yield group sums of `draws` random assignments, one seeded block at a time: (b, k, p)."""
     a = np.asarray(scores, dtype=float).reshape(len(scores), -1)
     starts = np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64)
-    done = 0
-    for _, size, rng in sampling.blocks(seed, draws):
+
+    def work(size, rng):
         if a.shape[1] == 1:          # shuffling the scores is shuffling positions: same draws
             shuffled = rng.permuted(np.tile(a[:, 0], (size, 1)), axis=1)
-            yield np.add.reduceat(shuffled, starts, axis=1)[:, :, None]
-        else:
-            order = rng.permuted(np.tile(np.arange(a.shape[0]), (size, 1)), axis=1)
-            yield np.stack([np.add.reduceat(a[:, j][order], starts, axis=1)
-                            for j in range(a.shape[1])], axis=2)
-        done += size
-        progress.step(done / draws, "sampling assignments")
+            return np.add.reduceat(shuffled, starts, axis=1)[:, :, None]
+        order = rng.permuted(np.tile(np.arange(a.shape[0]), (size, 1)), axis=1)
+        return np.stack([np.add.reduceat(a[:, j][order], starts, axis=1)
+                         for j in range(a.shape[1])], axis=2)
+
+    # blocks on all cores, in order; a bounded window keeps memory flat
+    yield from sampling.iter_blocks(seed, draws, work, progress, "sampling assignments")
 
 
 # ----------------------------------------------------------------------------- counting
