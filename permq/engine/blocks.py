@@ -37,7 +37,7 @@ from ..errors import BindError, PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from . import pvalues
-from .sampling import BLOCK, NO_PROGRESS, Progress, blocks as sample_blocks, fresh_seed
+from .sampling import BLOCK, NO_PROGRESS, Progress, blocks as sample_blocks, fresh_seed, iter_blocks
 
 DEFAULT_DRAWS = 10_000
 MAX_DP_BYTES = 1.0e9
@@ -349,15 +349,15 @@ def _stratified_enumeration(prep: Stratified, alternative, progress) -> EngineOu
 
 
 def _stratified_monte_carlo(prep: Stratified, alternative, draws, seed, progress):
-    hits = 0
-    for i, size, rng in sample_blocks(seed, draws):
+    def work(size, rng):
         t = np.zeros(size)
         for b in prep.blocks:
             order = np.argsort(rng.random((size, b.n)), axis=1)[:, :b.m]
             t += b.scores[order].sum(axis=1)
-        hits += pvalues.exceedances(t, prep.t_obs, alternative, center=prep.center,
-                                    scale=prep.scale)
-        progress.step(min(1.0, (i * BLOCK + size) / draws), "sampling")
+        return pvalues.exceedances(t, prep.t_obs, alternative, center=prep.center,
+                                   scale=prep.scale)
+
+    hits = sum(iter_blocks(seed, draws, work, progress))   # all cores, same p for any number
     p, interval = pvalues.monte_carlo_p(hits, draws)
     return _outcome(prep.test, prep.t_obs, p, "monte-carlo", prep.arrangements,
                     warnings=prep.warnings, draws=draws, p_interval=interval, seed=seed)
@@ -746,14 +746,14 @@ def _complete_monte_carlo(prep: Complete, alternative, draws, seed, progress):
     else:
         t_obs = float(_centered_ss(scores.sum(axis=0)))
         center, scale, alternative = 0.0, _ss_scale(scores), "higher"
-    hits = 0
-    for i, size, rng in sample_blocks(seed, draws):
+    def work(size, rng):
         totals = np.zeros((size, k))
         for row in scores:
             totals += row[np.argsort(rng.random((size, k)), axis=1)]
         t = totals @ weights if prep.test == "page" else _centered_ss(totals)
-        hits += pvalues.exceedances(t, t_obs, alternative, center=center, scale=scale)
-        progress.step(min(1.0, (i * BLOCK + size) / draws), "sampling")
+        return pvalues.exceedances(t, t_obs, alternative, center=center, scale=scale)
+
+    hits = sum(iter_blocks(seed, draws, work, progress))   # all cores, same p for any number
     p, interval = pvalues.monte_carlo_p(hits, draws)
     return _outcome(prep.test, prep.t_obs, p, "monte-carlo", prep.arrangements,
                     warnings=prep.warnings, draws=draws, p_interval=interval, seed=seed)

@@ -173,15 +173,17 @@ class JonckheereTerpstra:
         starts, k = _block_starts(sx), len(sizes)
         labels = np.repeat(np.arange(k), sizes)
         scale = float(np.sum(sizes) ** 2) / 2.0
-        hits, done = 0, 0
-        for _, size, rng in sampling.blocks(seed, draws):
+        def work(size, rng):
             rows = rng.permuted(np.broadcast_to(labels, (size, len(x))), axis=1)
             step = max(1, _CHUNK_ROWS // (len(x) * k))
+            found = 0
             for lo in range(0, size, step):
                 j = _jt_doubled_rows(rows[lo:lo + step], starts, k) / 2.0
-                hits += pvalues.exceedances(j, j_obs, alternative, center=center, scale=scale)
-            done += size
-            progress.step(done / draws, "sampling assignments")
+                found += pvalues.exceedances(j, j_obs, alternative, center=center, scale=scale)
+            return found
+
+        # all cores, in fixed random streams: the same p for any number of workers
+        hits = sum(sampling.iter_blocks(seed, draws, work, progress, "sampling assignments"))
         p, interval = pvalues.monte_carlo_p(hits, draws)
         return EngineOutcome(p_value=p, method="monte-carlo", draws=draws, p_interval=interval,
                              seed=seed, algorithm="Monte Carlo: random assignments to groups",

@@ -17,7 +17,7 @@ from scipy import stats
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .pvalues import clip, monte_carlo_p
-from .sampling import NO_PROGRESS, Progress, blocks, fresh_seed
+from .sampling import NO_PROGRESS, Progress, blocks, fresh_seed, iter_blocks
 from .tables_join import Turn
 from .tables_network import NetworkTooLarge, count_tables, dense_size, forward, make_layout
 from .tables_stats import NAMES, Prepared, check_choice, prepare
@@ -170,12 +170,12 @@ def null_distribution(table, statistic: str = "trend", row_scores=None, col_scor
 def _sampled(t, prep: Prepared, draws, seed, progress, warnings) -> EngineOutcome:
     seed = fresh_seed() if seed is None else int(seed)
     dist = stats.random_table(t.sum(axis=1), t.sum(axis=0))
-    hits = done = 0
-    for _, size, gen in blocks(seed, draws):
+    def work(size, gen):
         tables = dist.rvs(size=size, method="patefield", random_state=gen)
-        hits += int(np.count_nonzero(prep.extreme(prep.sums(tables))))
-        done += size
-        progress.step(done / draws, "sampling tables")
+        return int(np.count_nonzero(prep.extreme(prep.sums(tables))))
+
+    # all cores, in fixed random streams: the same p for any number of workers
+    hits = sum(iter_blocks(seed, draws, work, progress, "sampling tables"))
     p, interval = monte_carlo_p(hits, draws)
     return EngineOutcome(prep.name, float(prep.reported(prep.observed)), p, "monte-carlo",
                          SAMPLED_WORDS, draws=draws, p_interval=interval, seed=seed,
