@@ -21,24 +21,7 @@ from scipy import stats
 
 from ..errors import DataError
 from ..result import NormalTheory
-
-
-def _p_from_t(t, df, alternative) -> float:
-    if np.isnan(t):
-        return float("nan")
-    if alternative == "higher":
-        return float(stats.t.sf(t, df))
-    if alternative == "lower":
-        return float(stats.t.cdf(t, df))
-    return float(min(1.0, 2 * stats.t.sf(abs(t), df)))
-
-
-def _p_from_z(z, alternative) -> float:
-    if alternative == "higher":
-        return float(stats.norm.sf(z))
-    if alternative == "lower":
-        return float(stats.norm.cdf(z))
-    return float(min(1.0, 2 * stats.norm.sf(abs(z))))
+from .tails import p_from_t as _p_from_t, p_from_z as _p_from_z, t_interval
 
 
 def _t_of_r(r, df) -> float:
@@ -125,14 +108,6 @@ def _t_result(name, est, se, df, level, alternative, how) -> NormalTheory:
         t = est / se if se > 0 else float(np.sign(est) * np.inf)
     return NormalTheory(name, float(t), float(df), _p_from_t(t, df, alternative),
                         t_interval(est, se, df, level, alternative), how)
-
-
-def t_interval(est, se, df, level, alternative) -> tuple:
-    if alternative == "two-sided":
-        h = stats.t.isf((1 - level) / 2, df) * se
-        return float(est - h), float(est + h)
-    h = stats.t.isf(1 - level, df) * se
-    return (float(est - h), float("inf")) if alternative == "higher" else (float("-inf"), float(est + h))
 
 
 def _slope_pair(design, y, alternative, level, what):

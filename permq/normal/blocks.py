@@ -16,22 +16,7 @@ from ..engine.blocks import (block_matrix, design_arrays, friedman_from_ranks, m
                              prepare_stratified)
 from ..errors import BindError
 from ..result import NormalTheory
-
-
-def _p_from_z(z, alternative):
-    if alternative == "higher":
-        return float(stats.norm.sf(z))
-    if alternative == "lower":
-        return float(stats.norm.cdf(z))
-    return float(min(1.0, 2 * stats.norm.sf(abs(z))))
-
-
-def _p_from_t(t, df, alternative):
-    if alternative == "higher":
-        return float(stats.t.sf(t, df))
-    if alternative == "lower":
-        return float(stats.t.cdf(t, df))
-    return float(min(1.0, 2 * stats.t.sf(abs(t), df)))
+from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval
 
 
 def _dummies(codes) -> np.ndarray:
@@ -130,10 +115,3 @@ def stratified_mean_t(values, groups, blocks, alternative, level: float = 0.95) 
                         tuple(float(x) for x in _t_interval(est, se, df, level, alternative)),
                         "t interval for the group-0 minus group-1 effect adjusted for blocks")
 
-
-def _t_interval(est, se, df, level, alternative):
-    if alternative == "two-sided":
-        h = stats.t.isf((1 - level) / 2, df) * se
-        return est - h, est + h
-    h = stats.t.isf(1 - level, df) * se
-    return (est - h, np.inf) if alternative == "higher" else (-np.inf, est + h)

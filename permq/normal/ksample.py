@@ -14,30 +14,7 @@ from scipy import stats
 from ..engine.ksample import above_median, design, midranks, normal_scores
 from ..engine.ordered import dose_scores, jt_doubled, least_squares_slope
 from ..result import NormalTheory
-
-
-def _p_from_z(z, alternative):
-    if alternative == "higher":
-        return float(stats.norm.sf(z))
-    if alternative == "lower":
-        return float(stats.norm.cdf(z))
-    return float(min(1.0, 2 * stats.norm.sf(abs(z))))
-
-
-def _p_from_t(t, df, alternative):
-    if alternative == "higher":
-        return float(stats.t.sf(t, df))
-    if alternative == "lower":
-        return float(stats.t.cdf(t, df))
-    return float(min(1.0, 2 * stats.t.sf(abs(t), df)))
-
-
-def _t_interval(est, se, df, level, alternative):
-    if alternative == "two-sided":
-        h = float(stats.t.isf((1 - level) / 2, df) * se)
-        return est - h, est + h
-    h = float(stats.t.isf(1 - level, df) * se)
-    return (est - h, math.inf) if alternative == "higher" else (-math.inf, est + h)
+from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval
 
 
 def _group_stats(values, groups):

@@ -20,14 +20,7 @@ from scipy import stats
 from scipy.special import xlogy
 
 from ..result import NormalTheory
-
-
-def _p_from_z(z, alternative) -> float:
-    if alternative == "higher":
-        return float(stats.norm.sf(z))
-    if alternative == "lower":
-        return float(stats.norm.cdf(z))
-    return float(min(1.0, 2.0 * stats.norm.sf(abs(z))))
+from .tails import p_from_z as _p_from_z
 
 
 def _quantile(level, alternative) -> float:

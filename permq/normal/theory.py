@@ -13,30 +13,7 @@ from ..engine.rankintervals import (hodges_lehmann_one_sample_normal,
                                     hodges_lehmann_two_sample_normal, median_interval_normal)
 from ..engine.scores import median_scores, midranks, normal_scores
 from ..result import NormalTheory
-
-
-def _p_from_z(z, alternative):
-    if alternative == "higher":
-        return float(stats.norm.sf(z))
-    if alternative == "lower":
-        return float(stats.norm.cdf(z))
-    return float(min(1.0, 2 * stats.norm.sf(abs(z))))
-
-
-def _p_from_t(t, df, alternative):
-    if alternative == "higher":
-        return float(stats.t.sf(t, df))
-    if alternative == "lower":
-        return float(stats.t.cdf(t, df))
-    return float(min(1.0, 2 * stats.t.sf(abs(t), df)))
-
-
-def _t_interval(est, se, df, level, alternative):
-    if alternative == "two-sided":
-        h = stats.t.isf((1 - level) / 2, df) * se
-        return est - h, est + h
-    h = stats.t.isf(1 - level, df) * se
-    return (est - h, np.inf) if alternative == "higher" else (-np.inf, est + h)
+from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval
 
 
 def _z_score(s, mean, var):
