@@ -320,7 +320,7 @@ def _chosen_levels(opt: n.Option, present: list, column: str) -> list:
     if errors:
         raise MultipleErrors(errors)
     if len(levels) < 2:
-        raise BindError("'levels' needs two or more levels", opt.span,
+        raise BindError(f"'{opt.key}' needs two or more levels", opt.span,
                         hint=f"levels: {', '.join(present)}")
     return levels
 

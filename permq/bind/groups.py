@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import BindError, MultipleErrors
+from ..errors import BindError
 from .designs import GroupsDesign
 
 K_SAMPLE_FAMILIES = ("means", "ranks", "normal-scores", "medians")
@@ -106,25 +106,10 @@ def _check_complete(codes, block_codes, levels, block_labels, within_name):
 
 
 def _ordered_levels(opt, levels, g, subject, table):
-    from .binder import suggest
+    from .binder import _chosen_levels
 
-    listed = opt.value
-    present = list(g.unique())
-    if listed:
-        errors, out = [], []
-        for text, span in listed:
-            if text not in present:
-                errors.append(BindError(f"no level \"{text}\" in column '{subject.group.text}'",
-                                        span, hint=suggest(text, present, "levels")))
-            elif text in out:
-                errors.append(BindError(f"level \"{text}\" is named twice", span))
-            else:
-                out.append(text)
-        if len(errors) == 1:
-            raise errors[0]
-        if errors:
-            raise MultipleErrors(errors)
-        return out
+    if opt.value:
+        return _chosen_levels(opt, list(g.unique()), subject.group.text)
     import pandas as pd
 
     column = table.frame[subject.group.text]

@@ -55,3 +55,20 @@ def _merge_equal(values, counts):
     new_group[1:] = np.diff(values) > 1e-12 * scale
     starts = np.flatnonzero(new_group)
     return values[starts], np.add.reduceat(counts, starts)
+
+
+def collect_sampled(parts, keep_jumps: bool, limit: int):
+    """Add up Monte Carlo batches (exceedances, jumps, draws that moved nothing).
+
+    Returns (exceedances, jumps, identity, draws used for the interval): the jumps are kept for
+    the first `limit` draws only, so memory stays bounded; identity counts the observed
+    arrangement once more, as the (b + 1) / (m + 1) rule does.
+    """
+    b, kept, identity, used = 0, [], 1.0, 0
+    for exceed, jumps, unmoved in parts:
+        b += exceed
+        if keep_jumps and used < limit:
+            kept.append(jumps)
+            identity += unmoved
+            used += len(jumps) + unmoved
+    return b, (np.concatenate(kept) if kept else np.empty(0)), identity, used

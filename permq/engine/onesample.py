@@ -21,7 +21,7 @@ from ..result import EngineOutcome
 from . import pvalues
 from .counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size, layer_bytes
 from .enumeration import sign_patterns_chunks
-from .jumps import interval_from_jumps
+from .jumps import collect_sampled, interval_from_jumps
 from .sampling import BLOCK, NO_PROGRESS, Progress, iter_blocks
 from .scores import integer_grid, midranks
 
@@ -217,19 +217,13 @@ def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed
         keep = k > 0
         return b, sf[keep] / k[keep], int((~keep).sum())
 
-    b, kept, identity, used = 0, [], 1.0, 0
-    for part in iter_blocks(seed, draws, work, progress):
-        b += part[0]
-        if means and used < MAX_INTERVAL_DRAWS:
-            kept.append(part[1])
-            identity += part[2]
-            used += len(part[1]) + part[2]
+    b, v, identity, used = collect_sampled(iter_blocks(seed, draws, work, progress), means,
+                                              MAX_INTERVAL_DRAWS)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(name, t_obs, p, "monte-carlo", "Monte Carlo sampling of sign patterns",
                         arrangements=2.0 ** len(r), draws=draws, p_interval=p_int, seed=seed)
     interval = None
     if means:
-        v = np.concatenate(kept)
         interval = interval_from_jumps(v, None, identity, float(used + 1), level,
                                        alternative)
     return out, interval

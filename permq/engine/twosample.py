@@ -18,7 +18,7 @@ from ..result import EngineOutcome
 from . import pvalues
 from .counting import EXACT_COUNT_LIMIT, convolve_counts, counts_by_size, layer_bytes
 from .enumeration import combinations_chunks
-from .jumps import interval_from_jumps
+from .jumps import collect_sampled, interval_from_jumps
 from .fastmc import random_u32, subset_sums
 from .sampling import NO_PROGRESS, Progress, iter_blocks
 from .scores import Grid, integer_grid, median_scores, midranks, normal_scores
@@ -236,20 +236,14 @@ def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progr
         jumps = (s_obs - (s - g2_in) - g2_in)[moved] / u[moved]
         return b, jumps, int((~moved).sum())
 
-    b, kept, identity, used = 0, [], 1.0, 0
-    for part in iter_blocks(seed, draws, work, progress):
-        b += part[0]
-        if means and used < MAX_INTERVAL_DRAWS:
-            kept.append(part[1])
-            identity += part[2]
-            used += len(part[1]) + part[2]
+    b, vals, identity, used = collect_sampled(iter_blocks(seed, draws, work, progress), means,
+                                              MAX_INTERVAL_DRAWS)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "monte-carlo",
                         "Monte Carlo sampling of arrangements", arrangements=float(comb(N, n1)),
                         draws=draws, p_interval=p_int, seed=seed)
     interval = None
     if means:   # the observed arrangement counts once more (identity starts at 1)
-        vals = np.concatenate(kept)
         interval = interval_from_jumps(vals, None, identity, float(used + 1),
                                        level, alternative)
     return out, interval
