@@ -41,7 +41,16 @@ A5, B5, C4 = RNG.normal(0, 1, 5), RNG.normal(0.8, 1, 5), RNG.normal(1.2, 1.5, 4)
 D10 = RNG.normal(0.5, 1, 10)
 E10 = D10 * 0.5 + RNG.normal(0, 0.3, 10)
 XS = np.arange(1.0, 8.0)
-TABLES = {"t": pd.DataFrame({"y": 0.3 * XS + RNG.normal(0, 1, 7), "x": XS})}
+# blocks: 4 blocks x 3 treatments (complete), and 2 groups in blocks of unequal sizes
+BLK = pd.DataFrame({"y": np.round(RNG.normal(0, 1, 12) + np.repeat([0.0, 2.0, -1.0, 0.5], 3)
+                                  + np.tile([0.0, 0.4, 0.9], 4), 3),
+                    "g": np.tile(["lo", "mid", "hi"], 4), "b": np.repeat([1, 2, 3, 4], 3)})
+STR = pd.DataFrame({"y": np.round(RNG.normal(0, 1, 11), 3),
+                    "g": ["a", "b", "a", "b", "b", "a", "a", "b", "a", "b", "b"],
+                    "b": [1, 1, 1, 2, 2, 2, 2, 3, 3, 3, 3]})
+TABLES = {"t": pd.DataFrame({"y": 0.3 * XS + RNG.normal(0, 1, 7), "x": XS,
+                             "z": RNG.normal(0, 1, 7)}),
+          "blk": BLK, "str": STR}
 
 
 def _statements():
@@ -59,7 +68,14 @@ def _statements():
         out.append(f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered "
                    f"alternative {alt}")
         out += [f"relate y to x in t using {fam} alternative {alt}"
-                for fam in ("slope", "pearson", "spearman")]
+                for fam in ("slope", "pearson", "spearman", "kendall")]
+        out.append(f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered using ranks "
+                   f"alternative {alt}")
+        out.append(f'compare y by g ordered "lo" < "mid" < "hi" within b using ranks in blk '
+                   f'alternative {alt}')
+        out += [f'compare y by g levels "a", "b" within b using {fam} in str alternative {alt}'
+                for fam in ("means", "ranks")]
+    out += [f"compare y by g within b using {fam} in blk" for fam in ("means", "ranks")]
     return out
 
 
@@ -135,7 +151,10 @@ def test_normal_theory_holds_its_level_under_normal_errors():
     for text in (f"compare {inline(D10)} vs {inline(E10)} paired",
                  f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)}",
                  "relate y to x in t using slope",
-                 f"compare {inline(X8)} vs {inline(Y8)}"):
+                 f"compare {inline(X8)} vs {inline(Y8)}",
+                 "compare y by g within b using means in blk",          # additive F
+                 'compare y by g levels "a", "b" within b in str',      # t with blocks
+                 "relate y to x in t using slope adjusting for z"):     # least-squares t
         rates = _sim(text, 4000, 17, panel=(L.NORMAL,))
         assert _within(rates["normal"].normal_null, 0.05), (text, rates["normal"].normal_null)
 
@@ -145,7 +164,12 @@ def test_permutation_test_never_exceeds_the_level_under_exchangeable_laws():
              (f"compare {inline(X8)} vs {inline(Y8)} using ranks", True),
              (f"compare {inline(D10)} vs {inline(E10)} paired", True),   # exact, 1,024
              (f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)}", False),   # Monte Carlo
-             ("relate y to x in t using slope", True)]                   # exact, 5,040
+             ("relate y to x in t using slope", True),                   # exact, 5,040
+             ("relate y to x in t using kendall", True),                 # exact, 5,040
+             (f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered using ranks",
+              False),                                                    # Jonckheere-Terpstra
+             ("compare y by g within b in blk", True),                   # Friedman, 6^4
+             ('compare y by g levels "a", "b" within b using ranks in str', True)]
     checked = 0
     for text, exact in cases:
         pb = _problem(text)
@@ -159,7 +183,38 @@ def test_permutation_test_never_exceeds_the_level_under_exchangeable_laws():
             se = max(rate.se, math.sqrt(0.05 * 0.95 / 1500))
             assert rate.value <= 0.05 + 3 * se, (text, r.law.key, rate)
             checked += 1
-    assert checked == 4 * 5 + 6        # paired: every law keeps the pairs exchangeable
+    assert checked == 8 * 5 + 6        # paired: every law keeps the pairs exchangeable
+
+
+def test_adjusted_slope_check_is_the_residual_permutation_test_by_brute_force():
+    """Freedman-Lane on 7 units: the vectorised test over all 5,040 arrangements gives the p
+    of permuting the reduced model's residuals one arrangement at a time (engine's t), and
+    its normal-theory p is the least-squares t test of the adjusted slope."""
+    from permq.engine.association import adjusted_t, reduced_model
+    from permq.normal.association import adjusted_slope
+
+    t = TABLES["t"]
+    design, result = _design_and_result("relate y to x in t using slope adjusting for z")
+    pb = problem_for(design)
+    y = data_row(design)[None, :]
+    a = scores(pb, y)
+    rm = reduced_model(t.y.to_numpy(), t.x.to_numpy(), t[["z"]].to_numpy())
+    t_obs = float(adjusted_t(rm, rm.resid)[0])
+    assert observed_statistic(pb, a)[0] == pytest.approx(t_obs, rel=1e-9)
+    assert result.outcome.statistic == pytest.approx(t_obs, rel=1e-9)
+    perms = np.array(list(itertools.permutations(range(7))))
+    brute = adjusted_t(rm, rm.resid[perms])
+    for alt, hits in (("two-sided", np.abs(brute) >= abs(t_obs) * (1 - 1e-9)),
+                      ("higher", brute >= t_obs - 1e-9 * abs(t_obs)),
+                      ("lower", brute <= t_obs + 1e-9 * abs(t_obs))):
+        pb_alt = problem_for(bind(parse_script(
+            f"relate y to x in t using slope adjusting for z alternative {alt}")[0].node,
+            permq.Session(tables=TABLES).catalog, Defaults()))
+        ref = exact_reference(pb_alt)
+        assert ref is not None and ref.count == 5040
+        assert permutation_p(pb_alt, a, ref)[0] == pytest.approx(hits.mean(), rel=1e-12)
+        ols = adjusted_slope(t.y, t.x, t[["z"]], alt)[0]
+        assert normal_p(pb_alt, y, a)[0] == pytest.approx(ols.p_value, rel=1e-9)
 
 
 def test_t_test_under_strong_skew_at_tiny_n_errs_in_the_published_direction():
@@ -257,13 +312,32 @@ def test_significance_sets_the_level():
     assert "at 1%" in rr.summary[0] or "its 1% level" in rr.summary[0]
 
 
-@pytest.mark.parametrize("text, words", [
-    ("robustness count [[9, 1], [3, 7]]", "table analyses"),
-    ("robustness relate y to x in t using kendall", "Kendall"),
+@pytest.mark.parametrize("text, statistic, normal", [
+    ("relate y to x in t using kendall", "Kendall", "Kendall's S"),
+    ("relate y to x in t using slope adjusting for z", "adjusted", "adjusted for covariates"),
+    (f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered using ranks",
+     "Jonckheere", "Jonckheere-Terpstra"),
+    ("compare y by g within b in blk", "Friedman", "Friedman"),
+    ("compare y by g within b using means in blk", "F for treatments", "F for treatments"),
+    ('compare y by g ordered "lo" < "mid" < "hi" within b using ranks in blk', "Page", "Page"),
+    ('compare y by g levels "a", "b" within b in str', "stratified", "additive model"),
 ])
-def test_families_without_a_check_say_so(text, words):
-    f = permq.run(text, tables=TABLES)[0]
-    assert isinstance(f, permq.Failure) and "not available" in f.message and words in f.message
+def test_every_design_kind_has_a_check(text, statistic, normal):
+    """Blocked designs, Jonckheere-Terpstra, Kendall and the adjusted slope run end to end,
+    with their own statistic and normal-theory counterpart, six laws and valid JSON."""
+    rr = permq.run(f"robustness {text} datasets 200 seed 3", tables=TABLES)[0]
+    assert isinstance(rr, RobustnessResult), rr
+    assert statistic in rr.statistic and normal in rr.normal_test
+    d = json.loads(json.dumps(rr.to_dict(), allow_nan=False))
+    assert len(d["laws"]) == 6
+    for law in d["laws"]:
+        for side in ("normal_theory", "permutation"):
+            assert 0 <= law[side]["rejection_rate"] <= 1 and 0 <= law[side]["power"] <= 1
+    for row in rr.rows:        # which laws break exactness, and that the report says so
+        spread = row.key in ("unequal-spread", "spread-with-x")
+        assert bool(row.not_exact) == (spread or "adjusting" in text), (row.key, row.not_exact)
+    again = permq.run(f"robustness {text} datasets 200 seed 3", tables=TABLES)[0]
+    assert again.to_dict()["laws"] == d["laws"]
 
 
 def test_a_cancel_stops_the_simulation():
@@ -349,6 +423,34 @@ def test_null_picture_from_monte_carlo_draws(tmp_path):
     # the null of the slope is symmetric about 0: half the mass on each side (Monte Carlo)
     centres = (np.array(pic["edges"][:-1]) + np.array(pic["edges"][1:])) / 2
     assert np.sum(np.array(pic["masses"])[centres > 0]) == pytest.approx(0.5, abs=0.03)
+
+
+@pytest.mark.parametrize("text", [
+    "relate y to x in t using slope adjusting for z sampled 20000 seed 6",
+    "compare y by g within b using means in blk sampled 20000 seed 6",
+    "compare y by g within b in blk sampled 20000 seed 6",
+    f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered using ranks sampled 20000 "
+    "seed 6",
+])
+def test_monte_carlo_pictures_draw_the_reported_statistic(text):
+    """Where the engine keeps no null distribution, the picture's draws are of the statistic
+    the result reports: the share of their mass at or beyond the observed value is the
+    engine's Monte Carlo p (same kind of draws, other seeds) within Monte Carlo error."""
+    from permq.robustness.pictures import sampled_statistics
+
+    design, result = _design_and_result(text)
+    pb = problem_for(design)
+    draws = sampled_statistics(pb, data_row(design), 11, 20_000)
+    t = result.outcome.statistic
+    if pb.form == "quadratic":
+        share = np.mean(draws >= t * (1 - 1e-9))
+    elif pb.form == "residual":
+        share = np.mean(np.abs(draws) >= abs(t) * (1 - 1e-9))
+    else:                        # Jonckheere-Terpstra J: two-sided about its mean
+        centre = (pb.n ** 2 - float((pb.sizes ** 2).sum())) / 4
+        share = np.mean(np.abs(draws - centre) >= abs(t - centre) - 1e-9)
+    p = result.outcome.p_value
+    assert abs(share - p) <= 4 * math.sqrt(p * (1 - p) * (1 / 20_000 + 1 / 20_000)) + 1e-4
 
 
 def test_picture_file_needs_matplotlib_and_says_how_to_get_it(monkeypatch, tmp_path):

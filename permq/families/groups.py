@@ -17,7 +17,7 @@ K_NORMAL = {"means": normal_k.one_way_anova, "ranks": normal_k.kruskal_chi_squar
             "medians": normal_k.median_chi_square}
 
 
-def _blocked_test(design) -> str:
+def blocked_test(design) -> str:
     fam = design.settings.family
     if len(design.labels) == 2:
         return "stratified-ranks" if fam == "ranks" else "stratified-means"
@@ -30,7 +30,7 @@ def plan(design):
     s = design.settings
     v, g = design.values, design.groups
     if design.kind == "blocked":
-        test = _blocked_test(design)
+        test = blocked_test(design)
         cands = lambda draws: blocks_engine.candidates(test, v, g, design.blocks, draws,
                                                        n_groups=len(design.labels),
                                                        block_names=design.block_labels,
@@ -53,7 +53,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     alg, draws, seed = the_plan.chosen.algorithm, the_plan.draws, the_plan.seed
     also, estimate, rule = [], None, TWO_SIDED_QUADRATIC
     if design.kind == "blocked":
-        test = _blocked_test(design)
+        test = blocked_test(design)
         out = blocks_engine.run(test, v, g, design.blocks, s.alternative, alg, draws, seed,
                                 progress, n_groups=len(design.labels),
                                 block_names=design.block_labels, group_names=design.labels)

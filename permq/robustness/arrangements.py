@@ -4,7 +4,13 @@
   that the statistics of a block of data sets are one product W @ a (a: units x data sets);
 - sign flips T = sum_i s_i a_i: rows of signs;
 - quadratic statistics sum_g S_g^2 / n_g: a one-hot matrix H, one row per (arrangement,
-  group), so that the group sums of every arrangement are H @ a.
+  group), so that the group sums of every arrangement are H @ a;
+- Kendall's S ("pairs"): rows of sign(x_j - x_i) over the pairs i < j with x arranged, so that
+  S of every arrangement is the product with the data set's pair signs sign(y_j - y_i);
+- residual permutation ("residual"): one row per (arrangement, column of the basis), the
+  basis's rows arranged, so that the projections of the permuted residuals are one product.
+
+With blocks (`problem.strata`) arrangements move units only within their block.
 
 `exact_reference` lists every distinct arrangement once (each stands for the same number of
 permutations, so the p-value is unchanged) when there are at most EXACT_LIMIT of them; else
@@ -35,8 +41,27 @@ def _base_codes(problem: Problem) -> tuple[np.ndarray, np.ndarray]:
     """(code of each unit, value per code): what an arrangement moves around."""
     if problem.form == "quadratic":
         return problem.codes, np.arange(len(problem.sizes), dtype=float)
-    values, codes = np.unique(problem.weights, return_inverse=True)
+    if problem.form == "residual":
+        return np.arange(problem.n, dtype=np.int64), np.arange(problem.n, dtype=float)
+    moved = problem.x if problem.form == "pairs" and problem.kind == "slope" else (
+        problem.codes if problem.form == "pairs" else problem.weights)
+    values, codes = np.unique(moved, return_inverse=True)
     return codes.astype(np.int64), values
+
+
+def _strata(problem: Problem) -> list:
+    """The units of each block (one block of every unit without blocks)."""
+    if problem.strata is None:
+        return [np.arange(problem.n)]
+    return [np.nonzero(problem.strata == s)[0] for s in np.unique(problem.strata)]
+
+
+def _multinomial(codes) -> int:
+    total, out = 0, 1
+    for c in np.bincount(codes):
+        total += int(c)
+        out *= comb(total, int(c))
+    return out
 
 
 def reference_size(problem: Problem) -> int:
@@ -44,10 +69,9 @@ def reference_size(problem: Problem) -> int:
     if problem.form == "signs":
         return 2 ** problem.n
     codes, _ = _base_codes(problem)
-    total, out = 0, 1
-    for c in np.bincount(codes):
-        total += int(c)
-        out *= comb(total, int(c))
+    out = 1
+    for units in _strata(problem):
+        out *= _multinomial(codes[units])
     return out
 
 
@@ -69,11 +93,27 @@ def distinct_arrangements(codes: np.ndarray) -> np.ndarray:
     return rows
 
 
+def _within_strata(problem: Problem, codes: np.ndarray) -> np.ndarray:
+    """Every distinct arrangement of `codes` that keeps each unit in its block."""
+    rows = np.zeros((1, problem.n), dtype=np.int64)
+    for units in _strata(problem):
+        part = distinct_arrangements(codes[units])
+        rows = np.repeat(rows, len(part), axis=0)
+        rows[:, units] = np.tile(part, (len(rows) // len(part), 1))
+    return rows
+
+
 def _as_matrix(problem: Problem, arranged_codes: np.ndarray, values: np.ndarray) -> np.ndarray:
     if problem.form == "quadratic":
         k = len(problem.sizes)
         onehot = arranged_codes[:, None, :] == np.arange(k)[None, :, None]
         return onehot.reshape(-1, problem.n).astype(float)
+    if problem.form == "pairs":
+        i, j = np.triu_indices(problem.n, 1)
+        return np.sign(values[arranged_codes[:, j]] - values[arranged_codes[:, i]])
+    if problem.form == "residual":     # rows (arrangement, basis column)
+        moved = problem.basis[arranged_codes]          # arrangements x units x columns
+        return np.ascontiguousarray(moved.transpose(0, 2, 1)).reshape(-1, problem.n)
     return values[arranged_codes]
 
 
@@ -87,13 +127,24 @@ def exact_reference(problem: Problem, limit: int = EXACT_LIMIT) -> Optional[Refe
         signs = ((codes[:, None] >> bits) & 1) * 2.0 - 1.0
         return Reference(True, signs, size)
     codes, values = _base_codes(problem)
-    arranged = distinct_arrangements(codes)
+    arranged = _within_strata(problem, codes)
     return Reference(True, _as_matrix(problem, arranged, values), len(arranged))
+
+
+def random_permutations(problem: Problem, rng: np.random.Generator, draws: int) -> np.ndarray:
+    """`draws` random permutations of the units (rows), each within the blocks."""
+    if problem.strata is None:
+        return rng.permuted(np.tile(np.arange(problem.n), (draws, 1)), axis=1)
+    perms = np.tile(np.arange(problem.n), (draws, 1))
+    for units in _strata(problem):
+        perms[:, units] = units[rng.permuted(np.tile(np.arange(len(units)), (draws, 1)),
+                                             axis=1)]
+    return perms
 
 
 def sampled_reference(problem: Problem, rng: np.random.Generator, draws: int) -> Reference:
     if problem.form == "signs":
         return Reference(False, rng.integers(0, 2, (draws, problem.n)) * 2.0 - 1.0, draws)
     codes, values = _base_codes(problem)
-    perms = rng.permuted(np.tile(np.arange(problem.n), (draws, 1)), axis=1)
+    perms = random_permutations(problem, rng, draws)
     return Reference(False, _as_matrix(problem, codes[perms], values), draws)

@@ -1,10 +1,13 @@
 """Both tests on many data sets at once: rows of Y are data sets, columns the design's units.
 
 - `scores(problem, Y)`: the family's scores of each data set (values, mid-ranks, normal
-  scores, above-the-median indicators, signed ranks, signs), row by row.
+  scores, above-the-median indicators, signed ranks, signs, mid-ranks within blocks,
+  residuals of the reduced model), row by row.
 - `normal_p(problem, Y, A)`: the family's normal-theory counterpart, the same formulas as
   `permq.normal` (Welch t, t on the differences, normal approximations, one-way F,
-  chi-square approximations, linear-trend t, the t test of the slope), vectorised.
+  chi-square approximations, linear-trend t, the t test of the slope, the blocked tests'
+  F, t and normal approximations, Kendall's and Jonckheere-Terpstra's normal approximations),
+  vectorised.
 - `permutation_p(problem, A, reference)`: the permutation p-value of each data set against
   one reference set of arrangements (all of them, or Monte Carlo draws shared by a block of
   data sets), with the p-value rules of `engine.pvalues`: the relative tolerance, the two-sided
@@ -28,6 +31,20 @@ def _ranks(Y):
     return stats.rankdata(Y, axis=1)
 
 
+def _ranks_within(problem: Problem, Y):
+    out = np.empty_like(Y, dtype=float)
+    for s in np.unique(problem.strata):
+        units = np.nonzero(problem.strata == s)[0]
+        out[:, units] = stats.rankdata(Y[:, units], axis=1)
+    return out
+
+
+def _residuals(problem: Problem, Y):
+    """Residuals of each data set on the reduced model (the basis's columns but the last)."""
+    q = problem.basis[:, :-1]
+    return Y - (Y @ q) @ q.T
+
+
 def scores(problem: Problem, Y: np.ndarray) -> np.ndarray:
     fam, kind = problem.family, problem.kind
     if kind in ("paired", "one-sample"):
@@ -36,7 +53,11 @@ def scores(problem: Problem, Y: np.ndarray) -> np.ndarray:
         if fam == "ranks":   # zeros keep their place in the ranking (Pratt) and carry no sign
             return np.sign(Y) * _ranks(np.abs(Y))
         return np.sign(Y)
-    if fam in ("means", "slope", "pearson"):
+    if kind == "blocked":
+        return _ranks_within(problem, Y) if fam in ("stratified-ranks", "friedman", "page") else Y
+    if problem.form == "residual":
+        return _residuals(problem, Y)
+    if fam in ("means", "slope", "pearson", "kendall") or problem.form == "pairs":
         return Y
     r = _ranks(Y)
     if fam in ("ranks", "spearman"):
@@ -46,6 +67,12 @@ def scores(problem: Problem, Y: np.ndarray) -> np.ndarray:
     if fam == "medians":
         return (Y > np.median(Y, axis=1, keepdims=True)).astype(float)
     raise KeyError(fam)
+
+
+def pair_signs(A: np.ndarray) -> np.ndarray:
+    """sign(a_j - a_i) over the pairs i < j, row by row."""
+    i, j = np.triu_indices(A.shape[1], 1)
+    return np.sign(A[:, j] - A[:, i])
 
 
 # ---------------------------------------------------------------- normal theory
@@ -66,9 +93,19 @@ def normal_test_name(problem: Problem) -> str:
                 "normal-scores": "van der Waerden chi-square approximation",
                 "medians": "median test chi-square approximation"}[fam]
     if kind == "ordered":
-        return "linear trend t"
+        return "linear trend t" if fam == "means" else \
+            "Jonckheere-Terpstra normal approximation"
+    if kind == "blocked":
+        return {"stratified-means": "t for the group effect, additive model with blocks",
+                "stratified-ranks": "normal approximation to the stratified rank sum",
+                "friedman": "chi-square approximation to Friedman's statistic",
+                "within-block-f": "F for treatments, additive two-way model",
+                "page": "normal approximation to Page's L"}[fam]
+    if problem.form == "residual":
+        return "least-squares t test of the slope adjusted for covariates"
     return {"slope": "least-squares t test of the slope", "pearson": "t test of Pearson's r",
-            "spearman": "t approximation for Spearman's rho"}[fam]
+            "spearman": "t approximation for Spearman's rho",
+            "kendall": "normal approximation for Kendall's S"}[fam]
 
 
 def _p_t(t, df, alternative):
@@ -97,7 +134,14 @@ def normal_p(problem: Problem, Y: np.ndarray, A: np.ndarray) -> np.ndarray:
         if kind == "k-sample":
             return _k_sample_normal(problem, Y, A)
         if kind == "ordered":
-            return _trend_normal(problem, Y)
+            return _trend_normal(problem, Y) if problem.family == "means" else \
+                _jonckheere_normal(problem, A)
+        if kind == "blocked":
+            return _BLOCKED_NORMAL[problem.family](problem, Y, A)
+        if problem.form == "residual":
+            return _p_t(observed_statistic(problem, A), problem.residual_df, problem.alternative)
+        if problem.family == "kendall":
+            return _kendall_normal(problem, A)
         return _slope_normal(problem, A)
 
 
@@ -172,6 +216,114 @@ def _slope_normal(pb, A):
     return _p_t(t, n - 2, pb.alternative)
 
 
+def _null_variance(A, untied: float, variance) -> np.ndarray:
+    """Per data set: `untied` where its values have no ties, else variance(row)."""
+    out = np.full(A.shape[0], untied)
+    srt = np.sort(A, axis=1)
+    for d in np.nonzero((np.diff(srt, axis=1) == 0).any(axis=1))[0]:
+        out[d] = variance(A[d])
+    return out
+
+
+def _kendall_normal(pb, A):
+    from ..normal.association import kendall_variance
+
+    x = pb.x
+    var = _null_variance(A, kendall_variance(np.arange(pb.n, dtype=float), x),
+                         lambda row: kendall_variance(row, x))
+    s = pair_signs(A) @ pb.weights
+    return _p_z(np.where(var > 0, s / np.sqrt(var), 0.0), pb.alternative)
+
+
+def _jonckheere_normal(pb, A):
+    """z = (J - E0 J) / sd, and J - E0 J = S / 2 with S Kendall's S against the group order."""
+    from ..normal.ksample import jonckheere_variance
+
+    g = pb.codes
+    var = _null_variance(A, jonckheere_variance(np.arange(pb.n, dtype=float), g),
+                         lambda row: jonckheere_variance(row, g))
+    s = pair_signs(A) @ pb.weights / 2.0
+    return _p_z(np.where(var > 0, s / np.sqrt(var), 0.0), pb.alternative)
+
+
+def _block_basis(pb) -> np.ndarray:
+    """Orthonormal columns spanning the block indicators."""
+    ind = (pb.strata[:, None] == np.unique(pb.strata)[None, :]).astype(float)
+    return ind / np.sqrt(ind.sum(axis=0))
+
+
+def _blocked_t(pb, Y, A):
+    """t for group 0 - group 1 in y = block + group + error, as normal.blocks."""
+    q = _block_basis(pb)
+    g0 = (pb.codes == 0).astype(float)
+    xt = g0 - q @ (q.T @ g0)
+    sxx = float(xt @ xt)
+    r = Y - (Y @ q) @ q.T
+    c = r @ xt
+    df = pb.n - q.shape[1] - 1
+    rss = np.maximum((r * r).sum(axis=1) - c * c / sxx, 0.0)
+    return _p_t((c / sxx) / np.sqrt(rss / df / sxx), df, pb.alternative)
+
+
+def _centred_within(pb, A) -> np.ndarray:
+    """Each data set's scores minus their block mean."""
+    q = _block_basis(pb)
+    return A - (A @ q) @ q.T
+
+
+def _stratified_ranks_normal(pb, Y, A):
+    a = _centred_within(pb, A)
+    g0 = (pb.codes == 0).astype(float)
+    t = a @ g0
+    var = np.zeros(A.shape[0])
+    for s in np.unique(pb.strata):
+        units = pb.strata == s
+        n_b, m_b = int(units.sum()), int(g0[units].sum())
+        if n_b > 1 and 0 < m_b < n_b:
+            var += m_b * (n_b - m_b) / (n_b * (n_b - 1)) * (a[:, units] ** 2).sum(axis=1)
+    return _p_z(np.where(var > 0, t / np.sqrt(np.where(var > 0, var, 1.0)), 0.0),
+                pb.alternative)
+
+
+def _treatment_sums(pb, A):
+    k = len(pb.sizes)
+    return A @ (pb.codes[:, None] == np.arange(k)).astype(float)
+
+
+def _friedman_normal(pb, Y, A):
+    k = len(pb.sizes)
+    b = pb.n // k
+    dev = _treatment_sums(pb, A) - b * (k + 1) / 2
+    d = ((A - (k + 1) / 2) ** 2).sum(axis=1)
+    q = (k - 1) * (dev ** 2).sum(axis=1) / np.where(d > 0, d, 1.0)
+    return np.where(d > 0, stats.chi2.sf(q, k - 1), 1.0)
+
+
+def _additive_f(pb, Y, A):
+    k = len(pb.sizes)
+    b = pb.n // k
+    a = _centred_within(pb, Y)              # y minus its block mean
+    sst = (_treatment_sums(pb, a) ** 2).sum(axis=1) / b
+    sse = np.maximum((a * a).sum(axis=1) - sst, 0.0)
+    f = (sst / (k - 1)) / (sse / ((k - 1) * (b - 1)))
+    return stats.f.sf(f, k - 1, (k - 1) * (b - 1))
+
+
+def _page_normal(pb, Y, A):
+    k = len(pb.sizes)
+    c = pb.weights
+    a = _centred_within(pb, A)
+    spread = (a * a).sum(axis=1)
+    var = ((np.arange(1, k + 1) - (k + 1) / 2) ** 2).sum() * spread / (k - 1)
+    z = (a @ c) / np.sqrt(np.where(var > 0, var, 1.0))
+    return _p_z(np.where(var > 0, z, 0.0), pb.alternative)
+
+
+_BLOCKED_NORMAL = {"stratified-means": _blocked_t, "stratified-ranks": _stratified_ranks_normal,
+                   "friedman": _friedman_normal, "within-block-f": _additive_f,
+                   "page": _page_normal}
+
+
 # ---------------------------------------------------------------- permutation
 
 def observed_statistic(problem: Problem, A: np.ndarray) -> np.ndarray:
@@ -180,14 +332,29 @@ def observed_statistic(problem: Problem, A: np.ndarray) -> np.ndarray:
         return A.sum(axis=1)
     if problem.form == "linear":
         return A @ problem.weights
+    if problem.form == "pairs":
+        return pair_signs(A) @ problem.weights
+    if problem.form == "residual":
+        return residual_t(problem, A @ problem.basis, (A * A).sum(axis=1))
     k = len(problem.sizes)
     onehot = (problem.codes[:, None] == np.arange(k)).astype(float)
     return ((A @ onehot) ** 2 / problem.sizes).sum(axis=1)
 
 
+def residual_t(problem: Problem, proj: np.ndarray, ee: np.ndarray) -> np.ndarray:
+    """t of the slope from the projections of (permuted) residuals on the basis (last axis:
+    columns), as engine.association.adjusted_t; ee: each data set's residual sum of squares."""
+    sxx = float(problem.basis[:, -1] @ problem.basis[:, -1])
+    c = proj[..., -1]
+    rss = np.maximum(ee - (proj[..., :-1] ** 2).sum(axis=-1) - c * c / sxx, 0.0)
+    return (c / sxx) / np.sqrt(rss / problem.residual_df / sxx)
+
+
 def permutation_p(problem: Problem, A: np.ndarray, reference: Reference) -> np.ndarray:
     if problem.form == "quadratic":
         b = _quadratic_exceedances(problem, A, reference)
+    elif problem.form == "residual":
+        b = _residual_exceedances(problem, A, reference)
     else:
         b = _linear_exceedances(problem, A, reference)
     if reference.exact:
@@ -217,20 +384,42 @@ def _quadratic_exceedances(problem, A, reference):
     return np.count_nonzero(t >= t0 - tol, axis=0)
 
 
-def _linear_exceedances(problem, A, reference):
-    """Exceedances of T - E0 T; the scores are centred first, which makes E0 T = 0 (every
-    arranged weight vector has the same sum, and sign flips have mean zero)."""
-    if problem.form == "linear":
-        a = A - A.mean(axis=1, keepdims=True)
-        w_max = np.abs(problem.weights).max()
-    else:
-        a, w_max = A, 1.0
-    t0 = observed_statistic(problem, a)
-    tol = RTOL * np.maximum(np.abs(t0), np.abs(A).sum(axis=1) * w_max)
-    t = _products(reference.matrix, a)
-    if problem.alternative == "higher":
+def _residual_exceedances(problem, A, reference):
+    t0 = observed_statistic(problem, A)
+    cols = problem.basis.shape[1]
+    proj = _products(reference.matrix, A).reshape(-1, cols, A.shape[0]).transpose(0, 2, 1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = residual_t(problem, proj, (A * A).sum(axis=1))
+    return _tail_counts(problem.alternative, t, t0, RTOL * np.abs(t0))
+
+
+def _tail_counts(alternative, t, t0, tol):
+    """How many arrangement statistics (rows of t) are at least as extreme as t0, per column."""
+    if alternative == "higher":
         return np.count_nonzero(t >= t0 - tol, axis=0)
-    if problem.alternative == "lower":
+    if alternative == "lower":
         return np.count_nonzero(t <= t0 + tol, axis=0)
     np.abs(t, out=t)
     return np.count_nonzero(t >= np.abs(t0) - tol, axis=0)
+
+
+def _linear_exceedances(problem, A, reference):
+    """Exceedances of T - E0 T; the scores are centred first (within blocks, when there are
+    blocks), which makes E0 T = 0 (every arranged weight vector has the same sum in each
+    block; sign flips and pair signs have mean zero)."""
+    if problem.form == "linear":
+        if problem.strata is not None:
+            a = _centred_within(problem, A)
+        else:
+            a = A - A.mean(axis=1, keepdims=True)
+        w_max = np.abs(problem.weights).max()
+        scale = np.abs(A).sum(axis=1) * w_max
+    elif problem.form == "pairs":
+        a = pair_signs(A)
+        scale = np.full(A.shape[0], float(a.shape[1]))
+    else:
+        a = A
+        scale = np.abs(A).sum(axis=1)
+    t0 = a @ problem.weights if problem.form != "signs" else a.sum(axis=1)
+    tol = RTOL * np.maximum(np.abs(t0), scale)
+    return _tail_counts(problem.alternative, _products(reference.matrix, a), t0, tol)

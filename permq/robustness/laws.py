@@ -163,8 +163,13 @@ def centre(law_key: str, family: str) -> float:
 BY_KEY = {law.key: law for law in SHAPES + (UNEQUAL, GROWING)}
 
 
-def breaks_exactness(law: ErrorLaw, kind: str, family: str) -> Optional[str]:
+def breaks_exactness(law: ErrorLaw, kind: str, family: str, form: str = "") -> Optional[str]:
     """Why the permutation test is not exact under this law for this design, or None."""
+    if form == "residual":
+        return ("permuting residuals of the reduced model (adjusted slope) is approximate "
+                "under every law")
+    if law.spread == "groups" and kind == "blocked":
+        return "unequal spread breaks exchangeability of treatments within blocks"
     if law.spread == "groups" and kind in ("two-sample", "k-sample", "ordered"):
         return "unequal spread breaks exchangeability between groups"
     if law.spread == "x":

@@ -14,7 +14,7 @@ import numpy as np
 from ..engine import sampling
 from ..errors import PermqError
 from .arrangements import sampled_reference
-from .batch import scores
+from .batch import residual_t, pair_signs, scores
 from .problem import Problem, data_row, problem_for
 from .result import NullPicture
 
@@ -73,7 +73,13 @@ def sampled_statistics(problem: Problem, y: np.ndarray, seed: int, draws: int) -
 def internal(problem: Problem, a: np.ndarray, matrix: np.ndarray) -> np.ndarray:
     """The simulation's statistic (group-1 score sum, signed sum, sum S_g^2 / n_g, or
     sum w a) for each arrangement row of `matrix`."""
+    if problem.form == "pairs":
+        return matrix @ pair_signs(a[None, :])[0]
     t = matrix @ a
+    if problem.form == "residual":
+        cols = problem.basis.shape[1]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return residual_t(problem, t.reshape(-1, cols), float(a @ a))
     if problem.form != "quadratic":
         return t
     k = len(problem.sizes)
@@ -99,11 +105,40 @@ def reported(problem: Problem, a: np.ndarray, t: np.ndarray) -> np.ndarray:
         sst = float(((a - a.mean()) ** 2).sum())
         return FAMILIES[fam].statistic_of(ssb, sst, problem.n, len(problem.sizes))
     if kind == "ordered":
+        if fam != "means":    # Jonckheere-Terpstra J = (pairs in different groups + S) / 2
+            between = (problem.n ** 2 - float((problem.sizes ** 2).sum())) / 2
+            return (between + t) / 2
         return t + problem.x.mean() * total
+    if kind == "blocked":
+        return _blocked_reported(problem, a, t)
+    if problem.form == "residual":
+        return t
+    if fam == "kendall":
+        from ..engine.association import _tied_pairs
+
+        n0 = problem.n * (problem.n - 1) / 2
+        return t / np.sqrt((n0 - _tied_pairs(problem.x)) * (n0 - _tied_pairs(a)))
     w = problem.weights
     if fam == "slope":
         return t / (w * w).sum()
     return t / np.sqrt((w * w).sum() * ((a - a.mean()) ** 2).sum())
+
+
+def _blocked_reported(problem: Problem, a: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """Friedman's Q and the within-block F from sum_j S_j^2 / b; the stratified sums and
+    Page's L are the simulation's statistic as they are."""
+    k = len(problem.sizes)
+    b = problem.n // k
+    if problem.family == "friedman":
+        d = float(((a - (k + 1) / 2) ** 2).sum())
+        return (k - 1) * (b * t - (b * k * (k + 1) / 2) ** 2 / k) / d if d > 0 else 0 * t
+    if problem.family == "within-block-f":
+        means = np.array([a[problem.strata == s].mean() for s in problem.strata])
+        resid_total = float(((a - means) ** 2).sum())
+        sst = t - a.sum() ** 2 / problem.n
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return (sst / (k - 1)) / ((resid_total - sst) / ((k - 1) * (b - 1)))
+    return t
 
 
 def attach(design, result) -> None:

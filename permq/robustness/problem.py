@@ -8,7 +8,19 @@ deviations, so that simulated data sets are drawn as
 
 where `pattern` is zero under the null and the observed (or the requested) effect otherwise.
 Every test here is unchanged by a change of location and scale of y, so working in
-standard-deviation units loses nothing.
+standard-deviation units loses nothing. Blocked designs are simulated without block effects
+and the adjusted slope without covariate effects: every test of them is unchanged by adding
+a constant within each block, or any combination of the covariates, to y.
+
+Permutation statistics (`form`):
+- "linear": T = sum_i w_pi(i) a_i, arrangements within `strata` when there are blocks;
+- "signs": T = sum_i s_i a_i over sign flips;
+- "quadratic": sum_g S_g^2 / n_g of the group score sums (within `strata` when blocked);
+- "pairs": Kendall's S between y and the fixed x (Kendall's tau; Jonckheere-Terpstra, with
+  x the group order), T = sum_{i<j} sign(x_j - x_i) sign(y_j - y_i);
+- "residual": the t of the slope in the full model, recomputed on permuted residuals of the
+  reduced model (Freedman-Lane); `basis` holds the reduced model's orthonormal columns and
+  the predictor made orthogonal to them.
 """
 from __future__ import annotations
 
@@ -38,6 +50,9 @@ class Problem:
     unit_pattern: np.ndarray       # a shift of 1 sd, per unit
     design_words: str
     per_sd: float              # the effect (in the data's units) that a shift of 1 sd stands for
+    strata: Optional[np.ndarray] = None    # block code of each unit: arrangements stay within
+    basis: Optional[np.ndarray] = None     # "residual": Q of the reduced model, then x made
+    residual_df: int = 0                   #   orthogonal to it; the full model's residual df
 
     @property
     def n(self) -> int:
@@ -57,9 +72,8 @@ def problem_for(design) -> Problem:
         return _groups(design)
     if isinstance(design, designs.AssociationDesign):
         return _slope(design)
-    raise PlanError(f"robustness is not available for {design.kind} analyses yet",
-                    hint="it covers two samples, paired data, one sample, k groups, "
-                         "ordered groups (means) and the simple slope or correlation")
+    raise PlanError(f"robustness is not available for {design.kind} analyses",
+                    hint="it covers comparisons, relations and tables")
 
 
 def pattern_for(problem: Problem, shift) -> tuple[np.ndarray, float, float]:
@@ -125,10 +139,7 @@ def _one_sample(d) -> Problem:
 def _groups(d) -> Problem:
     fam = d.settings.family
     if d.kind == "blocked":
-        raise PlanError("robustness is not available for blocked designs yet")
-    if d.kind == "ordered" and fam != "means":
-        raise PlanError("robustness is not available for the Jonckheere-Terpstra test yet",
-                        hint="it covers the ordered comparison of means (linear trend)")
+        return _blocked(d)
     v, g = d.values, d.groups
     sizes = np.bincount(g)
     k, N = len(sizes), len(v)
@@ -142,7 +153,8 @@ def _groups(d) -> Problem:
         sc = s - s.mean()
         slope = float((sc * v).sum() / (sc * sc).sum())
         unit = sc / np.ptp(d.scores)
-        return Problem("ordered", fam, d.settings.alternative, "linear", g.copy(), sc, s, sd,
+        form, weights = ("linear", sc) if fam == "means" else ("pairs", pair_weights(g))
+        return Problem("ordered", fam, d.settings.alternative, form, g.copy(), weights, s, sd,
                        "pooled within-group sd", slope,
                        "trend slope (per unit of dose score)", slope * sc / _safe(sd), unit,
                        f"{k} ordered groups of {shape}", sd / float(np.ptp(d.scores)))
@@ -154,33 +166,110 @@ def _groups(d) -> Problem:
                    f"{k} groups of {shape}", sd)
 
 
+def blocked_test(d) -> str:
+    """The test a blocked design runs (as families.groups chooses it)."""
+    from ..families.groups import _blocked_test
+
+    return _blocked_test(d)
+
+
+def _blocked(d) -> Problem:
+    """Treatments within blocks: the additive fit y = block + treatment gives the observed
+    treatment effects and the residual sd; arrangements permute treatments within blocks."""
+    from ..families.groups import blocked_test
+
+    test = blocked_test(d)
+    v, g = d.values, d.groups
+    _, b = np.unique(d.blocks, return_inverse=True)
+    k, nb, N = int(g.max()) + 1, int(b.max()) + 1, len(v)
+    X = np.column_stack([np.eye(nb)[b], np.eye(k)[g][:, 1:]])
+    coef, *_ = np.linalg.lstsq(X, v, rcond=None)
+    rank = int(np.linalg.matrix_rank(X))
+    df = N - rank
+    if df < 1 or rank < X.shape[1]:
+        raise PlanError("robustness needs residual degrees of freedom in the additive fit of "
+                        "blocks and treatments")
+    resid = v - X @ coef
+    sd = float(np.sqrt(resid @ resid / df))
+    effects = np.r_[0.0, coef[nb:]]            # treatment effects, relative to the first
+    pattern = effects[g]
+    if k == 2:
+        effect, words = float(-effects[1]), (f"difference {d.labels[0]} - {d.labels[1]} "
+                                             "adjusted for blocks")
+        unit = (g == 0).astype(float)
+    else:
+        effect, words = float(np.ptp(effects)), "range of the treatment effects adjusted for blocks"
+        unit = (np.arange(k) / (k - 1) - 0.5)[g]
+    if test in ("stratified-means", "stratified-ranks"):
+        form, weights = "linear", (g == 0).astype(float)
+    elif test == "page":
+        form, weights = "linear", (g + 1).astype(float)
+    else:
+        form, weights = "quadratic", None
+    what = (f"{k} treatments in {nb} blocks" if test in ("friedman", "within-block-f", "page")
+            else f"2 groups ({d.labels[0]}, {d.labels[1]}) within {nb} blocks")
+    return Problem("blocked", test, d.settings.alternative, form, g.copy(), weights, None, sd,
+                   "residual sd of the additive fit (blocks + treatments)", effect, words,
+                   pattern / _safe(sd), unit, what, sd, strata=b.astype(np.int64))
+
+
+def pair_weights(x) -> np.ndarray:
+    """sign(x_j - x_i) over the pairs i < j (the order of np.triu_indices(n, 1))."""
+    x = np.asarray(x, dtype=float)
+    i, j = np.triu_indices(len(x), 1)
+    return np.sign(x[j] - x[i])
+
+
 def _slope(d) -> Problem:
     fam = d.settings.family
-    if d.covariates is not None:
-        raise PlanError("robustness is not available for the slope adjusted for covariates yet")
-    if fam == "kendall":
-        raise PlanError("robustness is not available for Kendall's tau yet",
-                        hint="it covers using slope, pearson and spearman")
     y, x = d.y, d.x
     n = len(y)
     if n < 4:
         raise PlanError("robustness needs at least four pairs")
+    if d.covariates is not None:
+        return _adjusted_slope(d)
     xc = x - x.mean()
     b = float((xc * y).sum() / (xc * xc).sum())
     resid = y - y.mean() - b * xc
     sd = float(np.sqrt((resid ** 2).sum() / (n - 2)))
+    form = "linear"
     if fam == "spearman":
         from scipy.stats import rankdata
 
         rx = rankdata(x)
         w = rx - rx.mean()
+    elif fam == "kendall":
+        form, w = "pairs", pair_weights(x)
     else:
         w = xc
     unit = xc / x.std(ddof=1)
-    return Problem("slope", fam, d.settings.alternative, "linear", np.zeros(n, np.int64), w,
+    return Problem("slope", fam, d.settings.alternative, form, np.zeros(n, np.int64), w,
                    x.copy(), sd, "residual sd about the line", b,
                    f"slope of {d.names[0]} on {d.names[1]}", b * xc / _safe(sd), unit,
                    f"{n} pairs of {d.names[0]} and {d.names[1]}", sd / float(x.std(ddof=1)))
+
+
+def _adjusted_slope(d) -> Problem:
+    from ..engine.association import reduced_model
+    from ..errors import DataError
+
+    y, x = d.y, d.x
+    n = len(y)
+    try:
+        rm = reduced_model(y, x, d.covariates)
+    except DataError as err:
+        raise PlanError(str(err)) from None
+    xt = rm.basis[:, -1]
+    b = float(xt @ rm.resid / rm.sxx)
+    sd = float(np.sqrt(max(rm.ee - b * b * rm.sxx, 0.0) / rm.df))
+    sxt = float(np.sqrt(rm.sxx / (n - 1)))
+    names = ", ".join(d.covariate_names)
+    return Problem("slope", "slope", d.settings.alternative, "residual", np.zeros(n, np.int64),
+                   xt, x.copy(), sd, "residual sd of the full model", b,
+                   f"slope of {d.names[0]} on {d.names[1]} adjusted for {names}",
+                   b * xt / _safe(sd), xt / sxt,
+                   f"{n} units: {d.names[0]} on {d.names[1]} adjusted for {names}", sd / sxt,
+                   basis=rm.basis, residual_df=rm.df)
 
 
 def _safe(sd: float) -> float:

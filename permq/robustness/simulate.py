@@ -99,7 +99,8 @@ def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float,
     for law, c in zip(panel, counts):
         rates = [rates_from_counts(c[:, i], c[:, 4], exact is None) for i in range(4)]
         out.append(LawRates(law, *rates,
-                            not_exact=L.breaks_exactness(law, problem.kind, problem.family)))
+                            not_exact=L.breaks_exactness(law, problem.kind, problem.family,
+                                                            problem.form)))
     return Simulation(tuple(out), datasets, alpha, exact is not None,
                       exact.count if exact is not None else permutations, seed)
 
