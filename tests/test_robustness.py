@@ -237,6 +237,23 @@ def test_t_test_under_strong_skew_at_tiny_n_errs_in_the_published_direction():
         assert lower[key].not_exact        # sign flips need symmetry; the report says so
 
 
+def test_friedman_chi_square_at_few_blocks_errs_in_the_published_direction():
+    """Five blocks of four treatments, normal errors: the chi-square approximation to
+    Friedman's statistic rejects less often than the level. Iman and Davenport,
+    "Approximations of the critical region of the Friedman statistic", Communications in
+    Statistics A9(6), 1980 (from memory): the chi-square approximation is conservative,
+    markedly so with few blocks. The exact test keeps its level (within Monte Carlo error)."""
+    rng = np.random.default_rng(41)       # the design only; the responses are simulated
+    frame = pd.DataFrame({"y": rng.normal(0, 1, 20), "g": np.tile(["a", "b", "c", "d"], 5),
+                          "b": np.repeat(np.arange(5), 4)})
+    pb = _problem("compare y by g within b in f", tables={"f": frame})
+    assert pb.family == "friedman"
+    sim = simulate(pb, np.zeros(pb.n), 4000, 0.05, 43, panel=(L.NORMAL,))
+    normal, perm = sim.rates[0].normal_null, sim.rates[0].permutation_null
+    assert normal.value < 0.05 - 3 * max(normal.se, math.sqrt(0.05 * 0.95 / 4000)), normal
+    assert perm.value <= 0.05 + 3 * max(perm.se, math.sqrt(0.05 * 0.95 / 4000)), perm
+
+
 def test_unequal_spread_breaks_the_permutation_test_and_the_report_says_so():
     """4 against 12, the small group three times as wide: the permutation test of the mean
     difference (like the pooled t) rejects too often, Welch's t does not (common practice)."""

@@ -11,12 +11,14 @@ import dataclasses
 import re
 from typing import Optional
 
+from ..bind import designs
 from ..bind.binder import bind
 from ..engine import sampling
 from ..errors import BindError
 from ..families import handler_for
 from ..syntax import nodes as n
 from . import report
+from . import tables as table_check
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
 from .problem import pattern_for, problem_for
@@ -72,14 +74,17 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
     inner = node.analysis
     check = check_settings(n.options_of(inner))
     design = bind(without_check_options(inner), catalog, defaults)
-    problem = problem_for(design)
-    pattern, shift, shift_sd = pattern_for(problem, check.shift)
     seed = design.settings.seed if design.settings.seed is not None else sampling.fresh_seed()
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
-    handler = handler_for(design)
-    observed = handler.execute(design, handler.plan(design), progress, text)
-    attach_diagnostics(design, observed, check.alpha)
+    if isinstance(design, designs.TableDesign):
+        observed = _observed(design, text, progress, check)
+        return table_check.check_table(text, design, observed, check, int(seed), progress,
+                                       null_picture(design, observed.outcome, int(seed)),
+                                       list(design.warnings))
+    problem = problem_for(design)
+    pattern, shift, shift_sd = pattern_for(problem, check.shift)
+    observed = _observed(design, text, progress, check)
     sim = simulate(problem, pattern, check.datasets, check.alpha, int(seed), progress)
     picture = null_picture(design, observed.outcome, int(seed))
     warnings = list(design.warnings)
@@ -91,6 +96,14 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
                         "pseudo-median or median) is zero under the null")
     return report.build(text, problem, observed, sim, shift, shift_sd,
                         _shift_words(problem, check.shift, shift, shift_sd), picture, warnings)
+
+
+def _observed(design, text, progress, check):
+    """The statement's own analysis of the data as they are, with its diagnostics."""
+    handler = handler_for(design)
+    observed = handler.execute(design, handler.plan(design), progress, text)
+    attach_diagnostics(design, observed, check.alpha)
+    return observed
 
 
 def _shift_words(problem, asked, shift, shift_sd) -> str:
