@@ -1,6 +1,8 @@
 """Terminal text: one aligned block per result, the exact and normal-theory answers side by side."""
 from __future__ import annotations
 
+import re
+
 from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
@@ -8,7 +10,12 @@ from . import numbers as fmt
 from .robustness import diagnostics_line, null_picture_block, robustness_block
 
 RULE = "─"
-BOLD, DIM, RED, RESET = "\x1b[1m", "\x1b[2m", "\x1b[31m", "\x1b[0m"
+BOLD, DIM, RED, X(nt) -> str:
+    """", df N" after a normal-theory statistic, unless the test's name already gives them
+    ("F on 2 and 22 df")."""
+    if nt.df is None or re.search(r"\bdf\b", nt.test):
+        return ""
+    return f", df {fmt.df(nt.df)}"
 
 
 def render(outputs, color: bool = False) -> str:
@@ -58,10 +65,9 @@ def result_block(r: Result, color: bool = False) -> str:
         exact_p += f" ±{fmt.p(max(o.p_value - o.p_interval[0], o.p_interval[1] - o.p_value))}"
     lines.append(_c(f"  {p_label:<15}{exact_p:<28}{normal_p}", BOLD, color))
     if nt:
-        df = f", df {fmt.df(nt.df)}" if nt.df is not None else ""
-        lines.append(f"  {'':<15}normal theory: {nt.test}: {fmt.num(nt.statistic)}{df}")
+        lines.append(f"  {'':<15}normal theory: {nt.test}: {fmt.num(nt.statistic)}{_df(nt)}")
     for extra in r.also_normal:
-        df = f", df {fmt.df(extra.df)}" if extra.df is not None else ""
+        df = _df(extra)
         lines.append(f"  {'also':<15}p {fmt.p(extra.p_value)} from {extra.test}: "
                      f"{fmt.num(extra.statistic)}{df}")
     if est is not None:
