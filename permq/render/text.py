@@ -10,7 +10,10 @@ from . import numbers as fmt
 from .robustness import diagnostics_line, null_picture_block, robustness_block
 
 RULE = "─"
-BOLD, DIM, RED, X(nt) -> str:
+BOLD, DIM, RED, RESET = "\x1b[1m", "\x1b[2m", "\x1b[31m", "\x1b[0m"
+
+
+def _df(nt) -> str:
     """", df N" after a normal-theory statistic, unless the test's name already gives them
     ("F on 2 and 22 df")."""
     if nt.df is None or re.search(r"\bdf\b", nt.test):
