@@ -9,6 +9,7 @@ from .errors import BindError
 from .help import help_text
 from .result import Note
 from .syntax import nodes as n
+from .syntax.parser import one_line
 
 FORMATS = ("text", "json", "csv", "markdown")
 
@@ -199,6 +200,5 @@ def replayable(text: str, result) -> str:
     """The statement as it ran, with the Monte Carlo seed pinned so a replay matches."""
     o = getattr(result, "outcome", result)     # several-test results carry method and seed
     if o.method == "monte-carlo" and not re.search(r"\bseed\s+\d+", text):
-        one_line = " ".join(text.replace("\\\n", " ").split())
-        return f"{one_line} seed {o.seed}"
+        return f"{one_line(text)} seed {o.seed}"
     return text

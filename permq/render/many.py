@@ -5,6 +5,7 @@ CSV and JSON carry every row. They never compute.
 """
 from __future__ import annotations
 
+from ..syntax.parser import one_line
 from . import numbers as fmt
 
 TEXT_ROWS = 20
@@ -51,7 +52,7 @@ def _titles(r) -> list:
 
 
 def text_block(r, color: bool = False, bold: str = "", dim: str = "", reset: str = "") -> str:
-    head = f"{RULE * 2} {r.statement} "
+    head = f"{RULE * 2} {one_line(r.statement)} "
     title = head + RULE * max(2, 76 - len(head))
     lines = [f"{bold}{title}{reset}" if color else title,
              f"{r.family} · {r.test} · effect: {r.effect}"]

@@ -46,3 +46,4 @@ def count(v) -> str:
 def df(v) -> str:
     v = float(v)
     return str(int(v)) if v.is_integer() else f"{v:.2f}"
+

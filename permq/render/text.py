@@ -6,6 +6,7 @@ import re
 from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
+from ..syntax.parser import one_line
 from . import numbers as fmt
 from .robustness import diagnostics_line, null_picture_block, robustness_block
 
@@ -47,7 +48,7 @@ def _c(s, code, color):
 
 def result_block(r: Result, color: bool = False) -> str:
     o, nt, est = r.outcome, r.normal, r.estimate
-    head = f"{RULE * 2} {r.statement} "
+    head = f"{RULE * 2} {one_line(r.statement)} "
     lines = [_c(head + RULE * max(2, 76 - len(head)), BOLD, color)]
     lines.append(f"{r.family} · {o.statistic_name} · effect: {r.effect}")
     if r.groups:

@@ -469,3 +469,9 @@ class _ToNodes(Transformer):
 
     def below(self, meta, ch):
         return self._opt(meta, "below", ch[0].value)
+
+
+def one_line(statement: str) -> str:
+    """A statement as one line (for headings and saved sessions): backslash-continued lines
+    joined, runs of spaces closed up."""
+    return " ".join(statement.replace("\\\n", " ").split())
