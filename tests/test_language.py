@@ -388,3 +388,31 @@ def test_parse_script_keeps_every_statement():
     stmts = parse_script("compare [1] vs [2]\ncompare [1] vs\ncompare [3] vs [4]")
     assert [s.error is None for s in stmts] == [True, False, True]
     assert [s.line for s in stmts] == [1, 2, 3]
+
+
+
+@pytest.mark.parametrize("text, absent, present", [
+    ("compare [1, 2] vs [3, 4] 5", {"datasets", "shift", "significance", "adjusting", "','"},
+     {"'alternative'", "'adjust'", "'top'", "'for'"}),
+    ("relate a to b 5", {"'datasets'", "'adjust'", "'by'", "'for'", "'top'", "','"},
+     {"'adjusting'", "'alternative'"}),
+    ("count [[1, 2], [3, 4]] 5", {"'adjust'", "'adjusting'", "'datasets'"}, {"'alternative'"}),
+    ("robustness compare [1, 2] vs [3, 4] 5", {"'adjusting'"},
+     {"'datasets'", "'shift'", "'significance'"}),
+])
+def test_expected_lists_name_only_options_the_statement_takes(text, absent, present):
+    """The grammar shares one option rule; an error lists only the options this kind of
+    statement can take (the binder refuses the others), and only words that can follow there
+    (the parser's own accepted set, not the merged lookaheads of its tables)."""
+    from lark.exceptions import UnexpectedToken
+
+    from permq.syntax.grammar import parser
+    from permq.syntax.parser import expected_words, fitting
+
+    with pytest.raises(UnexpectedToken) as info:
+        parser().parse(text)
+    words = set(expected_words(fitting(info.value.accepts or info.value.expected, text)))
+    assert present <= words, (present - words, words)
+    assert not absent & words, absent & words
+    f = permq.run(text)[0]
+    assert isinstance(f, permq.Failure) and f.message.startswith("unexpected '5'; expected ")

@@ -199,10 +199,34 @@ def _candidate_words(expected) -> list[str]:
     return words
 
 
+# Options the grammar accepts after every analysis but only some statements take (the binder
+# refuses them elsewhere): left out of "expected ..." lists where they cannot apply.
+_OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
+               "significance": ("robustness",), "adjusting": ("relate",),
+               "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
+               "top": ("compare",), "below": ("compare",)}
+
+
+def _statement_words(text: str) -> set:
+    words = text.split()[:2]
+    return set(words) if words and words[0] in ("robustness", "explain") else set(words[:1])
+
+
+def fitting(expected, text: str) -> set:
+    """The expected terminals less the options this statement cannot take (only at an
+    option's place, where 'using' is among the expected words)."""
+    expected = set(expected)
+    if not any(keyword_of(name) == "using" for name in expected):
+        return expected
+    heads = _statement_words(text)
+    return {name for name in expected
+            if not heads.isdisjoint(_OPTIONS_OF.get(keyword_of(name) or "", heads))}
+
+
 def translate(exc, text: str) -> QuerySyntaxError:
     if isinstance(exc, UnexpectedToken):
         tok = exc.token
-        expected = exc.expected if exc.expected else exc.accepts or set()
+        expected = fitting(exc.accepts or exc.expected or set(), text)
         if tok.type == "$END":
             span = _end_span(text)
             return QuerySyntaxError(
@@ -217,9 +241,10 @@ def translate(exc, text: str) -> QuerySyntaxError:
         ch = text[exc.pos_in_stream] if exc.pos_in_stream < len(text) else "?"
         span = Span(exc.line, exc.column, exc.line, exc.column + 1, exc.pos_in_stream,
                     exc.pos_in_stream + 1)
-        allowed = expected_words(exc.allowed or [])
+        allowed_names = fitting(exc.allowed or [], text)
+        allowed = expected_words(allowed_names)
         word = _word_at(text, exc.pos_in_stream)
-        hint = _suggest(word, _candidate_words(exc.allowed or [])) if word else None
+        hint = _suggest(word, _candidate_words(allowed_names)) if word else None
         if ch == '"' or ch == "'":
             msg = "a quoted text is not closed on this line"
         else:
