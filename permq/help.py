@@ -14,22 +14,23 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   compare mass by recipe                              k-sample (means: F; ranks: Kruskal-Wallis)
   compare mass by recipe ordered "B" < "A" < "C"      ordered: linear trend (means), Jonckheere-Terpstra (ranks)
   compare yield by dose within block using ranks      complete blocks: Friedman; 'ordered': Page
-  compare mass by recipe levels "A", "B" within bench two levels, blocks of any size: stratified""",
+  compare mass by recipe levels "A", "B" within bench  two levels, blocks of any size: stratified""",
     "relate": """relate: association and slopes
   relate mass to light                                Pearson correlation by permutation
   relate mass to light using kendall                  Kendall's tau (spearman: Spearman's rho)
   relate mass to light using slope                    slope with its exact interval
-  relate mass to light using slope adjusting for tray Freedman-Lane residual permutation""",
+  relate mass to light using slope adjusting for tray  Freedman-Lane residual permutation""",
     "count": """count: tables, paired outcomes, one proportion
   count sprouted by dose in plots                     r x c exact test (fisher, chi-square, likelihood-ratio)
   count sprouted by dose in plots ordered             trend (linear-by-linear)
   count [[9, 1], [3, 7]]                              Fisher's exact test, conditional odds ratio
-  count first vs second paired                        McNemar's exact test
+  count first vs second paired                        McNemar's exact test (your two yes/no columns)
   count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval""",
     "many": """several responses or comparisons at once, permuted together
   compare mass, light by recipe levels "A", "B" adjust max-t step-down
-  compare every numeric except tray by recipe pairwise adjust max-t
-  compare value by recipe for each marker adjust fdr top 20
+  compare every numeric except tray by recipe adjust max-t
+  compare mass by recipe pairwise adjust holm
+  compare value by recipe for each marker adjust fdr top 20   (your long table: a marker column)
 adjustments: holm, fdr (Benjamini-Hochberg), max-t, min-p [single-step | step-down], none
 filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scale out""",
     "families": """test families (after 'using')
@@ -48,6 +49,14 @@ filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scal
   sampled 50000                  Monte Carlo with that many draws
   seed 7                         seed for Monte Carlo
   in TABLE                       take the columns from TABLE""",
+    "robustness": """robustness STATEMENT: does normality matter for this design? (by simulation)
+  robustness compare mass by recipe levels "A", "B"        six error laws, 2,000 data sets each
+  robustness compare yield by dose within block in plots   blocks kept; treatments within blocks
+  robustness relate mass to light using slope shift 1 sd   power at a slope of 1 sd of error per sd of x
+  robustness count [[9, 1], [3, 7]]                        counts: sampling schemes keep the margins
+  compare mass by recipe picture "null.svg"                the null distribution, also as a file
+options: datasets N (per law), significance 1%, shift X [sd], seed N, picture "panel.svg"
+every result also carries diagnostics: skewness, largest residual, spread ratio""",
     "session": """session statements
   load "file.csv" as name        csv, tsv, parquet, xlsx
   use name                       the table the statements that follow use
@@ -64,6 +73,7 @@ TOPICS["set"] = TOPICS["session"]
 TOPICS["load"] = TOPICS["session"]
 TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
 TOPICS["tables"] = TOPICS["count"]
+TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
 
 

@@ -416,3 +416,46 @@ def test_expected_lists_name_only_options_the_statement_takes(text, absent, pres
     assert not absent & words, absent & words
     f = permq.run(text)[0]
     assert isinstance(f, permq.Failure) and f.message.startswith("unexpected '5'; expected ")
+
+
+def test_help_examples_bind_on_the_demo():
+    """Every example on the help pages is a statement that binds on the demo's tables (those
+    marked 'your ...' need the user's own columns and are only parsed)."""
+    import re
+
+    from permq.help import TOPICS
+    from permq.robustness.executor import check_settings, without_check_options
+    from permq.syntax.parser import parse_script
+
+    from conftest import ROOT
+
+    session = permq.Session(base_dir=ROOT / "demo")
+    names = ("trays", "plots", "seedlings")
+    for name in names:
+        assert isinstance(session.run(f'load "{name}.csv"')[0], permq.Note)
+    seen = 0
+    for page in set(TOPICS.values()):
+        for line in page.splitlines():
+            m = re.match(r"^  ((?:robustness )?(?:compare|relate|count) .*?)(?:\s{2,}(.*)|$)", line)
+            if not m:
+                continue
+            st = parse_script(m.group(1))[0]
+            assert st.error is None, (line, st.error)
+            seen += 1
+            if "your " in (m.group(2) or ""):
+                continue
+            node = st.node
+            if isinstance(node, n.Robustness):
+                check_settings(n.options_of(node.analysis))
+                node = without_check_options(node.analysis)
+            problems = []
+            for name in names:
+                session.catalog.current = name
+                try:
+                    bind(node, session.catalog, session.defaults)
+                    break
+                except (BindError, permq.errors.PermqError) as err:
+                    problems.append(str(err))
+            else:
+                raise AssertionError((line, problems))
+    assert seen >= 25
