@@ -204,7 +204,9 @@ def _candidate_words(expected) -> list[str]:
 _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
                "significance": ("robustness",), "adjusting": ("relate",),
                "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
-               "top": ("compare",), "below": ("compare",)}
+               "top": ("compare",), "below": ("compare",), "levels": ("compare",),
+               "within": ("compare",), "ordered": ("compare", "count"),
+               "paired": ("compare", "count")}
 
 
 def _statement_words(text: str) -> set:

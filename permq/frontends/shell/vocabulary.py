@@ -16,6 +16,7 @@ from typing import Optional
 from lark.exceptions import LarkError
 
 from ...syntax.grammar import alternatives_of, keyword_of, parser
+from ...syntax.parser import fitting
 
 
 def accepted(prefix: str) -> Optional[tuple[list, set]]:
@@ -23,7 +24,7 @@ def accepted(prefix: str) -> Optional[tuple[list, set]]:
     try:
         ip = parser().parse_interactive(prefix)
         tokens = ip.exhaust_lexer()
-        return tokens, set(ip.accepts())
+        return tokens, fitting(ip.accepts(), prefix)
     except LarkError:
         return None
 
