@@ -447,3 +447,14 @@ def test_save_replays_to_the_same_numbers(tmp_path):
     from permq.render import render
     again = [ln for ln in render(replay, "text").splitlines() if ln.strip().startswith("p (")]
     assert first and first == again
+
+
+def test_completion_offers_only_the_options_a_statement_takes():
+    session = demo_session()
+    relate = set(words("relate mass to light ", session))
+    assert {"using", "adjusting", "alternative", "in"} <= relate
+    assert not relate & {"within", "levels", "paired", "datasets", "adjust", "top"}
+    compare = set(words("compare mass by recipe ", session))
+    assert {"within", "levels", "adjust", "pairwise"} <= compare and "datasets" not in compare
+    check = set(words("robustness compare mass by recipe ", session))
+    assert {"datasets", "shift", "significance"} <= check and "adjusting" not in check

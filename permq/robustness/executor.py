@@ -17,6 +17,7 @@ from ..engine import sampling
 from ..errors import BindError
 from ..families import handler_for
 from ..syntax import nodes as n
+from ..syntax.parser import one_line
 from . import report
 from . import tables as table_check
 from .diagnostics import attach as attach_diagnostics
@@ -124,4 +125,4 @@ def replayable(text: str, result) -> str:
     """The statement with its seed pinned, so that a replay gives the same numbers."""
     if re.search(r"\bseed\s+\d+", text):
         return text
-    return " ".join(text.replace("\\\n", " ").split()) + f" seed {result.seed}"
+    return one_line(text) + f" seed {result.seed}"
