@@ -166,8 +166,9 @@ BY_KEY = {law.key: law for law in SHAPES + (UNEQUAL, GROWING)}
 def breaks_exactness(law: ErrorLaw, kind: str, family: str, form: str = "") -> Optional[str]:
     """Why the permutation test is not exact under this law for this design, or None."""
     if form == "residual":
+        also = "; spread growing with x breaks it further" if law.spread == "x" else ""
         return ("permuting residuals of the reduced model (adjusted slope) is approximate "
-                "under every law")
+                "under every law" + also)
     if law.spread == "groups" and kind == "blocked":
         return "unequal spread breaks exchangeability of treatments within blocks"
     if law.spread == "groups" and kind in ("two-sample", "k-sample", "ordered"):

@@ -99,11 +99,23 @@ def summary(table: list, alpha: float, normal_test: str, shift_words: str) -> li
                      + (f"; its highest rate is {worst.permutation_rate:.3f}." if not above else
                         f"; yet its rate is above {pct} beyond Monte Carlo error under "
                         f"{_listing(r.name for r in above)}."))
+    by_reason = {}
     for r in table:
         if r.not_exact:
-            lines.append(f"Under {r.name} it loses its exactness ({r.not_exact}): its rate is "
+            by_reason.setdefault(r.not_exact, []).append(r)
+    for reason, laws in by_reason.items():
+        if len(laws) == 1:
+            r = laws[0]
+            lines.append(f"Under {r.name} it loses its exactness ({reason}): its rate is "
                          f"{r.permutation_rate:.3f} ± {r.permutation_se:.3f}, "
                          f"{r.permutation_verdict.split(', ', 1)[1]}.")
+            continue
+        off = [r for r in laws if not r.permutation_verdict.endswith("holds its level")]
+        lines.append(f"The permutation test is not exact here: {reason}. Its rate is "
+                     + _listing(f"{r.permutation_rate:.3f} under {r.name}" for r in laws)
+                     + (f"; it holds its level under every one of them." if not off else
+                        "; " + _listing(f"{r.permutation_verdict.split(', ', 1)[1]} under "
+                                        f"{r.name}" for r in off) + "."))
     lines.extend(_power_lines(table, shift_words))
     return lines
 
