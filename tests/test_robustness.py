@@ -486,3 +486,14 @@ def test_picture_files_are_written_with_matplotlib(tmp_path):
     rr = permq.run(f'robustness compare {inline(X8)} vs {inline(Y8)} datasets 200 seed 3 '
                    'picture "panel.svg"', base_dir=tmp_path)[0]
     assert "<svg" in (tmp_path / "panel.svg").read_text()[:2000], rr.warnings
+
+
+@pytest.mark.parametrize("text, message, hint", [
+    ('compare y, z by g levels "lo", "hi" in blkz', "one response at a time",
+     "robustness compare y by g"),
+    ("compare y by g pairwise in blkz", "one comparison at a time", 'levels "hi", "lo"'),
+])
+def test_several_responses_are_checked_one_at_a_time(text, message, hint):
+    frame = BLK.assign(z=BLK.y * 2)
+    f = permq.run(f"robustness {text}", tables={"blkz": frame})[0]
+    assert isinstance(f, permq.Failure) and message in f.message and hint in f.hint, f

@@ -72,6 +72,16 @@ def problem_for(design) -> Problem:
         return _groups(design)
     if isinstance(design, designs.AssociationDesign):
         return _slope(design)
+    if isinstance(design, designs.ManyDesign):
+        if design.pairwise:
+            raise PlanError("robustness checks one comparison at a time, not every pair",
+                            hint=f'name two levels: robustness compare {design.response} by '
+                                 f'{design.group} levels "{design.labels[0]}", '
+                                 f'"{design.labels[1]}"')
+        raise PlanError("robustness checks one response at a time",
+                        hint=f"name one response: robustness compare {design.names[0]} by "
+                             f"{design.group}" if design.names and design.group else
+                             "name one response")
     raise PlanError(f"robustness is not available for {design.kind} analyses",
                     hint="it covers comparisons, relations and tables")
 
