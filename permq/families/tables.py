@@ -13,7 +13,7 @@ RC_NORMAL = {"fisher": normal_tables.pearson_chi_square,
              "likelihood-ratio": normal_tables.likelihood_ratio}
 
 
-def _route(design) -> str:
+def route_of(design) -> str:
     if design.form in ("proportion", "paired"):
         return design.form
     if design.table.shape == (2, 2) and design.settings.family == "fisher":
@@ -23,7 +23,7 @@ def _route(design) -> str:
 
 def plan(design):
     s = design.settings
-    route = _route(design)
+    route = route_of(design)
     t = design.table
     if route == "rxc" and s.family != "trend" and s.alternative != "two-sided":
         raise BindError(f"the {s.family} statistic of a {t.shape[0]} x {t.shape[1]} table has "
@@ -41,7 +41,7 @@ def plan(design):
 
 def execute(design, the_plan, progress, statement: str = "") -> Result:
     s, t = design.settings, design.table
-    route = _route(design)
+    route = route_of(design)
     alg, draws, seed = the_plan.chosen.algorithm, the_plan.draws, the_plan.seed
     also, estimate = [], None
     if route == "proportion":

@@ -22,6 +22,14 @@ def _rate(v, se, digits=3) -> str:
     return f"{v:.{digits}f} ±{se:.{digits}f}"
 
 
+def _labels(rr) -> dict:
+    """Column words: counts are tried under sampling schemes, against the exact test."""
+    if rr.family == "table":
+        return {"law": "scheme", "perm": "exact test", "power": "power at the effect",
+                "shift": "effect"}
+    return {"law": "law", "perm": "permutation", "power": "power at the shift", "shift": "shift"}
+
+
 # ---------------------------------------------------------------- text
 
 def robustness_block(rr, color: bool = False) -> str:
@@ -32,11 +40,11 @@ def robustness_block(rr, color: bool = False) -> str:
     if obs is not None:
         normal = (f" · normal theory p {fmt.p(obs.normal.p_value)}, {obs.normal.test}"
                   if obs.normal else "")
-        lines.append(f"  {'observed':<15}permutation p {fmt.p(obs.outcome.p_value)} "
+        lines.append(f"  {'observed':<15}{_labels(rr)['perm']} p {fmt.p(obs.outcome.p_value)} "
                      f"({'exact' if obs.outcome.method == 'exact' else 'Monte Carlo'}){normal}")
     lines.append(f"  {'significance':<15}{_pct(rr.significance)} ({rr.alternative}); "
-                 f"{rr.datasets:,} data sets a law; seed {rr.seed}")
-    lines.append(f"  {'shift':<15}{rr.shift_words}")
+                 f"{rr.datasets:,} data sets a {_labels(rr)['law']}; seed {rr.seed}")
+    lines.append(f"  {_labels(rr)['shift']:<15}{rr.shift_words}")
     lines.append(f"  {'simulated test':<15}{rr.reference}")
     lines.extend(_table(rr, color))
     for s in rr.summary:
@@ -49,10 +57,11 @@ def robustness_block(rr, color: bool = False) -> str:
 
 
 def _table(rr, color) -> list:
+    w = _labels(rr)
     law_w = max(15, max(len(r.name) for r in rr.rows) + 2)
-    out = [f"  {'':<{law_w}}{'rejection rate under the null':<32}power at the shift",
-           _c(f"  {'law':<{law_w}}{'normal theory':<16}{'permutation':<16}"
-              f"{'normal theory':<16}{'permutation':<16}verdict", BOLD, color)]
+    out = [f"  {'':<{law_w}}{'rejection rate under the null':<32}{w['power']}",
+           _c(f"  {w['law']:<{law_w}}{'normal theory':<16}{w['perm']:<16}"
+              f"{'normal theory':<16}{w['perm']:<16}verdict", BOLD, color)]
     for r in rr.rows:
         out.append(f"  {r.name:<{law_w}}{_rate(r.normal_rate, r.normal_se):<16}"
                    f"{_rate(r.permutation_rate, r.permutation_se):<16}"
@@ -88,11 +97,12 @@ def null_picture_block(r) -> list:
 # ---------------------------------------------------------------- Markdown and CSV
 
 def markdown_section(rr) -> str:
+    w = _labels(rr)
     rows = [f"**`{rr.statement}`**: {rr.design}, {rr.statistic}; {rr.datasets:,} data sets a "
-            f"law, significance {_pct(rr.significance)}, seed {rr.seed}; shift: {rr.shift_words}; "
-            f"simulated test: {rr.reference}.", "",
-            "| law | normal theory: rate under the null | permutation: rate under the null |"
-            " normal theory: power | permutation: power | verdict |",
+            f"{w['law']}, significance {_pct(rr.significance)}, seed {rr.seed}; {w['shift']}: "
+            f"{rr.shift_words}; simulated test: {rr.reference}.", "",
+            f"| {w['law']} | normal theory: rate under the null | {w['perm']}: rate under the "
+            f"null | normal theory: power | {w['perm']}: power | verdict |",
             "|---|---|---|---|---|---|"]
     for r in rr.rows:
         rows.append(f"| {r.name} | {_rate(r.normal_rate, r.normal_se)} | "

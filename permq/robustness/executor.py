@@ -19,6 +19,7 @@ from ..families import handler_for
 from ..syntax import nodes as n
 from ..syntax.parser import one_line
 from . import report
+from . import tables as table_check
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
 from .problem import pattern_for, problem_for
@@ -78,8 +79,6 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
     if isinstance(design, designs.TableDesign):
-        from . import tables as table_check
-
         observed = _observed(design, text, progress, check)
         return table_check.check_table(text, design, observed, check, int(seed), progress,
                                        null_picture(design, observed.outcome, int(seed)),

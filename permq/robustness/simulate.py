@@ -87,14 +87,14 @@ def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float,
              panel: Optional[tuple] = None, workers: Optional[int] = None) -> Simulation:
     panel = panel or L.panel(problem.kind)
     exact = exact_reference(problem)
-    tracker = _Tracker(len(panel) * datasets)
+    tracker = Tracker(len(panel) * datasets)
 
     def one_law(j):
         return _law_counts(problem, panel[j], pattern, datasets, alpha, 1000 * seed + j, exact,
                            permutations, tracker)
 
     workers = max(1, min(workers or sampling.default_workers(), len(panel)))
-    counts = _run_parallel(one_law, len(panel), workers, tracker, progress)
+    counts = run_parallel(one_law, len(panel), workers, tracker, progress)
     out = []
     for law, c in zip(panel, counts):
         rates = [rates_from_counts(c[:, i], c[:, 4], exact is None) for i in range(4)]
@@ -127,7 +127,7 @@ class _Stopped(Exception):
     pass
 
 
-class _Tracker:
+class Tracker:
     """Data sets done, across the worker threads, and the request to stop."""
 
     def __init__(self, total: int):
@@ -148,7 +148,7 @@ class _Tracker:
         return self.done / self.total
 
 
-def _run_parallel(task, n_tasks: int, workers: int, tracker: _Tracker, progress) -> list:
+def run_parallel(task, n_tasks: int, workers: int, tracker: Tracker, progress) -> list:
     """task(j) for j < n_tasks on worker threads; the calling thread reports progress and
     takes a cancel (Progress.step raising, or Ctrl-C), which stops the workers at their
     next block."""
