@@ -101,7 +101,12 @@ def test_paired_binary_outcomes_against_statsmodels():
     out = permq.run("count first vs second paired",
                     tables={"t": pd.DataFrame({"first": first, "second": second})})[0]
     assert isinstance(out, Result)
-    # discordant pairs: first no / second yes = 2, first yes / second no = 7
+    # discordant pairs: first no / second yes = 2, first yes / second no = 7; the levels are in
+    # natural order (no, yes), and the statistic and effect name them as they are
+    assert out.outcome.statistic_name == "discordant pairs first no / second yes (b)"
+    assert out.outcome.statistic == 2
+    assert out.effect == ("discordant pairs: first no with second yes, against first yes with "
+                          "second no")
     assert out.outcome.p_value == pytest.approx(mcnemar([[5, 7], [2, 6]], exact=True).pvalue,
                                                 rel=1e-12)
 

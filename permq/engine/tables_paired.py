@@ -1,10 +1,11 @@
 """Paired binary outcomes: McNemar's exact test and the discordant-pair odds ratio.
 
-The table is [[both yes, first yes / second no], [first no / second yes, both no]]: rows are the
-first outcome (yes, no), columns the second (yes, no). Only the discordant pairs b = n12 and
-c = n21 carry information; given m = b + c, b is binomial(m, 1/2) under the null.
+The table is [[both at level 1, first at level 1 / second at level 2], [first at level 2 /
+second at level 1, both at level 2]]: rows are the first outcome, columns the second, the two
+levels in the same order (the binder's order; the family names them). Only the discordant pairs
+b = n12 and c = n21 carry information; given m = b + c, b is binomial(m, 1/2) under the null.
 
-- "higher": the first is "yes" more often than the second (b > c): p = P(B >= b).
+- "higher": the first is at level 1 more often than the second (b > c): p = P(B >= b).
 - "lower": p = P(B <= b).
 - "two-sided": twice the smaller tail, capped at 1 (common practice for this test).
 
@@ -23,7 +24,7 @@ from .sampling import NO_PROGRESS, Progress
 from .tables_proportion import clopper_pearson
 
 ALGORITHM = "binomial distribution of the discordant pairs"
-STATISTIC_NAME = "discordant pairs first yes / second no (b)"
+STATISTIC_NAME = "discordant pairs first at level 1 / second at level 2 (b)"
 TWO_SIDED_RULE = "two-sided p = twice the smaller one-sided tail, capped at 1"
 ESTIMATE_NAME = "discordant-pair odds ratio b / c"
 INTERVAL_WORDS = "exact: Clopper-Pearson interval of b / (b + c), mapped to b / c"

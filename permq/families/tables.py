@@ -1,6 +1,8 @@
 """Contingency tables, paired binary outcomes and one proportion."""
 from __future__ import annotations
 
+import dataclasses
+
 from ..engine import tables, tables_2x2, tables_paired, tables_proportion
 from ..engine.tables_stats import RULES
 from ..errors import BindError
@@ -54,10 +56,13 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
         rule = tables_proportion.TWO_SIDED_RULE
     elif route == "paired":
         out = tables_paired.run(t, "mcnemar", s.alternative, alg, progress=progress)
+        out = dataclasses.replace(out, statistic_name=(
+            f"discordant pairs {design.row_labels[0]} / {design.col_labels[1]} (b)"))
         normal = normal_tables.mcnemar(t, s.level, s.alternative)
         estimate = tables_paired.odds_ratio(t, s.level, s.alternative)
-        a, b = design.names
-        effect = f"discordant pairs: {a} first level with {b} second, against the reverse"
+        rows, cols = design.row_labels, design.col_labels
+        effect = (f"discordant pairs: {rows[0]} with {cols[1]}, against {rows[1]} with "
+                  f"{cols[0]}")
         rule = tables_paired.TWO_SIDED_RULE
     elif route == "2x2":
         out = tables_2x2.run(t, "fisher", s.alternative, alg, progress=progress)

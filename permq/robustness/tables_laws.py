@@ -333,7 +333,8 @@ def _pairs_table(a, b, c, d) -> np.ndarray:
 
 def paired_panel(table, share: float, m=CLUSTER_SIZE, icc=ICC):
     """Schemes for paired binary outcomes; `share` is the effect's probability that a
-    discordant pair is first yes / second no (1/2 under the null)."""
+    discordant pair is the table's b = n12, first at level 1 / second at level 2 (1/2 under the
+    null)."""
     t = np.asarray(table, np.int64)
     n = int(t.sum())
     a, b, c, d = (float(v) for v in t.ravel())
