@@ -442,3 +442,10 @@ def test_a_cancel_stops_a_table_check():
     f = s.run("robustness count [[3, 2, 4, 1], [2, 3, 2, 3], [4, 2, 3, 1]] "
               "datasets 100000 seed 1")[0]
     assert isinstance(f, permq.Failure) and f.kind == "cancelled"
+
+
+def test_a_shift_that_does_not_fit_a_table_is_marked_where_it_stands():
+    f = permq.run("robustness count [[9, 1], [3, 7], [2, 2]] shift 2")[0]
+    assert isinstance(f, permq.Failure) and "no meaning for a 3 x 2 table" in f.message
+    assert (f.line, f.column) == (1, 43)
+    assert f.caret.splitlines()[1] == " " * 42 + "^" * len("shift 2")

@@ -79,10 +79,17 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
     if isinstance(design, designs.TableDesign):
+        try:       # before the analysis runs: a shift that does not fit is said at once
+            effect = table_check.effect_for(design, check.shift)
+        except BindError as err:
+            shift = n.options_of(inner).get("shift")
+            if err.span is None and shift is not None:
+                err.span = shift.span
+            raise
         observed = _observed(design, text, progress, check)
         return table_check.check_table(text, design, observed, check, int(seed), progress,
                                        null_picture(design, observed.outcome, int(seed)),
-                                       list(design.warnings))
+                                       list(design.warnings), effect)
     problem = problem_for(design)
     pattern, shift, shift_sd = pattern_for(problem, check.shift)
     observed = _observed(design, text, progress, check)

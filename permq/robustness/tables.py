@@ -42,8 +42,8 @@ class Effect:
     null_effect: bool         # the effect is no effect at all (power = the rate under the null)
 
 
-def check_table(text, design, observed, check, seed, progress, picture, warnings):
-    effect = effect_for(design, check.shift)
+def check_table(text, design, observed, check, seed, progress, picture, warnings, effect=None):
+    effect = effect if effect is not None else effect_for(design, check.shift)
     tests = CountTests(design)
     warnings = list(warnings)
     if effect.panel[0] is None and design.form == "table":
