@@ -5,8 +5,8 @@
 - a result with `picture "file.png"`: the null distribution of its statistic, the observed
   value marked;
 - a robustness check with `picture "file.svg"`: the panel, the rejection rate under the null
-  of both tests for every law with +-2 Monte Carlo standard errors and the nominal level
-  drawn, beside the power at the shift.
+  of both tests for every law (for counts: sampling scheme) with +-2 Monte Carlo standard
+  errors and the nominal level drawn, beside the power at the shift (the effect).
 
 `save` never raises for a missing library or an unwritable file: it returns the sentence to
 show, so the result itself is kept. Only matplotlib's object interface is used (no pyplot), so
@@ -58,13 +58,16 @@ def null_figure(Figure, pic: dict):
 
 
 def panel_figure(Figure, rr):
+    from .robustness import column_words
+
+    words = column_words(rr)
     names = [r.name for r in rr.rows]
     pos = list(range(len(names)))
     fig = Figure(figsize=(10, 4))
     left, right = fig.subplots(1, 2)
     for ax, kind in ((left, "rate"), (right, "power")):
         for shift, (label, colour) in zip((-0.15, 0.15), (("normal theory", "#7a8fa6"),
-                                                          ("permutation", "#b03a2e"))):
+                                                          (words["perm"], "#b03a2e"))):
             vals, ses = _values(rr.rows, kind, label)
             ax.errorbar([p + shift for p in pos], vals, yerr=[2 * s for s in ses], fmt="o",
                         color=colour, label=label, capsize=3)
@@ -73,10 +76,10 @@ def panel_figure(Figure, rr):
     left.axhline(rr.significance, color="black", linestyle="--", linewidth=1,
                  label=f"nominal level {rr.significance:g}")
     left.set_ylabel("rejection rate under the null")
-    right.set_ylabel("power at the shift")
+    right.set_ylabel(words["power"])
     right.set_ylim(0, 1)
     left.legend(frameon=False, fontsize=8)
-    fig.suptitle(f"{rr.statement}\n{rr.datasets:,} data sets a law", fontsize=9)
+    fig.suptitle(f"{rr.statement}\n{rr.datasets:,} data sets a {words['law']}", fontsize=9)
     return fig
 
 

@@ -22,7 +22,7 @@ def _rate(v, se, digits=3) -> str:
     return f"{v:.{digits}f} ±{se:.{digits}f}"
 
 
-def _labels(rr) -> dict:
+def column_words(rr) -> dict:
     """Column words: counts are tried under sampling schemes, against the exact test."""
     if rr.family == "table":
         return {"law": "scheme", "perm": "exact test", "power": "power at the effect",
@@ -40,11 +40,12 @@ def robustness_block(rr, color: bool = False) -> str:
     if obs is not None:
         normal = (f" · normal theory p {fmt.p(obs.normal.p_value)}, {obs.normal.test}"
                   if obs.normal else "")
-        lines.append(f"  {'observed':<15}{_labels(rr)['perm']} p {fmt.p(obs.outcome.p_value)} "
+        lines.append(f"  {'observed':<15}{column_words(rr)['perm']} p "
+                     f"{fmt.p(obs.outcome.p_value)} "
                      f"({'exact' if obs.outcome.method == 'exact' else 'Monte Carlo'}){normal}")
     lines.append(f"  {'significance':<15}{_pct(rr.significance)} ({rr.alternative}); "
-                 f"{rr.datasets:,} data sets a {_labels(rr)['law']}; seed {rr.seed}")
-    lines.append(f"  {_labels(rr)['shift']:<15}{rr.shift_words}")
+                 f"{rr.datasets:,} data sets a {column_words(rr)['law']}; seed {rr.seed}")
+    lines.append(f"  {column_words(rr)['shift']:<15}{rr.shift_words}")
     lines.append(f"  {'simulated test':<15}{rr.reference}")
     lines.extend(_table(rr, color))
     for s in rr.summary:
@@ -57,7 +58,7 @@ def robustness_block(rr, color: bool = False) -> str:
 
 
 def _table(rr, color) -> list:
-    w = _labels(rr)
+    w = column_words(rr)
     law_w = max(15, max(len(r.name) for r in rr.rows) + 2)
     out = [f"  {'':<{law_w}}{'rejection rate under the null':<32}{w['power']}",
            _c(f"  {w['law']:<{law_w}}{'normal theory':<16}{w['perm']:<16}"
@@ -97,7 +98,7 @@ def null_picture_block(r) -> list:
 # ---------------------------------------------------------------- Markdown and CSV
 
 def markdown_section(rr) -> str:
-    w = _labels(rr)
+    w = column_words(rr)
     rows = [f"**`{rr.statement}`**: {rr.design}, {rr.statistic}; {rr.datasets:,} data sets a "
             f"{w['law']}, significance {_pct(rr.significance)}, seed {rr.seed}; {w['shift']}: "
             f"{rr.shift_words}; simulated test: {rr.reference}.", "",
