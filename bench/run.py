@@ -179,7 +179,8 @@ def _robustness_row(label, text, tables=None):
     if not hasattr(rr, "observed"):
         raise SystemExit(f"benchmark statement failed: {text[:60]} ...: {rr.message}")
     return (label, t, 30.0, rr.observed,
-            f"no counterpart; simulated test {rr.reference.split(';')[0]}; {cpu:.1f} s of CPU")
+            f"no counterpart; simulated test {rr.reference.split(';')[0].split(' (')[0]}; "
+            f"{cpu:.1f} s of CPU")
 
 
 def robustness_cases(rng):
@@ -203,6 +204,10 @@ def robustness_cases(rng):
          "robustness relate y to x using kendall in pairs seed 3"),
         ("robustness, adjusted slope n = 16, 6 laws x 2,000",
          "robustness relate y to x using slope adjusting for z in pairs seed 3"),
+        ("robustness, 2 x 2 table n = 20, 5 schemes x 2,000",
+         "robustness count [[7, 3], [2, 8]] seed 3"),
+        ("robustness, 3 x 4 table n = 60, 5 schemes x 2,000",
+         "robustness count [[6, 5, 3, 2], [4, 5, 6, 5], [2, 4, 6, 7]] seed 3"),
     ]
     return [_robustness_row(label, text, tables) for label, text in cases]
 
