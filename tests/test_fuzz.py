@@ -3,6 +3,7 @@ outside [0, 1]. Every failure is our own message, with a position.
 
 Bounded in time: a few hundred generated cases per property (derandomized, so CI is stable).
 """
+import json
 from pathlib import Path
 
 import numpy as np
@@ -34,8 +35,13 @@ def trays():
 
 
 def _check_outputs(outputs):
+    from permq.result_many import ManyResult
+    from permq.robustness.result import RobustnessResult
+
     for o in outputs:
-        assert isinstance(o, (Result, Failure, Note)), type(o)
+        assert isinstance(o, (Result, Failure, Note, ManyResult, RobustnessResult)), type(o)
+        if isinstance(o, (ManyResult, RobustnessResult)):
+            json.dumps(o.to_dict(), allow_nan=False)
         if isinstance(o, Failure):
             assert "internal error" not in o.message, o.message
             assert o.line is not None and o.line >= 1 and o.column is not None and o.column >= 1
@@ -75,7 +81,7 @@ def test_mutated_demo_statements_run_or_fail_cleanly(line, pos, how, ch):
         text = line[:pos] + ch + line[pos + 1:]
     if "load" in text or "save" in text:   # no file system side effects from fuzzing
         return
-    text = text.replace("sampled 20000", "sampled 2000")
+    text = text.replace("sampled 20000", "sampled 2000").replace("datasets 1000", "datasets 100")
     session = permq.Session(tables={"trays": trays(), "plots": pd.read_csv(ROOT / "demo" / "plots.csv"),
                                     "pots": pd.read_csv(ROOT / "demo" / "seedlings.csv")},
                             base_dir=ROOT / "demo")

@@ -459,3 +459,26 @@ def test_help_examples_bind_on_the_demo():
             else:
                 raise AssertionError((line, problems))
     assert seen >= 25
+
+
+@pytest.mark.parametrize("text, word, hint", [
+    ("compare yield by dose withinblock in plots", "withinblock", "within block"),
+    ("compare mass by recipe usingranks", "usingranks", "using ranks"),
+    ("compare mass by recipe sampled 100seed 3", "100seed", "100 seed"),
+    ("compare [1, 2] vs0", "vs0", "vs 0"),
+])
+def test_words_run_together_are_refused_not_split(text, word, hint):
+    """Where only keywords can follow, the lexer would read 'withinblock' as 'within block';
+    a statement the user did not write is refused, with the place and the likely reading."""
+    f = permq.run(text)[0]
+    assert isinstance(f, permq.Failure), f
+    assert f.message == f"unexpected '{word}': two words run together"
+    assert f.hint == f"did you mean '{hint}'?"
+    col = text.index(word)
+    assert f.column == col + 1 and f.caret.splitlines()[1] == " " * col + "^" * len(word)
+
+
+def test_words_that_merely_start_with_a_keyword_are_names():
+    r = permq.run("compare massive by recipe in t", tables={"t": pd.DataFrame(
+        {"massive": [1.0, 2.0, 3.0, 4.0], "recipe": ["a", "a", "b", "b"]})})[0]
+    assert isinstance(r, permq.Result), r

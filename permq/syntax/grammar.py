@@ -22,9 +22,41 @@ def grammar_text() -> str:
     return checkout.read_text(encoding="utf-8")
 
 
+class RunTogether(Exception):
+    """Two tokens written without space between them where the eye reads one word
+    ('withinblock', 'usingranks', 'sampled100seed'): the lexer would split them silently."""
+
+    def __init__(self, first, second):
+        super().__init__(f"{first}{second}")
+        self.first, self.second = first, second
+
+
+class WholeWords:
+    """Post-lexer: a word or number may not run straight into the next word or number.
+
+    The contextual lexer, where only keywords can follow, matches a keyword at the start of a
+    longer word ('within' in 'withinblock'); this refuses that instead of reading a statement
+    the user did not write."""
+
+    always_accept = ()
+
+    def process(self, stream):
+        prev = None
+        for tok in stream:
+            if (prev is not None and prev.end_pos == tok.start_pos and _wordlike(str(prev)[-1])
+                    and _wordlike(str(tok)[0])):
+                raise RunTogether(prev, tok)
+            prev = tok
+            yield tok
+
+
+def _wordlike(ch: str) -> bool:
+    return ch.isalnum() or ch == "_"
+
+
 def build_parser(strict: bool = False) -> Lark:
     return Lark(grammar_text(), parser="lalr", propagate_positions=True,
-                maybe_placeholders=False, strict=strict)
+                maybe_placeholders=False, strict=strict, postlex=WholeWords())
 
 
 @lru_cache(maxsize=1)

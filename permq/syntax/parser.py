@@ -15,7 +15,7 @@ from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedToken
 
 from ..errors import PermqError, QuerySyntaxError, Span
 from . import nodes as n
-from .grammar import alternatives_of, keyword_of, parser
+from .grammar import RunTogether, alternatives_of, keyword_of, parser
 
 
 @dataclass(frozen=True)
@@ -128,6 +128,10 @@ def _parse_chunk(text: str, line: int, col: int, offset: int) -> SourceStatement
         tree = parser().parse(padded)
         node = _ToNodes(offset - len(pad)).transform(tree)
         return SourceStatement(shown, line, col, node=node)
+    except RunTogether as exc:
+        err = _run_together(exc)
+        err.span = err.span.shifted(0, offset - len(pad))
+        return SourceStatement(shown, line, col, error=err)
     except (UnexpectedToken, UnexpectedCharacters, UnexpectedEOF) as exc:
         err = translate(exc, padded)
         if err.span:
@@ -256,6 +260,14 @@ def translate(exc, text: str) -> QuerySyntaxError:
         return QuerySyntaxError(msg, span, hint)
     span = _end_span(text)
     return QuerySyntaxError("the statement ends too early", span)
+
+
+def _run_together(exc: RunTogether) -> QuerySyntaxError:
+    a, b = exc.first, exc.second
+    span = Span(a.line, a.column, b.end_line or b.line, b.end_column or b.column + len(str(b)),
+                a.start_pos or 0, b.end_pos or 0)
+    return QuerySyntaxError(f"unexpected '{a}{b}': two words run together",
+                            span, hint=f"did you mean '{a} {b}'?")
 
 
 def _word_at(text: str, pos: int) -> str:

@@ -15,7 +15,7 @@ from typing import Optional
 
 from lark.exceptions import LarkError
 
-from ...syntax.grammar import alternatives_of, keyword_of, parser
+from ...syntax.grammar import RunTogether, alternatives_of, keyword_of, parser
 from ...syntax.parser import fitting
 
 
@@ -25,7 +25,7 @@ def accepted(prefix: str) -> Optional[tuple[list, set]]:
         ip = parser().parse_interactive(prefix)
         tokens = ip.exhaust_lexer()
         return tokens, fitting(ip.accepts(), prefix)
-    except LarkError:
+    except (LarkError, RunTogether):
         return None
 
 
