@@ -112,7 +112,10 @@ class Session:
             self.history.append(robustness.replayable(st.text, check))
             return check
         if isinstance(node, n.Explain):
-            note = explain(node.analysis, st.text, self.catalog, self.defaults)
+            if isinstance(node.analysis, n.Robustness):
+                note = robustness.explain(node.analysis, st.text, self.catalog, self.defaults)
+            else:
+                note = explain(node.analysis, st.text, self.catalog, self.defaults)
             note.line = st.line
             return note
         note = statements.run_session_statement(node, st.text, self)

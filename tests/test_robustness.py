@@ -497,3 +497,20 @@ def test_several_responses_are_checked_one_at_a_time(text, message, hint):
     frame = BLK.assign(z=BLK.y * 2)
     f = permq.run(f"robustness {text}", tables={"blkz": frame})[0]
     assert isinstance(f, permq.Failure) and message in f.message and hint in f.hint, f
+
+
+def test_explain_says_what_a_check_would_do_and_runs_nothing():
+    s = permq.Session(tables=TABLES)
+    note = s.run(f"explain robustness compare {inline(X8)} vs {inline(Y8)} datasets 500")[0]
+    assert isinstance(note, permq.Note), note
+    assert "6 error laws x 500 data sets" in note.text and "12,870 arrangements (exact)" in note.text
+    assert 0 < note.data["estimated_seconds"] < 30 and note.data["method"] == "exact"
+    blocked = s.run("explain robustness compare y by g within b in blk")[0]
+    assert "family 'friedman'" in blocked.data["plan"]
+    assert "1,296 arrangements (exact)" in blocked.text
+    table = s.run("explain robustness count [[9, 1], [3, 7]] shift 3")[0]
+    assert isinstance(table, permq.Note) and table.data["estimated_seconds"] is None
+    text = "explain robustness count [[9, 1], [3, 7], [1, 1]] shift 2"
+    bad = s.run(text)[0]
+    assert isinstance(bad, permq.Failure) and bad.column == text.index("shift") + 1
+    assert s.history == []            # nothing ran

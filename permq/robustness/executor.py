@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import dataclasses
 import re
+import time
 from typing import Optional
 
 from ..bind import designs
@@ -16,14 +17,16 @@ from ..bind.binder import bind
 from ..engine import sampling
 from ..errors import BindError
 from ..families import handler_for
+from ..result import Note
 from ..syntax import nodes as n
 from ..syntax.parser import one_line
-from . import report
+from . import laws, report
 from . import tables as table_check
+from .arrangements import EXACT_LIMIT, reference_size
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
 from .problem import pattern_for, problem_for
-from .simulate import simulate
+from .simulate import BLOCK, PERMUTATIONS, simulate
 
 OPTIONS = ("datasets", "shift", "significance")
 DEFAULT_DATASETS = 2000
@@ -79,13 +82,7 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
     if isinstance(design, designs.TableDesign):
-        try:       # before the analysis runs: a shift that does not fit is said at once
-            effect = table_check.effect_for(design, check.shift)
-        except BindError as err:
-            shift = n.options_of(inner).get("shift")
-            if err.span is None and shift is not None:
-                err.span = shift.span
-            raise
+        effect = _table_effect(design, check, inner)    # before the analysis runs
         observed = _observed(design, text, progress, check)
         return table_check.check_table(text, design, observed, check, int(seed), progress,
                                        null_picture(design, observed.outcome, int(seed)),
@@ -104,6 +101,50 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
                         "pseudo-median or median) is zero under the null")
     return report.build(text, problem, observed, sim, shift, shift_sd,
                         _shift_words(problem, check.shift, shift, shift_sd), picture, warnings)
+
+
+def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
+    """`explain robustness STATEMENT`: the analysis's plan and what the check would do, with
+    its time estimated from a pilot of one block of data sets under one law (continuous
+    responses; for counts the time depends on how many sets of margins the schemes give)."""
+    inner = node.analysis
+    check = check_settings(n.options_of(inner))
+    design = bind(without_check_options(inner), catalog, defaults)
+    the_plan = handler_for(design).plan(design)
+    seconds = None
+    if isinstance(design, designs.TableDesign):
+        _table_effect(design, check, inner)
+        what = (f"the check: {check.datasets:,} simulated tables a sampling scheme, under the "
+                "null and at the effect, each given the exact test; its time depends on how "
+                "many sets of margins the schemes give, so it is not estimated")
+    else:
+        problem = problem_for(design)
+        pattern, _, _ = pattern_for(problem, check.shift)
+        panel = laws.panel(problem.kind)
+        size = reference_size(problem)
+        ref = (f"all {size:,} arrangements (exact)" if size <= EXACT_LIMIT else
+               f"{PERMUTATIONS:,} Monte Carlo arrangements")
+        started = time.perf_counter()
+        simulate(problem, pattern, BLOCK, check.alpha, 1, panel=panel[:1], workers=1)
+        seconds = (time.perf_counter() - started) * len(panel) * check.datasets / BLOCK
+        what = (f"the check: {len(panel)} error laws x {check.datasets:,} data sets, under the "
+                f"null and at the shift, each tested against {ref}; about {seconds:.2g} s "
+                f"(timed on a pilot of {BLOCK} data sets)")
+    return Note(text, f"{the_plan}\n{what}",
+                {"plan": str(the_plan), "method": the_plan.method,
+                 "algorithm": the_plan.chosen.description, "check": what,
+                 "estimated_seconds": seconds})
+
+
+def _table_effect(design, check, inner):
+    """The effect of a count design's check; a `shift` that does not fit is marked."""
+    try:
+        return table_check.effect_for(design, check.shift)
+    except BindError as err:
+        shift = n.options_of(inner).get("shift")
+        if err.span is None and shift is not None:
+            err.span = shift.span
+        raise
 
 
 def _observed(design, text, progress, check):

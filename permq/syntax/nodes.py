@@ -124,15 +124,15 @@ Analysis = Union[Compare, Relate, Count]
 
 
 @dataclass(frozen=True)
-class Explain:
+class Robustness:
     span: Span
     analysis: Analysis
 
 
 @dataclass(frozen=True)
-class Robustness:
+class Explain:
     span: Span
-    analysis: Analysis
+    analysis: Union[Analysis, Robustness]
 
 
 @dataclass(frozen=True)
