@@ -65,7 +65,7 @@ def rows(sim: Simulation) -> list:
     return out
 
 
-def _listing(items) -> str:
+def listing(items) -> str:
     items = list(items)
     if len(items) <= 1:
         return "".join(items)
@@ -81,12 +81,12 @@ def summary(table: list, alpha: float, normal_test: str, shift_words: str) -> li
     said = []
     for verdict in ("too liberal", "too conservative"):
         if verdict in by:
-            said.append(f"{verdict} under " + _listing(f"{r.name} ({r.normal_rate:.3f})"
+            said.append(f"{verdict} under " + listing(f"{r.name} ({r.normal_rate:.3f})"
                                                       for r in by[verdict]))
     holds = [r.name for r in by.get("holds its level", [])]
     if said:
         lines.append(f"Normal theory, {normal_test}, at {pct}: " + "; ".join(said)
-                     + (f"; it holds its level under {_listing(holds)}." if holds else "."))
+                     + (f"; it holds its level under {listing(holds)}." if holds else "."))
     else:
         lines.append(f"Normal theory, {normal_test}, holds its {pct} level under every law "
                      "of the panel, for this design.")
@@ -94,11 +94,11 @@ def summary(table: list, alpha: float, normal_test: str, shift_words: str) -> li
     if exact:
         worst = max(exact, key=lambda r: r.permutation_rate)
         above = [r for r in exact if "above" in r.permutation_verdict]
-        lines.append(f"The permutation test is exact under {_listing(r.name for r in exact)}: "
+        lines.append(f"The permutation test is exact under {listing(r.name for r in exact)}: "
                      "the errors are exchangeable under the null there"
                      + (f"; its highest rate is {worst.permutation_rate:.3f}." if not above else
                         f"; yet its rate is above {pct} beyond Monte Carlo error under "
-                        f"{_listing(r.name for r in above)}."))
+                        f"{listing(r.name for r in above)}."))
     by_reason = {}
     for r in table:
         if r.not_exact:
@@ -112,9 +112,9 @@ def summary(table: list, alpha: float, normal_test: str, shift_words: str) -> li
             continue
         off = [r for r in laws if not r.permutation_verdict.endswith("holds its level")]
         lines.append(f"The permutation test is not exact here: {reason}. Its rate is "
-                     + _listing(f"{r.permutation_rate:.3f} under {r.name}" for r in laws)
+                     + listing(f"{r.permutation_rate:.3f} under {r.name}" for r in laws)
                      + (f"; it holds its level under every one of them." if not off else
-                        "; " + _listing(f"{r.permutation_verdict.split(', ', 1)[1]} under "
+                        "; " + listing(f"{r.permutation_verdict.split(', ', 1)[1]} under "
                                         f"{r.name}" for r in off) + "."))
     lines.extend(_power_lines(table, shift_words))
     return lines
@@ -126,6 +126,15 @@ def _power_lines(table: list, shift_words: str) -> list:
            f"(normal theory) and {normal.permutation_power:.2f} (permutation)."]
     fair = [r for r in table if r.normal_verdict == "holds its level"
             and r.permutation_verdict in ("exact", "not exact here, holds its level")]
+    out.extend(power_comparison(fair, "permutation test"))
+    if len(fair) < len(table):
+        out.append("Power is compared only where both tests hold their level.")
+    return out
+
+
+def power_comparison(fair: list, test_words: str) -> list:
+    """Which test is the more powerful, and under which laws, beyond Z Monte Carlo errors of
+    the difference (rows where the comparison is fair)."""
     ahead, behind = [], []
     for r in fair:
         gap = r.permutation_power - r.normal_power
@@ -134,12 +143,11 @@ def _power_lines(table: list, shift_words: str) -> list:
             ahead.append(r.name)
         elif gap < -Z * se:
             behind.append(r.name)
+    out = []
     if ahead:
-        out.append(f"The permutation test is the more powerful under {_listing(ahead)}.")
+        out.append(f"The {test_words} is the more powerful under {listing(ahead)}.")
     if behind:
-        out.append(f"Normal theory is the more powerful under {_listing(behind)}.")
-    if len(fair) < len(table):
-        out.append("Power is compared only where both tests hold their level.")
+        out.append(f"Normal theory is the more powerful under {listing(behind)}.")
     return out
 
 

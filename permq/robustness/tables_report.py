@@ -8,15 +8,13 @@ where clustering breaks it.
 from __future__ import annotations
 
 import dataclasses
-import math
 
 import numpy as np
 
 from ..engine.tables import reduce_table
 from . import report
+from .report import listing as _listing
 from .result import RobustnessResult
-
-Z = report.Z
 
 WHY_EXACT = {
     "table": "the units are independent there, so given its margins the table is "
@@ -58,10 +56,6 @@ def design_words(design) -> str:
     rows = ", ".join(str(int(v)) for v in t.sum(axis=1))
     order = ", ordered" if design.settings.family == "trend" else ""
     return f"{t.shape[0]} x {t.shape[1]} table{order}, row totals {rows}, N = {int(t.sum())}"
-
-
-def _listing(items) -> str:
-    return report._listing(items)
 
 
 def _normal_line(table, alpha, normal_test, design) -> str:
@@ -128,18 +122,7 @@ def _power_lines(table, form, normal_test, shift_words, null_effect) -> list:
         return out
     fair = [r for r in table if r.normal_verdict != "too liberal"
             and "liberal" not in r.permutation_verdict and "above" not in r.permutation_verdict]
-    ahead, behind = [], []
-    for r in fair:
-        gap = r.permutation_power - r.normal_power
-        se = math.hypot(r.permutation_power_se, r.normal_power_se)
-        if gap > Z * se:
-            ahead.append(r.name)
-        elif gap < -Z * se:
-            behind.append(r.name)
-    if ahead:
-        out.append(f"The exact test is the more powerful under {_listing(ahead)}.")
-    if behind:
-        out.append(f"Normal theory is the more powerful under {_listing(behind)}.")
+    out.extend(report.power_comparison(fair, "exact test"))
     if len(fair) < len(table):
         out.append("Power is compared only where neither test is too liberal.")
     return out
