@@ -242,7 +242,10 @@ def test_friedman_chi_square_at_few_blocks_errs_in_the_published_direction():
     Friedman's statistic rejects less often than the level. Iman and Davenport,
     "Approximations of the critical region of the Friedman statistic", Communications in
     Statistics A9(6), 1980 (from memory): the chi-square approximation is conservative,
-    markedly so with few blocks. The exact test keeps its level (within Monte Carlo error)."""
+    markedly so with few blocks. Read: "An improved nonparametric test and sample size
+    procedures for the randomized complete block designs", arXiv:2503.17179 (2025), abstract:
+    "the chi-square approximation is generally conservative". The exact test keeps its level
+    (within Monte Carlo error)."""
     rng = np.random.default_rng(41)       # the design only; the responses are simulated
     frame = pd.DataFrame({"y": rng.normal(0, 1, 20), "g": np.tile(["a", "b", "c", "d"], 5),
                           "b": np.repeat(np.arange(5), 4)})
