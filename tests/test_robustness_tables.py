@@ -270,7 +270,9 @@ def test_fisher_is_conservative_for_two_binomial_groups_at_small_n():
     far less often than 5%. D'Agostino, Chase and Belanger, "The appropriateness of some common
     procedures for testing the equality of two independent binomial populations", The
     American Statistician 42(3), 1988, 198-202: Fisher's test is very conservative at small
-    samples (from memory)."""
+    samples (from memory). Read: the abstract of "Testing the Equality of Two Independent
+    Binomial Proportions" (a reply to that article) says it "argues that the Fisher exact test
+    ... [is] much too conservative in small samples" under product-binomial sampling."""
     r = _rates("count [[5, 5], [5, 5]]", 4000, 21, keys=("rows-fixed",))["rows-fixed"]
     assert r.permutation_null.value < ALPHA - _within(r.permutation_null, ALPHA, 4000)
 
