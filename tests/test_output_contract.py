@@ -149,3 +149,13 @@ def test_csv_markdown_and_text_formats(workdir, capsys):
         assert capsys.readouterr().out.startswith(first)
     assert main(["run", str(workdir / "clean.pq"), "--format", "text"]) == 0
     assert "compare yield by variety" in capsys.readouterr().out
+
+
+def test_markdown_leaves_out_an_empty_results_table():
+    from permq.render import markdown
+
+    out = permq.run("robustness count 7 of 20 vs 0.5 datasets 100 seed 2")
+    text = markdown.render(out)
+    assert text.startswith("Robustness:\n") and "| statement | family |" not in text
+    both = markdown.render(permq.run("compare [1, 2, 3] vs [4, 5, 6]") + out)
+    assert both.startswith("| statement | family |") and "\nRobustness:\n" in both

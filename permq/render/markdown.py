@@ -35,11 +35,11 @@ def render(outputs) -> str:
                  fmt.interval(est.interval) if est and est.interval else "-",
                  fmt.interval(nt.interval) if nt and nt.interval else "-"]
         rows.append("| " + " | ".join(c.replace("|", "\\|") for c in cells) + " |")
-    text = "\n".join(rows) + "\n"
+    parts = ["\n".join(rows) + "\n"] if len(rows) > 2 else []     # no empty results table
     if families:
-        text += "\nSeveral tests at once:\n\n" + "\n".join(families)
+        parts.append("Several tests at once:\n\n" + "\n".join(families))
     if checks:
-        text += "\nRobustness:\n\n" + "\n".join(checks)
+        parts.append("Robustness:\n\n" + "\n".join(checks))
     if errors:
-        text += "\nStatements that failed:\n\n" + "\n".join(errors) + "\n"
-    return text
+        parts.append("Statements that failed:\n\n" + "\n".join(errors) + "\n")
+    return "\n".join(parts)
