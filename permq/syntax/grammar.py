@@ -54,9 +54,18 @@ def _wordlike(ch: str) -> bool:
     return ch.isalnum() or ch == "_"
 
 
-def build_parser(strict: bool = False) -> Lark:
-    return Lark(grammar_text(), parser="lalr", propagate_positions=True,
-                maybe_placeholders=False, strict=strict, postlex=WholeWords())
+def build_parser(strict: bool = False, cache: bool = True) -> Lark:
+    """The LALR parser. Its tables are kept in lark's cache file (in the temporary folder,
+    keyed by the grammar's text, the options and lark's version), which takes a start from
+    about 0.3 s to a few ms; where the cache cannot be written or read, it is built afresh."""
+    options = dict(parser="lalr", propagate_positions=True, maybe_placeholders=False,
+                   strict=strict, postlex=WholeWords())
+    if cache:
+        try:
+            return Lark(grammar_text(), cache=True, **options)
+        except Exception:  # noqa: BLE001 - a cache problem must never stop the parser
+            pass
+    return Lark(grammar_text(), **options)
 
 
 @lru_cache(maxsize=1)
