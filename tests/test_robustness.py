@@ -50,7 +50,9 @@ STR = pd.DataFrame({"y": np.round(RNG.normal(0, 1, 11), 3),
                     "b": [1, 1, 1, 2, 2, 2, 2, 3, 3, 3, 3]})
 TABLES = {"t": pd.DataFrame({"y": 0.3 * XS + RNG.normal(0, 1, 7), "x": XS,
                              "z": RNG.normal(0, 1, 7)}),
-          "blk": BLK, "str": STR}
+          "blk": BLK, "str": STR,
+          "tied": pd.DataFrame({"y": np.round(RNG.normal(0, 1, 8), 3),
+                                "x": [1.0, 1.0, 2.0, 2.0, 3.0, 3.0, 4.0, 4.0]})}
 
 
 def _statements():
@@ -71,6 +73,9 @@ def _statements():
                 for fam in ("slope", "pearson", "spearman", "kendall")]
         out.append(f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered using ranks "
                    f"alternative {alt}")
+        out.append(f"relate y to x in tied using kendall alternative {alt}")   # ties in x
+        out.append(f"compare [1, 2, 2, 3] vs [2, 3, 3, 4] vs [3, 4, 5, 5] ordered using ranks "
+                   f"alternative {alt}")                                      # ties in y
         out.append(f'compare y by g ordered "lo" < "mid" < "hi" within b using ranks in blk '
                    f'alternative {alt}')
         out += [f'compare y by g levels "a", "b" within b using {fam} in str alternative {alt}'
