@@ -522,3 +522,13 @@ def test_explain_says_what_a_check_would_do_and_runs_nothing():
     bad = s.run(text)[0]
     assert isinstance(bad, permq.Failure) and bad.column == text.index("shift") + 1
     assert s.history == []            # nothing ran
+
+
+def test_few_data_sets_are_said_to_give_blunt_verdicts():
+    few = permq.run(f"robustness compare {inline(X8)} vs {inline(Y8)} datasets 300 seed 4")[0]
+    assert "With 300 data sets a law, a rate is called off the level only when it is more " \
+           "than about 0.038 from it; give datasets 700 or more" in " ".join(few.summary)
+    enough = permq.run(f"robustness compare {inline(X8)} vs {inline(Y8)} datasets 700 seed 4")[0]
+    assert not any("sharper verdicts" in line for line in enough.summary)
+    table = permq.run("robustness count [[9, 1], [3, 7]] datasets 200 seed 4")[0]
+    assert any(line.startswith("With 200 data sets a scheme") for line in table.summary)

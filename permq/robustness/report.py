@@ -151,6 +151,19 @@ def power_comparison(fair: list, test_words: str) -> list:
     return out
 
 
+def precision_lines(sim, unit: str = "law") -> list:
+    """A sentence when too few data sets were drawn for the verdicts to be sharp: a rate is
+    called off the level only beyond Z standard errors, and with few data sets that band is
+    wider than half the level."""
+    band = Z * math.sqrt(sim.alpha * (1 - sim.alpha) / sim.datasets)
+    if band <= sim.alpha / 2:
+        return []
+    enough = math.ceil((Z / 0.5) ** 2 * (1 - sim.alpha) / sim.alpha / 100) * 100
+    return [f"With {sim.datasets:,} data sets a {unit}, a rate is called off the level only "
+            f"when it is more than about {band:.3f} from it; give datasets {enough:,} or more for "
+            "sharper verdicts."]
+
+
 def build(statement, problem, observed, sim: Simulation, shift, shift_sd,
           shift_words, picture, warnings) -> RobustnessResult:
     table = rows(sim)
@@ -160,7 +173,7 @@ def build(statement, problem, observed, sim: Simulation, shift, shift_sd,
         ref = (f"Monte Carlo: {sim.arrangements:,} random arrangements a data set, drawn afresh "
                f"for every block of data sets; p = (b + 1) / (m + 1)")
     normal_test = normal_test_name(problem)
-    lines = summary(table, sim.alpha, normal_test, shift_words)
+    lines = summary(table, sim.alpha, normal_test, shift_words) + precision_lines(sim)
     if all(r.permutation_rate == 0 and r.permutation_power == 0 for r in table):
         lines.insert(1, f"The permutation test never rejected a data set at {sim.alpha:.0%}: with "
                         f"{sim.arrangements:,} arrangements its p-values do not fall that low.")

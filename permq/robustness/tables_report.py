@@ -160,6 +160,7 @@ def build(statement, design, observed, sim, tests, effect, picture, warnings) ->
     table = rows(sim)
     normal_test = observed.normal.test if observed.normal is not None else "normal theory"
     lines = summary(table, sim.alpha, normal_test, design, effect.words, effect.null_effect)
+    lines += report.precision_lines(sim, "scheme")
     nan = float("nan")
     return RobustnessResult(
         statement, observed.family, design_words(design), observed.outcome.statistic_name,
