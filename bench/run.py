@@ -153,7 +153,7 @@ def association_cases(rng):
         rows.append((f"Fisher exact r x c, {name}", t, targets[name], r, note))
     x = rng.normal(size=50)
     y = 0.3 * x + rng.normal(size=50)
-    st = f"relate y to x using kendall exact"
+    st = "relate y to x using kendall exact"
     import pandas as pd
     df = pd.DataFrame({"x": x, "y": y})
     t, out = best(lambda: permq.run(st, tables={"d": df}), 3)

@@ -22,7 +22,6 @@ from scipy import stats
 
 import permq
 from permq.bind.binder import Defaults, bind
-from permq.engine.sampling import Progress
 from permq.render import render
 from permq.render.pictures import picture_lines
 from permq.robustness import laws as L

@@ -37,7 +37,7 @@ from ..errors import BindError, PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from . import pvalues
-from .sampling import BLOCK, NO_PROGRESS, Progress, blocks as sample_blocks, fresh_seed, iter_blocks
+from .sampling import NO_PROGRESS, Progress, fresh_seed, iter_blocks
 
 DEFAULT_DRAWS = 10_000
 MAX_DP_BYTES = 1.0e9

@@ -11,7 +11,6 @@ test drops them. The reference set has 2^(number of non-zero differences) sign p
 """
 from __future__ import annotations
 
-from math import comb
 from typing import Optional
 
 import numpy as np

@@ -17,7 +17,7 @@ from scipy import stats
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .pvalues import clip, monte_carlo_p
-from .sampling import NO_PROGRESS, Progress, blocks, fresh_seed, iter_blocks
+from .sampling import NO_PROGRESS, Progress, fresh_seed, iter_blocks
 from .tables_join import Turn
 from .tables_network import NetworkTooLarge, count_tables, dense_size, forward, make_layout
 from .tables_stats import NAMES, Prepared, check_choice, prepare

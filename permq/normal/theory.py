@@ -7,7 +7,6 @@ for the same estimate.
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
 
 from ..engine.rankintervals import (hodges_lehmann_one_sample_normal,
                                     hodges_lehmann_two_sample_normal, median_interval_normal)

@@ -113,7 +113,7 @@ def summary(table: list, alpha: float, normal_test: str, shift_words: str) -> li
         off = [r for r in laws if not r.permutation_verdict.endswith("holds its level")]
         lines.append(f"The permutation test is not exact here: {reason}. Its rate is "
                      + listing(f"{r.permutation_rate:.3f} under {r.name}" for r in laws)
-                     + (f"; it holds its level under every one of them." if not off else
+                     + ("; it holds its level under every one of them." if not off else
                         "; " + listing(f"{r.permutation_verdict.split(', ', 1)[1]} under "
                                         f"{r.name}" for r in off) + "."))
     lines.extend(_power_lines(table, shift_words))
