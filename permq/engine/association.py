@@ -123,7 +123,7 @@ def problem(statistic: str, y, x, fixed_is_x: bool = True) -> Problem:
 def _kendall_problem(y, x, ties) -> Problem:
     n = len(x)
     n0 = n * (n - 1) / 2
-    n1, n2 = _tied_pairs(x), _tied_pairs(y)
+    n1, n2 = tied_pairs(x), tied_pairs(y)
     s_obs = kendall_s(y, x)
     name = "Kendall's tau-b" if ties else "Kendall's tau"
     return Problem("kendall", name, x, y, float(s_obs), n0, 1.0 / np.sqrt((n0 - n1) * (n0 - n2)), ties)
@@ -141,7 +141,7 @@ def _has_ties(v) -> bool:
     return bool(np.unique(v).size < len(v))
 
 
-def _tied_pairs(v) -> float:
+def tied_pairs(v) -> float:
     _, c = np.unique(v, return_counts=True)
     return float((c * (c - 1) // 2).sum())
 

@@ -5,11 +5,9 @@ CSV and JSON carry every row. They never compute.
 """
 from __future__ import annotations
 
-from ..syntax.parser import one_line
 from . import numbers as fmt
 
 TEXT_ROWS = 20
-RULE = "─"
 CSV_EXTRA = ["name", "n", "p_adjusted", "adjustment", "note"]
 
 
@@ -52,8 +50,7 @@ def _titles(r) -> list:
 
 
 def text_block(r, color: bool = False, bold: str = "", dim: str = "", reset: str = "") -> str:
-    head = f"{RULE * 2} {one_line(r.statement)} "
-    title = head + RULE * max(2, 76 - len(head))
+    title = fmt.heading(r.statement)
     lines = [f"{bold}{title}{reset}" if color else title,
              f"{r.family} · {r.test} · effect: {r.effect}"]
     lines += _head(r)

@@ -1,7 +1,9 @@
-"""Number formats shared by the renderers."""
+"""Number formats and the block heading shared by the renderers."""
 from __future__ import annotations
 
 import math
+
+from ..syntax.parser import one_line
 
 
 def p(v) -> str:
@@ -47,3 +49,8 @@ def df(v) -> str:
     v = float(v)
     return str(int(v)) if v.is_integer() else f"{v:.2f}"
 
+
+def heading(statement: str, width: int = 76) -> str:
+    """The rule a result block opens with: the statement on one line, ruled to `width`."""
+    head = f"── {one_line(statement)} "
+    return head + "─" * max(2, width - len(head))

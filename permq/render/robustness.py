@@ -6,7 +6,6 @@ import textwrap
 from . import numbers as fmt
 from .pictures import picture_lines
 
-RULE = "─"
 BOLD, DIM, RESET = "\x1b[1m", "\x1b[2m", "\x1b[0m"
 
 
@@ -33,8 +32,7 @@ def column_words(rr) -> dict:
 # ---------------------------------------------------------------- text
 
 def robustness_block(rr, color: bool = False) -> str:
-    head = f"{RULE * 2} {rr.statement} "
-    lines = [_c(head + RULE * max(2, 76 - len(head)), BOLD, color)]
+    lines = [_c(fmt.heading(rr.statement), BOLD, color)]
     lines.append(f"robustness · {rr.family} · {rr.design} · {rr.statistic}")
     obs = rr.observed
     if obs is not None:

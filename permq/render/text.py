@@ -6,11 +6,9 @@ import re
 from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
-from ..syntax.parser import one_line
 from . import numbers as fmt
 from .robustness import diagnostics_line, null_picture_block, robustness_block
 
-RULE = "─"
 BOLD, DIM, RED, RESET = "\x1b[1m", "\x1b[2m", "\x1b[31m", "\x1b[0m"
 
 
@@ -48,8 +46,7 @@ def _c(s, code, color):
 
 def result_block(r: Result, color: bool = False) -> str:
     o, nt, est = r.outcome, r.normal, r.estimate
-    head = f"{RULE * 2} {one_line(r.statement)} "
-    lines = [_c(head + RULE * max(2, 76 - len(head)), BOLD, color)]
+    lines = [_c(fmt.heading(r.statement), BOLD, color)]
     lines.append(f"{r.family} · {o.statistic_name} · effect: {r.effect}")
     if r.groups:
         for i, g in enumerate(r.groups):

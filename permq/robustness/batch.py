@@ -108,7 +108,8 @@ def normal_test_name(problem: Problem) -> str:
             "kendall": "normal approximation for Kendall's S"}[fam]
 
 
-def _p_t(t, df, alternative):
+def t_tails(t, df, alternative):
+    """p-values of many t statistics (the rule of normal.tails.p_from_t, vectorised)."""
     if alternative == "higher":
         return stats.t.sf(t, df)
     if alternative == "lower":
@@ -116,7 +117,8 @@ def _p_t(t, df, alternative):
     return np.minimum(1.0, 2 * stats.t.sf(np.abs(t), df))
 
 
-def _p_z(z, alternative):
+def z_tails(z, alternative):
+    """p-values of many z statistics (the rule of normal.tails.p_from_z, vectorised)."""
     if alternative == "higher":
         return stats.norm.sf(z)
     if alternative == "lower":
@@ -139,7 +141,7 @@ def normal_p(problem: Problem, Y: np.ndarray, A: np.ndarray) -> np.ndarray:
         if kind == "blocked":
             return _BLOCKED_NORMAL[problem.family](problem, Y, A)
         if problem.form == "residual":
-            return _p_t(observed_statistic(problem, A), problem.residual_df, problem.alternative)
+            return t_tails(observed_statistic(problem, A), problem.residual_df, problem.alternative)
         if problem.family == "kendall":
             return _kendall_normal(problem, A)
         return _slope_normal(problem, A)
@@ -153,19 +155,19 @@ def _two_sample_normal(pb, Y, A):
         v1, v2 = x.var(axis=1, ddof=1) / n1, y.var(axis=1, ddof=1) / n2
         se = np.sqrt(v1 + v2)
         df = (v1 + v2) ** 2 / (v1 ** 2 / (n1 - 1) + v2 ** 2 / (n2 - 1))
-        return _p_t((x.mean(axis=1) - y.mean(axis=1)) / se, df, pb.alternative)
+        return t_tails((x.mean(axis=1) - y.mean(axis=1)) / se, df, pb.alternative)
     N = n1 + n2
     abar = A.mean(axis=1)
     var = n1 * n2 / (N * (N - 1)) * ((A - abar[:, None]) ** 2).sum(axis=1)
     z = (A[:, g1].sum(axis=1) - n1 * abar) / np.sqrt(var)
-    return _p_z(np.where(var > 0, z, 0.0), pb.alternative)
+    return z_tails(np.where(var > 0, z, 0.0), pb.alternative)
 
 
 def _one_sample_normal(pb, Y, A):
     n = Y.shape[1]
     if pb.family == "means":
         t = Y.mean(axis=1) / (Y.std(axis=1, ddof=1) / np.sqrt(n))
-        return _p_t(t, n - 1, pb.alternative)
+        return t_tails(t, n - 1, pb.alternative)
     r = np.abs(A)
     pos = (A > 0).sum(axis=1) if pb.family == "signs" else np.where(A > 0, r, 0.0).sum(axis=1)
     if pb.family == "signs":
@@ -173,7 +175,7 @@ def _one_sample_normal(pb, Y, A):
         z = (pos - m / 2) / np.sqrt(m / 4)
     else:
         z = (pos - r.sum(axis=1) / 2) / np.sqrt((r * r).sum(axis=1) / 4)
-    return _p_z(np.nan_to_num(z), pb.alternative)
+    return z_tails(np.nan_to_num(z), pb.alternative)
 
 
 def _k_sample_normal(pb, Y, A):
@@ -203,7 +205,7 @@ def _trend_normal(pb, Y):
     if df < 1:
         resid = Y - Y.mean(axis=1, keepdims=True) - b[:, None] * w
         ssw, df = (resid ** 2).sum(axis=1), N - 2
-    return _p_t(b / np.sqrt(ssw / df / sxx), df, pb.alternative)
+    return t_tails(b / np.sqrt(ssw / df / sxx), df, pb.alternative)
 
 
 def _slope_normal(pb, A):
@@ -213,7 +215,7 @@ def _slope_normal(pb, A):
     r = (a @ w) / np.sqrt((a * a).sum(axis=1) * (w * w).sum())
     r = np.clip(r, -1.0, 1.0)
     t = r * np.sqrt((n - 2) / (1 - r * r))
-    return _p_t(t, n - 2, pb.alternative)
+    return t_tails(t, n - 2, pb.alternative)
 
 
 def _null_variance(A, untied: float, variance) -> np.ndarray:
@@ -232,7 +234,7 @@ def _kendall_normal(pb, A):
     var = _null_variance(A, kendall_variance(np.arange(pb.n, dtype=float), x),
                          lambda row: kendall_variance(row, x))
     s = pair_signs(A) @ pb.weights
-    return _p_z(np.where(var > 0, s / np.sqrt(var), 0.0), pb.alternative)
+    return z_tails(np.where(var > 0, s / np.sqrt(var), 0.0), pb.alternative)
 
 
 def _jonckheere_normal(pb, A):
@@ -243,7 +245,7 @@ def _jonckheere_normal(pb, A):
     var = _null_variance(A, jonckheere_variance(np.arange(pb.n, dtype=float), g),
                          lambda row: jonckheere_variance(row, g))
     s = pair_signs(A) @ pb.weights / 2.0
-    return _p_z(np.where(var > 0, s / np.sqrt(var), 0.0), pb.alternative)
+    return z_tails(np.where(var > 0, s / np.sqrt(var), 0.0), pb.alternative)
 
 
 def _block_basis(pb) -> np.ndarray:
@@ -262,7 +264,7 @@ def _blocked_t(pb, Y, A):
     c = r @ xt
     df = pb.n - q.shape[1] - 1
     rss = np.maximum((r * r).sum(axis=1) - c * c / sxx, 0.0)
-    return _p_t((c / sxx) / np.sqrt(rss / df / sxx), df, pb.alternative)
+    return t_tails((c / sxx) / np.sqrt(rss / df / sxx), df, pb.alternative)
 
 
 def _centred_within(pb, A) -> np.ndarray:
@@ -281,7 +283,7 @@ def _stratified_ranks_normal(pb, Y, A):
         n_b, m_b = int(units.sum()), int(g0[units].sum())
         if n_b > 1 and 0 < m_b < n_b:
             var += m_b * (n_b - m_b) / (n_b * (n_b - 1)) * (a[:, units] ** 2).sum(axis=1)
-    return _p_z(np.where(var > 0, t / np.sqrt(np.where(var > 0, var, 1.0)), 0.0),
+    return z_tails(np.where(var > 0, t / np.sqrt(np.where(var > 0, var, 1.0)), 0.0),
                 pb.alternative)
 
 
@@ -316,7 +318,7 @@ def _page_normal(pb, Y, A):
     spread = (a * a).sum(axis=1)
     var = ((np.arange(1, k + 1) - (k + 1) / 2) ** 2).sum() * spread / (k - 1)
     z = (a @ c) / np.sqrt(np.where(var > 0, var, 1.0))
-    return _p_z(np.where(var > 0, z, 0.0), pb.alternative)
+    return z_tails(np.where(var > 0, z, 0.0), pb.alternative)
 
 
 _BLOCKED_NORMAL = {"stratified-means": _blocked_t, "stratified-ranks": _stratified_ranks_normal,

@@ -31,6 +31,7 @@ import numpy as np
 
 from ..bind import designs
 from ..errors import PlanError
+from ..families.groups import blocked_test
 
 
 @dataclass(frozen=True)
@@ -176,18 +177,9 @@ def _groups(d) -> Problem:
                    f"{k} groups of {shape}", sd)
 
 
-def blocked_test(d) -> str:
-    """The test a blocked design runs (as families.groups chooses it)."""
-    from ..families.groups import _blocked_test
-
-    return _blocked_test(d)
-
-
 def _blocked(d) -> Problem:
     """Treatments within blocks: the additive fit y = block + treatment gives the observed
     treatment effects and the residual sd; arrangements permute treatments within blocks."""
-    from ..families.groups import blocked_test
-
     test = blocked_test(d)
     v, g = d.values, d.groups
     _, b = np.unique(d.blocks, return_inverse=True)

@@ -37,6 +37,7 @@ from ..engine.tables import NETWORK_CELLS, orient, reduce_table
 from ..engine.tables_network import count_tables, dense_size, forward, make_layout
 from ..engine.tables_stats import prepare
 from ..families.tables import route_of
+from .batch import z_tails
 
 DRAWS = 999
 # Choosing between the two ways for r x c (seconds on this class of machine, measured): one
@@ -69,14 +70,6 @@ def _tables_with_margins(table) -> float:
     if dense_size(rows) * (red.size + 1) > NETWORK_CELLS:
         return float("inf")
     return count_tables(make_layout(rows, cols))
-
-
-def p_from_z(z, alternative) -> np.ndarray:
-    if alternative == "higher":
-        return stats.norm.sf(z)
-    if alternative == "lower":
-        return stats.norm.cdf(z)
-    return np.minimum(1.0, 2.0 * stats.norm.sf(np.abs(z)))
 
 
 # ---------------------------------------------------------------- normal theory, vectorised
@@ -121,7 +114,7 @@ def trend_p(tables, alternative) -> np.ndarray:
     if alternative == "two-sided":
         p = stats.chi2.sf(m2, 1)
     else:
-        p = p_from_z(np.sign(r) * np.sqrt(m2), alternative)
+        p = z_tails(np.sign(r) * np.sqrt(m2), alternative)
     return np.where(ok, p, 1.0)
 
 
@@ -129,7 +122,7 @@ def log_odds_ratio_p(tables, alternative) -> np.ndarray:
     t = np.asarray(tables, float).reshape(-1, 4)
     t = np.where((t == 0).any(axis=1, keepdims=True), t + 0.5, t)
     z = np.log(t[:, 0] * t[:, 3] / (t[:, 1] * t[:, 2])) / np.sqrt((1.0 / t).sum(axis=1))
-    return p_from_z(z, alternative)
+    return z_tails(z, alternative)
 
 
 def mcnemar_p(tables, alternative) -> np.ndarray:
@@ -141,7 +134,7 @@ def mcnemar_p(tables, alternative) -> np.ndarray:
     if alternative == "two-sided":
         p = stats.chi2.sf(x2, 1)
     else:
-        p = p_from_z(np.sign(b - c) * np.sqrt(x2), alternative)
+        p = z_tails(np.sign(b - c) * np.sqrt(x2), alternative)
     return np.where(m > 0, p, 1.0)
 
 
@@ -149,7 +142,7 @@ def one_proportion_p(tables, p0, alternative) -> np.ndarray:
     t = np.asarray(tables, float).reshape(-1, 2)
     n = t.sum(axis=1)
     z = (t[:, 0] / n - p0) / np.sqrt(p0 * (1.0 - p0) / n)
-    return p_from_z(z, alternative)
+    return z_tails(z, alternative)
 
 
 # ---------------------------------------------------------------- the two tests
