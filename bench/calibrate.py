@@ -22,7 +22,7 @@ sys.path.insert(0, str(ROOT))
 
 from permq.bind.binder import Catalog, Defaults, bind  # noqa: E402
 from permq.data.tables import Table  # noqa: E402
-from permq.engine.sampling import NO_PROGRESS  # noqa: E402
+from permq.engine.core.progress import NO_PROGRESS  # noqa: E402
 from permq.families import handler_for  # noqa: E402
 from permq.plan import cost  # noqa: E402
 from permq.syntax import parse_statement  # noqa: E402

@@ -15,7 +15,7 @@ import numpy as np
 from .bind.binder import Catalog, Defaults, bind
 from .errors import Cancelled, PermqError
 from .families import handler_for
-from .engine.sampling import Progress
+from .engine.core.progress import Progress
 from .result import Failure, Note
 from .robustness import diagnostics, executor as robustness, pictures
 from .syntax import nodes as n

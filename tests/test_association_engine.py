@@ -13,7 +13,7 @@ import statsmodels.api as sm
 from scipy import stats
 
 from permq.engine import association as A
-from permq.engine.sampling import Progress
+from permq.engine.core.progress import Progress
 from permq.errors import Cancelled, DataError
 from permq.normal import association as N
 

@@ -15,8 +15,7 @@ MAX_TABLE_CELLS = 400
 
 
 def bind_relate(node: n.Relate, catalog, defaults):
-    from .binder import (check_columns, dropped_warning, numeric_column, resolve_table,
-                         settings_for)
+    from .binder import check_columns, dropped_warning, numeric_column, resolve_table, settings_for
 
     opts = n.options_of(node)
     s = settings_for(node, opts, defaults, ASSOCIATION_FAMILIES, "pearson", "an association",

@@ -33,9 +33,10 @@ from scipy import stats
 from ..errors import DataError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome, Estimate
-from . import pvalues
-from .fastmc import random_u32, shuffled_dots
-from .sampling import iter_blocks, NO_PROGRESS, Progress, blocks, fresh_seed
+from .core import pvalues
+from .montecarlo.draws import random_u32, shuffled_dots
+from .montecarlo.sampling import iter_blocks, blocks, fresh_seed
+from .core.progress import NO_PROGRESS, Progress
 
 STATISTICS = ("pearson", "spearman", "kendall", "slope")
 ALTERNATIVES = ("higher", "lower", "two-sided")

@@ -36,8 +36,9 @@ from scipy import stats
 from ..errors import BindError, PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
-from . import pvalues
-from .sampling import NO_PROGRESS, Progress, fresh_seed, iter_blocks
+from .core import pvalues
+from .core.progress import NO_PROGRESS, Progress
+from .montecarlo.sampling import fresh_seed, iter_blocks
 
 DEFAULT_DRAWS = 10_000
 MAX_DP_BYTES = 1.0e9

@@ -2,7 +2,7 @@
 from __future__ import annotations
 
 from ..engine import association
-from ..engine.pvalues import TWO_SIDED_LINEAR
+from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..normal.association import normal_theory
 from ..plan.planner import make_plan
 from ..result import Estimate, Result

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from ..engine import blocks as blocks_engine
 from ..engine import ksample, ordered
-from ..engine.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC
+from ..engine.core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC
 from ..normal import blocks as normal_blocks
 from ..normal import ksample as normal_k
 from ..plan.planner import make_plan

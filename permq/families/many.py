@@ -10,8 +10,9 @@ from dataclasses import replace
 import numpy as np
 from scipy import stats
 
-from ..engine import many, many_estimates, rankintervals
-from ..engine.workers import pool_for
+from ..engine.many import joint as many, estimates as many_estimates
+from ..engine import rankintervals
+from ..engine.many.workers import pool_for
 from ..errors import PlanError
 from ..normal.theory import two_sample as normal_two_sample
 from ..plan.planner import make_plan

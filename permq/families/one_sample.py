@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..engine import onesample, rankintervals
-from ..engine.pvalues import TWO_SIDED_LINEAR
+from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..normal.theory import one_sample as normal_one_sample
 from ..engine.onesample import MAX_INTERVAL_DRAWS
 from ..plan.planner import make_plan

@@ -3,8 +3,10 @@ from __future__ import annotations
 
 import dataclasses
 
-from ..engine import tables, tables_2x2, tables_paired, tables_proportion
-from ..engine.tables_stats import RULES
+from ..engine.tables import (
+    rxc as tables, twobytwo as tables_2x2, paired as tables_paired,
+    proportion as tables_proportion)
+from ..engine.tables.stats import RULES
 from ..errors import BindError
 from ..normal import tables as normal_tables
 from ..plan.planner import make_plan

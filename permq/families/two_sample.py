@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..engine import rankintervals, twosample
-from ..engine.pvalues import TWO_SIDED_LINEAR
+from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..normal.theory import two_sample as normal_two_sample
 from ..engine.twosample import MAX_INTERVAL_DRAWS
 from ..plan.planner import make_plan

@@ -18,7 +18,7 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
-from ..engine.pvalues import RTOL
+from ..engine.core.pvalues import RTOL
 from .arrangements import Reference
 from .problem import Problem
 

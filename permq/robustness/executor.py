@@ -14,14 +14,14 @@ from typing import Optional
 
 from ..bind import designs
 from ..bind.binder import bind
-from ..engine import sampling
+from ..engine.montecarlo import sampling
 from ..errors import BindError
 from ..families import handler_for
 from ..result import Note
 from ..syntax import nodes as n
 from ..syntax.parser import one_line
 from . import laws, report
-from . import tables as table_check
+from .tables import check as table_check
 from .arrangements import EXACT_LIMIT, reference_size
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture

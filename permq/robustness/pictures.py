@@ -11,7 +11,7 @@ from typing import Optional
 
 import numpy as np
 
-from ..engine import sampling
+from ..engine.montecarlo import sampling
 from ..errors import PermqError
 from .arrangements import sampled_reference
 from .batch import residual_t, pair_signs, scores

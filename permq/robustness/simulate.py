@@ -26,7 +26,8 @@ from typing import Optional
 
 import numpy as np
 
-from ..engine import sampling
+from ..engine.montecarlo import sampling
+from ..engine.core.progress import NO_PROGRESS
 from . import laws as L
 from .arrangements import exact_reference, sampled_reference
 from .batch import normal_p, permutation_p, scores
@@ -83,7 +84,7 @@ def errors(problem: Problem, law: L.ErrorLaw, rng, size: int, f: np.ndarray) -> 
 
 
 def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float, seed: int,
-             progress=sampling.NO_PROGRESS, permutations: int = PERMUTATIONS,
+             progress=NO_PROGRESS, permutations: int = PERMUTATIONS,
              panel: Optional[tuple] = None, workers: Optional[int] = None) -> Simulation:
     panel = panel or L.panel(problem.kind)
     exact = exact_reference(problem)

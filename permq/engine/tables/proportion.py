@@ -15,11 +15,11 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
-from ..plan.cost import Candidate
-from ..result import Estimate, EngineOutcome
-from .pvalues import clip
-from .sampling import NO_PROGRESS, Progress
-from .tables_stats import PROBABILITY_RTOL
+from ...plan.cost import Candidate
+from ...result import Estimate, EngineOutcome
+from ..core.pvalues import clip
+from ..core.progress import NO_PROGRESS, Progress
+from .stats import PROBABILITY_RTOL
 
 ALGORITHM = "binomial distribution of the count of successes"
 STATISTIC_NAME = "count of successes"

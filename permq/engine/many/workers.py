@@ -17,8 +17,9 @@ from __future__ import annotations
 from concurrent.futures import ThreadPoolExecutor
 from typing import Callable, Optional, Sequence
 
-from ..errors import PermqError
-from .sampling import NO_PROGRESS, Progress, default_workers
+from ...errors import PermqError
+from ..core.progress import NO_PROGRESS, Progress
+from ..montecarlo.sampling import default_workers
 
 _CLIENTS: dict = {}
 CONNECT_SECONDS = 10

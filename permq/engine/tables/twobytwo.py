@@ -21,11 +21,11 @@ import numpy as np
 from scipy.optimize import brentq
 from scipy.special import gammaln, logsumexp
 
-from ..plan.cost import Candidate
-from ..result import Estimate, EngineOutcome
-from .pvalues import clip
-from .sampling import NO_PROGRESS, Progress
-from .tables_stats import PROBABILITY_RTOL
+from ...plan.cost import Candidate
+from ...result import Estimate, EngineOutcome
+from ..core.pvalues import clip
+from ..core.progress import NO_PROGRESS, Progress
+from .stats import PROBABILITY_RTOL
 
 EXACT_N = 20000
 ALGORITHM = "hypergeometric distribution of the top-left count"

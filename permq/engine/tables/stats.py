@@ -22,7 +22,7 @@ from typing import Optional
 import numpy as np
 from scipy.special import gammaln, xlogy
 
-from .pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC, tolerance
+from ..core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC, tolerance
 
 STATISTICS = ("fisher", "chi-square", "likelihood-ratio", "trend")
 ALTERNATIVES = ("two-sided", "higher", "lower")

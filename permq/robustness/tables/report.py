@@ -11,10 +11,10 @@ import dataclasses
 
 import numpy as np
 
-from ..engine.tables import reduce_table
-from . import report
-from .report import listing as _listing
-from .result import RobustnessResult
+from ...engine.tables.rxc import reduce_table
+from .. import report
+from ..report import listing as _listing
+from ..result import RobustnessResult
 
 WHY_EXACT = {
     "table": "the units are independent there, so given its margins the table is "

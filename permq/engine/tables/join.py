@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .tables_network import MAX_ENTRIES, Layout, log_factorials, merge, moves, stage_moves
+from .network import MAX_ENTRIES, Layout, log_factorials, merge, moves, stage_moves
 
 # Turn round when the lists would hold at most this many sums per pair carried (or this many).
 TURN_RATIO = 4.0

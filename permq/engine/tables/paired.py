@@ -17,11 +17,11 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
-from ..plan.cost import Candidate
-from ..result import Estimate, EngineOutcome
-from .pvalues import clip
-from .sampling import NO_PROGRESS, Progress
-from .tables_proportion import clopper_pearson
+from ...plan.cost import Candidate
+from ...result import Estimate, EngineOutcome
+from ..core.pvalues import clip
+from ..core.progress import NO_PROGRESS, Progress
+from .proportion import clopper_pearson
 
 ALGORITHM = "binomial distribution of the discordant pairs"
 STATISTIC_NAME = "discordant pairs first at level 1 / second at level 2 (b)"

@@ -11,7 +11,7 @@ from typing import Callable, Iterator, Optional
 
 import numpy as np
 
-from ..errors import Cancelled
+from ..core.progress import NO_PROGRESS, Progress
 
 STREAM_UNIT = 8192   # draws per random stream: part of what a seed means; never changes
 BLOCK = STREAM_UNIT  # default batch size (how many draws are handled at once)
@@ -45,22 +45,6 @@ def blocks(seed: int, draws: int, block: int = BLOCK) -> Iterator[tuple[int, int
         unit += 1
 
 
-class Progress:
-    """Progress and cancellation for long work: the engine calls `step`, a front end listens."""
-
-    def __init__(self, callback: Optional[Callable[[float, str], None]] = None,
-                 should_stop: Optional[Callable[[], bool]] = None):
-        self.callback = callback
-        self.should_stop = should_stop
-
-    def step(self, fraction: float, what: str = "") -> None:
-        if self.should_stop is not None and self.should_stop():
-            raise Cancelled("cancelled; no result kept for this statement")
-        if self.callback is not None:
-            self.callback(min(1.0, max(0.0, fraction)), what)
-
-
-NO_PROGRESS = Progress()
 
 
 def default_workers() -> int:

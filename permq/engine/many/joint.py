@@ -25,9 +25,9 @@ from typing import Optional
 import numpy as np
 from scipy import stats
 
-from ..plan.cost import Candidate
-from . import arrangements, many_kernels as kernels, multiplicity
-from .sampling import NO_PROGRESS, Progress
+from ...plan.cost import Candidate
+from . import arrangements, kernels as kernels, multiplicity
+from ..core.progress import NO_PROGRESS, Progress
 from .workers import LocalPool
 
 ENUMERATION_MAX = 2_000_000      # arrangements listed at most

@@ -14,13 +14,14 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
-from ..plan.cost import Candidate
-from ..result import EngineOutcome
-from .pvalues import clip, monte_carlo_p
-from .sampling import NO_PROGRESS, Progress, fresh_seed, iter_blocks
-from .tables_join import Turn
-from .tables_network import NetworkTooLarge, count_tables, dense_size, forward, make_layout
-from .tables_stats import NAMES, Prepared, check_choice, prepare
+from ...plan.cost import Candidate
+from ...result import EngineOutcome
+from ..core.pvalues import clip, monte_carlo_p
+from ..core.progress import NO_PROGRESS, Progress
+from ..montecarlo.sampling import fresh_seed, iter_blocks
+from .join import Turn
+from .network import NetworkTooLarge, count_tables, dense_size, forward, make_layout
+from .stats import NAMES, Prepared, check_choice, prepare
 
 NETWORK = "network"
 MONTE_CARLO = "monte-carlo"

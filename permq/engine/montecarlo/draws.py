@@ -21,7 +21,7 @@ HAVE_NUMBA = find_spec("numba") is not None
 @lru_cache(maxsize=1)
 def kernels():
     """The compiled loops, imported (and loaded from numba's cache) on first use."""
-    from . import fastmc_kernels
+    from . import compiled as fastmc_kernels
 
     return fastmc_kernels
 

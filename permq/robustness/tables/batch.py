@@ -31,13 +31,14 @@ import numpy as np
 from scipy import stats
 from scipy.special import xlogy
 
-from ..engine import tables_2x2, tables_paired, tables_proportion
-from ..engine.pvalues import clip, tolerance
-from ..engine.tables import NETWORK_CELLS, orient, reduce_table
-from ..engine.tables_network import count_tables, dense_size, forward, make_layout
-from ..engine.tables_stats import prepare
-from ..families.tables import route_of
-from .batch import z_tails
+from ...engine.tables import (
+    twobytwo as tables_2x2, paired as tables_paired, proportion as tables_proportion)
+from ...engine.core.pvalues import clip, tolerance
+from ...engine.tables.rxc import NETWORK_CELLS, orient, reduce_table
+from ...engine.tables.network import count_tables, dense_size, forward, make_layout
+from ...engine.tables.stats import prepare
+from ...families.tables import route_of
+from ..batch import z_tails
 
 DRAWS = 999
 # Choosing between the two ways for r x c (seconds on this class of machine, measured): one

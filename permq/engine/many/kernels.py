@@ -39,7 +39,7 @@ HAVE_NUMBA = find_spec("numba") is not None
 @lru_cache(maxsize=1)
 def _compiled():
     """The compiled loops, imported (and loaded from numba's cache) on first use."""
-    from . import many_compiled
+    from . import compiled as many_compiled
 
     return many_compiled
 

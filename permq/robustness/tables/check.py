@@ -24,12 +24,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..engine import sampling
-from ..errors import BindError
-from . import tables_laws as TL
-from . import tables_report
-from .simulate import LawRates, Simulation, run_parallel, Tracker, rates_from_counts
-from .tables_tests import CountTests, margin_keys
+from ...engine.montecarlo import sampling
+from ...engine.core.progress import NO_PROGRESS
+from ...errors import BindError
+from . import schemes as TL
+from . import report as tables_report
+from ..simulate import LawRates, Simulation, run_parallel, Tracker, rates_from_counts
+from .batch import CountTests, margin_keys
 
 BLOCK = 100
 
@@ -178,7 +179,7 @@ def _proportion_effect(design, shift) -> Effect:
 # ---------------------------------------------------------------- the simulation
 
 def simulate_counts(panel, tests: CountTests, datasets: int, alpha: float, seed: int,
-                    progress=sampling.NO_PROGRESS, workers=None) -> Simulation:
+                    progress=NO_PROGRESS, workers=None) -> Simulation:
     """Rejection rates of both tests under each scheme (None entries are skipped but keep
     their seed index, so the other schemes' numbers do not change).
 

@@ -16,7 +16,7 @@ from functools import lru_cache
 import numpy as np
 from scipy import stats
 
-from .rankintervals import mann_whitney_cdf
+from ..rankintervals import mann_whitney_cdf
 
 CHUNK_ELEMENTS = 4_000_000
 

@@ -25,7 +25,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 from scipy.special import gammaln
 
-from .sampling import NO_PROGRESS, Progress
+from ..core.progress import NO_PROGRESS, Progress
 
 # Most (state, partial sum) pairs one step may create; beyond it the exact network gives way.
 MAX_ENTRIES = 40_000_000

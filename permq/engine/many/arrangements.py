@@ -20,8 +20,9 @@ from typing import Iterator
 
 import numpy as np
 
-from .fastmc import random_u32
-from .sampling import NO_PROGRESS, Progress, blocks
+from ..montecarlo.draws import random_u32
+from ..core.progress import NO_PROGRESS, Progress
+from ..montecarlo.sampling import blocks
 
 
 def count(sizes) -> int:

@@ -26,7 +26,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .pvalues import RTOL
+from ..core.pvalues import RTOL
 
 METHODS = ("none", "holm", "fdr", "max-t", "min-p")
 

@@ -52,7 +52,7 @@ from scipy import stats
 from scipy.optimize import brentq
 from scipy.special import gammaln
 
-from ..engine.tables_network import dense_size, make_layout, moves
+from ...engine.tables.network import dense_size, make_layout, moves
 
 CLUSTER_SIZE = 3
 ICC = 0.2

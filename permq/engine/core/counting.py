@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .sampling import NO_PROGRESS, Progress
+from .progress import NO_PROGRESS, Progress
 
 EXACT_COUNT_LIMIT = 2.0 ** 53
 
