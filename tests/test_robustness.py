@@ -194,7 +194,7 @@ def test_adjusted_slope_check_is_the_residual_permutation_test_by_brute_force():
     """Freedman-Lane on 7 units: the vectorised test over all 5,040 arrangements gives the p
     of permuting the reduced model's residuals one arrangement at a time (engine's t), and
     its normal-theory p is the least-squares t test of the adjusted slope."""
-    from permq.engine.association import adjusted_t, reduced_model
+    from permq.engine.association.adjusted import adjusted_t, reduced_model
     from permq.normal.association import adjusted_slope
 
     t = TABLES["t"]

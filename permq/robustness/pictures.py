@@ -114,7 +114,7 @@ def reported(problem: Problem, a: np.ndarray, t: np.ndarray) -> np.ndarray:
     if problem.form == "residual":
         return t
     if fam == "kendall":
-        from ..engine.association import tied_pairs
+        from ..engine.association.pairings import tied_pairs
 
         n0 = problem.n * (problem.n - 1) / 2
         return t / np.sqrt((n0 - tied_pairs(problem.x)) * (n0 - tied_pairs(a)))

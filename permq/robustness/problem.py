@@ -252,7 +252,7 @@ def _slope(d) -> Problem:
 
 
 def _adjusted_slope(d) -> Problem:
-    from ..engine.association import reduced_model
+    from ..engine.association.adjusted import reduced_model
     from ..errors import DataError
 
     y, x = d.y, d.x
