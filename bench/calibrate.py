@@ -20,7 +20,8 @@ import pandas as pd
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from permq.bind.binder import Catalog, Defaults, bind  # noqa: E402
+from permq.bind.binder import bind  # noqa: E402
+from permq.bind.common import Catalog, Defaults  # noqa: E402
 from permq.data.tables import Table  # noqa: E402
 from permq.engine.core.progress import NO_PROGRESS  # noqa: E402
 from permq.families import handler_for  # noqa: E402

@@ -12,7 +12,8 @@ from typing import Callable, Iterable, Optional
 
 import numpy as np
 
-from .bind.binder import Catalog, Defaults, bind
+from .bind.binder import bind
+from .bind.common import Catalog, Defaults
 from .errors import Cancelled, PermqError
 from .families import handler_for
 from .engine.core.progress import Progress

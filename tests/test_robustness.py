@@ -21,7 +21,8 @@ import pytest
 from scipy import stats
 
 import permq
-from permq.bind.binder import Defaults, bind
+from permq.bind.binder import bind
+from permq.bind.common import Defaults
 from permq.render import render
 from permq.render.pictures import picture_lines
 from permq.robustness import laws as L

@@ -19,7 +19,8 @@ from scipy import stats
 from scipy.special import gammaln
 
 import permq
-from permq.bind.binder import Defaults, bind
+from permq.bind.binder import bind
+from permq.bind.common import Defaults
 from permq.engine.tables import rxc as rxc_engine
 from permq.normal import tables as normal_tables
 from permq.render import render

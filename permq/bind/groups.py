@@ -22,7 +22,7 @@ BLOCKED_FAMILIES = ("means", "ranks")
 
 
 def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, table):
-    from .binder import settings_for, level_text
+    from .common import settings_for, level_text
 
     ordered = "ordered" in opts
     if ordered and (opts["ordered"].value or "levels" not in opts):
@@ -64,7 +64,7 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
 
 
 def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
-    from .binder import settings_for
+    from .common import settings_for
 
     ordered = "ordered" in opts
     if "ordered" in opts and opts["ordered"].value:
@@ -106,10 +106,10 @@ def _check_complete(codes, block_codes, levels, block_labels, within_name):
 
 
 def _ordered_levels(opt, levels, g, subject, table):
-    from .binder import _chosen_levels
+    from .common import chosen_levels
 
     if opt.value:
-        return _chosen_levels(opt, list(g.unique()), subject.group.text)
+        return chosen_levels(opt, list(g.unique()), subject.group.text)
     import pandas as pd
 
     column = table.frame[subject.group.text]

@@ -15,7 +15,7 @@ MAX_TABLE_CELLS = 400
 
 
 def bind_relate(node: n.Relate, catalog, defaults):
-    from .binder import check_columns, dropped_warning, numeric_column, resolve_table, settings_for
+    from .common import check_columns, dropped_warning, numeric_column, resolve_table, settings_for
 
     opts = n.options_of(node)
     s = settings_for(node, opts, defaults, ASSOCIATION_FAMILIES, "pearson", "an association",
@@ -46,7 +46,7 @@ def bind_relate(node: n.Relate, catalog, defaults):
 
 
 def bind_count(node: n.Count, catalog, defaults):
-    from .binder import settings_for
+    from .common import settings_for
 
     opts = n.options_of(node)
     sub = node.subject
@@ -68,7 +68,7 @@ def bind_count(node: n.Count, catalog, defaults):
 
 
 def _table_settings(node, opts, defaults, ordered):
-    from .binder import settings_for
+    from .common import settings_for
 
     default = "trend" if ordered else "fisher"
     s = settings_for(node, opts, defaults, TABLE_FAMILIES, default, "a table", ("ordered",))
@@ -105,7 +105,7 @@ def _inline_table(node, sub, opts, defaults):
 
 
 def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
-    from .binder import check_columns, dropped_warning, level_text, resolve_table
+    from .common import check_columns, dropped_warning, level_text, resolve_table
 
     table = resolve_table(opts, catalog, sub.span)
     check_columns(table, [sub.rows, sub.columns])
@@ -125,7 +125,7 @@ def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
 
 
 def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
-    from .binder import check_columns, dropped_warning, level_text, resolve_table, settings_for
+    from .common import check_columns, dropped_warning, level_text, resolve_table, settings_for
 
     if "paired" not in opts:
         raise BindError("two columns of outcomes are compared as pairs", sub.span,

@@ -178,7 +178,7 @@ class _Context:
         return self.paths(("",))
 
     def levels(self) -> list[Suggestion]:
-        from ...bind.binder import level_text
+        from ...bind.common import level_text
 
         group = None
         for a, b in zip(self.tokens, self.tokens[1:]):
@@ -191,7 +191,7 @@ class _Context:
         col = table.frame[group].dropna().map(level_text)
         counts = col.value_counts()
         out = []
-        for lev in sorted(counts.index, key=_natural_key):
+        for lev in sorted(counts.index, key=natural_key):
             if lev not in given:
                 out.append((_quote_text(lev), f"level of {group} · {counts[lev]} rows"))
         return out
@@ -272,7 +272,7 @@ def _name_text(tok) -> str:
     return s[1:-1] if tok.type == "QUOTED_NAME" else s
 
 
-def _natural_key(text: str):
+def natural_key(text: str):
     return [(0, int(p), "") if p.isdigit() else (1, 0, p.lower())
             for p in re.split(r"(\d+)", text) if p]
 

@@ -117,7 +117,7 @@ def examples(terminal: str) -> list[tuple[str, str]]:
 
 def families_for(verb: Optional[str]) -> set[str]:
     """The families the binder accepts for a verb (empty: no filter)."""
-    from ...bind import binder
+    from ...bind import samples as binder
 
     if verb == "compare":
         from ...bind import groups
