@@ -10,7 +10,7 @@ these intervals slightly conservative (common practice).
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from .core.counting import counts_all_subsets, counts_by_size
 

@@ -8,7 +8,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..engine.many import joint as many, estimates as many_estimates
 from ..engine import rankintervals

@@ -16,7 +16,7 @@
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..engine.core.pvalues import RTOL
 from .arrangements import Reference

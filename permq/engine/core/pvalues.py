@@ -11,7 +11,7 @@
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 RTOL = 1e-9
 

@@ -12,13 +12,24 @@ from functools import reduce
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 MAX_DECIMALS = 6
 
 
 def midranks(x) -> np.ndarray:
-    return stats.rankdata(np.asarray(x, dtype=float), method="average")
+    """Ranks 1..n, tied values sharing the mean of their ranks (as scipy.stats.rankdata's
+    'average'; computed here so that a rank test does not wait for scipy.stats to load)."""
+    x = np.asarray(x, dtype=float)
+    if not np.all(np.isfinite(x)):
+        return stats.rankdata(x, method="average")
+    order = np.argsort(x, kind="mergesort")
+    xs = x[order]
+    starts = np.flatnonzero(np.r_[True, xs[1:] != xs[:-1]])
+    ends = np.r_[starts[1:], x.size]
+    ranks = np.empty(x.size)
+    ranks[order] = np.repeat((starts + ends + 1) / 2.0, ends - starts)   # mean of start+1..end
+    return ranks
 
 
 def normal_scores(x) -> np.ndarray:
