@@ -1,12 +1,15 @@
 """The compiled Monte Carlo loops (C, numba) and their numpy path draw the same arrangements and
 give the same numbers bit for bit; the draws are uniform; the p-value does not depend on the
 number of worker threads."""
+from pathlib import Path
+
 import numpy as np
 import pytest
 
 from permq.engine.montecarlo import draws as fastmc, native, sampling
 from permq.engine import twosample
 
+ROOT = Path(__file__).resolve().parents[1]
 PATHS = ["numpy", "numba"] + (["c"] if native.library() is not None else [])
 
 
@@ -174,3 +177,50 @@ def test_group_assignments_are_uniform():
     assert len(counts) == 12
     chi2 = ((counts - 3000) ** 2 / 3000).sum()
     assert chi2 < 31.3   # 99.9% point of chi-square on 11 df (common practice)
+
+
+# ---------------------------------------------------------------- nowhere to write a cache
+
+NO_CACHE = """
+import json, sys
+from numba.core import caching
+caching.CacheImpl._locator_classes = []       # as with a read-only package folder and home
+import numpy as np
+from permq.engine.montecarlo import draws
+assert draws.backend() == "numba", draws.backend()
+import permq
+out = {}
+for text in sys.argv[1:]:
+    r = permq.run(text)[-1]
+    out[text] = [r.outcome.p_value, list(r.estimate.interval) if r.estimate and r.estimate.interval else None]
+print(json.dumps(out))
+"""
+
+NO_CACHE_STATEMENTS = [
+    "compare [1.2, 3.4, 2.2, 5.1, 0.7, 2.8] vs [4.1, 5.0, 3.3, 6.2, 4.4] sampled 20000 seed 3",
+    "compare [1.2, -3.4, 2.2, 5.1, 0.7, 0, 2.8] vs 0 sampled 20000 seed 3",
+    "compare [1.2, 3.4, 2.2] vs [4.1, 5.0, 3.3] vs [0.3, 0.9, 1.7, 2.0] sampled 20000 seed 3",
+    'load "demo/trays.csv" as trays\nrelate mass to light using kendall sampled 20000 seed 3',
+]
+
+
+def test_without_any_writable_cache_numba_compiles_in_memory_with_the_same_numbers(monkeypatch):
+    """No folder numba may write to (C loops off): the loops compile in memory, no crash, and
+    every p-value and interval equals the numpy path's."""
+    import json
+    import subprocess
+    import sys
+
+    import permq
+
+    env = {**__import__("os").environ, "PERMQ_NO_C_LOOPS": "1"}
+    done = subprocess.run([sys.executable, "-c", NO_CACHE, *NO_CACHE_STATEMENTS], env=env,
+                          capture_output=True, text=True, timeout=600,
+                          cwd=ROOT)
+    assert done.returncode == 0, done.stderr[-3000:]
+    compiled = json.loads(done.stdout.strip().splitlines()[-1])
+    monkeypatch.setattr(fastmc, "backend", lambda compiled=True: "numpy")
+    for text in NO_CACHE_STATEMENTS:
+        r = permq.run(text, base_dir=ROOT)[-1]
+        plain = [r.outcome.p_value, list(r.estimate.interval) if r.estimate and r.estimate.interval else None]
+        assert compiled[text] == plain, text

@@ -120,11 +120,11 @@ def _log_gamma_ratio(a: float) -> float:
 
 def _beta_fraction(a: float, b: float, x: float, y: float) -> float:
     """The continued fraction of I_x(a, b), y = 1 - x (modified Lentz; converges for
-    x < (a+1)/(a+b+2)). Its first term is written with y: near x = 1 and for large a,
-    1 - (a+b) x / (a+1) would lose every digit."""
+    x < (a+1)/(a+b+2)). Near x = 1 its first term is written with y, where
+    1 - (a+b) x / (a+1) would lose digits for large a."""
     qab, qap, qam = a + b, a + 1.0, a - 1.0
     c = 1.0
-    d = (1.0 - b + qab * y) / qap
+    d = (1.0 - b + qab * y) / qap if x > 0.5 else 1.0 - qab * x / qap
     d = 1.0 / (d if abs(d) > _TINY else _TINY)
     h = d
     for m in range(1, _MAX_STEPS):
@@ -188,3 +188,93 @@ def t_isf(q, df) -> float:
             return new
         t = new
     return t
+
+
+# ---------------------------------------------------------------- normal quantile
+
+def normal_isf(q) -> float:
+    """The z with P(Z > z) = q, by Newton steps on normal_sf from a logistic-tail start."""
+    q = float(q)
+    if not 0.0 < q < 1.0:
+        return math.inf if q == 0.0 else (-math.inf if q == 1.0 else math.nan)
+    if q > 0.5:
+        return -normal_isf(1.0 - q)
+    if q == 0.5:
+        return 0.0
+    z = math.sqrt(-2.0 * math.log(q))          # start above the root, then Newton from there
+    z = z - (2.515517 + 0.802853 * z + 0.010328 * z * z) / (
+        1.0 + 1.432788 * z + 0.189269 * z * z + 0.001308 * z ** 3)
+    for _ in range(100):
+        density = math.exp(-0.5 * z * z) / math.sqrt(2.0 * math.pi)
+        step = (normal_sf(z) - q) / density
+        z += step
+        if abs(step) <= 4 * _EPS * max(1.0, abs(z)):
+            break
+    return z
+
+
+# ---------------------------------------------------------------- the beta law
+
+def _log_beta(a: float, b: float) -> float:
+    """log B(a, b); for large arguments from Stirling's series, without the cancellation of
+    three large lgammas."""
+    small, big = min(a, b), max(a, b)
+    if big < 10.0:
+        return math.lgamma(a) + math.lgamma(b) - math.lgamma(a + b)
+    if small < 10.0:     # lgamma(big) - lgamma(big + small) by Stirling, then lgamma(small)
+        return (math.lgamma(small) - (big - 0.5) * math.log1p(small / big)
+                - small * math.log(big + small) + small
+                + _stirling_rest(big) - _stirling_rest(big + small))
+    s = a + b
+    return (0.5 * math.log(2.0 * math.pi) + small * math.log(small / s)
+            + big * math.log1p(-small / s)
+            - 0.5 * math.log(a) - 0.5 * math.log(b) + 0.5 * math.log(s)
+            + _stirling_rest(a) + _stirling_rest(b) - _stirling_rest(s))
+
+
+def _stirling_rest(x: float) -> float:
+    """lgamma(x) - ((x - 1/2) log x - x + log(2 pi) / 2), x >= 10 (terms to x^-9)."""
+    inv = 1.0 / x
+    inv2 = inv * inv
+    return inv * (1.0 / 12 - inv2 * (1.0 / 360 - inv2 * (1.0 / 1260 - inv2 * (1.0 / 1680
+                                                                       - inv2 / 1188))))
+
+
+def beta_cdf(x: float, a: float, b: float) -> float:
+    """The regularized incomplete beta function I_x(a, b)."""
+    if x <= 0.0:
+        return 0.0
+    if x >= 1.0:
+        return 1.0
+    y = 1.0 - x
+    log_front = a * math.log(x) + b * math.log1p(-x) - _log_beta(a, b)
+    if x < (a + 1.0) / (a + b + 2.0):
+        return math.exp(log_front) * _beta_fraction(a, b, x, y) / a
+    return 1.0 - math.exp(log_front) * _beta_fraction(b, a, y, x) / b
+
+
+def beta_ppf(q: float, a: float, b: float) -> float:
+    """The x with I_x(a, b) = q, by Newton steps kept inside a bracket (Clopper-Pearson)."""
+    if q <= 0.0:
+        return 0.0
+    if q >= 1.0:
+        return 1.0
+    lo, hi = 0.0, 1.0
+    mean = a / (a + b)
+    sd = math.sqrt(a * b / ((a + b) ** 2 * (a + b + 1.0)))
+    x = min(max(mean + normal_isf(1.0 - q) * sd, 1e-300), 1.0 - 1e-16)
+    log_b = _log_beta(a, b)
+    for _ in range(300):
+        f = beta_cdf(x, a, b) - q
+        if f > 0:
+            hi = x
+        else:
+            lo = x
+        density = math.exp((a - 1.0) * math.log(x) + (b - 1.0) * math.log1p(-x) - log_b)
+        new = x - f / density if density > 0 else 0.5 * (lo + hi)
+        if not (lo < new < hi):
+            new = 0.5 * (lo + hi)
+        if abs(new - x) <= 4 * _EPS * new or hi - lo <= 4 * _EPS * hi:
+            return new
+        x = new
+    return x

@@ -95,7 +95,7 @@ def unpack_bits(bits: np.ndarray, n: int) -> np.ndarray:
 
 # ---------------------------------------------------------------- subsets (two samples)
 
-def _fisher_yates_numpy(N: int, steps: int, r: np.ndarray) -> np.ndarray:
+def fisher_yates(N: int, steps: int, r: np.ndarray) -> np.ndarray:
     """(N, size) item indices after `steps` multiply-shift swaps of 0..N-1, one column a draw."""
     size = r.shape[0]
     idx = np.repeat(np.arange(N, dtype=np.int64)[:, None], size, axis=1)
@@ -118,7 +118,7 @@ def _running_sum(rows: np.ndarray) -> np.ndarray:
 
 
 def _subset_sums_numpy(a, n1, r, sums_only=False):
-    chosen = _fisher_yates_numpy(a.shape[0], n1, r)[:n1]     # (n1, size)
+    chosen = fisher_yates(a.shape[0], n1, r)[:n1]     # (n1, size)
     vals = a[chosen]
     s = _running_sum(vals)
     if sums_only:
@@ -159,7 +159,7 @@ def subset_sums(a, n1: int, r: np.ndarray, compiled=True, sums_only: bool = Fals
 def _shuffled_numpy(moving, r):
     """(n, size) shuffled copies of `moving`, one column a draw (n - 1 steps)."""
     n = moving.shape[0]
-    return moving[_fisher_yates_numpy(n, n - 1, r)]
+    return moving[fisher_yates(n, n - 1, r)]
 
 
 def _shuffled_dots_numpy(moving, fixed, r):
@@ -278,7 +278,7 @@ def flip_sums(w1, bits: np.ndarray, w2=None, compiled=True):
 
 def _group_sums_numpy(a, sizes, r):
     N = a.shape[0]
-    idx = _fisher_yates_numpy(N, N - int(sizes[-1]), r)
+    idx = fisher_yates(N, N - int(sizes[-1]), r)
     vals = a[idx]                                               # (N, size)
     starts = np.concatenate([[0], np.cumsum(sizes)])
     return np.stack([_running_sum(vals[starts[g]:starts[g + 1]]) for g in range(len(sizes))],

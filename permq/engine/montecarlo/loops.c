@@ -43,7 +43,22 @@ EXPORT int permq_subset_sums(const double *a, int64_t N, int64_t n1, const uint3
     if (!w || !item || !js) { free(w); free(item); free(js); return -1; }
     memcpy(w, a, sizeof(double) * (size_t)N);
     for (int64_t i = 0; i < N; i++) item[i] = i;
-    for (int64_t row = 0; row < size; row++) {
+    for (int64_t row = 0; row < size && !u_out; row++) {     /* the sums alone */
+        const uint32_t *rr = r + row * stride;
+        double s = 0.0;
+        for (int64_t i = 0; i < n1; i++) {
+            int64_t j = pick(rr[i], i, N - i);
+            js[i] = j;
+            double t = w[i]; w[i] = w[j]; w[j] = t;
+            s += w[i];
+        }
+        s_out[row] = s;
+        for (int64_t i = n1 - 1; i >= 0; i--) {
+            int64_t j = js[i];
+            double t = w[i]; w[i] = w[j]; w[j] = t;
+        }
+    }
+    for (int64_t row = 0; row < size && u_out; row++) {
         const uint32_t *rr = r + row * stride;
         double s = 0.0, g = 0.0;
         int64_t u = 0;
@@ -53,10 +68,11 @@ EXPORT int permq_subset_sums(const double *a, int64_t N, int64_t n1, const uint3
             double t = w[i]; w[i] = w[j]; w[j] = t;
             int64_t k = item[i]; item[i] = item[j]; item[j] = k;
             s += w[i];
-            if (u_out && item[i] >= n1) { u += 1; g += w[i]; }
+            if (item[i] >= n1) { u += 1; g += w[i]; }
         }
         s_out[row] = s;
-        if (u_out) { u_out[row] = u; g_out[row] = g; }
+        u_out[row] = u;
+        g_out[row] = g;
         for (int64_t i = n1 - 1; i >= 0; i--) {      /* back to the original order */
             int64_t j = js[i];
             double t = w[i]; w[i] = w[j]; w[j] = t;
