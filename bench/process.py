@@ -21,7 +21,10 @@ from pathlib import Path
 import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
-C_SOURCE = ROOT.parent / "shared" / "reference" / "mc_limit.c"
+# beside the checkout (main, CI) or two levels up (a worktree in wt/NAME)
+C_SOURCE = next((p for p in (ROOT.parent / "shared" / "reference" / "mc_limit.c",
+                             ROOT.parents[1] / "shared" / "reference" / "mc_limit.c") if p.exists()),
+                ROOT.parent / "shared" / "reference" / "mc_limit.c")
 TRIVIAL = "compare [1.2, 3.4, 2.2, 5.1] vs [4.1, 5.0, 3.3, 6.2]"
 REPEAT = 5
 
