@@ -6,6 +6,7 @@ from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..normal.association import normal_theory
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
+from .registry import Family
 
 WORDS = {"pearson": "Pearson correlation", "spearman": "Spearman correlation (mid-ranks)",
          "kendall": "Kendall's tau", "slope": "slope"}
@@ -45,3 +46,26 @@ def _median(v):
     import numpy as np
 
     return np.median(v)
+
+
+def _declare(keyword, title, summary, normal, estimate, robustness="linear", **more):
+    return Family(keyword, ("association",), title, summary, plan, execute, normal, estimate,
+                  robustness=robustness, **more)
+
+
+FAMILIES = [
+    _declare("pearson", "permutation test of Pearson's correlation", "Pearson correlation",
+             "t test of Pearson's r", "sample correlation (no permutation interval)",
+             default_in=("association",)),
+    _declare("spearman", "permutation test of Spearman's rho (mid-ranks)",
+             "Spearman rank correlation", "t approximation for Spearman's rho",
+             "sample rank correlation (no permutation interval)"),
+    _declare("kendall", "Kendall's tau (tau-b with ties), exact by counting inversions",
+             "Kendall's tau", "normal approximation for Kendall's S",
+             "sample tau (no permutation interval)", robustness="pairs"),
+    _declare("slope", "permutation test of the least-squares slope; with covariates, "
+             "Freedman-Lane residual permutation", "least-squares slope",
+             "least-squares t test of the slope (and its HC3 form)",
+             "slope; exact interval by inverting the test (none when adjusted)",
+             options=("adjusting",)),
+]

@@ -9,6 +9,7 @@ from ..normal.theory import one_sample as normal_one_sample
 from ..engine.onesample import MAX_INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
+from .registry import Family
 
 ZERO_RULE = ("zero differences carry no sign and are left out of the sign flips; for ranks they "
              "keep their place in the ranking (Pratt's rule)")
@@ -74,3 +75,22 @@ def _sampled_words(method, draws, what):
     if draws > MAX_INTERVAL_DRAWS:
         return f" (on the first {MAX_INTERVAL_DRAWS:,} sampled {what})"
     return f" (on the sampled {what})"
+
+
+def _declare(keyword, title, summary, normal, estimate, default=False):
+    kinds = ("paired", "one-sample")
+    return Family(keyword, kinds, title, summary, plan, execute, normal, estimate,
+                  robustness="signs", default_in=kinds if default else ())
+
+
+FAMILIES = [
+    _declare("means", "sign-flip permutation test of the mean (Fisher)",
+             "mean difference, by sign flips", "one-sample t",
+             "mean; exact interval by inverting the sign-flip test", default=True),
+    _declare("ranks", "Wilcoxon signed-rank test (mid-ranks, Pratt's rule for zeros)",
+             "Wilcoxon signed ranks", "normal approximation to the signed-rank sum",
+             "Hodges-Lehmann pseudo-median; interval at the exact signed-rank quantiles"),
+    _declare("signs", "sign test", "sign test (paired, one sample)",
+             "normal approximation to the sign count",
+             "median; interval at binomial quantiles"),
+]

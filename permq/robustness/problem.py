@@ -31,7 +31,7 @@ import numpy as np
 
 from ..bind import designs
 from ..errors import PlanError
-from ..families.groups import blocked_test
+from ..families.blocked import blocked_test
 
 
 @dataclass(frozen=True)
