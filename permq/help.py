@@ -106,7 +106,7 @@ def families_page() -> str:
         for w in words:
             lines.append(f"    {w:<17} {_summary(w)}")
     lines.append("the default, where 'using' is left out:")
-    for name, kind in registry.KINDS.items():
+    for name, kind in registry.kinds().items():
         if registry.for_kind(name):
             lines.append(f"    {kind.words + ':':<30} {registry.default(name).title}")
     return "\n".join(lines)
@@ -120,7 +120,7 @@ def family_page(word: str) -> str:
     for f in registry.families():
         if f.keyword != word:
             continue
-        kinds = ", ".join(registry.KINDS[k].words for k in f.kinds)
+        kinds = ", ".join(registry.kind(k).words for k in f.kinds)
         lines.append(f"  {kinds}: {f.title}")
         lines.append(f"    beside it: {f.normal}")
         if f.estimate:

@@ -40,7 +40,7 @@ class Catalog:
 
 def settings_for(node, opts: dict, defaults: Defaults, kind: str, form: str,
                  allowed_options: tuple) -> Settings:
-    """The statement's settings for a design of `kind` (families.registry.KINDS); `form` names
+    """The statement's settings for a design of `kind` (families.registry.kinds()); `form` names
     the design in messages ("two groups", "two samples")."""
     from ..families import registry
 
@@ -93,13 +93,13 @@ def _not_a_family(opt, kind: str, form: str) -> BindError:
 
     word = opt.value
     allowed = [f.keyword for f in registry.for_kind(kind) if f.selectable]
-    elsewhere = [k for k in registry.kinds_of(word) if registry.KINDS[k].verb ==
-                 registry.KINDS[kind].verb]
+    elsewhere = [k for k in registry.kinds_of(word) if registry.kind(k).verb ==
+                 registry.kind(kind).verb]
     hint = "choose one of " + ", ".join(allowed) if allowed else (
         f"{form} has one test, {registry.default(kind).title}: drop 'using'")
     if elsewhere and len(allowed) == 1:
-        hint = f"'{word}' applies to {registry.KINDS[elsewhere[0]].words}: " \
-               f"{registry.KINDS[elsewhere[0]].how}"
+        hint = f"'{word}' applies to {registry.kind(elsewhere[0]).words}: " \
+               f"{registry.kind(elsewhere[0]).how}"
     return BindError(f"'{word}' is not a test family for {form}", opt.span, hint=hint)
 
 

@@ -7,8 +7,9 @@ estimate and interval, its robustness form, and its help and completion text. Th
 family words, the binder's checks and defaults, the planner's input, help and completion all
 come from here; no module outside a family's own declaration compares family names.
 
-To add a family, write a module in `permq/families/` whose `FAMILIES` lists its declarations,
-and add the module's name to `MODULES` below.
+To add a family, write a module in `permq/families/` whose `FAMILIES` lists its declarations
+(and whose `KINDS`, if it brings a new shape of data, names the kinds it adds), and add the
+module's name to `MODULES` below.
 """
 from __future__ import annotations
 
@@ -32,7 +33,7 @@ class Kind:
     how: str = ""        # how a statement reaches it, for hints
 
 
-KINDS = {
+BASE_KINDS = {
     "two-sample": Kind("compare", "two groups", "compare Y by G with two levels"),
     "paired": Kind("compare", "paired data", "compare after vs before paired"),
     "one-sample": Kind("compare", "one sample", "compare Y vs 12.5"),
@@ -72,19 +73,37 @@ class Family:
 
 
 @lru_cache(maxsize=1)
-def families() -> tuple:
-    out = []
+def _declared() -> tuple:
+    found, kinds = [], dict(BASE_KINDS)
     for name in MODULES:
-        out.extend(import_module(f"{__package__}.{name}").FAMILIES)
-    _check(out)
-    return tuple(out)
+        module = import_module(f"{__package__}.{name}")
+        for key, kind in getattr(module, "KINDS", {}).items():
+            if key in kinds:
+                raise ValueError(f"module '{name}' declares the kind '{key}' a second time")
+            kinds[key] = kind
+        found.extend(module.FAMILIES)
+    _check(found, kinds)
+    return tuple(found), kinds
 
 
-def _check(found) -> None:
+def families() -> tuple:
+    return _declared()[0]
+
+
+def kinds() -> dict:
+    """Every design kind: the base kinds and those the family modules declare."""
+    return _declared()[1]
+
+
+def kind(name: str) -> Kind:
+    return kinds()[name]
+
+
+def _check(found, known) -> None:
     seen = {}
     for f in found:
         for kind in f.kinds:
-            if kind not in KINDS:
+            if kind not in known:
                 raise ValueError(f"family '{f.keyword}' names an unknown kind '{kind}'")
             if (kind, f.keyword) in seen:
                 raise ValueError(f"family '{f.keyword}' is declared twice for {kind}")
@@ -126,7 +145,7 @@ def for_verb(verb: str) -> tuple:
     """The `using` words that fit a statement's verb (completion filters by them)."""
     out = []
     for f in families():
-        if f.selectable and any(KINDS[k].verb == verb for k in f.kinds) and f.keyword not in out:
+        if f.selectable and any(kind(k).verb == verb for k in f.kinds) and f.keyword not in out:
             out.append(f.keyword)
     return tuple(out)
 
@@ -138,7 +157,7 @@ def family_for(design) -> Family:
     if found is None:
         from ..errors import PlanError
 
-        raise PlanError(f"'{s.family}' analyses of {KINDS[s.kind].words} are not available "
+        raise PlanError(f"'{s.family}' analyses of {kind(s.kind).words} are not available "
                         "in this version")
     return found
 
