@@ -5,6 +5,7 @@ any of them.
     from ..lazy import stats          # scipy.stats, loaded at the first `stats.<name>`
     from ..lazy import pandas as pd
     gammaln = lazy.function("scipy.special", "gammaln")
+    ksample = lazy.module("permq.engine.ksample")   # a family's engine, when it first runs
 
 Each attribute is fetched from the real module once and then kept on the stand-in, so a
 loaded module costs one dictionary look-up per use, as the module itself would.
@@ -29,6 +30,11 @@ class LazyModule:
 
     def __repr__(self) -> str:
         return f"<module {self._lazy_name!r}, loaded on first use>"
+
+
+def module(name: str) -> LazyModule:
+    """A module (one of permq's engines, say) loaded at the first use of one of its names."""
+    return LazyModule(name)
 
 
 def function(module: str, name: str):
