@@ -97,7 +97,8 @@ def test_full_shuffles_are_uniform():
 
 def _kendall_brute(x, y):
     n = len(x)
-    return sum(np.sign(x[i] - x[j]) * np.sign(y[i] - y[j]) for i in range(n) for j in range(i + 1, n))
+    return sum(np.sign(x[i] - x[j]) * np.sign(y[i] - y[j])
+               for i in range(n) for j in range(i + 1, n))
 
 
 @pytest.mark.parametrize("ties", ["none", "in x", "in y", "in both", "heavy"])
@@ -192,7 +193,8 @@ import permq
 out = {}
 for text in sys.argv[1:]:
     r = permq.run(text)[-1]
-    out[text] = [r.outcome.p_value, list(r.estimate.interval) if r.estimate and r.estimate.interval else None]
+    iv = r.estimate.interval if r.estimate else None
+    out[text] = [r.outcome.p_value, list(iv) if iv else None]
 print(json.dumps(out))
 """
 
@@ -222,5 +224,6 @@ def test_without_any_writable_cache_numba_compiles_in_memory_with_the_same_numbe
     monkeypatch.setattr(fastmc, "backend", lambda compiled=True: "numpy")
     for text in NO_CACHE_STATEMENTS:
         r = permq.run(text, base_dir=ROOT)[-1]
-        plain = [r.outcome.p_value, list(r.estimate.interval) if r.estimate and r.estimate.interval else None]
+        iv = r.estimate.interval if r.estimate else None
+        plain = [r.outcome.p_value, list(iv) if iv else None]
         assert compiled[text] == plain, text

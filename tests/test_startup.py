@@ -14,7 +14,8 @@ HEAVY = ["scipy.stats", "scipy.special", "pandas", "numba", "matplotlib", "dask"
 
 
 def _loaded(code: str) -> list:
-    probe = code + f"\nimport sys, json\nprint(json.dumps([m for m in {HEAVY!r} if m in sys.modules]))"
+    probe = (code + "\nimport sys, json\n"
+             f"print(json.dumps([m for m in {HEAVY!r} if m in sys.modules]))")
     out = subprocess.run([sys.executable, "-c", probe], cwd=ROOT, capture_output=True, text=True,
                          timeout=120)
     assert out.returncode == 0, out.stderr

@@ -68,7 +68,8 @@ def test_clopper_pearson_bounds_match_scipy(m):
     for b in sorted({0, 1, 2, 5, 9, 10, 11, 30, m // 1000, m // 20, m // 2, m - 1, m}):
         if not 0 <= b <= m:
             continue
-        cases = ([(0.005, b, m - b + 1)] if b > 0 else []) + ([(0.995, b + 1, m - b)] if b < m else [])
+        cases = (([(0.005, b, m - b + 1)] if b > 0 else [])
+                 + ([(0.995, b + 1, m - b)] if b < m else []))
         for q, a, c in cases:
             ours, ref = tails.beta_ppf(q, a, c), stats.beta.ppf(q, a, c)
             if ours != pytest.approx(ref, rel=1e-9):

@@ -19,7 +19,8 @@ from .registry import Family
 
 # loaded when a statement first runs
 many, many_estimates = module("permq.engine.many.joint"), module("permq.engine.many.estimates")
-rankintervals, many_workers = module("permq.engine.rankintervals"), module("permq.engine.many.workers")
+rankintervals = module("permq.engine.rankintervals")
+many_workers = module("permq.engine.many.workers")
 
 RULES = {
     ("max-t", "step-down"): "Westfall-Young max-T, step-down, from the joint permutation "

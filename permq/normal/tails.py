@@ -85,7 +85,8 @@ def _t_two_tail_half(t: float, df: float) -> float:
     else:
         y = t2 / (df + t2)
         x = 1.0 / (1.0 + t2 / df)
-    # log of x^a (1 - x)^b / B(a, b), with log B(a, 1/2) = log Gamma(a) - log Gamma(a + 1/2) + log sqrt(pi)
+    # log of x^a (1 - x)^b / B(a, b), where
+    # log B(a, 1/2) = log Gamma(a) - log Gamma(a + 1/2) + log sqrt(pi)
     log_x = -math.log1p(t2 / df)
     log_y = math.log(y)
     log_front = a * log_x + b * log_y + _log_gamma_ratio(a) - _LOG_SQRT_PI
@@ -148,7 +149,8 @@ def _beta_fraction(a: float, b: float, x: float, y: float) -> float:
 
 
 def _t_log_density(t: float, df: float) -> float:
-    """log of Student's t density; log Gamma((df+1)/2) - log Gamma(df/2) is _log_gamma_ratio(df/2)."""
+    """log of Student's t density; _log_gamma_ratio(df / 2) is
+    log Gamma((df + 1) / 2) - log Gamma(df / 2)."""
     return (_log_gamma_ratio(0.5 * df) - 0.5 * math.log(df * math.pi)
             - 0.5 * (df + 1.0) * math.log1p(t * t / df))
 

@@ -269,8 +269,8 @@ def flip_sums(w1, bits: np.ndarray, w2=None, compiled=True):
             None if w2 is None else _ptr(s2), None if w2 is None else _ptr(k)))
     else:
         both = w2 is not None
-        kernels()._flip_sums_compiled(w1, w2 if both else w1, both, np.ascontiguousarray(bits),
-                                      s1, s2 if both else s1, k if both else np.empty(size, np.int64))
+        kernels()._flip_sums_compiled(w1, w2 if both else w1, both, np.ascontiguousarray(bits), s1,
+                                      s2 if both else s1, k if both else np.empty(size, np.int64))
     return s1, s2, k
 
 
