@@ -44,14 +44,23 @@ class Runner:
         self.env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}
 
     def best(self, cmd, repeat=REPEAT) -> float:
-        times = []
+        """Best wall time of `repeat` runs; the processor time of the same runs (user + system,
+        children included) goes to self.cpu, the figure a busy machine disturbs least."""
+        times, cpus = [], []
         for _ in range(repeat):
-            t = time.perf_counter()
-            done = subprocess.run(cmd, cwd=self.folder, env=self.env, capture_output=True,
-                                  text=True)
-            times.append(time.perf_counter() - t)
-            if done.returncode != 0:
-                raise SystemExit(f"benchmark process failed: {' '.join(cmd)}\n{done.stderr[-2000:]}")
+            with tempfile.TemporaryFile() as err:
+                t = time.perf_counter()
+                proc = subprocess.Popen(cmd, cwd=self.folder, env=self.env,
+                                        stdout=subprocess.DEVNULL, stderr=err)
+                _, status, usage = os.wait4(proc.pid, 0)
+                times.append(time.perf_counter() - t)
+                cpus.append(usage.ru_utime + usage.ru_stime)
+                proc.returncode = os.waitstatus_to_exitcode(status)
+                if proc.returncode != 0:
+                    err.seek(0)
+                    raise SystemExit(f"benchmark process failed: {' '.join(cmd)}\n"
+                                     f"{err.read().decode()[-2000:]}")
+        self.cpu = min(cpus)
         return min(times)
 
     def query(self, text: str, repeat=REPEAT) -> float:
@@ -117,7 +126,8 @@ def _in_process_code(statement, repeat):
 
 
 def figures(python: str = sys.executable) -> list:
-    """(what, permq seconds, beside, reference seconds) rows, all measured in this run."""
+    """(what, permq seconds, beside, reference seconds, permq cpu, reference cpu) rows, all
+    measured in this run (cpu None where it is not measured)."""
     rng = np.random.default_rng(20261202)
     a = np.round(rng.normal(20, 3, 200), 2)
     x, y = a[:100], a[100:]
@@ -128,33 +138,38 @@ def figures(python: str = sys.executable) -> list:
         run.query(TRIVIAL, 1)                                  # lark's cache, numba's cache
         run.query(mc.format(draws=100_000), 1)
         floor = run.script("import numpy, lark")
+        floor_cpu = run.cpu
         rows.append(("start-up: a trivial statement, whole process", run.query(TRIVIAL),
-                     "python importing numpy and lark", floor))
+                     "python importing numpy and lark", floor, run.cpu, floor_cpu))
         rows.append(("the shell's prompt on the screen", run.prompt(3),
-                     "python importing numpy and lark", floor))
+                     "python importing numpy and lark", floor, None, floor_cpu))
         first, steady = map(float, run.output(_in_process_code(mc.format(draws=100_000), 3)).split())
         rows.append(("Monte Carlo 100,000 draws, 100 + 100: first call in a fresh process",
-                     first, "steady (same process, warm)", steady))
+                     first, "steady (same process, warm)", steady, None, None))
         scipy_whole = run.script(_scipy_code(x, y, 100_000), 3)
+        scipy_cpu = run.cpu
         rows.append(("Monte Carlo 100,000 draws, 100 + 100, whole process",
                      run.query(mc.format(draws=100_000)), "scipy permutation_test, whole process",
-                     scipy_whole))
+                     scipy_whole, run.cpu, scipy_cpu))
         if C_SOURCE.exists():
             exe, data = Path(tmp) / "mc_limit", Path(tmp) / "data.txt"
             subprocess.run(["cc", "-O2", "-o", str(exe), str(C_SOURCE), "-lm"], check=True)
             np.savetxt(data, a)
             obs = repr(float(x.mean() - y.mean()))
             c_whole = run.best([str(exe), str(data), "100", "1000000", obs])
+            c_cpu = run.cpu
             rows.append(("Monte Carlo 1,000,000 draws, 100 + 100, whole process",
                          run.query(mc.format(draws=1_000_000)),
-                         "reference C loop (one core), whole process", c_whole))
+                         "reference C loop (one core), whole process", c_whole, run.cpu, c_cpu))
     return rows
 
 
 def table(rows) -> str:
-    out = ["| whole process | permq | beside | that | permq / that |", "|---|---|---|---|---|"]
-    for what, t, beside, ref in rows:
-        out.append(f"| {what} | {t:.3f} s | {beside} | {ref:.3f} s | {t / ref:.2f} |")
+    out = ["| whole process | permq | beside | that | permq / that | processor time: permq, that |",
+           "|---|---|---|---|---|---|"]
+    for what, t, beside, ref, cpu, ref_cpu in rows:
+        cpus = " / ".join("-" if c is None else f"{c:.3f} s" for c in (cpu, ref_cpu))
+        out.append(f"| {what} | {t:.3f} s | {beside} | {ref:.3f} s | {t / ref:.2f} | {cpus} |")
     return "\n".join(out)
 
 

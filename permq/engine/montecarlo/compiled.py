@@ -7,8 +7,8 @@ from .jit import njit
 
 
 @njit
-def _subset_sums_compiled(a, n1, r, s_out, u_out, g_out):
-    """Sum of the chosen scores, how many came from the second group, and their sum."""
+def _subset_sums_compiled(a, n1, r, s_out, u_out):
+    """Sum of the chosen scores, and how many came from the second group."""
     size = r.shape[0]
     N = a.shape[0]
     w = a.copy()
@@ -17,7 +17,6 @@ def _subset_sums_compiled(a, n1, r, s_out, u_out, g_out):
     js = np.empty(n1, np.int64)
     for row in range(size):
         s = 0.0
-        g = 0.0
         u = 0
         for i in range(n1):
             j = i + ((np.int64(r[row, i]) * (N - i)) >> 32)   # below 2^63: exact
@@ -30,10 +29,8 @@ def _subset_sums_compiled(a, n1, r, s_out, u_out, g_out):
             second[j] = f
             s += w[i]
             u += second[i]              # branch-free: the group of a chosen item is random
-            g += w[i] * second[i]
         s_out[row] = s
         u_out[row] = u
-        g_out[row] = g
         for i in range(n1 - 1, -1, -1):   # undo the swaps: back to the original order
             j = js[i]
             t = w[i]

@@ -122,14 +122,13 @@ def _subset_sums_numpy(a, n1, r, sums_only=False):
     vals = a[chosen]
     s = _running_sum(vals)
     if sums_only:
-        return s, None, None
-    moved = chosen >= n1
-    return s, moved.sum(axis=0), _running_sum(np.where(moved, vals, 0.0))
+        return s, None
+    return s, (chosen >= n1).sum(axis=0)
 
 
 def subset_sums(a, n1: int, r: np.ndarray, compiled=True, sums_only: bool = False):
     """For each row of random integers r: (sum of the chosen scores, how many chosen items
-    came from the second group (index >= n1), their sum); with sums_only, (sums, None, None)."""
+    came from the second group (index >= n1)); with sums_only, (sums, None)."""
     a = np.ascontiguousarray(a, dtype=np.float64)
     path = backend(compiled)
     size = r.shape[0]
@@ -137,20 +136,18 @@ def subset_sums(a, n1: int, r: np.ndarray, compiled=True, sums_only: bool = Fals
         rr, stride = _rows(r, np.uint32)
         s = np.empty(size)
         u = None if sums_only else np.empty(size, np.int64)
-        g = None if sums_only else np.empty(size)
-        _check(_c_library().permq_subset_sums(
-            _ptr(a), a.shape[0], n1, _ptr(rr), stride, size, _ptr(s),
-            None if sums_only else _ptr(u), None if sums_only else _ptr(g)))
-        return s, u, g
+        _check(_c_library().permq_subset_sums(_ptr(a), a.shape[0], n1, _ptr(rr), stride, size,
+                                              _ptr(s), None if sums_only else _ptr(u)))
+        return s, u
     if path == "numba":
         rr = np.ascontiguousarray(r)
         if sums_only:
             s = np.empty(size)
             kernels()._subset_sums_only(a, n1, rr, s)
-            return s, None, None
-        s, u, g = np.empty(size), np.empty(size, np.int64), np.empty(size)
-        kernels()._subset_sums_compiled(a, n1, rr, s, u, g)
-        return s, u, g
+            return s, None
+        s, u = np.empty(size), np.empty(size, np.int64)
+        kernels()._subset_sums_compiled(a, n1, rr, s, u)
+        return s, u
     return _subset_sums_numpy(a, n1, r, sums_only)
 
 

@@ -33,53 +33,53 @@ static inline int64_t pick(uint32_t r, int64_t i, int64_t m) {
 
 /* Two samples: a random n1-subset of the N scores by a partial Fisher-Yates shuffle (n1 steps,
  * undone after each draw). s_out gets the subset's score sum; when u_out is given, also how
- * many chosen items came from the second group (index >= n1) and, in g_out, their score sum. */
+ * many chosen items came from the second group (index >= n1). */
 EXPORT int permq_subset_sums(const double *a, int64_t N, int64_t n1, const uint32_t *r,
-                             int64_t stride, int64_t size, double *s_out, int64_t *u_out,
-                             double *g_out) {
+                             int64_t stride, int64_t size, double *s_out, int64_t *u_out) {
     double *w = malloc(sizeof(double) * (size_t)N);
-    int64_t *item = malloc(sizeof(int64_t) * (size_t)N);
+    double *second = malloc(sizeof(double) * 2 * (size_t)N);  /* 1.0 for the second group's */
+    double *second0 = second + N;                              /* ... as at the start */
     int64_t *js = malloc(sizeof(int64_t) * (size_t)(n1 > 0 ? n1 : 1));
-    if (!w || !item || !js) { free(w); free(item); free(js); return -1; }
+    if (!w || !second || !js) { free(w); free(second); free(js); return -1; }
+    /* back to the original order after each draw: copy it whole when that is shorter than
+     * undoing the swaps (the same arrangement either way) */
+    int copy = N <= 4 * n1;
     memcpy(w, a, sizeof(double) * (size_t)N);
-    for (int64_t i = 0; i < N; i++) item[i] = i;
-    for (int64_t row = 0; row < size && !u_out; row++) {     /* the sums alone */
+    for (int64_t i = 0; i < N; i++) second[i] = second0[i] = i >= n1 ? 1.0 : 0.0;
+    for (int64_t row = 0; row < size; row++) {
         const uint32_t *rr = r + row * stride;
-        double s = 0.0;
-        for (int64_t i = 0; i < n1; i++) {
-            int64_t j = pick(rr[i], i, N - i);
-            js[i] = j;
-            double t = w[i]; w[i] = w[j]; w[j] = t;
-            s += w[i];
+        double s = 0.0, u = 0.0;
+        if (!u_out) {                                       /* the sums alone */
+            for (int64_t i = 0; i < n1; i++) {
+                int64_t j = pick(rr[i], i, N - i);
+                js[i] = j;
+                double t = w[i]; w[i] = w[j]; w[j] = t;
+                s += w[i];
+            }
+        } else {                                            /* branch-free: groups are random */
+            for (int64_t i = 0; i < n1; i++) {
+                int64_t j = pick(rr[i], i, N - i);
+                js[i] = j;
+                double t = w[i]; w[i] = w[j]; w[j] = t;
+                double f = second[i]; second[i] = second[j]; second[j] = f;
+                s += w[i];
+                u += second[i];
+            }
+            u_out[row] = (int64_t)u;
         }
         s_out[row] = s;
-        for (int64_t i = n1 - 1; i >= 0; i--) {
-            int64_t j = js[i];
-            double t = w[i]; w[i] = w[j]; w[j] = t;
+        if (copy) {
+            memcpy(w, a, sizeof(double) * (size_t)N);
+            if (u_out) memcpy(second, second0, sizeof(double) * (size_t)N);
+        } else {
+            for (int64_t i = n1 - 1; i >= 0; i--) {
+                int64_t j = js[i];
+                double t = w[i]; w[i] = w[j]; w[j] = t;
+                double f = second[i]; second[i] = second[j]; second[j] = f;
+            }
         }
     }
-    for (int64_t row = 0; row < size && u_out; row++) {
-        const uint32_t *rr = r + row * stride;
-        double s = 0.0, g = 0.0;
-        int64_t u = 0;
-        for (int64_t i = 0; i < n1; i++) {
-            int64_t j = pick(rr[i], i, N - i);
-            js[i] = j;
-            double t = w[i]; w[i] = w[j]; w[j] = t;
-            int64_t k = item[i]; item[i] = item[j]; item[j] = k;
-            s += w[i];
-            if (item[i] >= n1) { u += 1; g += w[i]; }
-        }
-        s_out[row] = s;
-        u_out[row] = u;
-        g_out[row] = g;
-        for (int64_t i = n1 - 1; i >= 0; i--) {      /* back to the original order */
-            int64_t j = js[i];
-            double t = w[i]; w[i] = w[j]; w[j] = t;
-            int64_t k = item[i]; item[i] = item[j]; item[j] = k;
-        }
-    }
-    free(w); free(item); free(js);
+    free(w); free(second); free(js);
     return 0;
 }
 

@@ -30,7 +30,7 @@ LIBRARY = HERE / ("_loops.dll" if sys.platform == "win32" else "_loops.so")
 _P = ctypes.c_void_p
 _I = ctypes.c_int64
 SIGNATURES = {
-    "permq_subset_sums": (_P, _I, _I, _P, _I, _I, _P, _P, _P),
+    "permq_subset_sums": (_P, _I, _I, _P, _I, _I, _P, _P),
     "permq_shuffled_dots": (_P, _P, _I, _P, _I, _I, _P),
     "permq_flip_sums": (_P, _P, _I, _P, _I, _I, _P, _P, _P),
     "permq_group_sums": (_P, _I, _P, _I, _P, _I, _I, _P),
