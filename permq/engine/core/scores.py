@@ -7,8 +7,6 @@ data as recorded.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from math import gcd
-from functools import reduce
 from typing import Optional
 
 import numpy as np
@@ -88,6 +86,6 @@ def integer_grid(scores, max_decimals: int = MAX_DECIMALS) -> Optional[Grid]:
             ints = rounded.astype(np.int64)
             low = int(ints.min())
             shifted = ints - low
-            g = reduce(gcd, (int(v) for v in np.unique(shifted) if v), 0) or 1
+            g = int(np.gcd.reduce(shifted)) or 1      # gcd of the non-zero steps
             return Grid(shifted // g, low / 10.0 ** d, g / 10.0 ** d, d)
     return None
