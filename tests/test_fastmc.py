@@ -32,6 +32,20 @@ def test_the_c_loops_are_built_in_a_source_checkout():
     assert fastmc.backend() == "c"
 
 
+def test_the_build_hooks_library_carries_its_source_checksum(tmp_path):
+    # what hatch_build.py does for a wheel: compile loops.c; native.py refuses a stale library
+    if native.compiler() is None:
+        pytest.skip("no C compiler on this machine: the C loops cannot be built here")
+    target = tmp_path / "_loops.so"
+    assert native.build(target)
+    lib = native._load(target)
+    assert lib is not None and lib.permq_source_crc() == native.source_crc()
+    stale = tmp_path / "stale.c"
+    stale.write_text(native.SOURCE.read_text() + "\n/* another version */\n")
+    assert native.build(tmp_path / "_old.so", stale)
+    assert native._load(tmp_path / "_old.so").permq_source_crc() != native.source_crc()
+
+
 @pytest.mark.parametrize("decimals", [0, 2, None])
 @pytest.mark.parametrize("n1", [3, 9, 20])   # undoing the swaps, or copying back
 def test_subset_sums_agree_on_every_path(decimals, n1):

@@ -18,8 +18,8 @@ import subprocess
 import sys
 import sysconfig
 import tempfile
+import threading
 import zlib
-from functools import lru_cache
 from pathlib import Path
 from typing import Optional
 
@@ -98,9 +98,22 @@ def _current(lib) -> bool:
     return not SOURCE.exists() or lib.permq_source_crc() == source_crc()
 
 
-@lru_cache(maxsize=1)
+_LOCK = threading.Lock()
+_FOUND: list = []
+
+
 def library():
-    """The loaded library, or None (then numba or the numpy path run the same loops)."""
+    """The loaded library, or None (then numba or the numpy path run the same loops). Found
+    once per process; the worker threads of a first Monte Carlo statement wait for it."""
+    if _FOUND:
+        return _FOUND[0]
+    with _LOCK:
+        if not _FOUND:
+            _FOUND.append(_find())
+    return _FOUND[0]
+
+
+def _find():
     if os.environ.get("PERMQ_NO_C_LOOPS"):
         return None
     lib = _load(LIBRARY) if LIBRARY.exists() else None
@@ -108,7 +121,7 @@ def library():
         return lib
     # a source checkout without a current library: build it beside the source, once
     if SOURCE.exists() and os.access(HERE, os.W_OK):
-        fresh = HERE / f"_loops_{os.getpid()}.so"
+        fresh = HERE / f"_loops_{os.getpid()}_{threading.get_ident()}.so"
         try:
             if build(fresh):
                 lib = _load(fresh)      # loaded under its own name; then put in place
