@@ -208,7 +208,8 @@ def _candidate_words(expected) -> list[str]:
 _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
                "significance": ("robustness",), "adjusting": ("relate",),
                "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
-               "top": ("compare",), "below": ("compare",), "levels": ("compare",),
+               "top": ("compare",), "below": ("compare",), "levels": ("compare", "count"),
+               "rows": ("count",), "columns": ("count",),
                "within": ("compare",), "ordered": ("compare", "count"),
                "paired": ("compare", "count")}
 
@@ -385,6 +386,12 @@ class _ToNodes(Transformer):
     def save(self, meta, ch):
         return n.Save(_span(meta), ch[0].value)
 
+    def save_report(self, meta, ch):
+        return n.Save(_span(meta), ch[0].value, "report")
+
+    def copy(self, meta, ch):
+        return n.Copy(_span(meta))
+
     def quit(self, meta, ch):
         return n.Quit(_span(meta))
 
@@ -464,6 +471,12 @@ class _ToNodes(Transformer):
 
     def levels(self, meta, ch):
         return self._opt(meta, "levels", tuple((c.value, c.span) for c in ch))
+
+    def row_labels(self, meta, ch):
+        return self._opt(meta, "rows", tuple((c.value, c.span) for c in ch))
+
+    def column_labels(self, meta, ch):
+        return self._opt(meta, "columns", tuple((c.value, c.span) for c in ch))
 
     def within(self, meta, ch):
         return self._opt(meta, "within", ch[0])
