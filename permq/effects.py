@@ -32,6 +32,7 @@ import math
 import numpy as np
 
 from .bind import designs
+from .result import _num
 
 MEANS_INTERVAL = ("the exact permutation interval of the shift, divided by the same sd "
                   "(held at its observed value)")
@@ -53,7 +54,7 @@ def effect_sizes(design, result) -> list:
 
 
 def _size(key, name, value, source, interval=None, level=None, method=NO_INTERVAL) -> dict:
-    iv = None if interval is None else [float(interval[0]), float(interval[1])]
+    iv = None if interval is None else [_num(float(interval[0])), _num(float(interval[1]))]
     return {"key": key, "name": name, "value": _finite(value), "interval": iv,
             "level": level, "method": method, "source": source}
 

@@ -104,7 +104,7 @@ def result_table(r: dict) -> str:
             rows.append(_row("", "normal theory", "", fmt.interval(_floats(ni["interval"])),
                              ni["method"]))
     for s in r.get("effect_sizes") or []:
-        iv = fmt.interval(s["interval"]) if s.get("interval") else "none"
+        iv = fmt.interval(_floats(s["interval"])) if s.get("interval") else "none"
         rows.append(_row("effect size", s["name"], fmt.num(s["value"]), iv, s["method"]))
     for arm in r.get("arm_proportions") or []:
         shares = ", ".join(f"{k} {v:.3f}" for k, v in arm["proportions"].items())
