@@ -82,6 +82,8 @@ def interval_words(iv, level, decimals: int, kind: str = "") -> str:
     pct = f"{level * 100:g}%"
     kind = f"{kind} " if kind else ""
     lo, hi = iv
+    if _infinite(lo) and _infinite(hi):
+        return f"no finite {pct} {kind}interval: too few arrangements"
     if _infinite(hi) and not _infinite(lo):
         return f"{pct} {kind}lower bound {number(lo, decimals)}"
     if _infinite(lo) and not _infinite(hi):

@@ -7,6 +7,7 @@ translated here into `QuerySyntaxError` with a span and a message in the user's 
 from __future__ import annotations
 
 import difflib
+import re
 from dataclasses import dataclass
 from typing import Optional
 
@@ -230,7 +231,18 @@ def fitting(expected, text: str) -> set:
             if not heads.isdisjoint(_OPTIONS_OF.get(keyword_of(name) or "", heads))}
 
 
+NUMPY_HINT = ("numpy numbers print as np.float64(...): write plain numbers (float(v) for each), "
+              "or call permq.compare(a, b) with the arrays")
+
+
 def translate(exc, text: str) -> QuerySyntaxError:
+    err = _translate(exc, text)
+    if "np." in text and re.search(r"\bnp\.(float|int|uint)\d*\(", text):
+        err.hint = NUMPY_HINT
+    return err
+
+
+def _translate(exc, text: str) -> QuerySyntaxError:
     if isinstance(exc, UnexpectedToken):
         tok = exc.token
         expected = fitting(exc.accepts or exc.expected or set(), text)
