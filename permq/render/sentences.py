@@ -123,7 +123,7 @@ def _estimate_clause(est: dict, effect: str = "") -> str:
     d = decimals_for(est["value"])
     base = est["name"].split(" (")[0]
     # the effect's words say more where they begin alike ("odds ratio of 'yes' in 'A' ...")
-    name = effect if effect.startswith(base) and len(effect) > len(est["name"]) else est["name"]
+    name = effect if effect.startswith(base + " ") and effect != est["name"] else est["name"]
     text = f"{name} {number(est['value'], d)}"
     if est.get("interval") is not None:
         return text + f" ({interval_words(est['interval'], est['level'], d, _interval_kind(est.get('method', '')))})"
