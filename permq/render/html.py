@@ -55,6 +55,10 @@ def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
         from .svg import null_distribution
 
         body += null_distribution(record["null_picture"])
+    elif pictures and record.get("family") not in SEVERAL + ("robustness",):
+        body += ('<p class="note">no picture: the null distribution is not kept for this '
+                 'method</p>')
+
     notes = "".join(f'<li class="note">{escape(w)}</li>' for w in record.get("warnings", []))
     if record.get("family") == "robustness":
         notes = "".join(f"<li>{escape(s)}</li>" for s in record.get("summary", [])) + notes

@@ -81,12 +81,11 @@ def null_distribution(pic: dict, width: int = 560, height: int = 220) -> str:
         c.line(xo, top - 4, xo, top + plot_h, MARK, 2)
         c.polygon([(xo - 5, top + plot_h + 9), (xo + 5, top + plot_h + 9),
                    (xo, top + plot_h + 2)], MARK)
-        c.text(xo, top + plot_h + 22, f"observed {fmt.num(obs)}", anchor="middle", size=10,
+        c.text(xo, top + plot_h + 28, f"observed {fmt.num(obs)}", anchor="middle", size=10,
                fill=MARK)
     c.text(left, top + plot_h + 14, fmt.num(lo), size=9)
     c.text(left + plot_w, top + plot_h + 14, fmt.num(hi), anchor="end", size=9)
-    c.text(left + plot_w, height - 4, "probability per bin", anchor="end", size=9,
-           fill="#666")
+    c.text(left + 6, top + 8, "probability per bin", size=9, fill="#666")
     return str(c)
 
 
