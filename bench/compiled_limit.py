@@ -21,7 +21,8 @@ from scipy import stats
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from permq.engine import sampling, twosample  # noqa: E402
+from permq.engine.montecarlo import sampling  # noqa: E402
+from permq.engine import twosample  # noqa: E402
 
 SOURCE = ROOT.parent / "shared" / "reference" / "mc_limit.c"
 

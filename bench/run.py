@@ -234,8 +234,8 @@ def _many_row(r):
 def many_cases(repeat=3):
     """Several responses at once: exact max-T on 2,000 responses; 20,000 responses x 10,000
     joint draws on 1 and 2 local workers and on a 2-worker local Dask cluster (same numbers)."""
-    from permq.engine import many
-    from permq.engine.workers import LocalPool
+    from permq.engine.many import joint as many
+    from permq.engine.many.workers import LocalPool
 
     rng = np.random.default_rng(20261203)
     rows = []

@@ -12,10 +12,11 @@ from typing import Callable, Iterable, Optional
 
 import numpy as np
 
-from .bind.binder import Catalog, Defaults, bind
+from .bind.binder import bind
+from .bind.common import Catalog, Defaults
 from .errors import Cancelled, PermqError
-from .families import handler_for
-from .engine.sampling import Progress
+from .families.registry import family_for
+from .engine.core.progress import Progress
 from .result import Failure, Note
 from .robustness import diagnostics, executor as robustness, pictures
 from .syntax import nodes as n
@@ -26,7 +27,7 @@ from . import effects, statements
 def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Progress):
     """One analysis statement, end to end."""
     design = bind(node, catalog, defaults)
-    handler = handler_for(design)
+    handler = family_for(design)
     the_plan = handler.plan(design)
     result = handler.execute(design, the_plan, progress, text)
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
@@ -42,7 +43,7 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
 
 def explain(node, text: str, catalog: Catalog, defaults: Defaults) -> Note:
     design = bind(node, catalog, defaults)
-    the_plan = handler_for(design).plan(design)
+    the_plan = family_for(design).plan(design)
     return Note(text, str(the_plan), {"plan": str(the_plan), "method": the_plan.method,
                                       "algorithm": the_plan.chosen.description,
                                       "estimated_seconds": the_plan.chosen.seconds})

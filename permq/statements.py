@@ -59,7 +59,7 @@ def _quote_name(name: str) -> str:
 def _use(node: n.Use, text, session):
     name = node.table.text
     if name not in session.catalog.tables:
-        from .bind.binder import suggest
+        from .bind.common import suggest
 
         raise BindError(f"no table named '{name}'", node.table.span,
                         hint=suggest(name, list(session.catalog.tables), "tables") or "load one first")
@@ -70,7 +70,7 @@ def _use(node: n.Use, text, session):
 
 
 def _set(node: n.SetStatement, text, session):
-    from .bind.binder import confidence_value
+    from .bind.common import confidence_value
 
     d = session.defaults
     key, value, span = node.key, node.value, node.value_span
@@ -173,7 +173,7 @@ def _show(node: n.Show, text, session):
 def _describe(node: n.Describe, text, session):
     name = node.table.text
     if name not in session.catalog.tables:
-        from .bind.binder import suggest
+        from .bind.common import suggest
 
         raise BindError(f"no table named '{name}'", node.table.span,
                         hint=suggest(name, list(session.catalog.tables), "tables"))

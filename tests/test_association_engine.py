@@ -13,7 +13,8 @@ import statsmodels.api as sm
 from scipy import stats
 
 from permq.engine import association as A
-from permq.engine.sampling import Progress
+from permq.engine.association import pairings as A_pairings, slope as A_slope
+from permq.engine.core.progress import Progress
 from permq.errors import Cancelled, DataError
 from permq.normal import association as N
 
@@ -86,7 +87,7 @@ def brute_slope_p(y, x, beta, side):
 
 # ---------------------------------------------------------------- exact p-values
 
-@pytest.mark.parametrize("statistic", A.STATISTICS)
+@pytest.mark.parametrize("statistic", A_pairings.STATISTICS)
 @pytest.mark.parametrize("alternative", ALTS)
 def test_exact_enumeration_equals_brute_force_with_ties(statistic, alternative):
     obs, p = brute_force(statistic, Y_TIES, X_TIES, alternative)
@@ -109,7 +110,7 @@ def test_arrangement_chunks_list_each_distinct_arrangement_once():
     counts = [2, 1, 3, 1]
     labels = np.repeat(np.arange(4), counts)
     expected = set(itertools.permutations(labels.tolist()))
-    got = np.concatenate(list(A.arrangement_chunks(counts, chunk=7)))
+    got = np.concatenate(list(A_pairings.arrangement_chunks(counts, chunk=7)))
     assert len(got) == len(expected) == factorial(7) // (2 * 6)
     assert {tuple(r) for r in got.tolist()} == expected
 
@@ -152,7 +153,7 @@ def test_statistic_matches_scipy(statistic):
 
 def test_mahonian_counts_sum_to_n_factorial_and_are_symmetric():
     for n in range(1, 31):
-        c = A.inversion_counts(n)
+        c = A_pairings.inversion_counts(n)
         assert sum(c) == factorial(n)
         assert c == c[::-1]
         assert len(c) == n * (n - 1) // 2 + 1
@@ -161,19 +162,19 @@ def test_mahonian_counts_sum_to_n_factorial_and_are_symmetric():
 def test_mahonian_counts_small_n_against_published_rows():
     # Triangle of Mahonian numbers, OEIS A008302 (N. J. A. Sloane), rows n = 3, 4, 5
     # (from memory; also re-derived by listing permutations below).
-    assert A.inversion_counts(3) == [1, 2, 2, 1]
-    assert A.inversion_counts(4) == [1, 3, 5, 6, 5, 3, 1]
-    assert A.inversion_counts(5) == [1, 4, 9, 15, 20, 22, 20, 15, 9, 4, 1]
+    assert A_pairings.inversion_counts(3) == [1, 2, 2, 1]
+    assert A_pairings.inversion_counts(4) == [1, 3, 5, 6, 5, 3, 1]
+    assert A_pairings.inversion_counts(5) == [1, 4, 9, 15, 20, 22, 20, 15, 9, 4, 1]
     for n in (5, 6):
         perms = all_perms(n)
         inv = sum((perms[:, i] > perms[:, j]).astype(int)
                   for i in range(n) for j in range(i + 1, n))
-        assert A.inversion_counts(n) == np.bincount(inv).tolist()
+        assert A_pairings.inversion_counts(n) == np.bincount(inv).tolist()
 
 
 def test_truncated_counts_are_exact():
-    full = A.inversion_counts(12)
-    assert A.inversion_counts(12, 20) == full[:21]
+    full = A_pairings.inversion_counts(12)
+    assert A_pairings.inversion_counts(12, 20) == full[:21]
 
 
 def test_kendall_table_n5_upper_tail():
@@ -183,7 +184,7 @@ def test_kendall_table_n5_upper_tail():
     x = np.arange(5.0)
     table = {10: 0.008, 8: 0.042, 6: 0.117, 4: 0.242, 2: 0.408}
     for y in all_perms(5).astype(float):
-        s = A.kendall_s(y, x)
+        s = A_pairings.kendall_s(y, x)
         if s in table:
             p = A.run("kendall", y, x, "higher", "dp-inversions").p_value
             assert round(p, 3) == table[s]
@@ -298,7 +299,7 @@ def test_exact_slope_p_at_beta_matches_brute_force_on_a_grid():
     sp = A.slope_pass(y, x, "enumeration")
     for beta in np.linspace(-1.0, 3.0, 17):
         for side in ("higher", "lower"):
-            assert A.p_at(sp, beta, side) == pytest.approx(brute_slope_p(y, x, beta, side), abs=1e-12)
+            assert A_slope.p_at(sp, beta, side) == pytest.approx(brute_slope_p(y, x, beta, side), abs=1e-12)
 
 
 def test_monte_carlo_slope_interval_uses_the_same_draws_for_every_beta():
@@ -333,7 +334,7 @@ def test_slope_interval_with_too_few_arrangements_is_unbounded():
 
 # ---------------------------------------------------------------- Monte Carlo
 
-@pytest.mark.parametrize("statistic", A.STATISTICS)
+@pytest.mark.parametrize("statistic", A_pairings.STATISTICS)
 def test_monte_carlo_p_lands_in_its_interval_around_exact(statistic):
     exact = A.run(statistic, Y_TIES, X_TIES, "two-sided", "enumeration").p_value
     mc = A.run(statistic, Y_TIES, X_TIES, "two-sided", "monte-carlo", draws=20000, seed=2024)
@@ -354,7 +355,7 @@ def test_monte_carlo_is_reproducible_and_seed_dependent():
 
 def test_shuffler_rows_are_uniform_permutations():
     # Re-shuffling the same buffer keeps every row uniform: all 3! orders equally often.
-    sh = A.Shuffler(np.arange(3))
+    sh = A_pairings.Shuffler(np.arange(3))
     rng = np.random.default_rng(1)
     seen = np.concatenate([blk.copy() for _ in range(10) for blk in sh.draws(rng, 600)])
     codes = seen @ np.array([9, 3, 1])
@@ -461,7 +462,7 @@ def test_bad_inputs():
 def test_candidates_report_reference_sizes():
     rng = np.random.default_rng(0)
     x, y = rng.normal(size=9), rng.normal(size=9)
-    for statistic in A.STATISTICS:
+    for statistic in A_pairings.STATISTICS:
         cands = {c.algorithm: c for c in A.candidates(statistic, y, x, 10000)}
         assert cands["enumeration"].exact and cands["enumeration"].arrangements == factorial(9)
         assert not cands["monte-carlo"].exact

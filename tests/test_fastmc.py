@@ -3,7 +3,8 @@ not depend on the number of worker threads."""
 import numpy as np
 import pytest
 
-from permq.engine import fastmc, sampling, twosample
+from permq.engine.montecarlo import draws as fastmc, sampling
+from permq.engine import twosample
 
 
 def test_compiled_and_numpy_paths_agree_exactly():

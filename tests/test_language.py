@@ -8,7 +8,8 @@ from lark.exceptions import UnexpectedEOF
 
 import permq
 from conftest import failure_of, result_of
-from permq.bind.binder import Catalog, Defaults, bind
+from permq.bind.binder import bind
+from permq.bind.common import Catalog, Defaults
 from permq.data.tables import Table
 from permq.errors import BindError, QuerySyntaxError, Span
 from permq.pipeline import caret_lines

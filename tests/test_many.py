@@ -18,8 +18,8 @@ import pytest
 from statsmodels.stats.multitest import multipletests
 
 import permq
-from permq.engine import many, many_kernels, multiplicity
-from permq.engine.workers import LocalPool
+from permq.engine.many import joint as many, kernels as many_kernels, multiplicity
+from permq.engine.many.workers import LocalPool
 from permq.render import render
 
 from conftest import failure_of, result_of
@@ -427,7 +427,7 @@ def test_a_local_dask_cluster_gives_the_local_numbers():
 
 def test_unreachable_cluster_is_an_error_not_a_crash(monkeypatch):
     pytest.importorskip("distributed")
-    from permq.engine import workers
+    from permq.engine.many import workers
 
     monkeypatch.setattr(workers, "CONNECT_SECONDS", 1)
     frame = small_table()

@@ -19,14 +19,15 @@ from scipy import stats
 from scipy.special import gammaln
 
 import permq
-from permq.bind.binder import Defaults, bind
-from permq.engine import tables as rxc_engine
+from permq.bind.binder import bind
+from permq.bind.common import Defaults
+from permq.engine.tables import rxc as rxc_engine
 from permq.normal import tables as normal_tables
 from permq.render import render
-from permq.robustness import tables as T
-from permq.robustness import tables_laws as TL
+from permq.robustness.tables import check as T
+from permq.robustness.tables import schemes as TL
 from permq.robustness.result import RobustnessResult
-from permq.robustness.tables_tests import CountTests
+from permq.robustness.tables.batch import CountTests
 from permq.syntax.parser import parse_script
 
 ALPHA = 0.05

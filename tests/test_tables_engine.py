@@ -14,13 +14,13 @@ from scipy.stats.contingency import odds_ratio as scipy_odds_ratio
 from statsmodels.stats.contingency_tables import Table, Table2x2, mcnemar as sm_mcnemar
 from statsmodels.stats.proportion import proportion_confint, proportions_ztest
 
-from permq.engine import tables as T
-from permq.engine import tables_2x2 as F
-from permq.engine import tables_join as J
-from permq.engine import tables_network as TN
-from permq.engine import tables_paired as P
-from permq.engine import tables_proportion as B
-from permq.engine.sampling import Progress
+from permq.engine.tables import rxc as T
+from permq.engine.tables import twobytwo as F
+from permq.engine.tables import join as J
+from permq.engine.tables import network as TN
+from permq.engine.tables import paired as P
+from permq.engine.tables import proportion as B
+from permq.engine.core.progress import Progress
 from permq.errors import Cancelled
 from permq.normal import tables as N
 

@@ -6,7 +6,7 @@ import pandas as pd
 import pytest
 
 import permq
-from permq.engine import sampling
+from permq.engine.montecarlo import sampling
 
 DEMO = Path(__file__).resolve().parents[1] / "demo"
 STATEMENTS = [

@@ -16,14 +16,13 @@ from ..errors import BindError
 from ..syntax import nodes as n
 from .designs import ManyDesign
 
-MANY_FAMILIES = ("means", "ranks")
 MANY_OPTIONS = ("levels", "adjust", "pairwise", "for_each", "top", "below")
 MIN_PER_GROUP = 2          # values each group needs for a response to be tested
 SHOWN_NAMES = 10
 
 
 def bind_many(node, subject, opts, catalog, defaults) -> ManyDesign:
-    from .binder import check_columns, resolve_table, settings_for
+    from .common import check_columns, resolve_table, settings_for
 
     table = resolve_table(opts, catalog, subject.span)
     response = subject.response
@@ -39,7 +38,7 @@ def bind_many(node, subject, opts, catalog, defaults) -> ManyDesign:
     check_columns(table, wanted)
     form = ("pairwise comparisons" if "pairwise" in opts else
             "'for each'" if "for_each" in opts else "several responses")
-    s = settings_for(node, opts, defaults, MANY_FAMILIES, "means", form, MANY_OPTIONS)
+    s = settings_for(node, opts, defaults, "many", form, MANY_OPTIONS)
     adjustment, step = _adjustment(opts)
     top, below = _filters(opts)
     frame = table.frame
@@ -225,7 +224,7 @@ def _numeric(frame, name):
 
 def _long_table(frame, response, group, feature) -> tuple:
     """A long table: one row per unit and feature; the i-th row of each feature is unit i."""
-    from .binder import level_text, _natural_key
+    from .common import level_text, natural_key
 
     y = _named_numeric(frame, response)
     f = frame[feature.text]
@@ -236,7 +235,7 @@ def _long_table(frame, response, group, feature) -> tuple:
         warnings += (f"dropped {int((~keep).sum())} rows with a missing value in "
                      f"'{feature.text}' or '{group.text}'",)
     y, f, g = y[keep.to_numpy()], f[keep].map(level_text), g[keep].map(level_text)
-    features = sorted(f.unique(), key=_natural_key)
+    features = sorted(f.unique(), key=natural_key)
     if not features:
         raise BindError(f"column '{feature.text}' has no values", feature.span)
     first = g[f == features[0]].tolist()
@@ -268,7 +267,7 @@ def _named_numeric(frame, name) -> np.ndarray:
 # ---------------------------------------------------------------- groups
 
 def _groups(values, g, group, opts, warnings):
-    from .binder import _chosen_levels, _natural_key, level_text
+    from .common import chosen_levels, natural_key, level_text
 
     g = pd.Series(g).reset_index(drop=True)
     keep = g.notna().to_numpy()
@@ -276,10 +275,10 @@ def _groups(values, g, group, opts, warnings):
         warnings += (f"dropped {int((~keep).sum())} row{'s' if (~keep).sum() != 1 else ''} "
                      f"with a missing value in '{group.text}'",)
     values, g = values[keep], g[keep].map(level_text).reset_index(drop=True)
-    present = sorted(g.unique(), key=_natural_key)
+    present = sorted(g.unique(), key=natural_key)
     levels = present
     if "levels" in opts:
-        levels = _chosen_levels(opts["levels"], present, group.text)
+        levels = chosen_levels(opts["levels"], present, group.text)
         chosen = g.isin(levels).to_numpy()
         values, g = values[chosen], g[chosen].reset_index(drop=True)
     if len(levels) < 2:
@@ -296,7 +295,7 @@ def _groups(values, g, group, opts, warnings):
 
 
 def _pairwise_data(values, codes, levels, name, subject, warnings):
-    from .binder import dropped_warning
+    from .common import dropped_warning
 
     if len(levels) < 3:
         raise BindError("'pairwise' needs three or more levels; two levels are one comparison",

@@ -42,8 +42,9 @@ from scipy import stats
 from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
-from . import pvalues, sampling
-from .sampling import NO_PROGRESS, Progress
+from .core import pvalues
+from .montecarlo import sampling
+from .core.progress import NO_PROGRESS, Progress
 
 DEFAULT_DRAWS = 100_000          # Monte Carlo draws when the caller names none (and cost basis)
 ENUMERATION_MAX = 5e8            # beyond this many arrangements, listing is not offered

@@ -17,12 +17,13 @@ import numpy as np
 
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
-from . import pvalues
-from .counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size, layer_bytes
-from .enumeration import sign_patterns_chunks
-from .jumps import collect_sampled, interval_from_jumps
-from .sampling import BLOCK, NO_PROGRESS, Progress, iter_blocks
-from .scores import integer_grid, midranks
+from .core import pvalues
+from .core.counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size, layer_bytes
+from .core.enumeration import sign_patterns_chunks
+from .core.jumps import collect_sampled, interval_from_jumps
+from .montecarlo.sampling import BLOCK, iter_blocks
+from .core.progress import NO_PROGRESS, Progress
+from .core.scores import integer_grid, midranks
 
 MAX_DP_BYTES = 2.0e9
 # the Monte Carlo interval uses the first draws up to this many (memory stays bounded)

@@ -28,11 +28,13 @@ import numpy as np
 from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome, Estimate
-from . import pvalues, sampling
-from .ksample import (DEFAULT_DRAWS, NULL_KEEP_MAX, _compositions, _multinomial_weights, design,
-                      enumerate_group_sums, enumeration_candidate, integer_grid,
-                      monte_carlo_candidate, multinomial, sample_group_sums)
-from .sampling import NO_PROGRESS, Progress
+from .core import pvalues
+from .montecarlo import sampling
+from .ksample import (
+    DEFAULT_DRAWS, NULL_KEEP_MAX, _compositions, _multinomial_weights, design,
+    enumerate_group_sums, enumeration_candidate, integer_grid, monte_carlo_candidate,
+    multinomial, sample_group_sums)
+from .core.progress import NO_PROGRESS, Progress
 
 INTERVAL_ENUMERATION_MAX = 2_000_000   # list at most this many assignments for the slope interval
 COUNT_MAX_STATES = 2e7

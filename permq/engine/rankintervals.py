@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
-from .counting import counts_all_subsets, counts_by_size
+from .core.counting import counts_all_subsets, counts_by_size
 
 MAX_PAIRS = 20_000_000
 

@@ -15,13 +15,14 @@ import numpy as np
 
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
-from . import pvalues
-from .counting import EXACT_COUNT_LIMIT, convolve_counts, counts_by_size, layer_bytes
-from .enumeration import combinations_chunks
-from .jumps import collect_sampled, interval_from_jumps
-from .fastmc import random_u32, subset_sums
-from .sampling import NO_PROGRESS, Progress, iter_blocks
-from .scores import Grid, integer_grid, median_scores, midranks, normal_scores
+from .core import pvalues
+from .core.counting import EXACT_COUNT_LIMIT, convolve_counts, counts_by_size, layer_bytes
+from .core.enumeration import combinations_chunks
+from .core.jumps import collect_sampled, interval_from_jumps
+from .montecarlo.draws import random_u32, subset_sums
+from .core.progress import NO_PROGRESS, Progress
+from .montecarlo.sampling import iter_blocks
+from .core.scores import Grid, integer_grid, median_scores, midranks, normal_scores
 
 MAX_DP_BYTES = 2.0e9
 # the Monte Carlo interval uses the first draws up to this many (memory stays bounded)

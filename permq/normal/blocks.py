@@ -12,8 +12,9 @@ from typing import Optional
 import numpy as np
 from scipy import stats
 
-from ..engine.blocks import (block_matrix, design_arrays, friedman_from_ranks, midranks,
-                             prepare_stratified)
+from ..engine.blocks.complete import block_matrix, friedman_from_ranks
+from ..engine.blocks.shared import design_arrays, midranks
+from ..engine.blocks.stratified import prepare_stratified
 from ..errors import BindError
 from ..result import NormalTheory
 from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval

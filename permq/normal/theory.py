@@ -8,9 +8,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..engine.rankintervals import (hodges_lehmann_one_sample_normal,
-                                    hodges_lehmann_two_sample_normal, median_interval_normal)
-from ..engine.scores import median_scores, midranks, normal_scores
+from ..engine.rankintervals import (
+    hodges_lehmann_one_sample_normal, hodges_lehmann_two_sample_normal, median_interval_normal)
+from ..engine.core.scores import median_scores, midranks, normal_scores
 from ..result import NormalTheory
 from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval
 

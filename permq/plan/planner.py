@@ -14,7 +14,7 @@ from dataclasses import dataclass
 from typing import Callable
 
 from ..errors import PlanError
-from ..engine.sampling import fresh_seed
+from ..engine.montecarlo.sampling import fresh_seed
 from .cost import Candidate, calibrated
 
 DEFAULT_DRAWS = 100_000

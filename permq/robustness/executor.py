@@ -14,14 +14,14 @@ from typing import Optional
 
 from ..bind import designs
 from ..bind.binder import bind
-from ..engine import sampling
+from ..engine.montecarlo import sampling
 from ..errors import BindError
-from ..families import handler_for
+from ..families.registry import family_for
 from ..result import Note
 from ..syntax import nodes as n
 from ..syntax.parser import one_line
 from . import laws, report
-from . import tables as table_check
+from .tables import check as table_check
 from .arrangements import EXACT_LIMIT, reference_size
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
@@ -110,7 +110,7 @@ def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
     inner = node.analysis
     check = check_settings(n.options_of(inner))
     design = bind(without_check_options(inner), catalog, defaults)
-    the_plan = handler_for(design).plan(design)
+    the_plan = family_for(design).plan(design)
     seconds = None
     if isinstance(design, designs.TableDesign):
         _table_effect(design, check, inner)
@@ -149,7 +149,7 @@ def _table_effect(design, check, inner):
 
 def _observed(design, text, progress, check):
     """The statement's own analysis of the data as they are, with its diagnostics."""
-    handler = handler_for(design)
+    handler = family_for(design)
     observed = handler.execute(design, handler.plan(design), progress, text)
     attach_diagnostics(design, observed, check.alpha)
     return observed

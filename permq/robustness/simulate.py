@@ -26,7 +26,8 @@ from typing import Optional
 
 import numpy as np
 
-from ..engine import sampling
+from ..engine.montecarlo import sampling
+from ..engine.core.progress import NO_PROGRESS
 from . import laws as L
 from .arrangements import exact_reference, sampled_reference
 from .batch import normal_p, permutation_p, scores
@@ -78,12 +79,12 @@ def errors(problem: Problem, law: L.ErrorLaw, rng, size: int, f: np.ndarray) -> 
         return (law.errors(rng, size, f) - law.errors(rng, size, f)) / np.sqrt(2.0)
     e = law.errors(rng, size, f)
     if problem.kind == "one-sample":
-        e = e - L.centre(law.key, problem.family) * f
+        e = e - L.centre(law.key, problem.check.centre) * f
     return e
 
 
 def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float, seed: int,
-             progress=sampling.NO_PROGRESS, permutations: int = PERMUTATIONS,
+             progress=NO_PROGRESS, permutations: int = PERMUTATIONS,
              panel: Optional[tuple] = None, workers: Optional[int] = None) -> Simulation:
     panel = panel or L.panel(problem.kind)
     exact = exact_reference(problem)
@@ -99,7 +100,7 @@ def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float,
     for law, c in zip(panel, counts):
         rates = [rates_from_counts(c[:, i], c[:, 4], exact is None) for i in range(4)]
         out.append(LawRates(law, *rates,
-                            not_exact=L.breaks_exactness(law, problem.kind, problem.family,
+                            not_exact=L.breaks_exactness(law, problem.kind, problem.check.centre,
                                                             problem.form)))
     return Simulation(tuple(out), datasets, alpha, exact is not None,
                       exact.count if exact is not None else permutations, seed)

@@ -182,7 +182,7 @@ class _Context:
         return self.paths(("",))
 
     def levels(self) -> list[Suggestion]:
-        from ...bind.binder import level_text
+        from ...bind.common import level_text
 
         group = None
         for a, b in zip(self.tokens, self.tokens[1:]):
@@ -195,7 +195,7 @@ class _Context:
         col = table.frame[group].dropna().map(level_text)
         counts = col.value_counts()
         out = []
-        for lev in sorted(counts.index, key=_natural_key):
+        for lev in sorted(counts.index, key=natural_key):
             if lev not in given:
                 out.append((_quote_text(lev), f"level of {group} · {counts[lev]} rows"))
         return out
@@ -209,9 +209,9 @@ class _Context:
             return []
         prev = self.prev_type()
         if prev == "HELP":
-            from ...help import TOPICS
+            from ...help import topics
 
-            return [(t, "help topic") for t in sorted(TOPICS)]
+            return [(t, "help topic") for t in topics()]
         if prev == "SETTING":
             return notes.setting_values(str(self.prev))
         return []
@@ -276,7 +276,7 @@ def _name_text(tok) -> str:
     return s[1:-1] if tok.type == "QUOTED_NAME" else s
 
 
-def _natural_key(text: str):
+def natural_key(text: str):
     return [(0, int(p), "") if p.isdigit() else (1, 0, p.lower())
             for p in re.split(r"(\d+)", text) if p]
 

@@ -1,0 +1,160 @@
+"""Association of y with x: permutation tests of Pearson's r, Spearman's rho (mid-ranks),
+Kendall's tau (tau-b when there are ties), the least-squares slope of y on x with an exact
+interval, and the slope adjusted for covariates (residual permutation, Freedman and Lane).
+
+Reference set: every pairing of y with x, i.e. every permutation of y against x held fixed,
+each equally likely under the null of exchangeability. Tied values make several permutations
+give the same pairing; enumeration lists each distinct arrangement once (every distinct
+arrangement stands for the same number of permutations, so the p-value is unchanged).
+
+Each coefficient is an increasing multiple of a statistic T with E0 T = 0 over the set:
+    pearson, slope   T = sum (x_i - mean x) y_pi(i)
+    spearman         the same on mid-ranks
+    kendall          S = sum_{i<j} sign(x_i - x_j) sign(y_pi(i) - y_pi(j))
+so p-values compare T, and the two-sided p-value is P(|T| >= |t|) (pvalues.TWO_SIDED_LINEAR).
+Pearson, Spearman and Kendall are symmetric in x and y, so enumeration permutes whichever of
+the two has fewer distinct arrangements.
+
+Slope interval: under "y - beta x is exchangeable against x", each arrangement pi stops or
+starts counting as extreme at one value of beta (its jump), so the one-sided p-values are
+step functions of beta and the endpoints are read off exactly from the jumps of the same
+reference set (all arrangements, or the same Monte Carlo draws for every beta)."""
+from __future__ import annotations
+
+from math import factorial, prod
+from typing import Optional
+
+import numpy as np
+from scipy import stats
+
+from ...plan.cost import Candidate
+from ...result import EngineOutcome, Estimate
+from ..core.progress import NO_PROGRESS, Progress
+from ..montecarlo.sampling import fresh_seed
+from .adjusted import _run_freedman_lane, adjusted_coefficient
+from .pairings import (CHUNK, DEFAULT_DRAWS, DESCRIPTIONS, ENUMERATION_LIMIT, _big, _has_ties,
+                       _run_enumeration, _run_inversions, _run_monte_carlo, arrangements,
+                       check_inputs, distinct_pairs, problem)
+from .slope import slope_estimate, slope_outcome, slope_pass
+
+# ---------------------------------------------------------------- cost
+
+def _adjusted(covariates) -> bool:
+    return covariates is not None and np.asarray(covariates).size > 0
+
+
+def reference_size(statistic: str, y, x) -> int:
+    """Distinct arrangements enumeration would list."""
+    if statistic == "slope":
+        counts = distinct_pairs(y, x)[2]
+        return factorial(len(x)) // prod(factorial(int(c)) for c in counts)
+    if statistic == "spearman":
+        y, x = stats.rankdata(y), stats.rankdata(x)
+    return min(arrangements(y), arrangements(x))
+
+
+def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None) -> list[Candidate]:
+    y, x, covariates = check_inputs(y, x, covariates=covariates)
+    n = len(x)
+    if _adjusted(covariates):
+        if statistic != "slope":
+            raise ValueError("covariates apply to the slope only")
+        width = covariates.shape[1] + 2
+        return [Candidate("enumeration", DESCRIPTIONS["enumeration"], True, float("inf"),
+                          float("inf"), feasible=False,
+                          note="residual permutation is approximate; there is no exact reference set"),
+                Candidate("residual-permutation", DESCRIPTIONS["residual-permutation"], False,
+                          draws * n * (6.0 + width), min(draws, 8192) * n * 8 * 2,
+                          arrangements=_big(factorial(n)), note=f"{draws} draws")]
+    total = _big(reference_size(statistic, y, x))
+    pairs = n * (n - 1) / 2
+    per = {"kendall": 4 * n + 3 * pairs, "slope": 10.0 * n}.get(statistic, 4.0 * n)
+    out = []
+    if statistic == "kendall":
+        out.append(_inversions_candidate(y, x))
+    out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, total * per,
+                         min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0),
+                         feasible=total <= ENUMERATION_LIMIT, arrangements=total,
+                         note=f"{total:.4g} distinct arrangements"))
+    per_draw = {"kendall": 6 * n + 3 * pairs, "slope": 12.0 * n}.get(statistic, 6.0 * n)
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * per_draw,
+                         min(draws, 8192) * n * 8 * 2, arrangements=total, note=f"{draws} draws"))
+    return out
+
+
+def _inversions_candidate(y, x) -> Candidate:
+    n = len(x)
+    K = n * (n - 1) // 2
+    total = _big(factorial(n))
+    if _has_ties(x) or _has_ties(y):
+        return Candidate("dp-inversions", DESCRIPTIONS["dp-inversions"], True, float("inf"),
+                         float("inf"), feasible=False, note="ties: counting inversions needs distinct values",
+                         arrangements=total)
+    ops = n * (K / 2 + 1) * 20.0          # Python integers cost about 20 array operations each
+    return Candidate("dp-inversions", DESCRIPTIONS["dp-inversions"], True, ops, (K / 2 + 1) * 64.0 * 3,
+                     arrangements=total, note="no ties: exact counts of permutations by inversions")
+
+
+# ---------------------------------------------------------------- run
+
+def run(statistic: str, y, x, alternative: str, algorithm: str, draws: Optional[int] = None,
+        seed: Optional[int] = None, progress: Progress = NO_PROGRESS, covariates=None) -> EngineOutcome:
+    """The permutation p-value of the association of y with x ('higher' = positive)."""
+    y, x, covariates = check_inputs(y, x, alternative, covariates)
+    draws, seed = _mc_settings(algorithm, draws, seed)
+    if _adjusted(covariates):
+        if statistic != "slope":
+            raise ValueError("covariates apply to the slope only")
+        if algorithm != "residual-permutation":
+            raise ValueError("the adjusted slope is tested by residual permutation only")
+        return _run_freedman_lane(y, x, covariates, alternative, draws, seed, progress)
+    if statistic == "slope":
+        return slope_outcome(slope_pass(y, x, algorithm, draws, seed, progress), alternative)
+    if algorithm == "dp-inversions":
+        if statistic != "kendall" or _has_ties(x) or _has_ties(y):
+            raise ValueError("counting inversions applies to Kendall's tau without ties")
+        return _run_inversions(problem("kendall", y, x), alternative, progress)
+    if algorithm == "enumeration":
+        fixed_is_x = arrangements(_scores(statistic, y)) <= arrangements(_scores(statistic, x))
+        return _run_enumeration(problem(statistic, y, x, fixed_is_x), alternative, progress)
+    if algorithm == "monte-carlo":
+        return _run_monte_carlo(problem(statistic, y, x), alternative, draws, seed, progress)
+    raise ValueError(f"unknown algorithm {algorithm!r}")
+
+
+def _scores(statistic, v):
+    return stats.rankdata(v) if statistic == "spearman" else v
+
+
+def _mc_settings(algorithm, draws, seed):
+    if algorithm in ("monte-carlo", "residual-permutation"):
+        return (DEFAULT_DRAWS if draws is None else int(draws)), (fresh_seed() if seed is None else seed)
+    return draws, seed
+
+
+def estimate(statistic: str, y, x, alternative: str, algorithm: str, level: float = 0.95,
+             draws: Optional[int] = None, seed: Optional[int] = None,
+             progress: Progress = NO_PROGRESS, covariates=None) -> Estimate:
+    """The coefficient; for the simple slope, with its interval from inverting the test."""
+    return run_with_estimate(statistic, y, x, alternative, algorithm, level, draws, seed,
+                             progress, covariates)[1]
+
+
+def run_with_estimate(statistic: str, y, x, alternative: str, algorithm: str, level: float = 0.95,
+                      draws: Optional[int] = None, seed: Optional[int] = None,
+                      progress: Progress = NO_PROGRESS, covariates=None):
+    """(EngineOutcome, Estimate) from one pass over the reference set."""
+    y, x, covariates = check_inputs(y, x, alternative, covariates)
+    draws, seed = _mc_settings(algorithm, draws, seed)
+    if statistic == "slope" and not _adjusted(covariates):
+        sp = slope_pass(y, x, algorithm, draws, seed, progress)
+        return slope_outcome(sp, alternative), slope_estimate(sp, level, alternative)
+    out = run(statistic, y, x, alternative, algorithm, draws, seed, progress, covariates)
+    if _adjusted(covariates):
+        est = Estimate("slope of y on x, adjusted for covariates",
+                       adjusted_coefficient(y, x, covariates), None, level,
+                       "least squares; no permutation interval (see the normal-theory interval)")
+    else:
+        est = Estimate(out.statistic_name, out.statistic, None, level,
+                       "sample coefficient; no permutation interval (see the normal-theory interval)")
+    return out, est

@@ -1,0 +1,2 @@
+"""Numerical pieces every engine shares: the p-value rules, scores and their integer grid,
+exact counting, complete enumeration, intervals from jump points, progress and cancel."""
