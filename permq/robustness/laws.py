@@ -98,6 +98,12 @@ def panel(kind: str) -> tuple:
     return SHAPES + ((GROWING,) if kind == "slope" else (UNEQUAL,))
 
 
+def panel_for(problem) -> tuple:
+    """The design kind's panel without the laws its family's check leaves out."""
+    left = dict(problem.check.leaves_out) if problem.check is not None else {}
+    return tuple(law for law in panel(problem.kind) if law.key not in left)
+
+
 # ---------------------------------------------------------------- spreads
 
 def _normalised(f: np.ndarray) -> np.ndarray:

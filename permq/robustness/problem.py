@@ -80,7 +80,11 @@ def problem_for(design) -> Problem:
     else:
         raise PlanError(f"robustness is not available for {design.kind} analyses",
                         hint="it covers comparisons, relations and tables")
-    return replace(pb, check=check, family=check.test or design.settings.family)
+    alternative = pb.alternative
+    if check.reversed:
+        alternative = {"higher": "lower", "lower": "higher"}.get(alternative, alternative)
+    return replace(pb, check=check, family=check.test or design.settings.family,
+                   alternative=alternative)
 
 
 def _several(design):

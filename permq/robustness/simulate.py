@@ -86,7 +86,7 @@ def errors(problem: Problem, law: L.ErrorLaw, rng, size: int, f: np.ndarray) -> 
 def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float, seed: int,
              progress=NO_PROGRESS, permutations: int = PERMUTATIONS,
              panel: Optional[tuple] = None, workers: Optional[int] = None) -> Simulation:
-    panel = panel or L.panel(problem.kind)
+    panel = panel or L.panel_for(problem)
     exact = exact_reference(problem)
     tracker = Tracker(len(panel) * datasets)
 

@@ -17,7 +17,11 @@ and runs both tests on each. A `Check` says, for the family:
 - `weights(design)`: the fixed weights of a linear or pairs form, or None for the layout's own
   (the group indicator, the dose scores, x);
 - `centre`: for one sample, the parameter the errors are centred on ("mean", "median",
-  "pseudo-median"), so that it is zero under the null.
+  "pseudo-median"), so that it is zero under the null;
+- `reversed`: the family's `alternative higher` is the lower tail of its statistic (the
+  Ansari-Bradley AB is small when the first group is the more spread out);
+- `leaves_out`: laws of the panel the check leaves out, each with the reason (for a test of
+  spread, unequal spread is its alternative, not a breach of its null).
 
 A family whose check needs a new piece writes it in its own module with the same signature.
 """
@@ -38,6 +42,8 @@ class Check:
     weights: Optional[Callable] = None
     centre: str = "mean"
     test: str = ""                       # the test's name in the problem (e.g. "friedman")
+    reversed: bool = False               # 'higher' is the statistic's lower tail
+    leaves_out: tuple = ()               # ((law key, reason), ...)
 
     def counterpart_name(self, problem) -> str:
         return self.counterpart(problem) if callable(self.counterpart) else self.counterpart
