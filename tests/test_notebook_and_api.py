@@ -2,7 +2,6 @@
 from __future__ import annotations
 
 import json
-import math
 
 import numpy as np
 import pandas as pd
@@ -28,12 +27,6 @@ def test_every_result_kind_validates_against_the_shipped_schema(capsys):
     assert list(validator.iter_errors([broken]))          # the schema can fail
     assert main(["schema"]) == 0
     assert json.loads(capsys.readouterr().out) == json.loads(schema_text())
-
-
-def _same(a, b) -> bool:
-    if isinstance(a, float) and isinstance(b, float):
-        return a == b or (math.isnan(a) and math.isnan(b))
-    return a == b
 
 
 def _without_nulls(d):

@@ -4,8 +4,6 @@ from __future__ import annotations
 import hashlib
 import shutil
 import subprocess
-import sys
-from pathlib import Path
 
 import pytest
 from prompt_toolkit.clipboard import InMemoryClipboard
