@@ -83,6 +83,7 @@ class RobustnessResult:
     picture: Optional[NullPicture] = None
     warnings: list = field(default_factory=list)
     line: Optional[int] = None
+    counts: bool = False         # a check of counts: sampling schemes, not error laws
 
     def to_dict(self) -> dict:
         obs = self.observed

@@ -170,4 +170,4 @@ def build(statement, design, observed, sim, tests, effect, picture, warnings) ->
         tests.reference_words(), sim.exact, sim.arrangements, sim.seed,
         effect.value, nan, effect.words, nan,
         "counts have no standard-deviation unit: the effect is the one in shift, and sd "
-        "fields are empty", table, lines, observed, picture, list(warnings))
+        "fields are empty", table, lines, observed, picture, list(warnings), counts=True)
