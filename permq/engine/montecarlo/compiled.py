@@ -42,17 +42,24 @@ def _subset_sums_compiled(a, n1, r, s_out, u_out):
 
 
 @njit
+def _shuffle(work, moving, rrow):
+    """work = moving after the n - 1 Fisher-Yates steps driven by one row of r."""
+    n = moving.shape[0]
+    work[:] = moving
+    for i in range(n - 1):
+        j = i + ((np.int64(rrow[i]) * (n - i)) >> 32)
+        t = work[i]
+        work[i] = work[j]
+        work[j] = t
+
+
+@njit
 def _shuffled_dots_compiled(moving, fixed, r, out):
     size = r.shape[0]
     n = moving.shape[0]
     work = np.empty(n)
     for row in range(size):
-        work[:] = moving
-        for i in range(n - 1):
-            j = i + ((np.int64(r[row, i]) * (n - i)) >> 32)
-            t = work[i]
-            work[i] = work[j]
-            work[j] = t
+        _shuffle(work, moving, r[row])
         s = 0.0
         for i in range(n):
             s += fixed[i] * work[i]
@@ -178,12 +185,7 @@ def _kendall_s_compiled(moving, order, tie_start, n1, n2, r, out):
     ties = not tie_start[1:].all()
     n0 = n * (n - 1) // 2
     for row in range(size):
-        w[:] = moving
-        for i in range(n - 1):
-            j = i + ((np.int64(r[row, i]) * (n - i)) >> 32)
-            t = w[i]
-            w[i] = w[j]
-            w[j] = t
+        _shuffle(w, moving, r[row])
         for i in range(n):
             z[i] = w[order[i]]
         n3 = 0

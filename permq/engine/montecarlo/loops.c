@@ -83,6 +83,15 @@ EXPORT int permq_subset_sums(const double *a, int64_t N, int64_t n1, const uint3
     return 0;
 }
 
+/* w = moving after the n - 1 Fisher-Yates steps driven by rr */
+static inline void shuffle(double *w, const double *moving, int64_t n, const uint32_t *rr) {
+    memcpy(w, moving, sizeof(double) * (size_t)n);
+    for (int64_t i = 0; i + 1 < n; i++) {
+        int64_t j = pick(rr[i], i, n - i);
+        double t = w[i]; w[i] = w[j]; w[j] = t;
+    }
+}
+
 /* Full shuffles (association): sum_i fixed[i] * moving[pi(i)] for the Fisher-Yates shuffle pi
  * of each row (n - 1 steps). */
 EXPORT int permq_shuffled_dots(const double *moving, const double *fixed, int64_t n,
@@ -91,11 +100,7 @@ EXPORT int permq_shuffled_dots(const double *moving, const double *fixed, int64_
     if (!w) return -1;
     for (int64_t row = 0; row < size; row++) {
         const uint32_t *rr = r + row * stride;
-        memcpy(w, moving, sizeof(double) * (size_t)n);
-        for (int64_t i = 0; i + 1 < n; i++) {
-            int64_t j = pick(rr[i], i, n - i);
-            double t = w[i]; w[i] = w[j]; w[j] = t;
-        }
+        shuffle(w, moving, n, rr);
         double s = 0.0;
         for (int64_t i = 0; i < n; i++) s += fixed[i] * w[i];
         out[row] = s;
@@ -211,11 +216,7 @@ EXPORT int permq_kendall_s(const double *moving, const int64_t *order, const uin
     int64_t n0 = n * (n - 1) / 2;
     for (int64_t row = 0; row < size; row++) {
         const uint32_t *rr = r + row * stride;
-        memcpy(w, moving, sizeof(double) * (size_t)n);
-        for (int64_t i = 0; i + 1 < n; i++) {
-            int64_t j = pick(rr[i], i, n - i);
-            double t = w[i]; w[i] = w[j]; w[j] = t;
-        }
+        shuffle(w, moving, n, rr);
         for (int64_t i = 0; i < n; i++) z[i] = w[order[i]];
         int64_t n3 = 0;
         if (ties) {                      /* sort within runs of tied fixed values; count n3 */
