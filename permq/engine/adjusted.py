@@ -67,7 +67,14 @@ def reduce(values, groups, covariates) -> Reduced:
     if float(mz @ mz) <= 1e-12 * float(z @ z):
         raise DataError("the groups are a linear combination of the covariates: there is "
                         "nothing left to compare once they are adjusted for")
-    return Reduced(y - q @ (q.T @ y), mz, q)
+    r = y - q @ (q.T @ y)
+    spread = float(((y - y.mean()) ** 2).sum())
+    if spread == 0:
+        raise DataError("the response is constant here: there is nothing to compare")
+    if float(r @ r) <= 1e-20 * spread:
+        raise DataError("the response is a linear combination of the covariates: nothing is "
+                        "left to compare once they are adjusted for")
+    return Reduced(r, mz, q)
 
 
 def pooled(red: Reduced, groups) -> tuple[np.ndarray, np.ndarray, int]:

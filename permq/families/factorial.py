@@ -133,10 +133,9 @@ def _cells(design) -> dict:
     return {"n": n.astype(int).tolist(), "mean": mean.tolist(), "sd": sd.tolist()}
 
 
-NO_CHECK = ("a two-factor comparison is three tests on three reference sets (two restricted "
-            "permutations and a residual permutation); the check simulates one test on a "
-            "one-factor layout: check a main effect as a blocked comparison, compare Y by A "
-            "within B, where each combination has one row")
+NO_CHECK = ("a two-factor comparison holds three tests on three reference sets (two "
+            "restricted permutations and a residual permutation), and the check simulates one "
+            "test on one reference set")
 
 FAMILIES = [
     Family("means", ("two-factor",), "two-way permutation ANOVA: restricted permutation for "

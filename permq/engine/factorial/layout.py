@@ -25,6 +25,10 @@ import numpy as np
 from ...errors import DataError
 
 TERMS = ("first", "second", "interaction")
+# the scale of the comparison tolerance (pvalues.tolerance): an F below RTOL * F_FLOOR = 1e-15
+# is zero up to rounding (a term whose cell sums fit the smaller model exactly), so rounding
+# never splits the ties at zero
+F_FLOOR = 1e-6
 
 
 @dataclass(frozen=True)
@@ -123,8 +127,14 @@ def f_of(layout_: Layout, key: str, s: np.ndarray, total_ss: float) -> np.ndarra
     term = layout_.terms[key]
     ss_term = ((s @ term.basis) ** 2).sum(axis=1)
     ss_error = np.maximum(total_ss - (s * s / layout_.sizes).sum(axis=1), 0.0)
+    return f_ratio(ss_term, term.df, ss_error, layout_.df_error)
+
+
+def f_ratio(ss_term, df, ss_error, df_error) -> np.ndarray:
+    """F of many arrangements; 0 / 0 (no spread left at all) counts as extreme, +inf."""
     with np.errstate(divide="ignore", invalid="ignore"):
-        return (ss_term / term.df) / (ss_error / layout_.df_error)
+        f = (ss_term / df) / (ss_error / df_error)
+    return np.where(np.isnan(f), np.inf, f)
 
 
 def sums_of_squares(layout_: Layout) -> dict:

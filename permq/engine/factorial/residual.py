@@ -20,7 +20,7 @@ from ...result import EngineOutcome
 from ..core import pvalues
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import blocks
-from .layout import Layout, additive_residuals, cell_sums, f_of
+from .layout import F_FLOOR, Layout, additive_residuals, cell_sums, f_of
 
 DESCRIPTION = "Monte Carlo residual permutation (Freedman-Lane)"
 APPROXIMATE = ("the interaction is tested by permuting residuals of the additive model: an "
@@ -58,7 +58,7 @@ def run(lay: Layout, draws: int, seed: int, progress: Progress = NO_PROGRESS) ->
     for _, size, rng in blocks(seed, draws):
         order = np.argsort(rng.random((size, lay.n)), axis=1, kind="stable")
         f = f_of(lay, "interaction", cell_sums(lay, e[order]), ee)
-        b += pvalues.exceedances(f, f_obs, "higher", 0.0, f_obs)
+        b += pvalues.exceedances(f, f_obs, "higher", 0.0, F_FLOOR)
         done += size
         progress.step(done / draws, "sampling")
     p, p_int = pvalues.monte_carlo_p(b, draws)

@@ -24,7 +24,7 @@ from ...result import EngineOutcome
 from ..core import pvalues
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import blocks
-from .layout import Layout, cell_sums, f_of
+from .layout import F_FLOOR, Layout, cell_sums, f_of, f_ratio
 
 LIST_LIMIT = 2e9              # arrangements beyond which listing is not offered
 STRATUM_ROWS_LIMIT = 2e6      # a stratum's own list beyond this is not built
@@ -144,7 +144,7 @@ def _listing(lay, key, f_obs, progress) -> EngineOutcome:
     total = prod(sizes)
     term = lay.terms[key]
     ss_total = float(lay.y @ lay.y)
-    tol = pvalues.tolerance(f_obs, f_obs)
+    tol = pvalues.tolerance(f_obs, F_FLOOR)
     b = 0
     for start in range(0, total, CHUNK):
         flat = np.arange(start, min(total, start + CHUNK), dtype=np.int64)
@@ -157,8 +157,7 @@ def _listing(lay, key, f_obs, progress) -> EngineOutcome:
             shares += sh[digit]
             quad += q[digit]
         ss_error = np.maximum(ss_total - quad, 0.0)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            f = ((shares ** 2).sum(axis=1) / term.df) / (ss_error / lay.df_error)
+        f = f_ratio((shares ** 2).sum(axis=1), term.df, ss_error, lay.df_error)
         b += int(np.count_nonzero(f >= f_obs - tol))
         progress.step(min(1.0, (start + len(flat)) / total), "listing")
     return EngineOutcome("F", f_obs, pvalues.clip(b / total), "exact", DESCRIPTIONS["listing"],
@@ -184,7 +183,7 @@ def _monte_carlo(lay, key, f_obs, draws, seed, progress) -> EngineOutcome:
     for _, size, rng in blocks(seed, draws):
         shuffled = shuffle_within(lay.y, strata, rng.random((size, lay.n)))
         f = f_of(lay, key, cell_sums(lay, shuffled), ss_total)
-        b += pvalues.exceedances(f, f_obs, "higher", 0.0, f_obs)
+        b += pvalues.exceedances(f, f_obs, "higher", 0.0, F_FLOOR)
         done += size
         progress.step(done / draws, "sampling")
     p, p_int = pvalues.monte_carlo_p(b, draws)

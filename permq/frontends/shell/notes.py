@@ -58,7 +58,8 @@ KEYWORDS = {
     "ordered": "ordered alternative (trend)",
     "paired": "paired columns",
     "in": "take the columns from a table",
-    "adjusting": "covariates for a slope",
+    "adjusting": "covariates (groups or a slope)",
+    "and": "a second factor, crossed with the first",
 }
 
 VALUES = {
