@@ -39,7 +39,7 @@ from .core.progress import NO_PROGRESS, Progress
 from .montecarlo.draws import random_u32, subset_sums
 from .montecarlo.sampling import iter_blocks
 
-ENUMERATION_LIMIT = 5e8
+ENUMERATION_LIMIT = 5e7        # every assignment's (a, c) is kept for the interval
 MAX_INTERVAL_DRAWS = 2_000_000
 NAME = "difference in mean covariate-adjusted residuals"
 DESCRIPTIONS = {"enumeration": "complete enumeration",
@@ -91,8 +91,9 @@ def candidates(red: Reduced, groups, draws: int) -> list[Candidate]:
     N = len(r)
     total = float(comb(N, n1))
     return [
-        Candidate("enumeration", DESCRIPTIONS["enumeration"], True, total * (n1 * 16 + 80),
-                  min(total, 1e5) * n1 * 8 * 4, feasible=total <= ENUMERATION_LIMIT,
+        Candidate("enumeration", DESCRIPTIONS["enumeration"], True,
+                  total * (10 + 2.5 * np.log2(max(total, 2.0))), total * 8 * 6,
+                  feasible=total <= ENUMERATION_LIMIT,
                   arrangements=total, note=f"{total:.3g} arrangements"),
         Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * N * 24.0,
                   min(draws, 8192) * N * 8 * 4, arrangements=total, note=f"{draws} draws"),
@@ -112,12 +113,11 @@ def run(red: Reduced, groups, alternative: str, algorithm: str, level: float,
     if algorithm == "enumeration":
         b, a, c = 0, [], []
         done = 0
-        for idx in combinations_chunks(N, n1):
-            s = r[idx].sum(axis=1)
+        for s, cs in subset_sums_listed(r, rz, n1):
             b += pvalues.exceedances(s, s_obs, alternative, 0.0, scale)
             a.append(s - s_obs)
-            c.append(rz[idx].sum(axis=1) - c_obs)
-            done += len(idx)
+            c.append(cs - c_obs)
+            done += len(s)
             progress.step(done / total, "enumerating")
         out = EngineOutcome(NAME, s_obs * factor, pvalues.clip(b / total), "exact",
                             DESCRIPTIONS["enumeration"], arrangements=float(total))
@@ -148,6 +148,30 @@ def run(red: Reduced, groups, alternative: str, algorithm: str, level: float,
                                          tol=1e-9 * scale)
     notes = () if connected else ("the confidence set is not an interval; its hull is given",)
     return out, estimate, interval, notes
+
+
+def subset_sums_listed(u, v, k: int, chunk: int = 1 << 20):
+    """(sum of u, sum of v) over every k-subset of the items, in blocks: the items are cut
+    in two halves, and each block pairs the j-subsets of one half with the (k - j)-subsets of
+    the other, so the sums are outer sums of two short lists."""
+    n = len(u)
+    half = n // 2
+    left, right = np.arange(half), np.arange(half, n)
+    for j in range(max(0, k - len(right)), min(k, len(left)) + 1):
+        li = _subsets(left, j)
+        ri = _subsets(right, k - j)
+        lu, lv = u[li].sum(axis=1), v[li].sum(axis=1)
+        ru, rv = u[ri].sum(axis=1), v[ri].sum(axis=1)
+        rows = max(1, chunk // max(1, len(ru)))
+        for start in range(0, len(lu), rows):
+            yield ((lu[start:start + rows, None] + ru[None, :]).ravel(),
+                   (lv[start:start + rows, None] + rv[None, :]).ravel())
+
+
+def _subsets(items: np.ndarray, j: int) -> np.ndarray:
+    if j == 0:
+        return np.zeros((1, 0), dtype=np.int64)
+    return np.concatenate(list(combinations_chunks(len(items), j)))[:, :j] + items[0]
 
 
 def confidence_set(a, c, identity: float, count: float, level: float, alternative: str,
