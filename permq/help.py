@@ -31,7 +31,7 @@ text covariates (block, sex ...) enter as indicators, here and in relate ... adj
   relate mass to light using kendall                  Kendall's tau (spearman: Spearman's rho)
   relate mass to light using slope                    slope with its exact interval
   relate mass to light using slope adjusting for tray  Freedman-Lane residual permutation
-  relate mass to light using slope adjusting for bench a text covariate: indicator columns""",
+  relate mass to light using slope adjusting for bench  a text covariate: indicator columns""",
     "count": """count: tables, paired outcomes, one proportion
   count sprouted by dose in plots                     r x c exact test (fisher, chi-square, likelihood-ratio)
   count sprouted by dose in plots ordered             trend (linear-by-linear)
