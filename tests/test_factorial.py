@@ -266,6 +266,8 @@ def test_explain_lists_each_terms_candidates():
     ('compare y by a and b picture "x.png"', "three tests"),
     ("compare y, y by a and b", "one response"),
     ("compare y by a and c", "no column 'c'"),
+    ("compare y by a and b using ranks", "'ranks' is not a test family for two crossed factors"),
+    ('compare y by a and b levels "p", "q"', "'levels' does not apply to two crossed factors"),
 ])
 def test_binder_messages(text, message):
     assert message in failure_of(text, {"t": BALANCED}).message
@@ -278,6 +280,15 @@ def test_an_empty_cell_and_one_row_a_cell_are_named():
     single = BALANCED.drop_duplicates(["a", "b"])
     f = failure_of("compare y by a and b", {"t": single})
     assert "one row" in f.message and "within b" in f.hint
+
+
+def test_the_plan_is_one_per_term_and_shares_one_seed():
+    out = permq.run("compare y by a and b", tables={"t": BALANCED})[0]
+    assert isinstance(out, permq.FactorialResult)
+    seeds = {t.outcome.seed for t in out.terms if t.outcome.method != "exact"}
+    assert seeds == {out.seed}
+    again = permq.run(f"compare y by a and b seed {out.seed}", tables={"t": BALANCED})[0]
+    assert [t.outcome.p_value for t in again.terms] == [t.outcome.p_value for t in out.terms]
 
 
 def test_every_renderer_takes_the_result():

@@ -25,6 +25,10 @@ def bind_crossed(node, subject: n.Crossed, opts, catalog, defaults) -> Factorial
     if "picture" in opts:
         raise BindError("a picture shows one null distribution; a two-factor comparison has "
                         "three tests", opts["picture"].span, hint="drop 'picture'")
+    if "using" in opts and opts["using"].value != "means":
+        raise BindError(f"'{opts['using'].value}' is not a test family for {FORM}",
+                        opts["using"].span, hint="two crossed factors take the two-way "
+                        "permutation F (means): drop 'using'")
     s = settings_for(node, opts, defaults, "two-factor", FORM, ())
     if s.alternative != "two-sided":
         raise BindError("the F of a two-factor comparison has no direction",

@@ -46,10 +46,10 @@ def plan(design):
     if len(design.labels) > 2:
         fam = ksample.FAMILIES[s.family]
         cands = lambda draws: fam.candidates(red.residuals, design.groups, draws)
-        return make_plan("adjusted", f"{s.family}, groups", s, cands)
+        return make_plan("k-sample", s.family, s, cands)     # that engine, on the residuals
     if s.family == "ranks":
         cands = lambda draws: twosample.candidates("ranks", *_split(red, design), draws)
-        return make_plan("adjusted", "ranks", s, cands)
+        return make_plan("two-sample", "ranks", s, cands)
     return make_plan("adjusted", "means", s,
                      lambda draws: adjusted.candidates(red, design.groups, draws))
 
