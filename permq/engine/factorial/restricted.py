@@ -14,7 +14,6 @@ among its cells, prod_j n_j! / prod_i n_ij!, each equally likely.
 """
 from __future__ import annotations
 
-import itertools
 from math import factorial, prod
 
 import numpy as np
@@ -22,6 +21,7 @@ import numpy as np
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
 from ..core import pvalues
+from ..core.enumeration import distinct_arrangements
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import blocks
 from .layout import F_FLOOR, Layout, cell_sums, f_of, f_ratio
@@ -44,12 +44,18 @@ def strata_of(lay: Layout, key: str) -> tuple[np.ndarray, np.ndarray]:
 
 
 def stratum_counts(lay: Layout, key: str) -> list[int]:
+    return [m for m, _ in _strata_sizes(lay, key)]
+
+
+def _strata_sizes(lay: Layout, key: str) -> list[tuple[int, int]]:
+    """(distinct arrangements, rows) of each stratum."""
     strata, moved = strata_of(lay, key)
     out = []
     for j in range(int(strata.max()) + 1):
         inside = moved[strata == j]
         counts = np.bincount(inside)
-        out.append(factorial(len(inside)) // prod(factorial(int(c)) for c in counts))
+        out.append((factorial(len(inside)) // prod(factorial(int(c)) for c in counts),
+                    len(inside)))
     return out
 
 
@@ -58,19 +64,21 @@ def reference_size(lay: Layout, key: str) -> int:
 
 
 def candidates(lay: Layout, key: str, draws: int) -> list[Candidate]:
-    counts = stratum_counts(lay, key)
+    sizes = _strata_sizes(lay, key)
+    counts = [m for m, _ in sizes]
     total = float(prod(counts))
     df = lay.terms[key].df
     per = len(counts) * (df + 2) + 3 * df + 12
     listed = float(sum(counts))
-    build = sum(c * lay.n for c in counts)
+    build = float(sum(m * rows for m, rows in sizes))
+    peak = max(float(m) * rows * 8 * 3 for m, rows in sizes)    # one stratum's list being built
     ok = total <= LIST_LIMIT and max(counts) <= STRATUM_ROWS_LIMIT
     note = f"{total:.4g} arrangements" if ok else (
         "a stratum has too many arrangements to list" if max(counts) > STRATUM_ROWS_LIMIT
         else f"{total:.3g} arrangements: too many to list")
     return [
         Candidate("listing", DESCRIPTIONS["listing"], True, total * per + build * 4.0,
-                  listed * (df + 1) * 8 + CHUNK * (df + 2) * 8 * 4, feasible=ok,
+                  peak + listed * (df + 1) * 8 + CHUNK * (df + 2) * 8 * 4, feasible=ok,
                   arrangements=total, note=note),
         Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False,
                   draws * (lay.n * (8.0 + np.log2(max(lay.n, 2))) + lay.n_cells * (df + 3)),
@@ -101,30 +109,12 @@ def run(lay: Layout, key: str, algorithm: str, draws=None, seed=None,
 
 # ---------------------------------------------------------------- listing
 
-def distinct_arrangements(codes: np.ndarray) -> np.ndarray:
-    """Every distinct arrangement of the multiset `codes`, one row each (int8)."""
-    codes = np.asarray(codes, dtype=np.int64)
-    n = len(codes)
-    values, counts = np.unique(codes, return_counts=True)
-    rows = np.full((1, n), -1, dtype=np.int8)
-    for v, c in zip(values[:-1], counts[:-1]):
-        free = np.nonzero(rows == -1)[1].reshape(len(rows), -1)
-        combos = np.array(list(itertools.combinations(range(free.shape[1]), int(c))),
-                          dtype=np.int64)
-        reps = np.repeat(rows, len(combos), axis=0)
-        where = free[:, combos].reshape(len(reps), int(c))
-        reps[np.arange(len(reps))[:, None], where] = v
-        rows = reps
-    rows[rows == -1] = values[-1]
-    return rows
-
-
 def _stratum_shares(lay: Layout, key: str, j: int) -> tuple[np.ndarray, np.ndarray]:
     """For every arrangement of stratum j: (its share of W's, its share of sum s_c^2 / n_c)."""
     strata, moved = strata_of(lay, key)
     rows = np.flatnonzero(strata == j)
     y = lay.y[rows]
-    arranged = distinct_arrangements(moved[rows])        # arrangements x rows: level given
+    arranged = distinct_arrangements(moved[rows], np.int8)   # arrangements x rows: levels
     k = lay.levels[0] if key == "first" else lay.levels[1]
     basis = lay.terms[key].basis
     shares = np.zeros((len(arranged), basis.shape[1]))
