@@ -7,7 +7,8 @@ normal-theory counterparts, intervals, effect sizes, adjustments, Monte Carlo p-
 Nothing here computes.
 
 The Kerby (2014) and Tomczak and Tomczak (2014) entries were checked against the articles' first
-pages; the other entries are the standard citations, given from memory.
+pages, the Anderson and ter Braak (2003) and Rosenbaum (2002) entries against their
+bibliographic records; the other entries are the standard citations, given from memory.
 """
 from __future__ import annotations
 
