@@ -67,6 +67,7 @@ class Result:
     two_sided_rule: str = ""
     warnings: list = field(default_factory=list)
     line: Optional[int] = None
+    seed_source: str = ""        # how the seed was had: given, statement, fresh (plan/seeds.py)
     extra: dict = field(default_factory=dict)     # family-specific additions (kept in JSON)
     also_normal: list = field(default_factory=list)  # further textbook tests (e.g. Welch ANOVA, HC3)
 

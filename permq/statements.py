@@ -7,9 +7,9 @@ from pathlib import Path
 from .data.tables import default_name, describe, load_table
 from .errors import BindError
 from .help import help_text
+from .plan import seeds
 from .result import Note
 from .syntax import nodes as n
-from .syntax.parser import one_line
 
 FORMATS = ("text", "json", "csv", "markdown")
 
@@ -70,10 +70,7 @@ def _set(node: n.SetStatement, text, session):
     d = session.defaults
     key, value, span = node.key, node.value, node.value_span
     if key == "seed":
-        if not isinstance(value, float) or not value.is_integer() or value < 0:
-            raise BindError("a seed is a whole number, 0 or more", span)
-        d.seed = int(value)
-        shown = str(d.seed)
+        d.seed, shown = _seed(value, span)
     elif key == "confidence":
         d.confidence = confidence_value(value, span)
         shown = f"{d.confidence:.4g}"
@@ -101,6 +98,19 @@ def _set(node: n.SetStatement, text, session):
         shown = value
     session.history.append(text)
     return Note(text, f"{key} set to {shown}")
+
+
+def _seed(value, span):
+    """`set seed 11`; `set seed fresh` for a new seed each run; `set seed statement` for the
+    default, a seed derived from each statement's text (plan/seeds.py)."""
+    if value == seeds.FRESH:
+        return seeds.FRESH, "fresh (a new seed on every run)"
+    if value == "statement":
+        return seeds.FROM_STATEMENT, "each statement's own, derived from its text (the default)"
+    if not isinstance(value, float) or not value.is_integer() or value < 0:
+        raise BindError("a seed is a whole number, 0 or more", span,
+                        hint="or 'fresh' (a new seed each run), or 'statement' (the default)")
+    return int(value), str(int(value))
 
 
 def _workers(value, span):
@@ -149,7 +159,7 @@ def _show(node: n.Show, text, session):
     if node.what == "settings":
         d = session.defaults
         body = (f"confidence {d.confidence:.4g}, alternative {d.alternative}, "
-                f"seed {d.seed if d.seed is not None else 'fresh each run'}, "
+                f"seed {seeds.setting_words(d.seed)}, "
                 f"budget {d.budget_seconds:g} s, memory {d.memory_bytes / 1e9:g} GB, "
                 f"format {d.format}, workers {d.workers or 'all cores'}, "
                 f"cluster {d.cluster if d.cluster is not None else 'none'}")
@@ -197,8 +207,7 @@ def _save(node: n.Save, text, session):
 
 
 def replayable(text: str, result) -> str:
-    """The statement as it ran, with the Monte Carlo seed pinned so a replay matches."""
+    """The statement as it ran, with the Monte Carlo seed pinned so a replay matches
+    (`seed fresh` becomes the seed it drew)."""
     o = getattr(result, "outcome", result)     # several-test results carry method and seed
-    if o.method == "monte-carlo" and not re.search(r"\bseed\s+\d+", text):
-        return f"{one_line(text)} seed {o.seed}"
-    return text
+    return seeds.pinned(text, o.seed) if o.method == "monte-carlo" else text

@@ -21,7 +21,7 @@ class Defaults:
     """Session-wide defaults that `set` changes."""
 
     confidence: float = 0.95
-    seed: Optional[int] = None
+    seed: object = None                # an int, "fresh", or None: from each statement (plan/seeds.py)
     alternative: str = "two-sided"
     budget_seconds: float = 5.0
     memory_bytes: float = 2.0e9
@@ -68,6 +68,7 @@ def settings_for(node, opts: dict, defaults: Defaults, allowed_families: tuple,
         if sampled > 1_000_000_000:
             raise BindError("'sampled' is limited to 1,000,000,000 draws", opts["sampled"].span)
     seed = opts["seed"].value if "seed" in opts else defaults.seed
+    seed = seed if isinstance(seed, int) else None     # the pipeline decides the rest (plan/seeds.py)
     alternative = opts["alternative"].value if "alternative" in opts else defaults.alternative
     return Settings(family=family, alternative=alternative, level=level,
                     exact="exact" in opts, sampled=sampled, seed=seed,

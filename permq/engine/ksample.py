@@ -476,7 +476,7 @@ class QuadraticFamily:
 
     def _sample(self, x, sizes, a, sst, ssb_obs, draws, seed, progress, **_):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         hits = 0
         for chunk in sample_group_sums(a, sizes, seed, draws, progress):
             ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)

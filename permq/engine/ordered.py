@@ -170,7 +170,7 @@ class JonckheereTerpstra:
 
     def _sample(self, x, sizes, j_obs, center, alternative, draws, seed, progress, common):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         sx = np.sort(x)
         starts, k = _block_starts(sx), len(sizes)
         labels = np.repeat(np.arange(k), sizes)
@@ -321,7 +321,7 @@ class LinearTrend:
 
     def _sample(self, st: TrendSetup, alternative, draws, seed, progress, common):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         hits = 0
         for chunk in sample_group_sums(st.x, st.sizes, seed, draws, progress):
             t = chunk[:, :, 0] @ st.d

@@ -16,6 +16,26 @@ def p(v) -> str:
     return f"{v:.2e}"
 
 
+def sampled_p(v, iv) -> str:
+    """A Monte Carlo p with its interval as two ends: '0.0064 [0.0050, 0.0080]' (never a
+    '±' that would reach below 0)."""
+    if iv is None:
+        return p(v)
+    return f"{p(v)} [{p(iv[0])}, {p(iv[1])}]"
+
+
+def as_extreme(v, draws) -> int:
+    """How many draws were as extreme as the observed: b, read back from p = (b + 1) / (m + 1)
+    (engine/core/pvalues.py), which every Monte Carlo p follows."""
+    return max(0, int(round(float(v) * (int(draws) + 1))) - 1)
+
+
+def seed(value, source: str = "") -> str:
+    """'seed 7', or 'seed 1882066518 (from the statement's text)' (plan/seeds.py)."""
+    how = {"statement": " (from the statement's text)", "fresh": " (fresh for this run)"}
+    return f"seed {value}{how.get(source, '')}"
+
+
 def num(v, digits: int = 4) -> str:
     if v is None:
         return "-"

@@ -61,10 +61,10 @@ def result_block(r: Result, color: bool = False) -> str:
     lines.append(f"  {'':<15}{'permutation (' + method_word + ')':<28}normal theory")
     p_label = f"p ({r.alternative})"
     normal_p = fmt.p(nt.p_value) if nt else "-"
-    exact_p = fmt.p(o.p_value)
-    if o.method != "exact" and o.p_interval:
-        exact_p += f" ±{fmt.p(max(o.p_value - o.p_interval[0], o.p_interval[1] - o.p_value))}"
+    exact_p = fmt.p(o.p_value) if o.method == "exact" else fmt.sampled_p(o.p_value, o.p_interval)
     lines.append(_c(f"  {p_label:<15}{exact_p:<28}{normal_p}", BOLD, color))
+    if o.method != "exact" and o.draws and fmt.as_extreme(o.p_value, o.draws) == 0:
+        lines.append(f"  {'':<15}no draw as extreme as the observed: p = 1 / ({o.draws:,} + 1)")
     if nt:
         lines.append(f"  {'':<15}normal theory: {nt.test}: {fmt.num(nt.statistic)}{_df(nt)}")
     for extra in r.also_normal:
@@ -86,10 +86,12 @@ def result_block(r: Result, color: bool = False) -> str:
     if o.method == "exact":
         how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
     else:
-        lo, hi = o.p_interval
-        how = (f"Monte Carlo: {o.draws:,} draws, seed {o.seed}; "
-               f"99% interval for p [{fmt.p(lo)}, {fmt.p(hi)}]")
+        how = (f"Monte Carlo: {o.draws:,} draws, {fmt.as_extreme(o.p_value, o.draws):,} as "
+               f"extreme as the observed; {fmt.seed(o.seed, r.seed_source)}")
     lines.append(f"  {'method':<15}{how}")
+    if o.method != "exact":
+        lines.append(_c(f"  {'':<15}p = (b + 1) / (m + 1) for b of m draws as extreme; in "
+                        "brackets its 99% interval for the exact p", DIM, color))
     if r.alternative == "two-sided" and r.two_sided_rule:
         lines.append(_c(f"  {'':<15}{r.two_sided_rule}", DIM, color))
     for w in list(r.warnings) + list(o.warnings):

@@ -8,18 +8,15 @@ panel as a picture file; the session writes it.
 from __future__ import annotations
 
 import dataclasses
-import re
 import time
 from typing import Optional
 
 from ..bind import designs
 from ..bind.binder import bind
-from ..engine.montecarlo import sampling
 from ..errors import BindError
 from ..families import handler_for
 from ..result import Note
 from ..syntax import nodes as n
-from ..syntax.parser import one_line
 from . import laws, report
 from .tables import check as table_check
 from .arrangements import EXACT_LIMIT, reference_size
@@ -74,11 +71,11 @@ def without_check_options(node):
                                                    if o.key not in OPTIONS))
 
 
-def run(node: n.Robustness, text: str, catalog, defaults, progress):
+def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
+    """`seed` is the statement's, decided by the pipeline (`pipeline.seed_for`)."""
     inner = node.analysis
     check = check_settings(n.options_of(inner))
     design = bind(without_check_options(inner), catalog, defaults)
-    seed = design.settings.seed if design.settings.seed is not None else sampling.fresh_seed()
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
     if isinstance(design, designs.TableDesign):
@@ -103,13 +100,14 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
                         _shift_words(problem, check.shift, shift, shift_sd), picture, warnings)
 
 
-def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
+def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note:
     """`explain robustness STATEMENT`: the analysis's plan and what the check would do, with
     its time estimated from a pilot of one block of data sets under one law (continuous
     responses; for counts the time depends on how many sets of margins the schemes give)."""
     inner = node.analysis
     check = check_settings(n.options_of(inner))
     design = bind(without_check_options(inner), catalog, defaults)
+    design = dataclasses.replace(design, settings=dataclasses.replace(design.settings, seed=seed))
     the_plan = handler_for(design).plan(design)
     seconds = None
     if isinstance(design, designs.TableDesign):
@@ -171,6 +169,6 @@ def _g(v: float) -> str:
 
 def replayable(text: str, result) -> str:
     """The statement with its seed pinned, so that a replay gives the same numbers."""
-    if re.search(r"\bseed\s+\d+", text):
-        return text
-    return one_line(text) + f" seed {result.seed}"
+    from ..plan.seeds import pinned
+
+    return pinned(text, result.seed)

@@ -462,6 +462,9 @@ class _ToNodes(Transformer):
     def seed(self, meta, ch):
         return self._opt(meta, "seed", ch[0].value)
 
+    def seed_fresh(self, meta, ch):
+        return self._opt(meta, "seed", "fresh")
+
     def levels(self, meta, ch):
         return self._opt(meta, "levels", tuple((c.value, c.span) for c in ch))
 

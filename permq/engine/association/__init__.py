@@ -30,7 +30,7 @@ from scipy import stats
 from ...plan.cost import Candidate
 from ...result import EngineOutcome, Estimate
 from ..core.progress import NO_PROGRESS, Progress
-from ..montecarlo.sampling import fresh_seed
+from ..montecarlo.sampling import require_seed
 from .adjusted import _run_freedman_lane, adjusted_coefficient
 from .pairings import (CHUNK, DEFAULT_DRAWS, DESCRIPTIONS, ENUMERATION_LIMIT, _big, _has_ties,
                        _run_enumeration, _run_inversions, _run_monte_carlo, arrangements,
@@ -128,7 +128,7 @@ def _scores(statistic, v):
 
 def _mc_settings(algorithm, draws, seed):
     if algorithm in ("monte-carlo", "residual-permutation"):
-        return (DEFAULT_DRAWS if draws is None else int(draws)), (fresh_seed() if seed is None else seed)
+        return (DEFAULT_DRAWS if draws is None else int(draws)), require_seed(seed)
     return draws, seed
 
 

@@ -14,7 +14,7 @@ def table_part(session) -> str:
 
 def defaults_part(session) -> str:
     d = session.defaults
-    seed = d.seed if d.seed is not None else "fresh"
+    seed = {"fresh": "fresh", None: "from statement"}.get(d.seed, d.seed)
     parts = [f"confidence {d.confidence * 100:g}%", f"seed {seed}", f"budget {d.budget_seconds:g} s"]
     if d.alternative != "two-sided":
         parts.append(f"alternative {d.alternative}")
