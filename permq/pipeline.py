@@ -15,6 +15,7 @@ import numpy as np
 
 from .bind.binder import bind
 from .bind.common import Catalog, Defaults
+from .data import decimals
 from .errors import Cancelled, PermqError
 from .families import handler_for
 from .engine.core.progress import Progress
@@ -53,6 +54,7 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
     result.extra["estimated_seconds"] = round(the_plan.chosen.seconds, 4)   # what explain said
+    result.summary_decimals = decimals.for_design(design)
     diagnostics.attach(design, result)
     if "picture" in n.options_of(node):
         pictures.attach(design, result)

@@ -8,6 +8,7 @@ from .data.tables import default_name, describe, load_table
 from .errors import BindError
 from .help import help_text
 from .plan import seeds
+from .render.numbers import counted
 from .result import Note
 from .syntax import nodes as n
 
@@ -43,7 +44,7 @@ def _load(node: n.Load, text, session):
     rows, cols = table.shape
     abs_path = table.source
     session.history.append(f'load "{abs_path}" as {_quote_name(name)}')
-    return Note(text, f"loaded '{name}': {rows} rows, {cols} columns (now in use)",
+    return Note(text, f"loaded '{name}': {counted(rows, 'row')}, {counted(cols, 'column')} (now in use)",
                 {"table": name, "rows": rows, "columns": cols})
 
 
@@ -61,7 +62,7 @@ def _use(node: n.Use, text, session):
     session.catalog.current = name
     session.history.append(f"use {_quote_name(name)}")
     rows, cols = session.catalog.tables[name].shape
-    return Note(text, f"using '{name}': {rows} rows, {cols} columns")
+    return Note(text, f"using '{name}': {counted(rows, 'row')}, {counted(cols, 'column')}")
 
 
 def _set(node: n.SetStatement, text, session):
@@ -171,7 +172,8 @@ def _show(node: n.Show, text, session):
     for name, t in tables.items():
         mark = "*" if name == session.catalog.current else " "
         rows, cols = t.shape
-        lines.append(f"{mark} {name:<16} {rows:>6} rows {cols:>4} columns  {t.source}")
+        lines.append(f"{mark} {name:<16} {counted(rows, 'row'):>11} {counted(cols, 'column'):>12}  "
+                     f"{t.source}")
     return Note(text, "\n".join(lines), {"tables": list(tables)})
 
 

@@ -10,6 +10,7 @@ from typing import Optional
 import numpy as np
 import pandas as pd
 
+from ..data.order import natural_key  # noqa: F401 - the binders' level order, from one place
 from ..errors import BindError, MultipleErrors, Span
 from ..syntax import nodes as n
 from .designs import Settings
@@ -209,11 +210,6 @@ def names_of(*items) -> str:
     return " or ".join(names)
 
 
-def natural_key(text: str):
-    try:
-        return (0, float(text), text)
-    except ValueError:
-        return (1, 0.0, text)
 
 
 def chosen_levels(opt: n.Option, present: list, column: str) -> list:

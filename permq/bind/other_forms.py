@@ -115,8 +115,7 @@ def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
     a, b = a[keep].map(level_text), b[keep].map(level_text)
     ct = pd.crosstab(a, b)
     ordered = "ordered" in opts
-    if ordered:
-        ct = ct.loc[sorted(ct.index, key=_natural), sorted(ct.columns, key=_natural)]
+    ct = ct.loc[sorted(ct.index, key=_natural), sorted(ct.columns, key=_natural)]
     t = ct.to_numpy(np.int64)
     _check_shape(t, sub.span)
     s = _table_settings(node, opts, defaults, ordered)
@@ -151,7 +150,6 @@ def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
 
 
 def _natural(text):
-    try:
-        return (0, float(text), text)
-    except ValueError:
-        return (1, 0.0, text)
+    from ..data.order import natural_key
+
+    return natural_key(text)

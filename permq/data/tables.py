@@ -12,6 +12,7 @@ from pathlib import Path
 import pandas as pd
 
 from ..errors import DataError, Span
+from .order import natural_sorted
 
 READERS = {
     ".csv": lambda p: pd.read_csv(p),
@@ -83,10 +84,15 @@ def describe(table: Table, max_levels: int = 8) -> list[dict]:
         row = {"column": str(col), "type": "number" if numeric else "text",
                "missing": int(s.isna().sum()), "distinct": int(len(levels))}
         if not numeric or len(levels) <= max_levels:
-            shown = sorted(map(str, levels))[:max_levels]
+            shown = natural_sorted(_level_text(v) for v in levels)[:max_levels]
             row["levels"] = shown + (["..."] if len(levels) > max_levels else [])
         if numeric and s.notna().any():
             row["min"] = float(s.min())
             row["max"] = float(s.max())
         rows.append(row)
     return rows
+
+
+def _level_text(v) -> str:
+    """A level as the binder writes it (10.0 in a float column is the level '10')."""
+    return str(int(v)) if isinstance(v, float) and v.is_integer() else str(v)

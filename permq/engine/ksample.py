@@ -548,7 +548,7 @@ def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
 def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
                           description: str = "Monte Carlo: random assignments to groups") -> Candidate:
     return Candidate("monte-carlo", description, False, float(draws) * N * per_item,
-                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws} draws",
+                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws:,} draws",
                      arrangements=float(arr))
 
 

@@ -360,7 +360,7 @@ def slope_estimate(values, groups, scores=None, level: float = 0.95, alternative
     arr = multinomial(st.sizes)
     if arr > max_arrangements:
         return Estimate(name, b, None, level, "least squares; no exact interval: "
-                        f"{arr} assignments are too many to list")
+                        f"{arr:,.0f} assignments are too many to list")
     ratios, fixed = _slope_ratios(st, d_item, progress)
     lo, hi = _invert(ratios, fixed, arr, level, alternative)
     method = ("least squares; exact interval by inverting the permutation test of the slope "

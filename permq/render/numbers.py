@@ -16,6 +16,13 @@ def p(v) -> str:
     return f"{v:.2e}"
 
 
+def normal_p(nt) -> str:
+    """A normal-theory p-value, or 'undefined (zero spread)' where the test is not defined."""
+    if nt is None:
+        return "-"
+    return f"undefined ({nt.undefined})" if nt.undefined else p(nt.p_value)
+
+
 def sampled_p(v, iv) -> str:
     """A Monte Carlo p with its interval as two ends: '0.0064 [0.0050, 0.0080]' (never a
     '±' that would reach below 0)."""
@@ -34,6 +41,21 @@ def seed(value, source: str = "") -> str:
     """'seed 7', or 'seed 1882066518 (from the statement's text)' (plan/seeds.py)."""
     how = {"statement": " (from the statement's text)", "fresh": " (fresh for this run)"}
     return f"seed {value}{how.get(source, '')}"
+
+
+def fixed(v, decimals: int) -> str:
+    """A number with a fixed number of decimals ('-' for none; never '-0.00')."""
+    if v is None or v != v:
+        return "-"
+    if math.isinf(v):
+        return "+inf" if v > 0 else "-inf"
+    text = f"{v:.{decimals}f}"
+    return text[1:] if text.startswith("-") and not text.strip("-0.") else text
+
+
+def counted(n: int, word: str) -> str:
+    """'1 row', '2 rows', '19,000 rows'."""
+    return f"{int(n):,} {word}{'' if int(n) == 1 else 's'}"
 
 
 def num(v, digits: int = 4) -> str:

@@ -127,7 +127,7 @@ def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note
         seconds = (time.perf_counter() - started) * len(panel) * check.datasets / BLOCK
         what = (f"the check: {len(panel)} error laws x {check.datasets:,} data sets, under the "
                 f"null and at the shift, each tested against {ref}; about {seconds:.2g} s "
-                f"(timed on a pilot of {BLOCK} data sets)")
+                f"(timed on a pilot of {BLOCK:,} data sets)")
     return Note(text, f"{the_plan}\n{what}",
                 {"plan": str(the_plan), "method": the_plan.method,
                  "algorithm": the_plan.chosen.description, "check": what,

@@ -65,7 +65,7 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
                           note="residual permutation is approximate; there is no exact reference set"),
                 Candidate("residual-permutation", DESCRIPTIONS["residual-permutation"], False,
                           draws * n * (6.0 + width), min(draws, 8192) * n * 8 * 2,
-                          arrangements=_big(factorial(n)), note=f"{draws} draws")]
+                          arrangements=_big(factorial(n)), note=f"{draws:,} draws")]
     total = _big(reference_size(statistic, y, x))
     pairs = n * (n - 1) / 2
     per = {"kendall": 4 * n + 3 * pairs, "slope": 10.0 * n}.get(statistic, 4.0 * n)
@@ -78,7 +78,7 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
                          note=f"{total:.4g} distinct arrangements"))
     per_draw = {"kendall": 6 * n + 3 * pairs, "slope": 12.0 * n}.get(statistic, 6.0 * n)
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * per_draw,
-                         min(draws, 8192) * n * 8 * 2, arrangements=total, note=f"{draws} draws"))
+                         min(draws, 8192) * n * 8 * 2, arrangements=total, note=f"{draws:,} draws"))
     return out
 
 

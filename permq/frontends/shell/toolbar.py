@@ -9,7 +9,9 @@ def table_part(session) -> str:
     if cat.current is None or cat.current not in cat.tables:
         return 'no table in use (load "file.csv")'
     rows, cols = cat.tables[cat.current].shape
-    return f"{cat.current}  {rows} rows × {cols} columns"
+    from ...render.numbers import counted
+
+    return f"{cat.current}  {counted(rows, 'row')} × {counted(cols, 'column')}"
 
 
 def defaults_part(session) -> str:
