@@ -47,7 +47,8 @@ filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scal
   confidence 90%                 level of the intervals
   exact                          insist on an exact method (refused past a hard ceiling)
   sampled 50000                  Monte Carlo with that many draws
-  seed 7                         seed for Monte Carlo
+  seed 7                         seed for Monte Carlo (default: from the statement's text)
+  seed fresh                     a new seed on this run (printed)
   in TABLE                       take the columns from TABLE""",
     "robustness": """robustness STATEMENT: does normality matter for this design? (by simulation)
   robustness compare mass by recipe levels "A", "B"        six error laws, 2,000 data sets each
@@ -59,11 +60,14 @@ filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scal
 options: datasets N (per law), significance 1%, shift X [sd], seed N, picture "panel.svg"
 every result also carries diagnostics: skewness, largest residual, spread ratio""",
     "session": """session statements
-  load "file.csv" as name        csv, tsv, parquet, xlsx
+  load "file.csv" as name        csv, txt, tsv, parquet, xlsx, xls
+  load "f.csv" delimiter ";" decimal ","   name them (else found from the file)
+  load "book.xlsx" sheet "data"  a workbook's sheet (else the first)
   use name                       the table the statements that follow use
   describe name                  columns, types, missing values, levels
   show tables | show settings
   set seed 11 | set confidence 90% | set alternative higher | set budget 5s | set format json
+  set seed fresh | set seed statement   a new seed each run | each statement's own (default)
   explain STATEMENT              the plan and its cost; nothing is run
   save "file.pq"                 write what ran as a query file that replays
   quit""",

@@ -38,14 +38,16 @@ def run_session_statement(node, text: str, session):
 
 def _load(node: n.Load, text, session):
     name = node.alias.text if node.alias else default_name(node.path)
-    table = load_table(node.path, name, session.base_dir, node.span)
+    table = load_table(node.path, name, session.base_dir, node.span, node.options)
     session.catalog.tables[name] = table
     session.catalog.current = name
     rows, cols = table.shape
-    abs_path = table.source
-    session.history.append(f'load "{abs_path}" as {_quote_name(name)}')
-    return Note(text, f"loaded '{name}': {counted(rows, 'row')}, {counted(cols, 'column')} (now in use)",
-                {"table": name, "rows": rows, "columns": cols})
+    written = "".join(f' {o.key} "{o.value[0]}"' for o in node.options)
+    session.history.append(f'load "{table.source}" as {_quote_name(name)}{written}')
+    how = f"; {table.read_as}" if table.read_as else ""
+    return Note(text, f"loaded '{name}': {counted(rows, 'row')}, {counted(cols, 'column')} "
+                      f"(now in use){how}",
+                {"table": name, "rows": rows, "columns": cols, "read_as": table.read_as})
 
 
 def _quote_name(name: str) -> str:

@@ -46,7 +46,7 @@ def settings_for(node, opts: dict, defaults: Defaults, allowed_families: tuple,
                                                       "exact", "sampled", "seed", "in",
                                                       "picture"):
             raise BindError(f"'{key}' does not apply to {form}", opt.span,
-                            hint=_option_hint(key))
+                            hint=_option_hint(key, form))
     if "picture" in opts:
         check_picture(opts["picture"])
     family = default_family
@@ -96,7 +96,28 @@ def check_picture(opt) -> None:
                         hint='for example: picture "null.png"')
 
 
-def _option_hint(key: str) -> Optional[str]:
+# forms that already have a group column: "goes with a group column" would not help there
+_WITH_GROUPS = {
+    "several responses": {
+        "within": "'within' takes one response at a time: compare mass by recipe within bench",
+        "ordered": "'ordered' takes one response at a time: compare mass by dose ordered"},
+    "pairwise comparisons": {
+        "within": "'pairwise' and 'within' do not combine; for two levels within blocks: "
+                  "compare mass by recipe levels \"A\", \"B\" within bench",
+        "ordered": "'pairwise' and 'ordered' do not combine; drop one of them"},
+    "'for each'": {
+        "within": "'for each' and 'within' do not combine; drop one of them",
+        "ordered": "'for each' and 'ordered' do not combine; drop one of them"},
+    "a table": {
+        "within": "'within' goes with a numeric response: compare mass by recipe within bench",
+        "levels": "a table keeps every level of both columns; to leave some out, filter the "
+                  "table before loading it"},
+}
+
+
+def _option_hint(key: str, form: str = "") -> Optional[str]:
+    if key in _WITH_GROUPS.get(form, {}):
+        return _WITH_GROUPS[form][key]
     return {
         "paired": "'paired' goes with two columns: compare after vs before paired",
         "levels": "'levels' goes with a group column: compare mass by recipe levels \"A\", \"B\"",

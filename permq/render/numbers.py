@@ -76,9 +76,19 @@ def num(v, digits: int = 4) -> str:
 
 
 def interval(iv, digits: int = 4) -> str:
+    """Both ends with one number of decimals: `digits` significant digits of the larger end,
+    and at least two of the smaller ('[0.660, 2.540]', never '[0.6600, 2.540]'). An end that
+    is exactly 0 or infinite is shown as such; ends past 1e6 or below 1e-4 keep their own."""
     if iv is None:
         return "-"
-    return f"[{num(iv[0], digits)}, {num(iv[1], digits)}]"
+    sizes = [abs(float(v)) for v in iv if v is not None and math.isfinite(v) and v != 0]
+    if not sizes or max(sizes) >= 1e6 or min(sizes) < 1e-4:
+        return f"[{num(iv[0], digits)}, {num(iv[1], digits)}]"
+    top = max(0, digits - 1 - math.floor(math.log10(max(sizes))))
+    low = max(0, 1 - math.floor(math.log10(min(sizes))))
+    d = max(top, low)
+    ends = ["0" if v == 0 else fixed(float(v), d) for v in iv]
+    return f"[{ends[0]}, {ends[1]}]"
 
 
 def count(v) -> str:

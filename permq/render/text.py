@@ -80,18 +80,20 @@ def result_block(r: Result, color: bool = False) -> str:
         lvl = f"{est.level * 100:g}% interval"
         exact_iv = fmt.interval(est.interval) if est.interval is not None else "none"
         normal_iv = fmt.interval(nt.interval) if nt and nt.interval is not None else "-"
-        robust = [x for x in r.also_normal if x.interval is not None]
-        if robust:
-            normal_iv += f"  {fmt.interval(robust[0].interval)} {robust[0].interval_method}"
         lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
         lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
+        for x in r.also_normal:          # further textbook intervals, one line each
+            if x.interval is not None:
+                lines.append(f"  {'also':<15}{lvl} {fmt.interval(x.interval)}: "
+                             f"{x.interval_method}")
     if diagnostics_line(r):
         lines.append(diagnostics_line(r))
     if o.method == "exact":
         how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
     else:
-        how = (f"Monte Carlo: {o.draws:,} draws, {fmt.as_extreme(o.p_value, o.draws):,} as "
-               f"extreme as the observed; {fmt.seed(o.seed, r.seed_source)}")
+        b = fmt.as_extreme(o.p_value, o.draws)
+        how = (f"Monte Carlo: {o.draws:,} draws, {f'{b:,}' if b else 'none'} as extreme as the "
+               f"observed; {fmt.seed(o.seed, r.seed_source)}")
     lines.append(f"  {'method':<15}{how}")
     if o.method != "exact":
         lines.append(_c(f"  {'':<15}p = (b + 1) / (m + 1) for b of m draws as extreme; in "

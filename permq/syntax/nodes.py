@@ -140,6 +140,7 @@ class Load:
     span: Span
     path: str
     alias: Optional[Name] = None
+    options: tuple = ()          # Option: delimiter, decimal, sheet (each a string)
 
 
 @dataclass(frozen=True)

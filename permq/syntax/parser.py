@@ -354,7 +354,18 @@ class _ToNodes(Transformer):
         return children[0]
 
     def load(self, meta, ch):
-        return n.Load(_span(meta), ch[0].value, ch[1] if len(ch) > 1 else None)
+        alias = next((c for c in ch[1:] if isinstance(c, n.Name)), None)
+        options = tuple(c for c in ch[1:] if isinstance(c, n.Option))
+        return n.Load(_span(meta), ch[0].value, alias, options)
+
+    def delimiter(self, meta, ch):
+        return self._opt(meta, "delimiter", (ch[0].value, ch[0].span))
+
+    def decimal(self, meta, ch):
+        return self._opt(meta, "decimal", (ch[0].value, ch[0].span))
+
+    def sheet(self, meta, ch):
+        return self._opt(meta, "sheet", (ch[0].value, ch[0].span))
 
     def use(self, meta, ch):
         return n.Use(_span(meta), ch[0])

@@ -55,6 +55,10 @@ KEYWORDS = {
     "paired": "paired columns",
     "in": "take the columns from a table",
     "adjusting": "covariates for a slope",
+    "fresh": "a new seed on this run",
+    "delimiter": "field separator of a text file",
+    "decimal": "decimal mark: \".\" or \",\"",
+    "sheet": "which sheet of a workbook",
 }
 
 VALUES = {
