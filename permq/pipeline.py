@@ -17,7 +17,7 @@ from .bind.binder import bind
 from .bind.common import Catalog, Defaults
 from .data import decimals
 from .errors import Cancelled, PermqError
-from .families import handler_for
+from .families.registry import family_for
 from .engine.core.progress import Progress
 from .plan import seeds
 from .result import Failure, Note
@@ -47,7 +47,7 @@ def bind_seeded(node, text: str, catalog: Catalog, defaults: Defaults):
 def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Progress):
     """One analysis statement, end to end."""
     design, choice = bind_seeded(node, text, catalog, defaults)
-    handler = handler_for(design)
+    handler = family_for(design)
     the_plan = handler.plan(design)
     result = handler.execute(design, the_plan, progress, text)
     result.seed_source = choice.source
@@ -63,7 +63,7 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
 
 def explain(node, text: str, catalog: Catalog, defaults: Defaults) -> Note:
     design, _ = bind_seeded(node, text, catalog, defaults)
-    the_plan = handler_for(design).plan(design)
+    the_plan = family_for(design).plan(design)
     return Note(text, str(the_plan), {"plan": str(the_plan), "method": the_plan.method,
                                       "algorithm": the_plan.chosen.description,
                                       "estimated_seconds": the_plan.chosen.seconds})

@@ -122,10 +122,10 @@ def test_laws_are_standardised_and_centred():
         e = law.draw(rng, 400_000)
         assert abs(e.mean()) < 0.02 and abs(e.var() - 1) < (0.2 if law is L.T3 else 0.03), law.key
     exp = L.EXPONENTIAL.draw(rng, 400_000)
-    m = L.centre("exponential", "signs")
+    m = L.centre("exponential", "median")
     assert m == pytest.approx(math.log(2) - 1, abs=1e-9)
     # pseudo-median of the centred exponential: (e1 + e2) / 2 has the median of Gamma(2, 1/2)
-    assert L.centre("exponential", "ranks") == pytest.approx(stats.gamma.median(2) / 2 - 1,
+    assert L.centre("exponential", "pseudo-median") == pytest.approx(stats.gamma.median(2) / 2 - 1,
                                                              abs=1e-7)
     assert np.mean(exp - m < 0) == pytest.approx(0.5, abs=0.003)
 

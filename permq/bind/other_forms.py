@@ -8,9 +8,6 @@ from ..errors import BindError
 from ..syntax import nodes as n
 from .designs import AssociationDesign, TableDesign
 
-ASSOCIATION_FAMILIES = ("pearson", "spearman", "kendall", "slope")
-TABLE_FAMILIES = ("fisher", "chi-square", "likelihood-ratio", "trend")
-PAIRED_TABLE_FAMILIES = ("fisher",)
 MAX_TABLE_CELLS = 400
 
 
@@ -18,13 +15,9 @@ def bind_relate(node: n.Relate, catalog, defaults):
     from .common import check_columns, dropped_warning, numeric_column, resolve_table, settings_for
 
     opts = n.options_of(node)
-    s = settings_for(node, opts, defaults, ASSOCIATION_FAMILIES, "pearson", "an association",
-                     ("adjusting",))
+    s = settings_for(node, opts, defaults, "association", "an association", ())
     table = resolve_table(opts, catalog, node.span)
     covs = list(opts["adjusting"].value) if "adjusting" in opts else []
-    if covs and s.family != "slope":
-        raise BindError("'adjusting for' goes with the slope", opts["adjusting"].span,
-                        hint="add: using slope")
     check_columns(table, [node.response, node.predictor] + covs)
     cols = [numeric_column(table, c) for c in [node.response, node.predictor] + covs]
     frame = pd.concat(cols, axis=1, keys=range(len(cols)))
@@ -51,7 +44,7 @@ def bind_count(node: n.Count, catalog, defaults):
     opts = n.options_of(node)
     sub = node.subject
     if isinstance(sub, n.CountProportion):
-        s = settings_for(node, opts, defaults, ("binomial",), "binomial", "one proportion", ())
+        s = settings_for(node, opts, defaults, "proportion", "one proportion", ())
         if sub.trials == 0 or sub.successes > sub.trials:
             raise BindError(f"{sub.successes} of {sub.trials} is not a proportion", sub.span)
         ref = 0.5 if sub.value is None else float(sub.value)
@@ -70,12 +63,8 @@ def bind_count(node: n.Count, catalog, defaults):
 def _table_settings(node, opts, defaults, ordered):
     from .common import settings_for
 
-    default = "trend" if ordered else "fisher"
-    s = settings_for(node, opts, defaults, TABLE_FAMILIES, default, "a table", ("ordered",))
-    if s.family == "trend" and not ordered:
-        raise BindError("the trend statistic needs an order", opts["using"].span,
-                        hint="add 'ordered' (rows and columns in the order given)")
-    return s
+    kind = "ordered-table" if ordered else "table"
+    return settings_for(node, opts, defaults, kind, "a table", ("ordered",))
 
 
 def _check_shape(t, span):
@@ -130,7 +119,7 @@ def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
         raise BindError("two columns of outcomes are compared as pairs", sub.span,
                         hint=f"write: count {sub.first.text} vs {sub.second.text} paired, or "
                              f"count {sub.first.text} by {sub.second.text} for a table")
-    s = settings_for(node, opts, defaults, ("fisher",), "fisher", "paired outcomes", ("paired",))
+    s = settings_for(node, opts, defaults, "paired-table", "paired outcomes", ("paired",))
     table = resolve_table(opts, catalog, sub.span)
     check_columns(table, [sub.first, sub.second])
     a, b = table.frame[sub.first.text], table.frame[sub.second.text]

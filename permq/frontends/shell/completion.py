@@ -207,9 +207,9 @@ class _Context:
             return []
         prev = self.prev_type()
         if prev == "HELP":
-            from ...help import TOPICS
+            from ...help import topics
 
-            return [(t, "help topic") for t in sorted(TOPICS)]
+            return [(t, "help topic") for t in topics()]
         if prev == "SETTING":
             return notes.setting_values(str(self.prev))
         return []
