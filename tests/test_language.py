@@ -359,7 +359,7 @@ def test_unknown_file_type(tmp_path):
     (tmp_path / "data.json").write_text("{}")
     f = permq.run('load "data.json"', base_dir=tmp_path)[0]
     assert f.message == "cannot read 'data.json': unknown file type '.json'"
-    assert f.hint == "use .csv, .tsv, .parquet or .xlsx"
+    assert f.hint == "use .csv, .txt, .tsv, .parquet, .xlsx or .xls"
 
 
 def test_use_of_an_unknown_table(trays):
