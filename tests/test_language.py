@@ -15,7 +15,8 @@ from permq.errors import BindError, QuerySyntaxError, Span
 from permq.pipeline import caret_lines
 from permq.syntax import nodes as n
 from permq.syntax.grammar import build_parser
-from permq.syntax.parser import SourceStatement, parse_script, parse_statement, translate
+from permq.syntax.messages import translate
+from permq.syntax.parser import SourceStatement, parse_script, parse_statement
 
 
 def assert_failure(f, message, line, column, caret, hint=None, kind=None):
@@ -408,7 +409,7 @@ def test_expected_lists_name_only_options_the_statement_takes(text, absent, pres
     from lark.exceptions import UnexpectedToken
 
     from permq.syntax.grammar import parser
-    from permq.syntax.parser import expected_words, fitting
+    from permq.syntax.messages import expected_words, fitting
 
     with pytest.raises(UnexpectedToken) as info:
         parser().parse(text)
