@@ -75,6 +75,9 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
         estimate = tables_2x2.odds_ratio(t, s.level, s.alternative)
         effect = (f"odds ratio of '{design.col_labels[0]}' in '{design.row_labels[0]}' "
                   f"against '{design.row_labels[1]}'")
+        if design.names:        # from columns: the arms are the `by` column's levels
+            effect = (f"odds ratio of '{design.row_labels[0]}' in '{design.col_labels[0]}' "
+                      f"against '{design.col_labels[1]}'")
         rule = tables_2x2.TWO_SIDED_RULE
     else:
         out = tables.run(t, s.family, s.alternative, alg, draws, seed, progress)

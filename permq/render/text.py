@@ -86,6 +86,7 @@ def result_block(r: Result, color: bool = False) -> str:
             if x.interval is not None:
                 lines.append(f"  {'also':<15}{lvl} {fmt.interval(x.interval)}: "
                              f"{x.interval_method}")
+    lines.extend(effect_size_lines(r))
     if diagnostics_line(r):
         lines.append(diagnostics_line(r))
     if o.method == "exact":
@@ -125,6 +126,20 @@ def group_lines(r: Result) -> list:
         sd = f"  sd {row[4]:>{w[4]}}" if row[4] else ""
         out.append(f"  {label:<15}{row[0]:<{max(w[0], 15)}}  n {row[1]:>{w[1]}}  mean "
                    f"{row[2]:>{w[2]}}  median {row[3]:>{w[3]}}{sd}")
+def effect_size_lines(r: Result) -> list:
+    """One line per effect size (its interval where there is one), then each arm's proportions."""
+    out = []
+    for i, s in enumerate(r.extra.get("effect_sizes") or []):
+        label = "effect size" if i == 0 else ""
+        iv = ""
+        if s.get("interval") is not None:
+            lo, hi = (float(v) for v in s["interval"])
+            iv = f"  {s['level'] * 100:g}% interval {fmt.interval((lo, hi))}"
+        out.append(f"  {label:<15}{s['name']} = {fmt.num(s['value'])}{iv}")
+    for i, arm in enumerate(r.extra.get("arm_proportions") or []):
+        label = "proportions" if i == 0 else ""
+        shares = ", ".join(f"{k} {v:.3f}" for k, v in arm["proportions"].items())
+        out.append(f"  {label:<15}{arm['arm']} (n {arm['n']}): {shares}")
     return out
 
 

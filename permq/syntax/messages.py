@@ -4,6 +4,7 @@ word as a hint ("did you mean 'ranks'?")."""
 from __future__ import annotations
 
 import difflib
+import re
 from typing import Optional
 
 from lark.exceptions import UnexpectedCharacters, UnexpectedToken
@@ -74,7 +75,8 @@ def _candidate_words(expected) -> list[str]:
 _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
                "significance": ("robustness",), "adjusting": ("relate",),
                "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
-               "top": ("compare",), "below": ("compare",), "levels": ("compare",),
+               "top": ("compare",), "below": ("compare",), "levels": ("compare", "count"),
+               "rows": ("count",), "columns": ("count",),
                "within": ("compare",), "ordered": ("compare", "count"),
                "paired": ("compare", "count")}
 
@@ -95,7 +97,18 @@ def fitting(expected, text: str) -> set:
             if not heads.isdisjoint(_OPTIONS_OF.get(keyword_of(name) or "", heads))}
 
 
+NUMPY_HINT = ("numpy numbers print as np.float64(...): write plain numbers (float(v) for each), "
+              "or call permq.compare(a, b) with the arrays")
+
+
 def translate(exc, text: str) -> QuerySyntaxError:
+    err = _translate(exc, text)
+    if "np." in text and re.search(r"\bnp\.(float|int|uint)\d*\(", text):
+        err.hint = NUMPY_HINT
+    return err
+
+
+def _translate(exc, text: str) -> QuerySyntaxError:
     if isinstance(exc, UnexpectedToken):
         tok = exc.token
         expected = fitting(exc.accepts or exc.expected or set(), text)

@@ -242,6 +242,12 @@ class _ToNodes(Transformer):
     def save(self, meta, ch):
         return n.Save(_span(meta), ch[0].value)
 
+    def save_report(self, meta, ch):
+        return n.Save(_span(meta), ch[0].value, "report")
+
+    def copy(self, meta, ch):
+        return n.Copy(_span(meta))
+
     def quit(self, meta, ch):
         return n.Quit(_span(meta))
 
@@ -324,6 +330,12 @@ class _ToNodes(Transformer):
 
     def levels(self, meta, ch):
         return self._opt(meta, "levels", tuple((c.value, c.span) for c in ch))
+
+    def row_labels(self, meta, ch):
+        return self._opt(meta, "rows", tuple((c.value, c.span) for c in ch))
+
+    def column_labels(self, meta, ch):
+        return self._opt(meta, "columns", tuple((c.value, c.span) for c in ch))
 
     def within(self, meta, ch):
         return self._opt(meta, "within", ch[0])
