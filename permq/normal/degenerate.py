@@ -17,7 +17,6 @@ import math
 
 import numpy as np
 
-from ..engine.core.scores import integer_grid
 from ..result import NormalTheory
 
 ZERO_RTOL = 1e-12        # sums of squares (and spreads off a grid) below this share are zero
@@ -30,6 +29,8 @@ ALL_TIED = "all values tied"
 
 def no_spread(values) -> bool:
     """True when the values are all equal as recorded (see the module's note)."""
+    from ..engine.core.scores import integer_grid     # on first use: keeps start-up light
+
     v = np.asarray(values, dtype=float)
     if v.size < 2:
         return True

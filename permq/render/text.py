@@ -126,6 +126,9 @@ def group_lines(r: Result) -> list:
         sd = f"  sd {row[4]:>{w[4]}}" if row[4] else ""
         out.append(f"  {label:<15}{row[0]:<{max(w[0], 15)}}  n {row[1]:>{w[1]}}  mean "
                    f"{row[2]:>{w[2]}}  median {row[3]:>{w[3]}}{sd}")
+    return out
+
+
 def effect_size_lines(r: Result) -> list:
     """One line per effect size (its interval where there is one), then each arm's proportions."""
     out = []
