@@ -19,9 +19,10 @@ from .data import decimals
 from .errors import Cancelled, PermqError
 from .families.registry import family_for
 from .engine.core.progress import Progress
+from .engine.montecarlo.sampling import using_workers
 from .plan import seeds
 from .result import Failure, Note
-from .robustness import diagnostics, executor as robustness, pictures
+from .robustness import diagnostics
 from .syntax import nodes as n
 from .syntax.parser import SourceStatement, parse_script
 from . import effects, statements
@@ -59,6 +60,8 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     diagnostics.attach(design, result)
     effects.attach(design, result)
     if "picture" in n.options_of(node):
+        from .robustness import pictures
+
         pictures.attach(design, result)
     return result
 
@@ -123,7 +126,8 @@ class Session:
             return failure(st, st.error)
         try:
             # overflow in a textbook formula shows as "-"; library warnings stay off the screen
-            with np.errstate(all="ignore"), warnings.catch_warnings():
+            with np.errstate(all="ignore"), warnings.catch_warnings(), \
+                    using_workers(self.defaults.workers):
                 warnings.simplefilter("ignore")
                 return self._dispatch(st)
         except Cancelled as exc:
@@ -148,6 +152,8 @@ class Session:
             self.history.append(statements.replayable(st.text, result))
             return result
         if isinstance(node, n.Robustness):
+            from .robustness import executor as robustness
+
             choice = seed_for(node, st.text, self.defaults)
             check = robustness.run(node, st.text, self.catalog, self.defaults, self.progress,
                                    choice.seed)
@@ -157,6 +163,8 @@ class Session:
             return check
         if isinstance(node, n.Explain):
             if isinstance(node.analysis, n.Robustness):
+                from .robustness import executor as robustness
+
                 note = robustness.explain(node.analysis, st.text, self.catalog, self.defaults,
                                           seed_for(node, st.text, self.defaults).seed)
             else:

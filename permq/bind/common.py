@@ -8,7 +8,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..data.order import natural_key  # noqa: F401 - the binders' level order, from one place
 from ..errors import BindError, MultipleErrors, Span

@@ -16,8 +16,8 @@
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
-from scipy.special import xlogy
+from ..lazy import stats
+from ..lazy import xlogy
 
 from ..result import NormalTheory
 from .degenerate import undefined
