@@ -167,8 +167,8 @@ def test_a_missing_reader_says_which_package_to_get(tmp_path, monkeypatch, suffi
     def missing(*_, **__):
         raise ImportError(f"Missing optional dependency '{module}'.")
 
-    monkeypatch.setattr(pd, "ExcelFile", missing)
-    monkeypatch.setattr(pd, "read_parquet", missing)
+    monkeypatch.setattr(data_tables.pd, "ExcelFile", missing)     # the loader's pandas
+    monkeypatch.setattr(data_tables.pd, "read_parquet", missing)
     f = failure_of(session(tmp_path), f'load "x{suffix}"')
     assert f"needs the package '{module}'" in f.message
     assert f.hint == f'install the optional readers: pip install "permq[files]" (or just: pip ' \
