@@ -7,6 +7,7 @@ from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
 from . import numbers as fmt
+from .counts import count_lines, data_lines
 from .robustness import diagnostics_line, null_picture_block, robustness_block
 
 BOLD, DIM, RED, RESET = "\x1b[1m", "\x1b[2m", "\x1b[31m", "\x1b[0m"
@@ -56,6 +57,7 @@ def result_block(r: Result, color: bool = False) -> str:
                          f" median {fmt.num(g['median'])}{sd}")
     if "table" in r.extra:
         lines.extend(table_lines(r.extra["table"]))
+    lines.extend(data_lines(r))
     lines.append(f"  {'statistic':<15}{fmt.num(o.statistic, 6)}")
     method_word = "exact" if o.method == "exact" else "Monte Carlo"
     lines.append(f"  {'':<15}{'permutation (' + method_word + ')':<28}normal theory")
@@ -81,9 +83,12 @@ def result_block(r: Result, color: bool = False) -> str:
             normal_iv += f"  {fmt.interval(robust[0].interval)} {robust[0].interval_method}"
         lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
         lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
+    lines.extend(count_lines(r))
     if diagnostics_line(r):
         lines.append(diagnostics_line(r))
-    if o.method == "exact":
+    if o.method == "exact" and (o.arrangements is None or o.arrangements == float("inf")):
+        how = f"exact: {o.algorithm}"
+    elif o.method == "exact":
         how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
     else:
         lo, hi = o.p_interval
