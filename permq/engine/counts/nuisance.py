@@ -125,7 +125,8 @@ def polynomial_sup(log_c: np.ndarray):
         terms = lc + xlogy(s, pis) + xlog1py(n - s, -pis)
         top = terms.max(axis=1, keepdims=True)
         safe = np.where(np.isfinite(top), top, 0.0)
-        total = safe[:, 0] + np.log(np.exp(terms - safe).sum(axis=1))
+        with np.errstate(divide="ignore"):
+            total = safe[:, 0] + np.log(np.exp(terms - safe).sum(axis=1))
         return np.exp(np.minimum(0.0, total))
 
     thetas = theta_grid(0.0, 1.0, grid_size(n))

@@ -71,7 +71,7 @@ def score_z(n1: int, n2: int) -> np.ndarray:
     pooled = (a + b) / (n1 + n2)
     var = pooled * (1.0 - pooled) * (1.0 / n1 + 1.0 / n2)
     diff = a / n1 - b / n2
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore"):  # var = 0 only where a + b is 0 or N
         z = np.where(var > 0, diff / np.sqrt(np.where(var > 0, var, 1.0)), 0.0)
     return np.where(a * n2 == b * n1, 0.0, z)
 
