@@ -141,13 +141,26 @@ def _execute_trend(design, the_plan, progress, statement):
     else:
         estimate = Estimate(name, math.nan, None, s.level,
                             "not estimated: the Monte Carlo test gives no exact law")
-    scores = ", ".join(f"{g} = {v:g}" for g, v in zip(design.group_labels, design.scores))
-    effect = (f"a rise of {design.outcomes[0]} with {design.names[1]} (scores {scores}), within "
-              f"{design.names[2]}")
+    effect = (f"a rise of {design.outcomes[0]} with {design.names[1]} ({_scores_words(design)}), "
+              f"within {design.names[2]}")
     extra = {"strata": strata_rows(design.tables, design.stratum_labels, design.group_labels)}
     return Result(statement, "strata", s.alternative, out, nt, estimate, effect=effect,
                   two_sided_rule=RULE_LINEAR, warnings=list(design.warnings),
                   extra=extra)
+
+
+def _scores_words(design) -> str:
+    labels, scores = design.group_labels, design.scores
+    if all(_number(g) == v for g, v in zip(labels, scores)):
+        return "the levels as dose scores"
+    return "scores " + ", ".join(f"{v:g} for {g}" for g, v in zip(labels, scores))
+
+
+def _number(text):
+    try:
+        return float(text)
+    except ValueError:
+        return None
 
 
 HELP = """count dead by dose within sex               two groups in every stratum (2 x 2 x K)

@@ -77,9 +77,24 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     effect = f"proportion of {design.outcomes[0]}: {first} - {second}"
     summary = table_summary(data.table, [first, second], list(design.outcomes))
     extra = {"table": summary, "tests_also": tests, "estimates_also": [ratio]}
+    warnings = list(design.warnings) + _disagreement(out.p_value, difference, s)
     return Result(statement, "two-proportions", s.alternative, out, nt, difference,
-                  effect=effect, two_sided_rule=rule, warnings=list(design.warnings),
-                  extra=extra)
+                  effect=effect, two_sided_rule=rule, warnings=warnings, extra=extra)
+
+
+def _disagreement(p, difference, s) -> list:
+    """A note when the test and the interval answer 'is the difference 0?' differently: the
+    interval inverts the score ordering (Barnard's), the test may order otherwise."""
+    if difference.interval is None:
+        return []
+    lo, hi = difference.interval
+    keeps_zero = lo <= 0.0 <= hi
+    rejects = p <= 1.0 - s.level
+    if keeps_zero == (not rejects):
+        return []
+    level = f"{(1.0 - s.level) * 100:g}%"
+    return [f"the test and the interval disagree at {level}: the interval inverts the score "
+            f"(Barnard) ordering, the {s.family} test orders the outcomes otherwise"]
 
 
 def _estimates(design, data, progress):
