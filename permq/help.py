@@ -25,7 +25,18 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   count sprouted by dose in plots ordered             trend (linear-by-linear)
   count [[9, 1], [3, 7]]                              Fisher's exact test, conditional odds ratio
   count first vs second paired                        McNemar's exact test (your two yes/no columns)
-  count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval""",
+  count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval
+two proportions, strata, rates, a binary response: help events""",
+    "events": """counts and events (try them on the demo's sprays)
+  count 3 of 20 vs 9 of 21                    two proportions: Boschloo's test; risk difference and ratio
+  count 3 of 20 vs 9 of 21 using barnard      Barnard's test (score); using fisher: conditional on the total
+  count wilted by spray using boschloo        two proportions from two columns
+  count wilted by spray within bench          2 x 2 x K: common odds ratio (exact), Zelen's homogeneity beside
+  count wilted by dose within bench ordered   stratified trend; using homogeneity: Zelen's test alone
+  count 7 events in 120.5 vs 0.05             one rate: exact Poisson test, Garwood interval
+  count 7 events in 120.5 vs 2 events in 98   two rates: exact conditional test of the rate ratio
+  relate wilted to dose                       a two-valued response: exact conditional logistic slope
+the event is the response's second value in natural order (1 of 0 / 1, "yes" of "no")""",
     "many": """several responses or comparisons at once, permuted together
   compare mass, light by recipe levels "A", "B" adjust max-t step-down
   compare every numeric except tray by recipe adjust max-t
@@ -64,6 +75,7 @@ TOPICS["set"] = TOPICS["session"]
 TOPICS["load"] = TOPICS["session"]
 TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
 TOPICS["tables"] = TOPICS["count"]
+TOPICS["proportions"] = TOPICS["rates"] = TOPICS["strata"] = TOPICS["events"]
 TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
 

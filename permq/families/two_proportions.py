@@ -14,6 +14,7 @@ interval, beside the Miettinen-Nurminen score interval.
 """
 from __future__ import annotations
 
+import dataclasses
 import math
 
 from ..plan.cost import OPS_PER_SECOND
@@ -40,12 +41,26 @@ def plan(design):
     if s.family == "fisher":
         from ..engine.tables import twobytwo
 
-        cands = lambda draws: twobytwo.candidates(data.table)
+        tests = lambda draws: twobytwo.candidates(data.table)
     else:
         from ..engine.counts import unconditional
 
-        cands = lambda draws: unconditional.candidates(data, s.family, draws)
+        tests = lambda draws: unconditional.candidates(data, s.family, draws)
+    extra = _interval_ops(design, data)
+
+    def cands(draws):   # the exact intervals come with either method, when they are affordable
+        return [dataclasses.replace(c, ops=c.ops + extra) for c in tests(draws)]
+
     return make_plan("two-proportions", s.family, s, cands)
+
+
+def _interval_ops(design, data) -> float:
+    """The intervals' estimated operations, or 0 when they will not be computed."""
+    from ..engine.counts import riskintervals
+
+    ops = riskintervals.interval_ops(data)
+    s = design.settings
+    return ops if s.exact or ops / OPS_PER_SECOND <= s.budget_seconds else 0.0
 
 
 def execute(design, the_plan, progress, statement: str = "") -> Result:
@@ -105,7 +120,7 @@ def _estimates(design, data, progress):
     s = design.settings
     x1, n1, x2, n2 = design.counts
     seconds = riskintervals.interval_ops(data) / OPS_PER_SECOND
-    affordable = s.exact or seconds <= s.budget_seconds
+    affordable = _interval_ops(design, data) > 0
     diff_value = x1 / n1 - x2 / n2
     ratio_value = _ratio(x1, n1, x2, n2)
     name_d = "risk difference p1 - p2"

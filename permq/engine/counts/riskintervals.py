@@ -189,6 +189,6 @@ def ratio_interval(data, level: float = 0.95, alternative: str = "two-sided") ->
 def interval_ops(data) -> float:
     """Estimated operations for both intervals (difference and ratio): about 30 evaluations
     a bound, each a score matrix and a grid of nuisance values (measured on this class of
-    machine: some 200 operations a cell, and a fixed cost near 4e5 for the calls)."""
+    machine: some 200 operations a cell, and a fixed cost near 1e6 for the calls)."""
     cells = (data.n1 + 1) * (data.n2 + 1)
-    return 4.0 * (GRID + 22) * (200.0 * cells + 4e5)
+    return 4.0 * (GRID + 22) * (200.0 * cells + 1e6)

@@ -140,7 +140,7 @@ def region_coefficients(mask: np.ndarray, n1: int, n2: int) -> np.ndarray:
 def candidates(data: Binomials, test: str, draws: int) -> list:
     cells = float((data.n1 + 1) * (data.n2 + 1))
     n = data.n1 + data.n2
-    ops = 40.0 * cells + 30.0 * (n + 1) * nuisance.grid_size(n)
+    ops = 400.0 * cells + 30.0 * (n + 1) * nuisance.grid_size(n) + 4e5
     mc_ops = 12.0 * float(draws) * MC_POINTS
     return [Candidate("enumeration", ALGORITHM, True, ops, 40.0 * cells, arrangements=cells),
             Candidate("monte-carlo", MC_ALGORITHM, False, mc_ops, 8.0 * cells + 8.0 * 8192 * 4)]
