@@ -84,6 +84,14 @@ def _median(v):
     return np.median(v)
 
 
+def _count_check(design):
+    """The count check: the table of events at each dose, every simulated one given the
+    conditional logistic test."""
+    from ..robustness.spec import CountCheck
+
+    return CountCheck("logistic", "logistic", ordered=True)
+
+
 HELP = """relate dead to dose                 dead two-valued (0 / 1, no / yes): the event is the
                                     second value in natural order
 The slope is in log odds per unit of dose; under complete separation the estimate is median
@@ -94,7 +102,6 @@ FAMILIES = [
            "binary response: exact conditional logistic", plan, execute,
            "asymptotic logistic fit: Wald z and the likelihood-ratio test",
            "logistic slope: conditional MLE (median unbiased under separation) with its exact "
-           "interval", no_robustness="the robustness check for a binary response is not "
-                                     "available yet",
+           "interval", robustness=_count_check,
            default_in=("dose-response",), help=HELP),
 ]

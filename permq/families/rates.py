@@ -60,6 +60,14 @@ def _group(name, x, t) -> dict:
     return {"name": name, "events": int(x), "exposure": float(t), "rate": x / t}
 
 
+def _count_check(design):
+    """The count check: Poisson counts and their departures, every simulated count given the
+    exact test."""
+    from ..robustness.spec import CountCheck
+
+    return CountCheck("rates", "poisson")
+
+
 HELP = """count 7 events in 120.5 vs 0.05                one rate against a reference rate
 count 7 events in 120.5 vs 2 events in 98      two rates: the rate ratio, first / second
 Exposures are in any unit (person-years, machine-hours); rates are events per unit."""
@@ -70,6 +78,6 @@ FAMILIES = [
            "event rates: exact Poisson", plan, execute,
            "score z (and the Wald z for the log rate ratio)",
            "rate with Garwood's interval; rate ratio with its exact conditional interval",
-           no_robustness="the robustness check for rates is not available yet",
+           robustness=_count_check,
            default_in=("rate", "two-rates"), help=HELP, selectable=False),
 ]

@@ -163,12 +163,21 @@ def _number(text):
         return None
 
 
+def _count_check(design):
+    """The count check: stratified schemes, every simulated stack of strata given this
+    family's own exact test."""
+    from ..robustness.spec import CountCheck
+
+    family = design.settings.family
+    route = {"fisher": "strata", "homogeneity": "homogeneity", "trend": "strata-trend"}[family]
+    return CountCheck(route, family, ordered=family == "trend")
+
+
 HELP = """count dead by dose within sex               two groups in every stratum (2 x 2 x K)
 count dead by dose within sex using homogeneity   do the strata share one odds ratio?
 count dead by dose within litter ordered    three or more doses: the stratified trend test
 The event is the second value of the response in natural order (1 of 0 / 1, "yes" of "no");
 the odds ratio is the first group's odds against the second's (levels "B", "A" to turn it)."""
-NO_ROBUSTNESS = "the robustness check for stratified tables is not available yet"
 
 FAMILIES = [
     Family("fisher", ("strata",),
@@ -176,15 +185,15 @@ FAMILIES = [
            "common odds ratio, exact conditional", plan, execute,
            "Mantel-Haenszel chi-square (and Breslow-Day for homogeneity)",
            "common odds ratio: conditional maximum likelihood with its exact interval",
-           no_robustness=NO_ROBUSTNESS, default_in=("strata",), help=HELP),
+           robustness=_count_check, default_in=("strata",), help=HELP),
     Family("homogeneity", ("strata",), "Zelen's exact test of homogeneous odds ratios",
            "homogeneity of odds ratios across strata (Zelen)", plan, execute,
            "Breslow-Day chi-square with Tarone's correction", "",
-           no_robustness=NO_ROBUSTNESS, help=HELP),
+           robustness=_count_check, help=HELP),
     Family("trend", ("ordered-strata",),
            "exact conditional trend test within strata (stratified Cochran-Armitage)",
            "linear-by-linear trend (ordered tables)", plan, execute,
            "stratified Cochran-Armitage z",
            "common logistic slope per unit of dose with its exact interval",
-           no_robustness=NO_ROBUSTNESS, default_in=("ordered-strata",), help=HELP),
+           robustness=_count_check, default_in=("ordered-strata",), help=HELP),
 ]

@@ -147,6 +147,15 @@ def _ratio(x1, n1, x2, n2) -> float:
     return (x1 / n1) / (x2 / n2)
 
 
+def _count_check(design):
+    """The count check: every simulated 2 x 2 table gets this family's own exact test."""
+    from ..robustness.spec import CountCheck
+
+    family = design.settings.family
+    route = "fisher-proportions" if family == "fisher" else "unconditional"
+    return CountCheck(route, family)
+
+
 KIND = ("two-proportions",)
 ESTIMATE = ("risk difference with its exact unconditional interval (Chan & Zhang 1999); the risk "
             "ratio beside it")
@@ -161,14 +170,14 @@ than Fisher's test, whose p-value is shown beside it."""
 FAMILIES = [
     Family("boschloo", KIND, "Boschloo's exact unconditional test (Fisher's p as the statistic)",
            "two proportions: Boschloo's unconditional test", plan, execute, NORMAL, ESTIMATE,
-           no_robustness="the robustness check for two proportions is not available yet",
+           robustness=_count_check,
            default_in=KIND, help=HELP),
     Family("barnard", KIND, "Barnard's exact unconditional test (score statistic)",
            "two proportions: Barnard's unconditional test", plan, execute, NORMAL, ESTIMATE,
-           no_robustness="the robustness check for two proportions is not available yet",
+           robustness=_count_check,
            help=HELP),
     Family("fisher", KIND, "Fisher's exact test (conditional on the total of successes)",
            "Fisher's exact test", plan, execute, NORMAL, ESTIMATE,
-           no_robustness="the robustness check for two proportions is not available yet",
+           robustness=_count_check,
            help=HELP),
 ]
