@@ -192,6 +192,10 @@ def test_schemes_draw_the_laws_they_claim():
 
 
 def test_statements_end_to_end():
+    jsonschema = pytest.importorskip("jsonschema")
+    from permq.contract import schema
+
+    validator = jsonschema.Draft202012Validator(schema())
     frame = pd.read_csv(__import__("conftest").ROOT / "demo" / "sprays.csv")
     tables = {"sprays": frame}
     for text in ("robustness count 3 of 20 vs 9 of 21 datasets 200 seed 3",
@@ -204,6 +208,7 @@ def test_statements_end_to_end():
         assert isinstance(r, RobustnessResult), getattr(r, "message", r)
         d = r.to_dict()
         json.dumps(d, allow_nan=False)
+        assert not list(validator.iter_errors([json.loads(json.dumps(d))])), text
         assert d["datasets"] == 200 and len(d["laws"]) >= 3
     [again] = permq.run("robustness count 3 of 20 vs 9 of 21 datasets 200 seed 3")
     [first] = permq.run("robustness count 3 of 20 vs 9 of 21 datasets 200 seed 3")

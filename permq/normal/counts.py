@@ -221,7 +221,7 @@ def breslow_day(tables) -> NormalTheory:
         var_sum += v
     stat -= dev_sum ** 2 / var_sum if var_sum > 0 else 0.0
     df = float(len(rows) - 1)
-    return NormalTheory(name, stat, df, _chi2_sf(stat, df))
+    return NormalTheory(name, float(stat), df, _chi2_sf(stat, df))
 
 
 def stratified_trend(mean, var, observed, alternative="two-sided") -> NormalTheory:
@@ -229,7 +229,7 @@ def stratified_trend(mean, var, observed, alternative="two-sided") -> NormalTheo
     name = "trend z (Cochran-Armitage, conditional within strata)"
     if var <= 0:
         return NormalTheory(name, 0.0, None, 1.0)
-    z = (observed - mean) / math.sqrt(var)
+    z = float((observed - mean) / math.sqrt(var))
     return NormalTheory(name, z, None, _p(z, alternative))
 
 

@@ -125,7 +125,15 @@ def run(data: Rates, alternative: str, algorithm: str, draws: int = 100_000, see
                             alternative, draws, seed, progress, name)
     p = poisson_p(x, mu, alternative)
     progress.step(1.0, "rates")
-    return EngineOutcome(name, float(x), p, "exact", ONE_ALGORITHM, arrangements=math.inf)
+    return EngineOutcome(name, float(x), p, "exact", ONE_ALGORITHM,
+                         arrangements=float(listed_counts(x, mu)))
+
+
+def listed_counts(x: int, mu: float) -> int:
+    """The counts 0 .. top the Poisson law is read over: past top, less than 1e-16 is left."""
+    from scipy.stats import poisson
+
+    return int(max(x, poisson.isf(1e-16, mu))) + 2
 
 
 def _monte_carlo(draw, observed, probs, alternative, draws, seed, progress, name):

@@ -249,4 +249,5 @@ def slope(the_law, level: float, alternative: str) -> tuple:
     mue = not math.isfinite(b)
     if mue:
         b = cond.median_unbiased(the_law)
-    return b, cond.interval(the_law, level, alternative), mue
+    lo, hi = cond.interval(the_law, level, alternative)
+    return float(b), (float(lo), float(hi)), mue
