@@ -59,6 +59,7 @@ filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scal
   robustness compare yield by dose within block in plots   blocks kept; treatments within blocks
   robustness relate mass to light using slope shift 1 sd   power at a slope of 1 sd of error per sd of x
   robustness count [[9, 1], [3, 7]] shift 3                counts: sampling schemes, power at odds ratio 3
+  robustness count 7 events in 120.5 vs 2 events in 98     rates: Poisson counts, bursts, the total fixed
   compare mass by recipe picture "null.svg"                the null distribution, also as a file
   explain robustness compare mass by recipe                what the check would do, and its time
 options: datasets N (per law), significance 1%, shift X [sd], seed N, picture "panel.svg"
