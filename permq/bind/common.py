@@ -8,7 +8,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import BindError, MultipleErrors, Span
 from ..syntax import nodes as n
