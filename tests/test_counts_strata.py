@@ -92,6 +92,11 @@ def test_published_penicillin_example():
     assert round(S.run(st, "higher").p_value, 3) == 0.020
     assert round(S.run(st, "two-sided").p_value, 3) == 0.040
     assert round(S.common_odds_ratio(st).value, 2) == 10.36
+    # two groups in order: the stratified trend test is the same test (its law is symmetric)
+    df = _frame(PENICILLIN)
+    r = permq.run('count cured by timing within level ordered "immediate" < "delayed"',
+                  tables={"pen": df})[0]
+    assert round(r.outcome.p_value, 3) == 0.040
 
 
 @pytest.mark.parametrize("tables", [PENICILLIN, SM, SMALL])
@@ -165,6 +170,14 @@ def test_stratified_trend_equals_brute_force_and_the_logistic_cmle():
                       tables={"d": df})[0]
         assert r.outcome.p_value == pytest.approx(float(B.linear_tail(law, observed, alt)),
                                                   rel=1e-10)
+    r = permq.run("count dead by dose within litter ordered", tables={"d": df})[0]
+    lo, hi = r.estimate.interval
+    for b, tail, inside in ((lo - 1e-6, "up", False), (lo + 1e-6, "up", True),
+                            (hi + 1e-6, "down", False), (hi - 1e-6, "down", True)):
+        w = {t: c * math.exp(b * float(t - observed)) for t, c in law.items()}
+        total = sum(w.values())
+        p = sum(v for t, v in w.items() if (t >= observed if tail == "up" else t <= observed))
+        assert (p / total > 0.025) == inside, (b, tail)
     from statsmodels.discrete.conditional_models import ConditionalLogit
 
     fit = ConditionalLogit(df["dead"].to_numpy(), df[["dose"]].to_numpy(),

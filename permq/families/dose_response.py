@@ -50,6 +50,8 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     score = NormalTheory("score z (Cochran-Armitage): the asymptotic form of this test",
                          score.statistic, None, score.p_value)
     name = f"logistic slope of {design.outcomes[0]} on {x_name}"
+    if law is None:
+        law = trend.law_for_estimate(st, s.budget_seconds)
     if law is not None:
         b, (lo, hi), mue = trend.slope(law, s.level, s.alternative)
         how = "exact conditional: inverts the two one-sided score tests, alpha/2 each"
@@ -59,7 +61,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                             (lo, hi), s.level, how)
     else:
         estimate = Estimate(name, math.nan, None, s.level,
-                            "not estimated: the Monte Carlo test gives no exact law")
+                            "not estimated: its exact law would take past the budget (the test is Monte Carlo)")
     groups = [{"name": f"{x_name} where {design.outcomes[0]}", "n": int(design.y.sum()),
                "mean": float(design.x[design.y == 1].mean()),
                "median": float(_median(design.x[design.y == 1]))},

@@ -132,6 +132,8 @@ def _execute_trend(design, the_plan, progress, statement):
     nt = normal.stratified_trend(mean, var, out.statistic, s.alternative)
     estimate = None
     name = "logistic slope per unit of dose, common to the strata"
+    if law is None:
+        law = trend.law_for_estimate(st, s.budget_seconds)
     if law is not None:
         b, (lo, hi), mue = trend.slope(law, s.level, s.alternative)
         how = ("exact conditional: inverts the two one-sided trend tests, alpha/2 each"
@@ -140,7 +142,7 @@ def _execute_trend(design, the_plan, progress, statement):
                             b, (lo, hi), s.level, how)
     else:
         estimate = Estimate(name, math.nan, None, s.level,
-                            "not estimated: the Monte Carlo test gives no exact law")
+                            "not estimated: its exact law would take past the budget (the test is Monte Carlo)")
     effect = (f"a rise of {design.outcomes[0]} with {design.names[1]} ({_scores_words(design)}), "
               f"within {design.names[2]}")
     extra = {"strata": strata_rows(design.tables, design.stratum_labels, design.group_labels)}

@@ -243,6 +243,19 @@ def _monte_carlo(used, observed, alternative, draws, seed, progress, name):
                          seed=seed)
 
 
+def law_for_estimate(strata, budget_seconds: float):
+    """The exact law for the slope's estimate when a Monte Carlo test ran: counted when one
+    of the exact programmes is feasible within the budget, else None."""
+    from ...plan.cost import calibrated
+
+    exact = [calibrated("dose-response", c) for c in candidates(strata, 0) if c.exact]
+    fits = sorted((c for c in exact if c.feasible and c.seconds <= budget_seconds),
+                  key=lambda c: c.ops)
+    if not fits:
+        return None
+    return law(strata, fits[0].algorithm)[0]
+
+
 def slope(the_law, level: float, alternative: str) -> tuple:
     """(estimate, interval, median unbiased?) of b from the law (in the law's units)."""
     b = cond.cmle(the_law)
