@@ -198,19 +198,7 @@ class EventTests(CountTests):
     """Both tests of an event design, for stacks of simulated tables."""
 
     def __init__(self, v: CountView):
-        from ..spec import check_for
-
-        count_check = check_for(v)
-        self.route = count_check.route
-        self.design = v
-        self.statistic = count_check.statistic
-        self.alternative = v.settings.alternative
-        self.draws = 0
-        self._cache: dict = {}
-        self._dists: dict = {}
-        self._support = 0
-        self.exact = True
-        self.margin_sets = 0
+        super().__init__(v, draws=0)         # the route and statistic, caches, the alternative
         src = v.source
         if self.route in ("unconditional", "fisher-proportions"):
             n1, n2 = (int(r) for r in v.table.sum(axis=1))

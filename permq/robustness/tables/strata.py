@@ -199,13 +199,7 @@ def _panel(tables, effect_rows, theta):
 
 class StrataTests(CountTests):
     def __init__(self, v: StrataView):
-        from ..spec import check_for
-
-        count_check = check_for(v)
-        self.route, self.statistic = count_check.route, count_check.statistic
-        self.design, self.alternative = v, v.settings.alternative
-        self.draws, self._cache, self._dists, self._support = 0, {}, {}, 0
-        self.exact, self.margin_sets = True, 0
+        super().__init__(v, draws=0)         # the route and statistic, caches, the alternative
         self.observed_tables = float(np.prod([math.comb(int(t.sum()), int(t[:, 0].sum()))
                                               for t in _split(v.table, v.groups)]))
 
