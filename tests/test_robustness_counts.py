@@ -198,20 +198,20 @@ def test_statements_end_to_end():
     validator = jsonschema.Draft202012Validator(schema())
     frame = pd.read_csv(__import__("conftest").ROOT / "demo" / "sprays.csv")
     tables = {"sprays": frame}
-    for text in ("robustness count 3 of 20 vs 9 of 21 datasets 200 seed 3",
-                 "robustness count 7 events in 120.5 vs 2 events in 98 datasets 200 seed 3",
-                 "robustness count 4 events in 30 vs 0.05 datasets 200 seed 3",
-                 "robustness relate wilted to dose datasets 200 seed 3",
-                 "robustness count wilted by spray within bench datasets 200 seed 3",
-                 "robustness count wilted by dose within bench ordered datasets 200 seed 3"):
+    for text in ("robustness count 3 of 20 vs 9 of 21 datasets 100 seed 3",
+                 "robustness count 7 events in 120.5 vs 2 events in 98 datasets 100 seed 3",
+                 "robustness count 4 events in 30 vs 0.05 datasets 100 seed 3",
+                 "robustness relate wilted to dose datasets 100 seed 3",
+                 "robustness count wilted by spray within bench datasets 100 seed 3",
+                 "robustness count wilted by dose within bench ordered datasets 100 seed 3"):
         [r] = permq.run(text, tables=tables)
         assert isinstance(r, RobustnessResult), getattr(r, "message", r)
         d = r.to_dict()
         json.dumps(d, allow_nan=False)
         assert not list(validator.iter_errors([json.loads(json.dumps(d))])), text
         assert d["datasets"] == 200 and len(d["laws"]) >= 3
-    [again] = permq.run("robustness count 3 of 20 vs 9 of 21 datasets 200 seed 3")
-    [first] = permq.run("robustness count 3 of 20 vs 9 of 21 datasets 200 seed 3")
+    [again] = permq.run("robustness count 3 of 20 vs 9 of 21 datasets 100 seed 3")
+    [first] = permq.run("robustness count 3 of 20 vs 9 of 21 datasets 100 seed 3")
     assert again.to_dict()["laws"] == first.to_dict()["laws"]
     out = permq.run("robustness relate wilted to dose shift 2", tables=tables)[0]
     assert "no one-number meaning" in out.message
