@@ -34,7 +34,7 @@ def _design(text, tables=None):
 def _tests(text, tables=None):
     design = _design(text, tables)
     v = events.view(design)
-    return design, v, events.tests_for(v)
+    return design, v, events.tests_for(v, (0.01, 0.05, 0.10))
 
 
 @pytest.mark.parametrize("word", ["boschloo", "barnard", "fisher"])
@@ -209,9 +209,9 @@ def test_statements_end_to_end():
         d = r.to_dict()
         json.dumps(d, allow_nan=False)
         assert not list(validator.iter_errors([json.loads(json.dumps(d))])), text
-        assert d["datasets"] == 200 and len(d["laws"]) >= 3
-    [again] = permq.run("robustness count 3 of 20 vs 9 of 21 datasets 100 seed 3")
-    [first] = permq.run("robustness count 3 of 20 vs 9 of 21 datasets 100 seed 3")
+        assert d["datasets"] == 100 and len(d["laws"]) >= 3
+    [again] = permq.run("robustness count 4 events in 30 vs 0.05 datasets 300 seed 8")
+    [first] = permq.run("robustness count 4 events in 30 vs 0.05 datasets 300 seed 8")
     assert again.to_dict()["laws"] == first.to_dict()["laws"]
     out = permq.run("robustness relate wilted to dose shift 2", tables=tables)[0]
     assert "no one-number meaning" in out.message

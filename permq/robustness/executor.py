@@ -87,7 +87,7 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
         target = design if counts is None else counts
         effect = _table_effect(target, check, inner)    # before the analysis runs
         observed = _observed(design, text, progress, check)
-        tests = None if counts is None else event_check.tests_for(counts)
+        tests = None if counts is None else event_check.tests_for(counts, (check.alpha,))
         return table_check.check_table(text, target, observed, check, int(seed), progress,
                                        null_picture(design, observed.outcome, int(seed)),
                                        list(design.warnings), effect, tests)

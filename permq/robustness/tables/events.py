@@ -19,8 +19,8 @@ verdicts and report serve it unchanged:
 Unconditional p-values of every outcome come at once: the outcomes sorted by the test's
 ordering, the region of each is a prefix (ties kept together), and the probability of every
 prefix over a grid of the common proportion is one cumulative sum. The grid's best is within
-1% of the supremum; outcomes whose grid value lies within a factor 2 of the level are refined
-by the engine's own search, so every rejection at the level is the engine's answer.
+1% below the supremum; outcomes whose grid value lies within 3% below the check's level are
+refined by the engine's own search, so every decision at the level is the engine's.
 """
 from __future__ import annotations
 
@@ -37,7 +37,7 @@ from ..counterparts import z_tails
 from .batch import CountTests
 from .schemes import Scheme
 
-REFINE_FACTOR = 2.0
+REFINE_BELOW = 0.97      # grid values within this factor below a level are refined
 OVERDISPERSION = 2.0      # variance / mean of the overdispersed counts
 
 
@@ -180,12 +180,14 @@ def rates_panel(d, null_rates, effect_rates):
 
 # ---------------------------------------------------------------- the tests
 
-def tests_for(v):
+def tests_for(v, levels=(0.05,)):
+    """Both tests of a view; `levels`: the significance levels whose decisions must be the
+    engine's (the check's own)."""
     from . import strata
 
     if isinstance(v, strata.StrataView):
         return strata.tests_for(v)
-    return EventTests(v)
+    return EventTests(v, levels)
 
 
 def is_view(v) -> bool:
@@ -197,8 +199,9 @@ def is_view(v) -> bool:
 class EventTests(CountTests):
     """Both tests of an event design, for stacks of simulated tables."""
 
-    def __init__(self, v: CountView):
+    def __init__(self, v: CountView, levels=(0.05,)):
         super().__init__(v, draws=0)         # the route and statistic, caches, the alternative
+        self.levels = tuple(levels)
         src = v.source
         if self.route in ("unconditional", "fisher-proportions"):
             n1, n2 = (int(r) for r in v.table.sum(axis=1))
@@ -259,7 +262,8 @@ class EventTests(CountTests):
             key = ("unconditional", int(a), int(b))
             table = self._cache.get(key)
             if table is None:
-                table = all_unconditional_p(int(a), int(b), self.statistic, self.alternative)
+                table = all_unconditional_p(int(a), int(b), self.statistic, self.alternative,
+                                            self.levels)
                 self._cache[key] = table
             out[rows] = table[tables[rows, 0, 0], tables[rows, 1, 0]]
         return out
@@ -344,13 +348,14 @@ def _every_tail(support, probs, alternative) -> np.ndarray:
 
 # ---------------------------------------------------------------- unconditional, every outcome
 
-def all_unconditional_p(n1: int, n2: int, test: str, alternative: str) -> np.ndarray:
+def all_unconditional_p(n1: int, n2: int, test: str, alternative: str,
+                        levels=(0.05,)) -> np.ndarray:
     """The unconditional p-value of every outcome (a, b) of Bin(n1) and Bin(n2).
 
     Outcomes are ordered by the test's statistic (most extreme first); each one's region is
-    the prefix up to its last tie. The grid's best is exact to within 1% (nuisance module);
-    values within a factor REFINE_FACTOR of any usual level (1% .. 10%) are refined by the
-    engine's search of that region."""
+    the prefix up to its last tie. The grid's best is within 1% below the supremum (nuisance
+    module); values within REFINE_BELOW below one of `levels` are refined by the engine's
+    search of that region, so that p <= level is decided as the engine decides it."""
     if test == "barnard":
         stat = unconditional.score_z(n1, n2)
         key = {"higher": stat, "lower": -stat, "two-sided": np.abs(stat)}[alternative]
@@ -374,8 +379,8 @@ def all_unconditional_p(n1: int, n2: int, test: str, alternative: str) -> np.nda
     grid_best = cum[:, last].max(axis=0)
     p_sorted = np.minimum(grid_best, 1.0)
     near = np.zeros(p_sorted.size, bool)
-    for level in (0.01, 0.05, 0.10):
-        near |= (p_sorted > level / REFINE_FACTOR) & (p_sorted < level * REFINE_FACTOR)
+    for level in levels:
+        near |= (p_sorted > level * REFINE_BELOW) & (p_sorted <= level * (1.0 + 1e-9))
     done: dict = {}
     for i in np.flatnonzero(near):
         end = int(last[i])
