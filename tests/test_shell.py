@@ -121,7 +121,7 @@ def test_families_fit_the_verb():
     relate = set(words("relate mass to light using ", s))
     count = set(words("count recipe by bench using ", s))
     assert {"means", "ranks", "normal-scores", "medians"} <= compare
-    assert relate == {"pearson", "spearman", "kendall", "slope"}
+    assert relate == {"pearson", "spearman", "kendall", "slope", "logistic"}
     assert {"fisher", "chi-square"} <= count and "pearson" not in count
     assert compare | relate | count == set(vocab.value_sets()["FAMILY"])
 

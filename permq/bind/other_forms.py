@@ -39,9 +39,13 @@ def bind_relate(node: n.Relate, catalog, defaults):
 
 
 def bind_count(node: n.Count, catalog, defaults):
+    from . import counts
     from .common import settings_for
 
     opts = n.options_of(node)
+    design = counts.bind_count(node, opts, catalog, defaults)
+    if design is not None:
+        return design
     sub = node.subject
     if isinstance(sub, n.CountProportion):
         s = settings_for(node, opts, defaults, "proportion", "one proportion", ())

@@ -7,6 +7,7 @@ from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
 from . import numbers as fmt
+from .counts import count_lines, data_lines
 from .robustness import diagnostics_line, null_picture_block, robustness_block
 
 BOLD, DIM, RED, RESET = "\x1b[1m", "\x1b[2m", "\x1b[31m", "\x1b[0m"
@@ -58,6 +59,7 @@ def result_block(r: Result, color: bool = False) -> str:
     lines.extend(group_lines(r))
     if "table" in r.extra:
         lines.extend(table_lines(r.extra["table"]))
+    lines.extend(data_lines(r))
     lines.append(f"  {'statistic':<15}{fmt.num(o.statistic, 6)}")
     method_word = "exact" if o.method == "exact" else "Monte Carlo"
     lines.append(f"  {'':<15}{'permutation (' + method_word + ')':<28}normal theory")
@@ -86,10 +88,13 @@ def result_block(r: Result, color: bool = False) -> str:
             if x.interval is not None:
                 lines.append(f"  {'also':<15}{lvl} {fmt.interval(x.interval)}: "
                              f"{x.interval_method}")
+    lines.extend(count_lines(r))
     lines.extend(effect_size_lines(r))
     if diagnostics_line(r):
         lines.append(diagnostics_line(r))
-    if o.method == "exact":
+    if o.method == "exact" and (o.arrangements is None or o.arrangements == float("inf")):
+        how = f"exact: {o.algorithm}"
+    elif o.method == "exact":
         how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
     else:
         b = fmt.as_extreme(o.p_value, o.draws)

@@ -19,6 +19,7 @@ from ..result import Note
 from ..syntax import nodes as n
 from . import laws, report
 from .tables import check as table_check
+from .tables import events as event_check
 from .arrangements import EXACT_LIMIT, reference_size
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
@@ -78,12 +79,15 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
     design = bind(without_check_options(inner), catalog, defaults)
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
-    if isinstance(design, designs.TableDesign):
-        effect = _table_effect(design, check, inner)    # before the analysis runs
+    counts = event_check.view(design)       # the event forms, seen as tables of counts
+    if counts is not None or isinstance(design, designs.TableDesign):
+        target = design if counts is None else counts
+        effect = _table_effect(target, check, inner)    # before the analysis runs
         observed = _observed(design, text, progress, check)
-        return table_check.check_table(text, design, observed, check, int(seed), progress,
+        tests = None if counts is None else event_check.tests_for(counts, (check.alpha,))
+        return table_check.check_table(text, target, observed, check, int(seed), progress,
                                        null_picture(design, observed.outcome, int(seed)),
-                                       list(design.warnings), effect)
+                                       list(design.warnings), effect, tests)
     problem = problem_for(design)
     pattern, shift, shift_sd = pattern_for(problem, check.shift)
     observed = _observed(design, text, progress, check)
@@ -110,8 +114,9 @@ def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings, seed=seed))
     the_plan = family_for(design).plan(design)
     seconds = None
-    if isinstance(design, designs.TableDesign):
-        _table_effect(design, check, inner)
+    counts = event_check.view(design)
+    if counts is not None or isinstance(design, designs.TableDesign):
+        _table_effect(design if counts is None else counts, check, inner)
         what = (f"the check: {check.datasets:,} simulated tables a sampling scheme, under the "
                 "null and at the effect, each given the exact test; its time depends on how "
                 "many sets of margins the schemes give, so it is not estimated")
@@ -137,6 +142,8 @@ def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note
 def _table_effect(design, check, inner):
     """The effect of a count design's check; a `shift` that does not fit is marked."""
     try:
+        if event_check.is_view(design):
+            return event_check.effect_for(design, check.shift)
         return table_check.effect_for(design, check.shift)
     except BindError as err:
         shift = n.options_of(inner).get("shift")

@@ -79,6 +79,12 @@ def _unique(items: list[Suggestion]) -> list[Suggestion]:
     return out
 
 
+def _exposure_in(tokens, i) -> bool:
+    """`in` before a number is a rate's exposure (7 events in 120.5), not the `in TABLE` option."""
+    return (tokens[i].type == "IN" and i + 1 < len(tokens)
+            and tokens[i + 1].type in ("INT", "DECIMAL"))
+
+
 class _Context:
     """What the tokens so far say about the spot being completed."""
 
@@ -104,7 +110,7 @@ class _Context:
     # -- keywords and keyword sets ----------------------------------------------------------
     def keywords(self) -> list[Suggestion]:
         out = []
-        used = {t.type for t in self.tokens}
+        used = {t.type for i, t in enumerate(self.tokens) if not _exposure_in(self.tokens, i)}
         for term in self.terminals:
             if term in vocab.value_sets():
                 words = self._filtered_values(term)

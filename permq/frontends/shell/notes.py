@@ -88,6 +88,7 @@ VALUES = {
     },
     "STEP": {"step-down": "step-down procedure", "single-step": "single-step procedure"},
     "SHOWABLE": {"tables": "the loaded tables", "settings": "the session defaults"},
+    "EVENTS": {"events": "events in an exposure (a rate)", "event": "one event in an exposure"},
 }
 
 EXAMPLES = {
