@@ -50,6 +50,7 @@ class FactorialResult:
     two_sided_rule: str = ""
     alternative: str = "two-sided"
     seed: Optional[int] = None
+    seed_source: str = ""        # how the seed was had: given, statement, fresh (plan/seeds.py)
     warnings: list = field(default_factory=list)
     line: Optional[int] = None
     family: str = FAMILY

@@ -78,10 +78,7 @@ def _layout(design):
 
 
 def plan(design) -> TermPlans:
-    from ..engine.montecarlo.sampling import fresh_seed
-
-    s = design.settings
-    s = replace(s, seed=s.seed if s.seed is not None else fresh_seed())
+    s = design.settings               # its seed decided once by the pipeline (plan/seeds.py)
     lay = _layout(design)
     names = words(design)
     out = []

@@ -76,7 +76,7 @@ def text_block(r, color: bool = False, bold: str = "", dim: str = "", reset: str
         lines.append(f"  {label:<{LABEL}}{t['term']}: {t['arranged']}")
         lines.append(f"  {'':<{LABEL}}  {_how(t)}")
     if d["method"] != "exact":
-        lines.append(f"  {'':<{LABEL}}seed {d['seed']}")
+        lines.append(f"  {'':<{LABEL}}{fmt.seed(d['seed'], r.seed_source)}")
     note = lambda s: f"{dim}{s}{reset}" if color else s
     lines.append(note(f"  {'sums of sq.':<{LABEL}}{d['sums_of_squares']}"))
     lines.append(note(f"  {'':<{LABEL}}F test: {NORMAL_WORDS}"))
