@@ -20,7 +20,7 @@ from .errors import Cancelled, PermqError
 from .families.registry import family_for
 from .engine.core.progress import Progress
 from .engine.montecarlo.sampling import using_workers
-from .plan import seeds
+from .plan import seeds, smallest
 from .result import Failure, Note
 from .robustness import diagnostics
 from .syntax import nodes as n
@@ -59,6 +59,7 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     result.design = design            # kept for the report's pictures (not in the JSON)
     diagnostics.attach(design, result)
     effects.attach(design, result)
+    smallest.attach(design, result)
     if "picture" in n.options_of(node):
         from .robustness import pictures
 
@@ -69,9 +70,12 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
 def explain(node, text: str, catalog: Catalog, defaults: Defaults) -> Note:
     design, _ = bind_seeded(node, text, catalog, defaults)
     the_plan = family_for(design).plan(design)
-    return Note(text, str(the_plan), {"plan": str(the_plan), "method": the_plan.method,
-                                      "algorithm": the_plan.chosen.description,
-                                      "estimated_seconds": the_plan.chosen.seconds})
+    line, record = smallest.plan_words(design, the_plan)
+    shown = str(the_plan) + (f"\n{line}" if line else "")
+    return Note(text, shown, {"plan": shown, "method": the_plan.method,
+                              "algorithm": the_plan.chosen.description,
+                              "estimated_seconds": the_plan.chosen.seconds,
+                              "smallest_p": record})
 
 
 class Session:

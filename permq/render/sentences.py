@@ -122,7 +122,20 @@ def _single(r: dict) -> str:
     effects = _effects_clause(r)
     if effects:
         parts.append(effects)
+    floor = _floor_clause(r)
+    if floor:
+        parts.append(floor)
     return "; ".join(parts) + "."
+
+
+def _floor_clause(r: dict) -> str:
+    """When no outcome of an exact design reaches the level (`smallest_p`)."""
+    sp = r.get("smallest_p")
+    if r.get("method") != "exact" or not sp or not sp.get("above_level"):
+        return ""
+    side = "two-sided" if r["alternative"] == "two-sided" else "one-sided"
+    return (f"no outcome of this design can reach p <= {sp['level']:g} (smallest {side} p "
+            f"{'at least ' if sp.get('lower_bound') else ''}{fmt.p(sp['this_test'])})")
 
 
 def _estimate_clause(est: dict, effect: str = "") -> str:

@@ -106,6 +106,9 @@ def result_block(r: Result, color: bool = False) -> str:
         how = (f"Monte Carlo: {o.draws:,} draws, {f'{b:,}' if b else 'none'} as extreme as the "
                f"observed; {fmt.seed(o.seed, r.seed_source)}")
     lines.append(f"  {'method':<15}{how}")
+    floor = smallest_line(r)
+    if floor:
+        lines.append(_c(f"  {'smallest p':<15}{floor}", DIM, color))
     if o.method != "exact":
         lines.append(_c(f"  {'':<15}p = (b + 1) / (m + 1) for b of m draws as extreme; in "
                         "brackets its 99% interval for the exact p", DIM, color))
@@ -114,6 +117,16 @@ def result_block(r: Result, color: bool = False) -> str:
     for w in list(r.warnings) + list(o.warnings):
         lines.append(_c(f"  {'note':<15}{w}", DIM, color))
     return "\n".join(lines) + "\n"
+
+
+def smallest_line(r: Result) -> str:
+    """The smallest p the exact design can give (`extra["smallest_p"]`), one line."""
+    sp = r.extra.get("smallest_p")
+    if not sp or r.outcome.method != "exact":
+        return ""
+    bound = "at least " if sp["lower_bound"] else ""
+    two = "" if sp["two_sided"] is None else f", two-sided {bound}{fmt.p(sp['two_sided'])}"
+    return f"one-sided {bound}{fmt.p(sp['one_sided'])}{two} ({sp['basis']})"
 
 
 def group_lines(r: Result) -> list:
