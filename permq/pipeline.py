@@ -30,7 +30,7 @@ from . import effects, statements
 
 def seed_for(node, text: str, defaults: Defaults) -> seeds.SeedChoice:
     """The statement's Monte Carlo seed, decided here once and handed down (see plan/seeds.py)."""
-    inner = node.analysis if isinstance(node, (n.Explain, n.Robustness)) else node
+    inner = node.analysis if isinstance(node, (n.Explain, n.Robustness, n.Power)) else node
     if isinstance(inner, n.Robustness):
         inner = inner.analysis
     opt = n.options_of(inner).get("seed")
@@ -165,6 +165,16 @@ class Session:
             self._picture_file(node.analysis, check)
             self.history.append(robustness.replayable(st.text, check))
             return check
+        if isinstance(node, n.Power):
+            from .power import executor as power
+
+            choice = seed_for(node, st.text, self.defaults)
+            result = power.run(node, st.text, self.catalog, self.defaults, self.progress,
+                               choice.seed)
+            result.line, result.seed_source = st.line, choice.source
+            self._picture_file(node.analysis, result)
+            self.history.append(seeds.pinned(st.text, result.seed))
+            return result
         if isinstance(node, n.Explain):
             if isinstance(node.analysis, n.Robustness):
                 from .robustness import executor as robustness

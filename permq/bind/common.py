@@ -50,7 +50,8 @@ def settings_for(node, opts: dict, defaults: Defaults, kind: str, form: str,
         if key not in allowed_options and key not in family_options and key not in (
                 "using", "alternative", "confidence", "exact", "sampled", "seed", "in",
                 "picture"):
-            raise BindError(f"'{key}' does not apply to {form}", opt.span,
+            word = {"sizes": "n", "target": "for power"}.get(key, key)
+            raise BindError(f"'{word}' does not apply to {form}", opt.span,
                             hint=_option_hint(key, form))
     if "picture" in opts:
         check_picture(opts["picture"])
@@ -159,6 +160,9 @@ def _option_hint(key: str, form: str = "") -> Optional[str]:
         "shift": "'shift' goes with a robustness check: robustness compare ... shift 1 sd",
         "significance": "'significance' goes with a robustness check: "
                         "robustness compare ... significance 1%",
+        "sizes": "'n' goes with power: power compare ... n 8 shift 1 sd",
+        "law": "'law' goes with power: power compare ... shift 1 sd law t3",
+        "target": "'for power' goes with power: power groups 6, 6 shift 1 sd for power 80%",
     }.get(key)
 
 

@@ -58,6 +58,10 @@ def render(outputs) -> str:
     for d in records(outputs):
         if d.get("family") == factorial.FAMILY:
             rows = factorial.csv_rows(d, COLUMNS)
+        elif d.get("family") == "power":
+            from .power import csv_rows
+
+            rows = csv_rows(d, COLUMNS)
         else:
             rows = many.csv_rows(d, COLUMNS) if "rows" in d else [flatten(d)]
         for row in rows:

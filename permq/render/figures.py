@@ -28,8 +28,12 @@ def save(output, path) -> str:
         return MISSING.format(name=path.name)
     from ..robustness.result import RobustnessResult
 
+    from ..power.result import PowerResult
+
     if isinstance(output, RobustnessResult):
         fig = panel_figure(Figure, output)
+    elif isinstance(output, PowerResult):
+        fig = power_figure(Figure, output.to_dict())
     else:
         pic = output.extra.get("null_picture")
         if pic is None:
@@ -40,6 +44,26 @@ def save(output, path) -> str:
     except (OSError, ValueError) as exc:
         return f"picture not written: {exc}"
     return f"picture written to {path}"
+
+
+def power_figure(Figure, d: dict):
+    """Power of both tests against n (a group), with bars of two Monte Carlo errors."""
+    ns = [r["n"][0] if len(set(r["n"])) == 1 else sum(r["n"]) for r in d["rows"]]
+    fig = Figure(figsize=(6.4, 3.6))
+    ax = fig.subplots()
+    for key, label, colour in (("power", "permutation", "#b03a2e"),
+                               ("normal_power", d["normal_test"], "#7a8fa6")):
+        ax.errorbar(ns, [r[key] for r in d["rows"]], yerr=[2 * r[key + "_se"] for r in d["rows"]],
+                    marker="o", capsize=3, color=colour, label=label)
+    if d.get("target") is not None:
+        ax.axhline(d["target"], color="#444", linestyle=":", linewidth=1)
+    ax.axhline(d["level"], color="#999", linestyle="--", linewidth=1)
+    ax.set_ylim(0, 1)
+    ax.set_xlabel("n a group" if all(len(set(r["n"])) == 1 for r in d["rows"]) else "n in all")
+    ax.set_ylabel("power")
+    ax.set_title(f"{d['shift']}; {d['law_words']}", fontsize=9)
+    ax.legend(frameon=False)
+    return fig
 
 
 def null_figure(Figure, pic: dict):

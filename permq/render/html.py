@@ -47,6 +47,10 @@ def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
         from .factorial import html_table
 
         body = html_table(record)
+    elif record.get("family") == "power":
+        from .power import html_table as power_table
+
+        body = power_table(record)
     elif record.get("family") == "robustness":
         body = robustness_table(record)
         if pictures:
@@ -59,7 +63,7 @@ def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
         from .svg import null_distribution
 
         body += null_distribution(record["null_picture"])
-    elif pictures and record.get("family") not in SEVERAL + ("robustness", "two factors"):
+    elif pictures and record.get("family") not in SEVERAL + ("robustness", "two factors", "power"):
         body += ('<p class="note">no picture: the null distribution is not kept for this '
                  'method</p>')
 

@@ -10,10 +10,11 @@ from ..robustness.result import RobustnessResult
 def records(outputs) -> list[dict]:
     from ..result_factorial import FactorialResult
     from ..result_many import ManyResult
+    from ..power.result import PowerResult
 
     out = []
     for o in outputs:
-        if isinstance(o, (ManyResult, FactorialResult)):
+        if isinstance(o, (ManyResult, FactorialResult, PowerResult)):
             out.append(o.to_dict())
             continue
         if isinstance(o, (Result, Failure, RobustnessResult)):

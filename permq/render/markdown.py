@@ -3,6 +3,7 @@ from __future__ import annotations
 
 from ..result import Failure, Result
 from ..robustness.result import RobustnessResult
+from ..power.result import PowerResult
 from . import numbers as fmt
 from .robustness import markdown_section
 from ..result_many import ManyResult
@@ -15,7 +16,7 @@ def render(outputs) -> str:
     rows = ["| statement | family | statistic | p (permutation) | method | p (normal theory) |"
             " estimate | interval | normal-theory interval |",
             "|---|---|---|---|---|---|---|---|---|"]
-    errors, checks, families = [], [], []
+    errors, checks, families, powers = [], [], [], []
     for o in outputs:
         if isinstance(o, ManyResult):
             families.append(many_section(o))
@@ -25,6 +26,11 @@ def render(outputs) -> str:
             continue
         if isinstance(o, RobustnessResult):
             checks.append(markdown_section(o))
+            continue
+        if isinstance(o, PowerResult):
+            from .power import markdown_section as power_section
+
+            powers.append(power_section(o.to_dict()))
             continue
         if isinstance(o, Failure):
             errors.append(f"- `{o.statement}`: {o.message}" + (f" ({o.hint})" if o.hint else ""))
@@ -46,6 +52,8 @@ def render(outputs) -> str:
         parts.append("Several tests at once:\n\n" + "\n".join(families))
     if checks:
         parts.append("Robustness:\n\n" + "\n".join(checks))
+    if powers:
+        parts.append("Power:\n\n" + "\n".join(powers))
     if errors:
         parts.append("Statements that failed:\n\n" + "\n".join(errors) + "\n")
     return "\n".join(parts)

@@ -52,6 +52,10 @@ def sentence(record: dict) -> str:
         return factorial_sentence(record)
     if record.get("family") == "robustness":
         return _robustness(record)
+    if record.get("family") == "power":
+        from .power import sentence as power_sentence
+
+        return power_sentence(record)
     return _single(record)
 
 

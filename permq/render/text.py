@@ -7,6 +7,7 @@ from ..result_factorial import FactorialResult
 from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
+from ..power.result import PowerResult
 from . import numbers as fmt
 from .counts import count_lines, data_lines
 from .robustness import diagnostics_line, null_picture_block, robustness_block
@@ -46,6 +47,8 @@ def render_one(o, color: bool = False) -> str:
         return result_block(o, color) + "".join(ln + "\n" for ln in null_picture_block(o))
     if isinstance(o, RobustnessResult):
         return robustness_block(o, color)
+    if isinstance(o, PowerResult):
+        return str(o)
     if isinstance(o, Failure):
         return failure_block(o, color)
     if isinstance(o, Note):

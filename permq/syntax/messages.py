@@ -72,9 +72,9 @@ def _candidate_words(expected) -> list[str]:
 
 # Options the grammar accepts after every analysis but only some statements take (the binder
 # refuses them elsewhere): left out of "expected ..." lists where they cannot apply.
-_OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
-               "significance": ("robustness",), "adjusting": ("relate", "compare"),
-               "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
+_OPTIONS_OF = {"datasets": ("robustness", "power"), "shift": ("robustness", "power"),
+               "significance": ("robustness", "power"), "n": ("power",), "law": ("power",), "adjusting": ("relate", "compare"),
+               "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare", "power"),
                "top": ("compare",), "below": ("compare",), "levels": ("compare", "count"),
                "rows": ("count",), "columns": ("count",),
                "within": ("compare", "count"), "ordered": ("compare", "count"),
@@ -83,7 +83,9 @@ _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
 
 def _statement_words(text: str) -> set:
     words = text.split()[:2]
-    return set(words) if words and words[0] in ("robustness", "explain") else set(words[:1])
+    if words and words[0] == "power" and words[1:] and words[1] in ("groups", "pairs", "sample"):
+        return {"power", "compare"}
+    return set(words) if words and words[0] in ("robustness", "explain", "power") else set(words[:1])
 
 
 def fitting(expected, text: str) -> set:

@@ -160,6 +160,24 @@ class Robustness:
 
 
 @dataclass(frozen=True)
+class Layout:
+    """A design described before the data exist: `groups 6, 6`, `pairs 10`, `sample 12`."""
+
+    span: Span
+    shape: str                   # "groups", "pairs", "sample"
+    sizes: tuple                 # units a group (one number for pairs and one sample)
+    options: tuple = ()
+
+
+@dataclass(frozen=True)
+class Power:
+    """`power ANALYSIS` (its data are the pilot) or `power LAYOUT`."""
+
+    span: Span
+    analysis: Union[Analysis, Layout]
+
+
+@dataclass(frozen=True)
 class Explain:
     span: Span
     analysis: Union[Analysis, Robustness]
@@ -224,7 +242,7 @@ class Quit:
     span: Span
 
 
-Statement = Union[Load, Use, Compare, Relate, Count, Explain, Robustness, SetStatement, Show, Describe,
+Statement = Union[Load, Use, Compare, Relate, Count, Explain, Robustness, Power, SetStatement, Show, Describe,
                   Help, Save, Copy, Quit]
 
 

@@ -225,6 +225,23 @@ class _ToNodes(Transformer):
     def robustness(self, meta, ch):
         return n.Robustness(_span(meta), ch[0])
 
+    def power(self, meta, ch):
+        return n.Power(_span(meta), ch[0])
+
+    def _layout(self, meta, ch, shape):
+        sizes = tuple(int(c.value) for c in ch if not isinstance(c, n.Option))
+        options = tuple(c for c in ch if isinstance(c, n.Option))
+        return n.Layout(_span(meta), shape, sizes, options)
+
+    def layout_groups(self, meta, ch):
+        return self._layout(meta, ch, "groups")
+
+    def layout_pairs(self, meta, ch):
+        return self._layout(meta, ch, "pairs")
+
+    def layout_sample(self, meta, ch):
+        return self._layout(meta, ch, "sample")
+
     def set_stmt(self, meta, ch):
         value = ch[1]
         v = value.value
@@ -400,6 +417,15 @@ class _ToNodes(Transformer):
 
     def below(self, meta, ch):
         return self._opt(meta, "below", ch[0].value)
+
+    def sizes(self, meta, ch):
+        return self._opt(meta, "sizes", tuple(int(c.value) for c in ch))
+
+    def law(self, meta, ch):
+        return self._opt(meta, "law", ch[0].value)
+
+    def target(self, meta, ch):
+        return self._opt(meta, "target", ch[0].value)
 
 
 def one_line(statement: str) -> str:
