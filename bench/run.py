@@ -112,6 +112,7 @@ def cases():
     rows.extend(association_cases(rng))
     rows.extend(counts_cases(rng))
     rows.extend(robustness_cases(rng))
+    rows.extend(power_cases())
     rows.extend(many_cases())
     return rows
 
@@ -309,6 +310,35 @@ def robustness_cases(rng):
          "robustness count [[6, 5, 3, 2], [4, 5, 6, 5], [2, 4, 6, 7]] seed 3"),
     ]
     return [_robustness_row(label, text, tables) for label, text in cases]
+
+
+def power_cases():
+    """The sample-size search of a two-group design (target: under 10 s), beside the t-test's
+    closed form (statsmodels TTestIndPower)."""
+    from types import SimpleNamespace
+
+    from statsmodels.stats.power import TTestIndPower
+
+    out = []
+    for label, text in (
+            ("power search, two groups, rank-sum, d = 1, for 80% (2,000 data sets an n)",
+             "power groups 6, 6 shift 1 sd using ranks for power 80% seed 3"),
+            ("power search, two groups, means, d = 0.5, for 90% (2,000 data sets an n)",
+             "power groups 6, 6 shift 0.5 sd for power 90% seed 3")):
+        cpu = time.process_time()
+        t, pr = best(lambda: permq.run(text)[0], 1)
+        cpu = time.process_time() - cpu
+        if not hasattr(pr, "needed"):
+            raise SystemExit(f"benchmark statement failed: {text}: {pr.message}")
+        d = 1.0 if "shift 1 sd" in text else 0.5
+        goal = 0.8 if "80%" in text else 0.9
+        closed = TTestIndPower().solve_power(d, power=goal, alpha=0.05)
+        row = SimpleNamespace(reference=f"{pr.datasets * len(pr.rows):,} simulated data sets "
+                                        "(exact reference sets up to 20,000)")
+        out.append((label, t, 10.0, row,
+                    f"n = {pr.needed['permutation']} a group ({len(pr.rows)} sizes simulated); "
+                    f"t-test closed form n = {closed:.1f}; {cpu:.1f} s of CPU"))
+    return out
 
 
 def _many_frame(rng, m, n):

@@ -77,6 +77,16 @@ filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scal
   explain robustness compare mass by recipe                what the check would do, and its time
 options: datasets N (per law), significance 1%, shift X [sd], seed N, picture "panel.svg"
 every result also carries diagnostics: skewness, largest residual, spread ratio""",
+    "power": """power: power and sample size by simulation, before the data or from a pilot
+  power groups 6, 6 shift 1 sd                          a layout of two groups, normal errors
+  power groups 6, 6 shift 1 sd using ranks for power 80%   the smallest n a group reaching 80%
+  power pairs 10 shift 0.5 sd law t3                    pairs (sign flips), heavy-tailed errors
+  power sample 12 shift 1 sd using signs                one sample; groups 5, 5, 5 for three groups
+  power compare mass by recipe levels "A", "B" n 8       the pilot's design at 8 a group, its observed effect
+  power compare mass by recipe levels "A", "B" law pilot shift 1 sd   the pilot's residuals resampled
+options: n N[, N ...] (a group), shift X [sd], law normal|t3|lognormal|exponential|contaminated|pilot,
+         for power 80%, datasets N, significance 1%, seed N, picture "power.png", and the test's own
+every line shows the permutation test, its normal-theory counterpart, and the smallest p the design can give""",
     "session": """session statements
   load "file.csv" as name        csv, txt, tsv, parquet, xlsx, xls
   load "f.csv" delimiter ";" decimal ","   name them (else found from the file)
@@ -99,6 +109,7 @@ TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
 TOPICS["tables"] = TOPICS["count"]
 TOPICS["proportions"] = TOPICS["rates"] = TOPICS["strata"] = TOPICS["events"]
 TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
+TOPICS["sample-size"] = TOPICS["law"] = TOPICS["power"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
 TOPICS["adjusting"] = TOPICS["covariates"] = TOPICS["and"] = TOPICS["factors"]
 

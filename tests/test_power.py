@@ -156,3 +156,18 @@ def test_a_long_search_can_be_stopped():
     s = permq.pipeline.Session(should_stop=stop)
     out = s.run("power groups 5, 5 shift 0.3 sd for power 90%")[0]
     assert not isinstance(out, PowerResult) and "cancelled" in out.message
+
+
+def test_slope_power_at_the_pilots_x_matches_the_noncentral_t():
+    from scipy import stats
+
+    base = f'load "{DEMO / "trays.csv"}" as trays\n'
+    r = _power(base + "power relate mass to light in trays using slope shift 0.5 sd "
+                      "datasets 3000 seed 8")
+    row = r.rows[0]
+    n = row.sizes[0]
+    # a slope of 0.5 sd of error per sd of x: t has noncentrality 0.5 sqrt(n - 1), n - 2 df
+    ncp, df = 0.5 * math.sqrt(n - 1), n - 2
+    crit = stats.t.ppf(0.975, df)
+    closed = stats.nct.sf(crit, df, ncp) + stats.nct.cdf(-crit, df, ncp)
+    assert abs(row.normal.value - closed) < 3.5 * row.normal.se

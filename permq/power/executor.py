@@ -84,10 +84,15 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
         raise PlanError(lay.can_resize(design), span=(opts.get("sizes") or opts["target"]).span)
     base = problem_for(design)
     shift_sd, words = _effect(base, shift, described)
-    per_group = lay.group_pattern(base, base.unit_pattern * shift_sd if shift is not None
-                                  or described else base.observed_pattern)
+    own = base.unit_pattern * shift_sd if shift is not None or described else \
+        base.observed_pattern
+    per_group = lay.group_pattern(base, own)
 
     def pattern_of(problem):
+        """The effect per unit: the design's own at its own layout (a slope's varies with x),
+        else the group's value (constant within groups in the layouts that resize)."""
+        if problem.n == base.n and np.array_equal(problem.codes, base.codes):
+            return own
         return per_group[problem.codes]
 
     law, residuals, law_words = None, None, "residuals of the pilot, resampled"
