@@ -47,6 +47,7 @@ def robustness_block(rr, color: bool = False) -> str:
     lines.append(f"  {column_words(rr)['shift']:<15}{rr.shift_words}")
     lines.append(f"  {'simulated test':<15}{rr.reference}")
     lines.extend(_table(rr, color))
+    lines.extend(_coverage_table(rr, color))
     for s in rr.summary:
         lines.append(textwrap.fill(s, 100, initial_indent="  ", subsequent_indent="    "))
     if rr.picture is not None:
@@ -67,6 +68,24 @@ def _table(rr, color) -> list:
                    f"{_rate(r.permutation_rate, r.permutation_se):<16}"
                    f"{_rate(r.normal_power, r.normal_power_se):<16}"
                    f"{_rate(r.permutation_power, r.permutation_power_se):<16}{r.verdict}")
+    return out
+
+
+def _coverage_table(rr, color) -> list:
+    """Coverage of both intervals per law, with the miss rate in each tail."""
+    if not getattr(rr, "coverage", None):
+        return []
+    law_w = max(15, max(len(r.name) for r in rr.coverage) + 2)
+    out = [f"  {'':<{law_w}}{f'coverage of the {rr.coverage_level:.0%} intervals':<36}"
+           "misses above / below the truth",
+           _c(f"  {'law':<{law_w}}{'exact':<18}{'normal theory':<18}{'exact':<18}"
+              f"{'normal theory':<18}verdict (exact; normal theory)", BOLD, color)]
+    for r in rr.coverage:
+        out.append(f"  {r.name:<{law_w}}{_rate(r.exact, r.exact_se):<18}"
+                   f"{_rate(r.normal, r.normal_se):<18}"
+                   f"{f'{r.exact_above:.3f} / {r.exact_below:.3f}':<18}"
+                   f"{f'{r.normal_above:.3f} / {r.normal_below:.3f}':<18}"
+                   f"{r.exact_verdict}; {r.normal_verdict}")
     return out
 
 

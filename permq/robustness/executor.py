@@ -17,7 +17,7 @@ from ..errors import BindError
 from ..families.registry import family_for
 from ..result import Note
 from ..syntax import nodes as n
-from . import laws, report
+from . import coverage, laws, report
 from .tables import check as table_check
 from .tables import events as event_check
 from .arrangements import EXACT_LIMIT, reference_size
@@ -91,7 +91,10 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
     problem = problem_for(design)
     pattern, shift, shift_sd = pattern_for(problem, check.shift)
     observed = _observed(design, text, progress, check)
-    sim = simulate(problem, pattern, check.datasets, check.alpha, int(seed), progress)
+    no_cover = coverage.applies(problem, observed)
+    level = design.settings.level
+    sim = simulate(problem, pattern, check.datasets, check.alpha, int(seed), progress,
+                   cover_level=None if no_cover else level)
     picture = null_picture(design, observed.outcome, int(seed))
     warnings = list(design.warnings) + [why for _, why in problem.check.leaves_out]
     if problem.kind == "paired":
@@ -101,7 +104,8 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
         warnings.append("one sample: errors are centred so that the family's parameter (mean, "
                         "pseudo-median or median) is zero under the null")
     return report.build(text, problem, observed, sim, shift, shift_sd,
-                        _shift_words(problem, check.shift, shift, shift_sd), picture, warnings)
+                        _shift_words(problem, check.shift, shift, shift_sd), picture, warnings,
+                        cover=(level, no_cover))
 
 
 def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note:

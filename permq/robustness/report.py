@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 
+from . import coverage
 from .batch import normal_test_name
 from .result import LawRow, RobustnessResult
 from .simulate import Simulation
@@ -165,8 +166,10 @@ def precision_lines(sim, unit: str = "law") -> list:
 
 
 def build(statement, problem, observed, sim: Simulation, shift, shift_sd,
-          shift_words, picture, warnings) -> RobustnessResult:
+          shift_words, picture, warnings, cover=None) -> RobustnessResult:
     table = rows(sim)
+    level, no_cover = cover if cover is not None else (None, "not asked")
+    intervals = [] if no_cover else coverage.rows(sim.rates, level, sim.datasets)
     if sim.exact:
         ref = f"exact: all {sim.arrangements:,} arrangements, for every data set"
     else:
@@ -174,6 +177,7 @@ def build(statement, problem, observed, sim: Simulation, shift, shift_sd,
                f"for every block of data sets; p = (b + 1) / (m + 1)")
     normal_test = normal_test_name(problem)
     lines = summary(table, sim.alpha, normal_test, shift_words) + precision_lines(sim)
+    lines += coverage.summary(intervals, level) if intervals else []
     if all(r.permutation_rate == 0 and r.permutation_power == 0 for r in table):
         lines.insert(1, f"The permutation test never rejected a data set at {sim.alpha:.0%}: with "
                         f"{sim.arrangements:,} arrangements its p-values do not fall that low.")
@@ -181,4 +185,6 @@ def build(statement, problem, observed, sim: Simulation, shift, shift_sd,
         statement, observed.family, problem.design_words, observed.outcome.statistic_name,
         normal_test, problem.alternative, sim.alpha, sim.datasets, ref, sim.exact,
         sim.arrangements, sim.seed, shift, shift_sd, shift_words, problem.sd, problem.sd_words,
-        table, lines, observed, picture, list(warnings))
+        table, lines, observed, picture, list(warnings), coverage=intervals,
+        coverage_level=level if intervals else None,
+        no_coverage=no_cover if cover is not None else "")

@@ -85,6 +85,9 @@ class RobustnessResult:
     line: Optional[int] = None
     counts: bool = False         # a check of counts: sampling schemes, not error laws
     seed_source: str = ""        # how the seed was had: given, statement, fresh (plan/seeds.py)
+    coverage: list = field(default_factory=list)   # coverage.CoverageRow per law
+    coverage_level: Optional[float] = None
+    no_coverage: str = ""        # why the intervals' coverage is not shown
 
     def to_dict(self) -> dict:
         obs = self.observed
@@ -112,6 +115,8 @@ class RobustnessResult:
                 "diagnostics": obs.extra.get("diagnostics")},
             "null_picture": self.picture.to_dict() if self.picture else None,
             "warnings": list(self.warnings),
+            "coverage": {"level": self.coverage_level,
+                         "laws": [r.to_dict() for r in self.coverage]} if self.coverage else None,
         }
 
     def sentence(self) -> str:

@@ -28,6 +28,7 @@ import numpy as np
 
 from ..engine.montecarlo import sampling
 from ..engine.core.progress import NO_PROGRESS
+from . import coverage
 from . import laws as L
 from .arrangements import exact_reference, sampled_reference
 from .batch import normal_p, permutation_p, scores
@@ -51,6 +52,8 @@ class LawRates:
     normal_power: Rate
     permutation_power: Rate
     not_exact: Optional[str]      # why the permutation test is not exact under this law
+    misses: Optional[tuple] = None    # intervals (coverage.misses): exact above, below;
+                                      # normal theory above, below (Rates), or None
 
 
 @dataclass(frozen=True)
@@ -85,29 +88,35 @@ def errors(problem: Problem, law: L.ErrorLaw, rng, size: int, f: np.ndarray) -> 
 
 def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float, seed: int,
              progress=NO_PROGRESS, permutations: int = PERMUTATIONS,
-             panel: Optional[tuple] = None, workers: Optional[int] = None) -> Simulation:
+             panel: Optional[tuple] = None, workers: Optional[int] = None,
+             cover_level: Optional[float] = None) -> Simulation:
+    """`cover_level`: also count the intervals' misses on the null data sets (coverage.py)."""
     panel = panel or L.panel_for(problem)
     exact = exact_reference(problem)
     tracker = Tracker(len(panel) * datasets)
 
     def one_law(j):
         return _law_counts(problem, panel[j], pattern, datasets, alpha, 1000 * seed + j, exact,
-                           permutations, tracker)
+                           permutations, tracker, cover_level)
 
     workers = max(1, min(workers or sampling.default_workers(), len(panel)))
     counts = run_parallel(one_law, len(panel), workers, tracker, progress)
     out = []
     for law, c in zip(panel, counts):
         rates = [rates_from_counts(c[:, i], c[:, 4], exact is None) for i in range(4)]
+        misses = None if cover_level is None else tuple(
+            rates_from_counts(c[:, i], c[:, 4], exact is None) for i in range(5, 9))
         out.append(LawRates(law, *rates,
                             not_exact=L.breaks_exactness(law, problem.kind, problem.check.centre,
-                                                            problem.form)))
+                                                            problem.form), misses=misses))
     return Simulation(tuple(out), datasets, alpha, exact is not None,
                       exact.count if exact is not None else permutations, seed)
 
 
-def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutations, tracker):
-    """Rejections per block: columns normal/permutation under the null, then at the shift."""
+def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutations, tracker,
+                cover_level=None):
+    """Rejections per block: columns normal/permutation under the null, then at the shift,
+    the block's size, then (with `cover_level`) the intervals' misses on the null data sets."""
     f = factors(problem, law)
     rows = []
     for _, size, rng in sampling.blocks(seed, datasets, BLOCK):
@@ -119,7 +128,11 @@ def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutation
             a = scores(problem, y)
             row.append(int(np.count_nonzero(normal_p(problem, y, a) <= alpha + 1e-12)))
             row.append(int(np.count_nonzero(permutation_p(problem, a, ref) <= alpha + 1e-12)))
-        rows.append(row + [size])
+            if y is e:
+                null_scores = a
+        extra = [] if cover_level is None else coverage.misses(problem, e, null_scores, ref,
+                                                               cover_level)
+        rows.append(row + [size] + extra)
         tracker.add(size)
     return np.array(rows)
 
