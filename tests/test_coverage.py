@@ -78,3 +78,17 @@ def test_coverage_follows_the_statements_confidence(level):
     rr = _check(f"robustness compare [1.1, 2.3, 1.9, 3.0, 2.2] vs [2.9, 3.1, 2.4, 3.8, 3.3] "
                 f"confidence {level} datasets 300 seed 2")
     assert rr.coverage_level == pytest.approx(0.90)
+
+
+def test_the_coverage_record_validates_against_the_schema():
+    import jsonschema
+
+    from permq.contract import schema
+
+    rr = _check("robustness compare [1.1, 2.3, 1.9, 3.0, 2.2] vs [2.9, 3.1, 2.4, 3.8, 3.3] "
+                "datasets 200 seed 2")
+    v = jsonschema.Draft202012Validator(schema())
+    record = rr.to_dict()
+    assert not list(v.iter_errors([record]))
+    record["coverage"]["laws"][0]["exact"]["coverage"] = 2.0
+    assert list(v.iter_errors([record]))

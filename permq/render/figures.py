@@ -104,7 +104,33 @@ def panel_figure(Figure, rr):
     right.set_ylim(0, 1)
     left.legend(frameon=False, fontsize=8)
     fig.suptitle(f"{rr.statement}\n{rr.datasets:,} data sets a {words['law']}", fontsize=9)
+    if getattr(rr, "coverage", None):
+        _coverage_axes(fig, rr)
     return fig
+
+
+def _coverage_axes(fig, rr):
+    """A third panel: coverage of both intervals per law, the nominal level drawn."""
+    fig.set_size_inches(14, 4)
+    for ax in fig.axes:
+        ax.set_position([ax.get_position().x0 * 0.7, ax.get_position().y0,
+                         ax.get_position().width * 0.7, ax.get_position().height])
+    ax = fig.add_axes([0.72, fig.axes[0].get_position().y0, 0.25,
+                       fig.axes[0].get_position().height])
+    names = [r.name for r in rr.coverage]
+    pos = list(range(len(names)))
+    for shift, label, colour, vals, ses in (
+            (-0.15, "normal theory", "#7a8fa6", [r.normal for r in rr.coverage],
+             [r.normal_se for r in rr.coverage]),
+            (0.15, "exact", "#b03a2e", [r.exact for r in rr.coverage],
+             [r.exact_se for r in rr.coverage])):
+        ax.errorbar([p + shift for p in pos], vals, yerr=[2 * s for s in ses], fmt="o",
+                    color=colour, label=label, capsize=3)
+    ax.axhline(rr.coverage_level, color="black", linestyle="--", linewidth=1)
+    ax.set_xticks(pos)
+    ax.set_xticklabels(names, rotation=30, ha="right", fontsize=8)
+    ax.set_ylabel(f"coverage of the {rr.coverage_level:.0%} intervals")
+    ax.legend(frameon=False, fontsize=8)
 
 
 def _values(rows, kind, label):
