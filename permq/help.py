@@ -8,8 +8,10 @@ TOPICS = {
   compare after vs before paired              paired columns (effect after - before)
   compare mass vs 12.5                        one sample against a value
   compare [4.1, 5.3, 4.8] vs [6.0, 5.9, 7.2]  inline samples
+  compare after vs before paired margin 0.5   equivalence: two one-sided exact tests at -0.5, +0.5
+  ... margin 0.5 alternative higher           non-inferiority (the lower margin only)
 options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact,
-         sampled N, seed N, in TABLE""",
+         sampled N, seed N, in TABLE, margin M""",
     "groups": """three or more groups, ordered groups, blocks (try them on the demo's trays and plots)
   compare mass by recipe                              k-sample (means: F; ranks: Kruskal-Wallis)
   compare mass by recipe ordered "B" < "A" < "C"      ordered: linear trend (means), Jonckheere-Terpstra (ranks)
@@ -110,6 +112,7 @@ TOPICS["tables"] = TOPICS["count"]
 TOPICS["proportions"] = TOPICS["rates"] = TOPICS["strata"] = TOPICS["events"]
 TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
 TOPICS["sample-size"] = TOPICS["law"] = TOPICS["power"]
+TOPICS["margin"] = TOPICS["equivalence"] = TOPICS["compare"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
 TOPICS["adjusting"] = TOPICS["covariates"] = TOPICS["and"] = TOPICS["factors"]
 

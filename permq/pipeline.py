@@ -47,13 +47,19 @@ def bind_seeded(node, text: str, catalog: Catalog, defaults: Defaults):
 
 def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Progress):
     """One analysis statement, end to end."""
+    from . import margins
+
     design, choice = bind_seeded(node, text, catalog, defaults)
+    margin_opt = n.options_of(node).get("margin")
+    margin = None if margin_opt is None else margins.check(design, margin_opt)
     handler = family_for(design)
     the_plan = handler.plan(design)
     result = handler.execute(design, the_plan, progress, text)
     result.seed_source = choice.source
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
+    if margin is not None:
+        margins.attach(design, result, margin, handler, progress)
     result.extra["estimated_seconds"] = round(the_plan.chosen.seconds, 4)   # what explain said
     result.summary_decimals = decimals.for_design(design)
     result.design = design            # kept for the report's pictures (not in the JSON)

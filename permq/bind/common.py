@@ -160,6 +160,8 @@ def _option_hint(key: str, form: str = "") -> Optional[str]:
         "shift": "'shift' goes with a robustness check: robustness compare ... shift 1 sd",
         "significance": "'significance' goes with a robustness check: "
                         "robustness compare ... significance 1%",
+        "margin": "'margin' goes with two samples, pairs or one sample: "
+                  "compare after vs before paired margin 0.5",
         "sizes": "'n' goes with power: power compare ... n 8 shift 1 sd",
         "law": "'law' goes with power: power compare ... shift 1 sd law t3",
         "target": "'for power' goes with power: power groups 6, 6 shift 1 sd for power 80%",

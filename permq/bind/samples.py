@@ -75,7 +75,7 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
         return grouped_forms.bind_groups(node, subject, opts, defaults, y, g, levels, blocks,
                                          warnings, table)
     s = settings_for(node, opts, defaults, "two-sample", "two groups",
-                     ("levels",))
+                     ("levels", "margin"))
     a, b = levels
     x1 = y[g == a].to_numpy(float)
     x2 = y[g == b].to_numpy(float)
@@ -108,7 +108,7 @@ def bind_samples(node, operands, opts, catalog, defaults):
             raise BindError("this sample has no values", op.span)
     if len(samples) > 2:
         return grouped_forms.bind_inline_groups(node, opts, defaults, samples, labels, warnings)
-    s = settings_for(node, opts, defaults, "two-sample", "two samples", ())
+    s = settings_for(node, opts, defaults, "two-sample", "two samples", ("margin",))
     return TwoSampleDesign(samples[0], samples[1], tuple(labels), "values",
                            f"{labels[0]} - {labels[1]}", s, warnings)
 
@@ -122,7 +122,7 @@ def bind_paired(node, operands, opts, catalog, defaults):
         raise BindError("'paired' compares exactly two columns or lists", node.subject.span)
     a, b = operands
     s = settings_for(node, opts, defaults, "paired", "paired data",
-                     ("paired",))
+                     ("paired", "margin"))
     warnings = ()
     if isinstance(a, n.ListOperand) and isinstance(b, n.ListOperand):
         if len(a.values) != len(b.values):
@@ -157,7 +157,7 @@ def bind_one_sample(node, operands, opts, catalog, defaults):
     if "paired" in opts:
         raise BindError("'paired' needs two columns; against a value the test is one-sample",
                         opts["paired"].span)
-    s = settings_for(node, opts, defaults, "one-sample", "one sample", ())
+    s = settings_for(node, opts, defaults, "one-sample", "one sample", ("margin",))
     warnings = ()
     if isinstance(first, n.ListOperand):
         x = finite_array(first.values, "this list", first.span)

@@ -126,6 +126,11 @@ def _single(r: dict) -> str:
     effects = _effects_clause(r)
     if effects:
         parts.append(effects)
+    if r.get("equivalence"):
+        e = r["equivalence"]
+        parts.append(f"{e['verdict']} (two one-sided exact tests, p = "
+                     f"{fmt.p(e['exact']['p_value'])}; {e['t_based']['test']} p = "
+                     f"{fmt.p(e['t_based']['p_value'])})")
     floor = _floor_clause(r)
     if floor:
         parts.append(floor)

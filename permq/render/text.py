@@ -97,6 +97,7 @@ def result_block(r: Result, color: bool = False) -> str:
                 lines.append(f"  {'also':<15}{lvl} {fmt.interval(x.interval)}: "
                              f"{x.interval_method}")
     lines.extend(count_lines(r))
+    lines.extend(equivalence_lines(r))
     lines.extend(effect_size_lines(r))
     if diagnostics_line(r):
         lines.append(diagnostics_line(r))
@@ -120,6 +121,30 @@ def result_block(r: Result, color: bool = False) -> str:
     for w in list(r.warnings) + list(o.warnings):
         lines.append(_c(f"  {'note':<15}{w}", DIM, color))
     return "\n".join(lines) + "\n"
+
+
+def equivalence_lines(r: Result) -> list:
+    """`margin M`: both two one-sided tests and the verdict (`extra["equivalence"]`)."""
+    e = r.extra.get("equivalence")
+    if not e:
+        return []
+    ex, tb = e["exact"], e["t_based"]
+
+    def parts(d):
+        got = [f"at -{e['margin']:g}: {fmt.p(d['p_lower_margin'])}"
+               if d.get("p_lower_margin") is not None else "",
+               f"at +{e['margin']:g}: {fmt.p(d['p_upper_margin'])}"
+               if d.get("p_upper_margin") is not None else ""]
+        return ", ".join(g for g in got if g)
+    sign = {"equivalence": "±", "non-inferiority": "-", "non-superiority": "+"}[e["kind"]]
+    out = [f"  {'margin':<15}{e['kind']}, margin {sign}{e['margin']:g}: exact p "
+           f"{fmt.p(ex['p_value'])} "
+           f"({parts(ex)}); {tb['test']}: p {fmt.p(tb['p_value'])} ({parts(tb)})"]
+    if ex.get("interval"):
+        out.append(f"  {'':<15}{ex['interval_level']:.0%} exact interval "
+                   f"{fmt.interval(tuple(ex['interval']))}")
+    out.append(f"  {'':<15}{e['verdict']}")
+    return out
 
 
 def smallest_line(r: Result) -> str:

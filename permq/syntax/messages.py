@@ -73,7 +73,7 @@ def _candidate_words(expected) -> list[str]:
 # Options the grammar accepts after every analysis but only some statements take (the binder
 # refuses them elsewhere): left out of "expected ..." lists where they cannot apply.
 _OPTIONS_OF = {"datasets": ("robustness", "power"), "shift": ("robustness", "power"),
-               "significance": ("robustness", "power"), "n": ("power",), "law": ("power",), "adjusting": ("relate", "compare"),
+               "significance": ("robustness", "power"), "n": ("power",), "law": ("power",), "margin": ("compare",), "adjusting": ("relate", "compare"),
                "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare", "power"),
                "top": ("compare",), "below": ("compare",), "levels": ("compare", "count"),
                "rows": ("count",), "columns": ("count",),

@@ -427,6 +427,9 @@ class _ToNodes(Transformer):
     def target(self, meta, ch):
         return self._opt(meta, "target", ch[0].value)
 
+    def margin(self, meta, ch):
+        return self._opt(meta, "margin", ch[0].value)
+
 
 def one_line(statement: str) -> str:
     """A statement as one line (for headings and saved sessions): backslash-continued lines

@@ -14,6 +14,7 @@ KEYWORDS = {
     "power": "power and sample size by simulation",
     "n": "units a group (one number, or one a group)",
     "law": "error law of the simulated data",
+    "margin": "equivalence (two-sided) or non-inferiority margin",
     "groups": "group sizes of a layout: groups 6, 6",
     "pairs": "number of pairs of a layout",
     "sample": "size of one sample",
