@@ -47,9 +47,11 @@ def sentence(r: dict) -> str:
     if r.get("target") is not None:
         need = r["needed"] or {}
 
+        unit = {"pairs": " pairs", "one sample": " units"}.get(r["design"], " a group")
+
         def got(k):
-            return f"n = {k}" if k is not None else "not reached"
-        return (f"{head}: {r['target']:.0%} power needs {got(need.get('permutation'))} a group "
+            return f"n = {k}{unit}" if k is not None else "not reached"
+        return (f"{head}: {r['target']:.0%} power needs {got(need.get('permutation'))} "
                 f"for the permutation test and {got(need.get('normal'))} for "
                 f"{r['normal_test']}.")
     row = r["rows"][0]
