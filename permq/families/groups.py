@@ -9,9 +9,6 @@ from ..normal import ksample as normal_k
 from ..plan.planner import make_plan
 from ..result import Result
 
-# the exact trend-slope interval lists every assignment: at most this many (about 0.3 s)
-SLOPE_INTERVAL_LISTING = 200_000
-
 K_NORMAL = {"means": normal_k.one_way_anova, "ranks": normal_k.kruskal_chi_square,
             "normal-scores": normal_k.normal_scores_chi_square,
             "medians": normal_k.median_chi_square}
@@ -54,15 +51,19 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     also, estimate, rule = [], None, TWO_SIDED_QUADRATIC
     if design.kind == "blocked":
         test = blocked_test(design)
+        g, labels = _first_minus_second(design)
         out = blocks_engine.run(test, v, g, design.blocks, s.alternative, alg, draws, seed,
                                 progress, n_groups=len(design.labels),
-                                block_names=design.block_labels, group_names=design.labels)
-        normal = _blocked_normal(test, design)
+                                block_names=design.block_labels, group_names=labels,
+                                limits=the_plan.limits)
+        normal = _blocked_normal(test, design, g)
         if test.startswith("stratified") or test == "page":
             rule = TWO_SIDED_LINEAR
-        effect = (f"{design.labels[0]} - {design.labels[1]} within {_blocks_word(design)}"
+        effect = (f"{labels[0]} - {labels[1]} within {_blocks_word(design)}"
                   if len(design.labels) == 2 else
                   f"differences among {', '.join(design.labels)} within {_blocks_word(design)}")
+        if design.ordered and len(design.labels) == 2:
+            effect += f" (a rise along {' < '.join(design.labels)})"
         if test == "page":
             effect = f"a rise along {' < '.join(design.labels)} within {_blocks_word(design)}"
     elif design.kind == "ordered":
@@ -75,7 +76,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
             normal = normal_k.jonckheere_normal(v, g, s.alternative)
             also.append(normal_k.linear_trend_t(v, g, design.scores, s.alternative, s.level))
         estimate = ordered.slope_estimate(v, g, design.scores, s.level, s.alternative, progress,
-                                          max_arrangements=SLOPE_INTERVAL_LISTING)
+                                          limits=the_plan.limits)
         rule = TWO_SIDED_LINEAR
         effect = f"a rise along {' < '.join(design.labels)}"
     else:
@@ -84,18 +85,27 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
         if s.family == "means":
             also.append(normal_k.welch_anova(v, g))
         effect = f"differences among {', '.join(design.labels)}"
-    groups = normal_k.group_summaries(v, g, design.labels)
+    groups = normal_k.group_summaries(v, design.groups, design.labels)
     return Result(statement, design.kind, s.alternative, out, normal, estimate, effect=effect,
                   groups=groups, two_sided_rule=rule, warnings=list(design.warnings),
                   also_normal=also)
+
+
+def _first_minus_second(design):
+    """Group codes and labels with the effect's first level as code 0: two ordered levels
+    within blocks test a rise along the order, so the later level comes first (its sum is the
+    statistic, and 'higher' means it lies above the earlier one)."""
+    if design.ordered and len(design.labels) == 2:
+        return 1 - design.groups, design.labels[::-1]
+    return design.groups, design.labels
 
 
 def _blocks_word(design) -> str:
     return f"{len(design.block_labels)} blocks"
 
 
-def _blocked_normal(test, design):
-    v, g, b, s = design.values, design.groups, design.blocks, design.settings
+def _blocked_normal(test, design, g):
+    v, b, s = design.values, design.blocks, design.settings
     if test == "stratified-means":
         return normal_blocks.stratified_mean_t(v, g, b, s.alternative, s.level)
     if test == "stratified-ranks":

@@ -19,6 +19,7 @@ from typing import Optional
 import numpy as np
 from scipy import stats
 
+from ..engine.core.scores import midranks
 from ..errors import DataError
 from ..result import NormalTheory
 from .tails import p_from_t as _p_from_t, p_from_z as _p_from_z, t_interval
@@ -55,7 +56,7 @@ def fisher_interval(r: float, n: int, level: float, alternative: str) -> tuple:
 
 def spearman(y, x, alternative: str) -> NormalTheory:
     n = len(y)
-    rho = float(np.corrcoef(stats.rankdata(x), stats.rankdata(y))[0, 1])
+    rho = float(np.corrcoef(midranks(x), midranks(y))[0, 1])
     t = _t_of_r(max(-1.0, min(1.0, rho)), n - 2)
     return NormalTheory("t approximation for Spearman's rho (mid-ranks)", t, float(n - 2),
                         _p_from_t(t, n - 2, alternative))

@@ -11,7 +11,9 @@ from typing import Optional
 import numpy as np
 from scipy import stats
 
-from ..engine.ksample import above_median, design, midranks, normal_scores
+from ..engine.core.grid import centred, is_constant
+from ..engine.core.scores import median_scores, midranks, normal_scores
+from ..engine.ksample import design
 from ..engine.ordered import dose_scores, jt_doubled, least_squares_slope
 from ..result import NormalTheory
 from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval
@@ -62,11 +64,12 @@ def welch_anova(values, groups) -> NormalTheory:
 
 def _quadratic_chi_square(score, values, groups, factor):
     x, g, sizes = design(values, groups)
-    a = score(x)
+    raw = score(x)
+    if is_constant(raw):
+        return math.nan, 1.0, len(sizes) - 1
+    a = centred(raw)
     a = a - a.mean()
     sst = float(np.sum(a * a))
-    if sst <= 0:
-        return math.nan, 1.0, len(sizes) - 1
     ssb = float(np.sum(np.bincount(g, weights=a) ** 2 / sizes))
     stat = factor(len(x)) * ssb / sst
     return stat, float(stats.chi2.sf(stat, len(sizes) - 1)), len(sizes) - 1
@@ -85,7 +88,7 @@ def normal_scores_chi_square(values, groups) -> NormalTheory:
 
 
 def median_chi_square(values, groups) -> NormalTheory:
-    s, p, df = _quadratic_chi_square(above_median, values, groups, lambda N: N)
+    s, p, df = _quadratic_chi_square(median_scores, values, groups, lambda N: N)
     return NormalTheory("median test, Pearson chi-square approximation (no continuity correction)",
                         s, float(df), p)
 

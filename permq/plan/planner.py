@@ -14,11 +14,9 @@ from dataclasses import dataclass
 from typing import Callable
 
 from ..errors import PlanError
+from ..engine.core.limits import DEFAULT_DRAWS, EXACT_CEILING_SECONDS, Limits, limits_for
 from ..engine.montecarlo.sampling import fresh_seed
 from .cost import Candidate, calibrated
-
-DEFAULT_DRAWS = 100_000
-EXACT_CEILING_SECONDS = 3600.0
 
 
 @dataclass(frozen=True)
@@ -31,6 +29,7 @@ class Plan:
     seed: int
     reason: str
     budget_seconds: float
+    limits: Limits = Limits()      # from the settings (`set memory`, `set budget`), for the engine
 
     @property
     def method(self) -> str:
@@ -66,7 +65,8 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
     budget = settings.budget_seconds
 
     def plan(chosen, reason):
-        return Plan(engine, family, chosen, cands, draws, seed, reason, budget)
+        return Plan(engine, family, chosen, cands, draws, seed, reason, budget,
+                    limits_for(settings))
 
     if settings.sampled and mc is not None:
         return plan(mc, f"'sampled {settings.sampled}' asks for Monte Carlo")

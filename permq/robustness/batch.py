@@ -19,6 +19,7 @@ import numpy as np
 from scipy import stats
 
 from ..engine.core.pvalues import RTOL
+from ..engine.core.scores import midranks
 from .arrangements import Reference
 from .problem import Problem
 
@@ -28,14 +29,14 @@ CHUNK_WORK = 160_000     # multiply-adds a piece of a product (below BLAS's thre
 # ---------------------------------------------------------------- scores
 
 def _ranks(Y):
-    return stats.rankdata(Y, axis=1)
+    return midranks(Y, axis=1)
 
 
 def _ranks_within(problem: Problem, Y):
     out = np.empty_like(Y, dtype=float)
     for s in np.unique(problem.strata):
         units = np.nonzero(problem.strata == s)[0]
-        out[:, units] = stats.rankdata(Y[:, units], axis=1)
+        out[:, units] = midranks(Y[:, units], axis=1)
     return out
 
 

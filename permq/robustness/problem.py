@@ -30,6 +30,7 @@ from typing import Optional
 import numpy as np
 
 from ..bind import designs
+from ..engine.core.scores import midranks
 from ..errors import PlanError
 from ..families.groups import blocked_test
 
@@ -236,9 +237,7 @@ def _slope(d) -> Problem:
     sd = float(np.sqrt((resid ** 2).sum() / (n - 2)))
     form = "linear"
     if fam == "spearman":
-        from scipy.stats import rankdata
-
-        rx = rankdata(x)
+        rx = midranks(x)
         w = rx - rx.mean()
     elif fam == "kendall":
         form, w = "pairs", pair_weights(x)

@@ -22,11 +22,10 @@ from typing import Optional
 import numpy as np
 from scipy.special import gammaln, xlogy
 
-from ..core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC, tolerance
+from ..core.pvalues import PROBABILITY_RTOL, TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC, tolerance
 
 STATISTICS = ("fisher", "chi-square", "likelihood-ratio", "trend")
 ALTERNATIVES = ("two-sided", "higher", "lower")
-PROBABILITY_RTOL = 1e-7
 
 NAMES = {"fisher": "table probability (Fisher-Freeman-Halton)",
          "chi-square": "Pearson chi-square",
