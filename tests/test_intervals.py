@@ -265,3 +265,47 @@ def test_rank_and_sign_intervals_reach_the_result():
     r = result_of(f"compare {inline(x)} vs {inline(y)} using ranks alternative lower")
     assert r.estimate.interval == \
         rankintervals.hodges_lehmann_two_sample(x, y, 0.95, "lower")[1]
+
+
+# ---------------------------------------------------------------- slopes: the same end rule
+
+def _slope_keeps(y, x, b0, level, alternative):
+    """Brute force over every pairing (exact fractions): is slope b0 kept?"""
+    r = [brute.frac(v) - b0 * brute.frac(u) for v, u in zip(y, x)]
+    return _keeps(brute.association_p("slope", r, x, "higher"),
+                  brute.association_p("slope", r, x, "lower"), level, alternative)
+
+
+def _trend_keeps(y, g, d, b0, level, alternative):
+    r = [brute.frac(v) - b0 * brute.frac(d[h]) for v, h in zip(y, g)]
+    dd = [brute.frac(v) for v in d]
+    return _keeps(brute.trend_p(r, g, dd, "higher"), brute.trend_p(r, g, dd, "lower"), level,
+                  alternative)
+
+
+@pytest.mark.parametrize("level", (0.8, 0.9))
+@pytest.mark.parametrize("alternative", ALTERNATIVES)
+def test_slope_interval_ends_follow_the_rule(level, alternative):
+    # 5 pairs, 120 pairings: at 90% alpha/2 = 6/120 exactly, where floating point would keep
+    # the shifts whose p is exactly alpha/2
+    from permq.engine import association
+
+    x = [1.0, 2.0, 3.0, 4.0, 5.0]
+    y = [1.1, 1.9, 3.2, 3.9, 5.3]
+    est = association.estimate("slope", y, x, alternative, "enumeration", level=level)
+    _check_endpoints(est.interval, lambda b: _slope_keeps(tuple(y), tuple(x), b, level,
+                                                          alternative))
+
+
+@pytest.mark.parametrize("level", (0.8, 0.9))
+@pytest.mark.parametrize("alternative", ALTERNATIVES)
+def test_trend_slope_interval_ends_follow_the_rule(level, alternative):
+    # two ordered groups of 3 with doses 0 and 1: 20 assignments, 1/20 = alpha/2 at 90%
+    from permq.engine import ordered
+
+    y = [1.2, 0.8, 2.1, 2.6, 1.9, 3.1]
+    g = [0, 0, 0, 1, 1, 1]
+    d = [0.0, 1.0]
+    est = ordered.slope_estimate(np.array(y), np.array(g), np.array(d), level, alternative)
+    _check_endpoints(est.interval, lambda b: _trend_keeps(tuple(y), tuple(g), tuple(d), b, level,
+                                                          alternative))

@@ -260,7 +260,6 @@ def trend_setup(values, groups, scores=None) -> TrendSetup:
         w, e = zg.integers.astype(float), dg.integers.astype(float)
         units = zg.step, dg.step
         exact = float(w.sum()) * float(e.max(initial=0)) < EXACT_COUNT_LIMIT
-        exact = exact and float(e.sum() * e.max(initial=0)) * len(x) < EXACT_COUNT_LIMIT
     if not exact:
         w, e, units = centred(x), centred(d), (1.0, 1.0)
     w_obs = float(np.sum(e[g] * w))
@@ -424,18 +423,23 @@ def _slope_ratios(st: TrendSetup, progress):
     on grids, else centred: A and B do not move with either's offset); the test of slope b0
     counts an assignment in its upper tail when A - b0 B >= 0, ties included.
     """
-    e_item = st.e[st.g]
-    both = np.column_stack([st.w, e_item])
+    w, e, unit = st.w, st.e, st.ratio_unit
+    exact = st.exact and float(np.max(np.abs(e))) ** 2 * len(st.x) < EXACT_COUNT_LIMIT
+    if not exact:           # B's squares would pass the exact integers: centred instead
+        w, e, unit = centred(st.x), centred(st.d), 1.0
+    e_item = e[st.g]
+    w_obs = float(np.sum(e_item * w))
+    both = np.column_stack([w, e_item])
     b_obs = float(np.sum(e_item * e_item))
-    tol = 0.0 if st.exact else pvalues.tolerance(b_obs)
+    tol = 0.0 if exact else pvalues.tolerance(b_obs)
     ratios, fixed = [], 0
     for chunk in enumerate_group_sums(both, st.sizes, progress):
-        a = chunk[:, :, 0] @ st.e - st.w_obs
-        bb = chunk[:, :, 1] @ st.e - b_obs
+        a = chunk[:, :, 0] @ e - w_obs
+        bb = chunk[:, :, 1] @ e - b_obs
         moved = bb < -tol
         fixed += int(np.count_nonzero(~moved))
         ratios.append(a[moved] / bb[moved])
-    return np.sort(np.concatenate(ratios)) * st.ratio_unit, fixed
+    return np.sort(np.concatenate(ratios)) * unit, fixed
 
 
 def _invert(ratios, fixed, arr, level, alternative):

@@ -36,6 +36,7 @@ def slope_pass(y, x, algorithm: str, draws=None, seed=None, progress=NO_PROGRESS
     if algorithm not in ("enumeration", "monte-carlo"):
         raise ValueError(f"the slope is tested by enumeration or monte-carlo, not {algorithm!r}")
     pb = problem("slope", y, x)
+    y = pb.moving           # centred as the problem's T is (the same constant off every T)
     ts, dens = [], []
     if algorithm == "enumeration":
         xr, yr, counts = distinct_pairs(y, x)

@@ -121,12 +121,12 @@ def prepare_complete(test, values, groups, blocks, n_groups=None, block_names=No
         return Complete(test, k, ranks, ints, step, t_obs, denom, tuple(warnings))
     if b < 2:
         raise BindError("the within-block F needs at least two blocks")
+    ints, step = _table_grid(y)                 # decided on the values as recorded
     y = np.vstack([centred(row) for row in y])
     f, _, resid_total = f_from_table(y)
     if not np.isfinite(f):
         warnings.append("the additive model fits exactly (no residual variation): F is infinite"
                         if f == np.inf else "no variation within blocks: F is undefined")
-    ints, step = _table_grid(y)
     return Complete(test, k, y, ints, step, f, resid_total, tuple(warnings))
 
 
