@@ -14,6 +14,7 @@ from scipy import stats
 
 from ..engine.blocks.complete import block_matrix, friedman_from_ranks
 from ..engine.blocks.shared import design_arrays
+from ..engine.core.grid import negligible
 from ..engine.core.scores import midranks
 from ..engine.blocks.stratified import prepare_stratified
 from ..errors import BindError
@@ -46,7 +47,7 @@ def additive_f(values, groups, blocks) -> NormalTheory:
     if df1 < 1 or df2 < 1:
         raise BindError("the additive two-way model leaves no degrees of freedom for the F test")
     gain = max(rss_r - rss_f, 0.0)
-    if rss_f <= 1e-12 * max(rss_r, 1e-300):
+    if negligible(rss_f, rss_r):
         f, p = (float("inf"), 0.0) if gain > 0 else (float("nan"), 1.0)
     else:
         f = (gain / df1) / (rss_f / df2)

@@ -11,7 +11,7 @@ from typing import Optional
 import numpy as np
 from scipy import stats
 
-from ..engine.core.grid import centred, is_constant
+from ..engine.core.grid import centred, is_constant, negligible
 from ..engine.core.scores import median_scores, midranks, normal_scores
 from ..engine.ksample import design
 from ..engine.ordered import dose_scores, jt_doubled, least_squares_slope
@@ -34,7 +34,7 @@ def one_way_anova(values, groups) -> NormalTheory:
     N, k = len(x), len(sizes)
     ssb = float(np.sum(sizes * (means - x.mean()) ** 2))
     df1, df2 = k - 1, N - k
-    if df2 < 1 or ssw <= 1e-12 * max(ssb + ssw, 1e-300):
+    if df2 < 1 or negligible(ssw, ssb + ssw):
         f = math.inf if ssb > 0 else math.nan
         p = 0.0 if ssb > 0 else 1.0
     else:
@@ -49,7 +49,8 @@ def welch_anova(values, groups) -> NormalTheory:
     x, g, sizes, means, _ = _group_stats(values, groups)
     k = len(sizes)
     var = np.array([np.var(x[g == i], ddof=1) if sizes[i] > 1 else np.nan for i in range(k)])
-    if np.any(~np.isfinite(var)) or np.any(var <= 0):
+    flat = any(is_constant(x[g == i]) for i in range(k))
+    if np.any(~np.isfinite(var)) or np.any(var <= 0) or flat:
         return NormalTheory("Welch one-way ANOVA (unequal variances): not defined, a group has "
                             "fewer than two values or no spread", math.nan, None, math.nan)
     w = sizes / var

@@ -26,6 +26,7 @@ import numpy as np
 
 from ...plan.cost import Candidate
 from . import arrangements, kernels as kernels, multiplicity
+from ..core.counting import multinomial
 from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from ..core.scores import midranks
@@ -64,7 +65,7 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
     sizes = [int(s) for s in sizes]
     N = sum(sizes)
     summed = N - max(sizes)
-    total = float(arrangements.count(sizes))
+    total = float(multinomial(sizes))
     passes = 3.0 if method == "min-p" else 1.0
 
     def ops(rows):
@@ -219,7 +220,7 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
                           pool, progress)
     else:
         adjusted = multiplicity.from_raw(raw, method, step)
-    return FamilyOutcome(t_obs, raw, adjusted, how, words, float(arrangements.count(sizes)),
+    return FamilyOutcome(t_obs, raw, adjusted, how, words, float(multinomial(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None)
 
@@ -313,7 +314,7 @@ def run_pairwise(values, codes, family: str, method: str, step: str, algorithm: 
     raw, adjusted = multiplicity.from_matrix(z, z_obs[0], method, step)
     t = overall_obs[0]
     p_overall = np.count_nonzero(overall >= t - multiplicity.tolerances([t])[0]) / R
-    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, float(arrangements.count(sizes)),
+    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, float(multinomial(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None,
                          overall={"statistic": float(t), "p_value": float(p_overall)},
