@@ -335,3 +335,20 @@ def test_many_responses_keep_their_p_under_offsets_and_powers_of_ten():
         assert same(p), p
         if family == "means":
             assert p[0] == pytest.approx(want, rel=1e-9)
+
+
+def test_robustness_check_keeps_its_numbers_under_an_offset_and_a_power_of_ten():
+    # the simulated data sets live on the design's standardised scale: the rejection rates of
+    # both tests do not move when the data are shifted by 100000 or multiplied by 100
+    x = [10.1, 10.4, 9.8, 10.9, 11.2]
+    y = [9.1, 9.9, 9.5, 10.2, 9.0]
+    shift = lambda vs: _inline([Fraction(repr(v)) + 100000 for v in vs])
+    times = lambda vs: _inline([Fraction(repr(v)) * 100 for v in vs])
+    rows = []
+    for a, b in ((_inline([Fraction(repr(v)) for v in x]), _inline([Fraction(repr(v)) for v in y])),
+                 (shift(x), shift(y)), (times(x), times(y))):
+        out = permq.run(f"robustness compare {a} vs {b} datasets 200 seed 3")[0]
+        rows.append([(law["law"], law["permutation"]["rejection_rate"],
+                      law["permutation"]["power"], law["normal_theory"]["rejection_rate"])
+                     for law in out.to_dict()["laws"]])
+    assert rows[0] == rows[1] == rows[2]

@@ -17,6 +17,7 @@ import numpy as np
 
 from .core.confidence import alpha_side, last_rejected
 from .core.counting import counts_all_subsets, counts_by_size
+from .core.grid import exact_difference, integer_grid
 
 # the exact no-ties laws are counted up to these sizes; beyond, normal-approximation ranks
 EXACT_TWO_SAMPLE_WORK = 5e7      # n1 * n2 * (n1 + n2)
@@ -76,10 +77,16 @@ def binomial_critical(n: int, side: Fraction) -> int:
     return c
 
 
+def pairwise_differences(x, y) -> np.ndarray:
+    """Every x_i - y_j, sorted, formed on the data's decimal grid (exact decimals)."""
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    return np.sort(exact_difference(np.repeat(x, len(y)), np.tile(y, len(x))))
+
+
 def hodges_lehmann_two_sample(x, y, level, alternative):
     x, y = np.asarray(x, float), np.asarray(y, float)
     n1, n2 = len(x), len(y)
-    diffs = np.sort((x[:, None] - y[None, :]).ravel())
+    diffs = pairwise_differences(x, y)
     est = float(np.median(diffs))
     side = _side(level, alternative)
     exact = n1 * n2 * (n1 + n2) <= EXACT_TWO_SAMPLE_WORK
@@ -92,16 +99,21 @@ def hodges_lehmann_two_sample(x, y, level, alternative):
 
 def hodges_lehmann_two_sample_normal(x, y, level, alternative):
     n1, n2 = len(x), len(y)
-    diffs = np.sort((np.asarray(x, float)[:, None] - np.asarray(y, float)[None, :]).ravel())
+    diffs = pairwise_differences(x, y)
     c = _normal_critical(n1 * n2 / 2, np.sqrt(n1 * n2 * (n1 + n2 + 1) / 12),
                          _side(level, alternative))
     return _interval_from_order(diffs, c, alternative)
 
 
 def walsh_averages(d):
+    """Every (d_i + d_j) / 2, i <= j, sorted; on the data's decimal grid, exact decimals."""
     d = np.asarray(d, float)
     i, j = np.triu_indices(len(d))
-    return np.sort((d[i] + d[j]) / 2)
+    grid = integer_grid(d)
+    if grid is None:
+        return np.sort((d[i] + d[j]) / 2)
+    z = grid.integers
+    return np.sort(grid.means(z[i] + z[j], 2))
 
 
 def hodges_lehmann_one_sample(d, level, alternative):

@@ -39,6 +39,7 @@ class Grid:
     origin: float            # the smallest value
     unit: int                # the step in units of 10^-decimals (the integers' gcd)
     decimals: int
+    anchor: int = 0          # the smallest value in units of 10^-decimals (exactly)
 
     @property
     def step(self) -> float:
@@ -47,6 +48,11 @@ class Grid:
     def differences(self, k) -> np.ndarray:
         """step * k for integers k, correctly rounded (equal |k| give equal magnitudes)."""
         return (np.asarray(k, dtype=np.int64) * self.unit) / 10.0 ** self.decimals
+
+    def means(self, z_sums, count: int) -> np.ndarray:
+        """The mean of `count` values whose integers sum to z_sums, correctly rounded."""
+        num = count * self.anchor + np.asarray(z_sums, dtype=np.int64) * self.unit
+        return num / (count * 10.0 ** self.decimals)
 
 
 def reference_value(values) -> float:
@@ -95,7 +101,7 @@ def integer_grid(values, max_decimals: int = MAX_DECIMALS) -> Optional[Grid]:
         shifted = ints - low
         unit = reduce(gcd, (int(v) for v in np.unique(shifted) if v), 0) or 1
         anchor = int(np.round(ref_scaled)) + low          # the smallest value, in 10^-d units
-        grid = Grid(shifted // unit, anchor / scale, unit, d)
+        grid = Grid(shifted // unit, anchor / scale, unit, d, anchor)
         if _reproduces(grid, a, tol / scale):
             return grid
         return None
