@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from math import comb
-from typing import Optional
+from typing import Callable, Optional
 
 import numpy as np
 
@@ -29,36 +29,41 @@ from .core.scores import median_scores, midranks, normal_scores
 
 
 @dataclass(frozen=True)
-class TwoSampleFamily:
+class ScoreRule:
+    """How a two-sample family scores the pooled values; its statistic is the first group's
+    score sum (or, for `mean_difference`, the difference in means, with the exact interval
+    for a shift). A family may bring its own rule (families/scale.py does)."""
+
     key: str
     statistic_name: str
+    scores: Callable[[np.ndarray], np.ndarray]   # pooled values (first group first) -> scores
+    mean_difference: bool = False
 
 
-FAMILIES = {
-    "means": TwoSampleFamily("means", "difference in means"),
-    "ranks": TwoSampleFamily("ranks", "rank sum of the first group (mid-ranks)"),
-    "normal-scores": TwoSampleFamily("normal-scores", "normal-scores sum of the first group"),
-    "medians": TwoSampleFamily("medians", "count of the first group above the pooled median"),
+RULES = {
+    "means": ScoreRule("means", "difference in means", lambda a: a, mean_difference=True),
+    "ranks": ScoreRule("ranks", "rank sum of the first group (mid-ranks)", midranks),
+    "normal-scores": ScoreRule("normal-scores", "normal-scores sum of the first group",
+                               normal_scores),
+    "medians": ScoreRule("medians", "count of the first group above the pooled median",
+                         median_scores),
 }
 
 
-def scores_for(family: str, x, y) -> np.ndarray:
-    pooled = np.concatenate([x, y]).astype(float)
-    if family == "means":
-        return pooled
-    if family == "ranks":
-        return midranks(pooled)
-    if family == "normal-scores":
-        return normal_scores(pooled)
-    if family == "medians":
-        return median_scores(pooled)
-    raise KeyError(family)
+def rule_of(rule) -> ScoreRule:
+    """A rule, or the name of one of this engine's rules."""
+    return RULES[rule] if isinstance(rule, str) else rule
+
+
+def scores_for(rule, x, y) -> np.ndarray:
+    return rule_of(rule).scores(np.concatenate([x, y]).astype(float))
 
 
 # ---------------------------------------------------------------- cost
 
-def candidates(family: str, x, y, draws: int) -> list[Candidate]:
-    a = scores_for(family, x, y)
+def candidates(rule, x, y, draws: int) -> list[Candidate]:
+    rule = rule_of(rule)
+    a = scores_for(rule, x, y)
     n1, N = len(x), len(a)
     total = float(comb(N, n1))
     out = []
@@ -67,10 +72,10 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
         width = float(np.sort(grid.integers)[::-1][:n1].sum()) + 1
         ops = N * (n1 + 1) * width / 2
         mem = layer_bytes(n1 + 1, width)
-        if family == "means":   # the exact interval counts each group on its own as well
+        if rule.mean_difference:   # the exact interval counts each group on its own as well
             ops *= 2
             mem *= 2
-        note = ("scores are integers" if family != "means"
+        note = ("scores are integers" if not rule.mean_difference
                 else f"data on a grid of {grid.step:g} ({grid.decimals} decimals)")
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
                              note=note, arrangements=total))
@@ -81,7 +86,7 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
     # listing runs at about 3 microseconds an arrangement (itertools, gathers, sums); every
     # sum is kept (and for means the moved count and jump too)
     out.append(Candidate("enumeration", "complete enumeration", True, total * (n1 * 8 + 600),
-                         min(total, 1e5) * n1 * 8 * 3 + total * 8 * (3 if family == "means" else 1),
+                         min(total, 1e5) * n1 * 8 * 3 + total * 8 * (3 if rule.mean_difference else 1),
                          arrangements=total,
                          note=f"{total:.3g} arrangements"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
@@ -116,25 +121,25 @@ def _scores(a) -> Scores:
     return Scores(a, a - ref, ref, 1.0, None)
 
 
-def _statistic(family: str, sc: Scores, s_w, n1: int):
+def _statistic(rule: ScoreRule, sc: Scores, s_w, n1: int):
     """The reported statistic for a group-1 sum s_w of w (differences of means need no base)."""
     s_w = np.asarray(s_w, dtype=float)
-    if family == "means":
+    if rule.mean_difference:
         n2 = len(sc.w) - n1
         return sc.unit * (s_w / n1 - (sc.w.sum() - s_w) / n2)
     return n1 * sc.base + sc.unit * s_w
 
 
-def run(family: str, x, y, alternative: str, algorithm: str, level: float,
+def run(rule, x, y, alternative: str, algorithm: str, level: float,
         draws: Optional[int] = None, seed: Optional[int] = None,
         progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:
     """The permutation p-value, and for `means` the exact interval for the shift x - y."""
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
-    sc = _scores(scores_for(family, x, y))
+    fam = rule_of(rule)
+    sc = _scores(scores_for(fam, x, y))
     n1 = len(x)
-    fam = FAMILIES[family]
-    t_obs = float(_statistic(family, sc, sc.w[:n1].sum(), n1))
+    t_obs = float(_statistic(fam, sc, sc.w[:n1].sum(), n1))
     if algorithm == "dp-integer":
         return _run_dp(fam, x, y, sc, alternative, level, t_obs, progress)
     if algorithm == "enumeration":
@@ -168,12 +173,12 @@ def _run_dp(fam, x, y, sc, alternative, level, t_obs, progress):
     total = comb(N, n1)
     warn = () if total < EXACT_COUNT_LIMIT else (
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
-    stat_support = _statistic(fam.key, sc, support, n1)
+    stat_support = _statistic(fam, sc, support, n1)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact",
                         "dynamic programming on integer scores", arrangements=float(total),
                         null_support=stat_support, null_probs=counts / counts.sum(), warnings=warn)
     interval = None
-    if fam.key == "means":
+    if fam.mean_difference:
         interval = _shift_interval_dp(q[:n1], q[n1:], grid, level, alternative, total)
     return out, interval
 
@@ -208,7 +213,7 @@ def _run_enumeration(fam, x, y, sc, alternative, level, t_obs, progress):
     for idx in combinations_chunks(N, n1):
         s = w[idx].sum(axis=1)
         sums.append(s)
-        if fam.key == "means":
+        if fam.mean_difference:
             in2 = idx >= n1
             u = in2.sum(axis=1)
             g2_in = np.where(in2, w[idx], 0.0).sum(axis=1)
@@ -222,9 +227,9 @@ def _run_enumeration(fam, x, y, sc, alternative, level, t_obs, progress):
     uniq, cnt = _tally(sums)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact", "complete enumeration",
                         arrangements=float(total),
-                        null_support=_statistic(fam.key, sc, uniq, n1), null_probs=cnt / total)
+                        null_support=_statistic(fam, sc, uniq, n1), null_probs=cnt / total)
     interval = None
-    if fam.key == "means":
+    if fam.mean_difference:
         u = np.concatenate(us)
         jump = np.concatenate(ws)
         moved = u > 0
@@ -249,7 +254,7 @@ def _run_monte_carlo(fam, x, y, sc, alternative, level, t_obs, draws, seed, prog
     n1, N = len(x), len(sc.w)
     w = sc.w
     s_obs = w[:n1].sum()
-    means = fam.key == "means"
+    means = fam.mean_difference
 
     def work(size, rng):
         s, u, g2_in = subset_sums(w, n1, random_u32(rng, size, n1), sums_only=not means)

@@ -17,6 +17,7 @@ from ..errors import PlanError
 from ..normal.theory import two_sample as normal_two_sample
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
+from .registry import Family
 
 RULES = {
     ("max-t", "step-down"): "Westfall-Young max-T, step-down, from the joint permutation "
@@ -238,3 +239,15 @@ def _overall(design, out) -> dict:
                 "p_value": out.overall["p_value"]}
     return {"test": "Kruskal-Wallis (mid-ranks, tie-corrected)", "statistic": t,
             "p_value": out.overall["p_value"]}
+
+
+FAMILIES = [
+    Family("means", ("many",), "joint permutation tests of differences in means", "",
+           plan, execute, "Welch t per response", "difference in means with its Welch interval",
+           no_robustness="several tests at once: the check takes one response or pair at a time",
+           default_in=("many",)),
+    Family("ranks", ("many",), "joint Wilcoxon rank-sum tests", "", plan, execute,
+           "normal approximation to the rank sum per response",
+           "Hodges-Lehmann shift per response",
+           no_robustness="several tests at once: the check takes one response or pair at a time"),
+]
