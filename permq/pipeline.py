@@ -17,8 +17,9 @@ from .bind.common import Catalog, Defaults
 from .errors import Cancelled, PermqError
 from .families.registry import family_for
 from .engine.core.progress import Progress
+from .engine.montecarlo.sampling import using_workers
 from .result import Failure, Note
-from .robustness import diagnostics, executor as robustness, pictures
+from .robustness import diagnostics
 from .syntax import nodes as n
 from .syntax.parser import SourceStatement, parse_script
 from . import effects, statements
@@ -37,6 +38,8 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     diagnostics.attach(design, result)
     effects.attach(design, result)
     if "picture" in n.options_of(node):
+        from .robustness import pictures
+
         pictures.attach(design, result)
     return result
 
@@ -101,7 +104,8 @@ class Session:
             return failure(st, st.error)
         try:
             # overflow in a textbook formula shows as "-"; library warnings stay off the screen
-            with np.errstate(all="ignore"), warnings.catch_warnings():
+            with np.errstate(all="ignore"), warnings.catch_warnings(), \
+                    using_workers(self.defaults.workers):
                 warnings.simplefilter("ignore")
                 return self._dispatch(st)
         except Cancelled as exc:
@@ -126,6 +130,8 @@ class Session:
             self.history.append(statements.replayable(st.text, result))
             return result
         if isinstance(node, n.Robustness):
+            from .robustness import executor as robustness
+
             check = robustness.run(node, st.text, self.catalog, self.defaults, self.progress)
             check.line = st.line
             self._picture_file(node.analysis, check)
@@ -133,6 +139,8 @@ class Session:
             return check
         if isinstance(node, n.Explain):
             if isinstance(node.analysis, n.Robustness):
+                from .robustness import executor as robustness
+
                 note = robustness.explain(node.analysis, st.text, self.catalog, self.defaults)
             else:
                 note = explain(node.analysis, st.text, self.catalog, self.defaults)

@@ -8,7 +8,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..engine.core.limits import DEFAULT_BUDGET_SECONDS, DEFAULT_MEMORY_BYTES
 from ..errors import BindError, MultipleErrors, Span

@@ -2,7 +2,7 @@
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import BindError
 from ..syntax import nodes as n

@@ -14,6 +14,8 @@ from fractions import Fraction
 from math import comb
 
 import numpy as np
+from ..lazy import stats
+from ..normal.tails import normal_isf
 
 from .core.confidence import alpha_side, last_rejected
 from .core.counting import counts_all_subsets, counts_by_size
@@ -63,8 +65,6 @@ def signed_rank_counts(n: int) -> np.ndarray:
 def binomial_critical(n: int, side: Fraction) -> int:
     """Largest c with P(B <= c) <= alpha_side for B ~ binomial(n, 1/2), or -1 (exact)."""
     if n > EXACT_BINOMIAL_N:
-        from scipy import stats
-
         cdf = stats.binom.cdf(np.arange(n + 1), n, 0.5)
         idx = np.flatnonzero(cdf <= float(side) * (1 + 1e-12))
         return int(idx[-1]) if idx.size else -1
@@ -151,7 +151,5 @@ def median_interval_normal(d, level, alternative):
 
 
 def _normal_critical(mean, sd, side):
-    from scipy import stats
-
-    z = stats.norm.isf(float(side))
+    z = normal_isf(float(side))
     return int(np.floor(mean - z * sd))

@@ -257,12 +257,14 @@ def _run_monte_carlo(fam, x, y, sc, alternative, level, t_obs, draws, seed, prog
     means = fam.mean_difference
 
     def work(size, rng):
-        s, u, g2_in = subset_sums(w, n1, random_u32(rng, size, n1), sums_only=not means)
+        s, u = subset_sums(w, n1, random_u32(rng, size, n1), sums_only=not means)
         b = _tail_count(sc, s, s_obs, n1, alternative)
         if not means:
             return b, None, 0
-        moved = u > 0   # jump of each arrangement: (group-1 sum moved out - group-2 sum in) / u
-        jumps = sc.unit * (s_obs - (s - g2_in) - g2_in)[moved] / u[moved]
+        # jump of each arrangement: (group-1 sum moved out - group-2 sum moved in) / u, which
+        # is (observed group-1 sum - this arrangement's) / u
+        moved = u > 0
+        jumps = sc.unit * (s_obs - s)[moved] / u[moved]
         return b, jumps, int((~moved).sum())
 
     b, vals, identity, used = collect_sampled(iter_blocks(seed, draws, work, progress), means,

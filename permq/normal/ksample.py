@@ -9,7 +9,7 @@ import math
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..engine.core.grid import centred, is_constant, negligible
 from ..engine.core.scores import median_scores, midranks, normal_scores

@@ -8,25 +8,33 @@ are integers.
 from __future__ import annotations
 
 import numpy as np
+from ...lazy import stats
 
 
 def midranks(x, axis=None, nan_policy: str = "propagate") -> np.ndarray:
-    """Mid-ranks (ties share the average of their ranks), 1-based; along `axis` when given;
-    nan_policy 'omit' leaves missing values missing and ranks the rest."""
-    from scipy.stats import rankdata
-
-    a = np.asarray(x, dtype=float)
-    if axis is None and a.ndim <= 1:
-        return rankdata(a, method="average")
-    return rankdata(a, method="average", axis=-1 if axis is None else axis, nan_policy=nan_policy)
+    """Ranks 1..n, tied values sharing the mean of their ranks (as scipy.stats.rankdata's
+    'average'; computed here for one sample so that a rank test does not wait for scipy.stats
+    to load). Along `axis` of an array when given; nan_policy 'omit' leaves missing values
+    missing and ranks the rest."""
+    x = np.asarray(x, dtype=float)
+    if axis is not None or x.ndim > 1:
+        return stats.rankdata(x, method="average", axis=-1 if axis is None else axis,
+                              nan_policy=nan_policy)
+    if not np.all(np.isfinite(x)):
+        return stats.rankdata(x, method="average")
+    order = np.argsort(x, kind="mergesort")
+    xs = x[order]
+    starts = np.flatnonzero(np.r_[True, xs[1:] != xs[:-1]])
+    ends = np.r_[starts[1:], x.size]
+    ranks = np.empty(x.size)
+    ranks[order] = np.repeat((starts + ends + 1) / 2.0, ends - starts)   # mean of start+1..end
+    return ranks
 
 
 def normal_scores(x) -> np.ndarray:
     """van der Waerden scores Phi^-1(r / (N + 1)) of the mid-ranks r (tied values share one)."""
-    from scipy.stats import norm
-
     x = np.asarray(x, dtype=float)
-    return norm.ppf(midranks(x) / (len(x) + 1))
+    return stats.norm.ppf(midranks(x) / (len(x) + 1))
 
 
 def median_scores(x) -> np.ndarray:

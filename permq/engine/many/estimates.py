@@ -14,7 +14,7 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ..core.confidence import alpha_side
 from ..rankintervals import critical, mann_whitney_counts

@@ -20,7 +20,7 @@ from dataclasses import dataclass
 from typing import Optional
 
 import numpy as np
-from scipy.special import gammaln, xlogy
+from ...lazy import gammaln, xlogy
 
 from ..core.grid import centred, integer_grid
 from ..core.pvalues import PROBABILITY_RTOL, TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC, tolerance

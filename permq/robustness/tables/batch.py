@@ -28,8 +28,8 @@ correction, and the z of one proportion.
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
-from scipy.special import xlogy
+from ...lazy import stats
+from ...lazy import xlogy
 
 from ...engine.tables import (
     twobytwo as tables_2x2, paired as tables_paired, proportion as tables_proportion)
