@@ -441,7 +441,7 @@ class QuadraticFamily:
 
     def _sample(self, x, g, sizes, a, sst, ssb_obs, draws, seed, progress, exact, **_):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         k = len(sizes)
         scores = a if exact is None else exact.integers.astype(float)
         q_obs = None if exact is None else int(_q_of(np.bincount(g, weights=scores, minlength=k),
@@ -526,7 +526,7 @@ def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
 def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
                           description: str = "Monte Carlo: random assignments to groups") -> Candidate:
     return Candidate("monte-carlo", description, False, float(draws) * N * per_item,
-                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws} draws",
+                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws:,} draws",
                      arrangements=float(arr))
 
 

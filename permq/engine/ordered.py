@@ -173,7 +173,7 @@ class JonckheereTerpstra:
 
     def _sample(self, x, sizes, j_obs, center, alternative, draws, seed, progress, common):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         sx = np.sort(x)
         starts, k = _block_starts(sx), len(sizes)
         labels = np.repeat(np.arange(k), sizes)
@@ -369,7 +369,7 @@ class LinearTrend:
 
     def _sample(self, st: TrendSetup, alternative, draws, seed, progress, common):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         hits = 0
         for chunk in sample_group_sums(st.w, st.sizes, seed, draws, progress):
             hits += st.tail_count(chunk[:, :, 0] @ st.e, alternative)
@@ -407,7 +407,7 @@ def slope_estimate(values, groups, scores=None, level: float = 0.95, alternative
     arr = multinomial(st.sizes)
     if not limits.fits(float(arr) * len(st.x) * _SLOPE_OPS_PER_ITEM, float(arr) * 8.0 * 3):
         return Estimate(name, b, None, level, "least squares; no exact interval: listing "
-                        f"{arr:,} assignments would pass the budget")
+                        f"{arr:,.0f} assignments would pass the budget")
     ratios, fixed = _slope_ratios(st, progress)
     lo, hi = _invert(ratios, fixed, arr, level, alternative)
     method = ("least squares; exact interval by inverting the permutation test of the slope "
