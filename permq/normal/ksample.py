@@ -92,7 +92,7 @@ def normal_scores_chi_square(values, groups) -> NormalTheory:
 
 def median_chi_square(values, groups) -> NormalTheory:
     return _chi_square_test("median test, Pearson chi-square approximation (no continuity "
-                            "correction)", above_median, values, groups, lambda N: N)
+                            "correction)", median_scores, values, groups, lambda N: N)
 
 
 def _chi_square_test(name, score, values, groups, factor) -> NormalTheory:
