@@ -406,8 +406,8 @@ def slope_estimate(values, groups, scores=None, level: float = 0.95, alternative
     b = least_squares_slope(st.x, d_item)
     arr = multinomial(st.sizes)
     if not limits.fits(float(arr) * len(st.x) * _SLOPE_OPS_PER_ITEM, float(arr) * 8.0 * 3):
-        return Estimate(name, b, None, level, "least squares; no exact interval: listing "
-                        f"{arr:,.0f} assignments would pass the budget")
+        return Estimate(name, b, None, level, "least squares; no exact interval: "
+                        f"{arr:,.0f} assignments are too many to list within the budget")
     ratios, fixed = _slope_ratios(st, progress)
     lo, hi = _invert(ratios, fixed, arr, level, alternative)
     method = ("least squares; exact interval by inverting the permutation test of the slope "
