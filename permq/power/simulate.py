@@ -24,10 +24,10 @@ from ..engine.core import attainable as at
 from ..engine.core.progress import NO_PROGRESS
 from ..robustness.arrangements import exact_reference, reference_size, sampled_reference
 from ..robustness.batch import normal_p, permutation_p, scores
-from ..robustness.simulate import Rate, rates_from_counts
+from ..robustness.simulate import PERMUTATIONS as ROBUSTNESS_PERMUTATIONS, Rate, rates_from_counts
 from .layout import MAX_UNITS
 
-PERMUTATIONS = 999
+PERMUTATIONS = ROBUSTNESS_PERMUTATIONS      # random arrangements a block, past 20,000
 BLOCK = 100
 
 

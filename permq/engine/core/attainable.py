@@ -22,9 +22,8 @@ from typing import Optional
 
 import numpy as np
 
-from .pvalues import RTOL, clip
+from .pvalues import PROBABILITY_RTOL, RTOL, clip
 
-PROBABILITY_RTOL = 1e-7
 
 
 @dataclass(frozen=True)
