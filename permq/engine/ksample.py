@@ -41,6 +41,7 @@ from scipy import stats
 
 from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
+from ..plan.sizes import big
 from ..result import EngineOutcome
 from .core import pvalues
 from .montecarlo import sampling
@@ -155,7 +156,7 @@ def enumerate_group_sums(scores, sizes, progress: Progress = NO_PROGRESS) -> Ite
     sizes = [int(n) for n in sizes]
     rem = np.arange(a.shape[0], dtype=np.int64)[None, :]
     sums = np.zeros((1, 0, a.shape[1]))
-    total = float(multinomial(sizes))
+    total = big(multinomial(sizes))
     done = [0.0]
     for chunk in _expand(a, sizes, 0, rem, sums):
         done[0] += len(chunk)
@@ -414,15 +415,15 @@ class QuadraticFamily:
         if self.counting == "dp-hypergeometric":
             ops = float(sum(sizes)) * float(sizes.max() + 1) * len(sizes) * 50.0
             return Candidate("dp-hypergeometric", self.counting_words, True, ops, 1e6,
-                             arrangements=float(arr))
+                             arrangements=arr)
         grid = self.grid(x) if self.grid else None
         if grid is None:
             return Candidate(self.counting, self.counting_words, True, math.inf, math.inf,
-                             feasible=False, note="scores are not on a grid", arrangements=float(arr))
+                             feasible=False, note="scores are not on a grid", arrangements=arr)
         states, ops, memory = dp_ops(grid.z, sizes)
         fits = _radix(grid.z, sizes) is not None and states <= DP_MAX_STATES
         return Candidate(self.counting, self.counting_words, True, ops, memory, feasible=fits,
-                         note="" if fits else "too many counting states", arrangements=float(arr))
+                         note="" if fits else "too many counting states", arrangements=arr)
 
     def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
             seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
@@ -516,9 +517,9 @@ class QuadraticFamily:
         counts = np.bincount(g, weights=above, minlength=len(sizes)).round().astype(int)
         q_obs = sum(int(c) ** 2 * (lcm // int(n)) for c, n in zip(counts, sizes))
         total = sum(ways)
-        p = sum(w for q, w in zip(support, ways) if q >= q_obs) / total
-        law = self._law(np.array(support, dtype=float) / lcm, np.array(ways, dtype=float),
-                        above, sizes)
+        p = sum(w for q, w in zip(support, ways) if q >= q_obs) / total   # exact integers
+        probs = np.array([w / total for w in ways], dtype=float)          # no overflow
+        law = self._law(np.array(support, dtype=float) / lcm, probs, above, sizes)
         return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words, **law)
 
 
@@ -541,15 +542,15 @@ def _all_equal(family: QuadraticFamily, arr: int, notes: list) -> EngineOutcome:
 def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
     fits = arr <= ENUMERATION_MAX
     return Candidate("enumeration", "complete enumeration of every assignment to groups", True,
-                     float(arr) * (N + 2 * k) * 2.0, float(_ROWS) * N * 8 * 4, feasible=fits,
-                     note="" if fits else "too many assignments to list", arrangements=float(arr))
+                     big(arr) * (N + 2 * k) * 2.0, float(_ROWS) * N * 8 * 4, feasible=fits,
+                     note="" if fits else "too many assignments to list", arrangements=arr)
 
 
 def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
                           description: str = "Monte Carlo: random assignments to groups") -> Candidate:
     return Candidate("monte-carlo", description, False, float(draws) * N * per_item,
                      float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws} draws",
-                     arrangements=float(arr))
+                     arrangements=arr)
 
 
 MEANS = QuadraticFamily(

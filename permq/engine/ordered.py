@@ -144,7 +144,7 @@ class JonckheereTerpstra:
         fits = states <= COUNT_MAX_STATES
         words = "dynamic programming over tie blocks and group counts (doubled statistic, integers)"
         return [Candidate("dp-counts", words, True, ops, memory, feasible=fits,
-                          note="" if fits else "too many counting states", arrangements=float(arr)),
+                          note="" if fits else "too many counting states", arrangements=arr),
                 monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes))]
 
     def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
@@ -247,7 +247,7 @@ class LinearTrend:
         if grids is None:
             out.append(Candidate("dp-counts", words, True, math.inf, math.inf, feasible=False,
                                  note="values or dose scores are not on a decimal grid",
-                                 arrangements=float(arr)))
+                                 arrangements=arr))
         else:
             zg, _, e, cls = grids
             t_max = float(e.max() * zg.z.sum())
@@ -255,7 +255,7 @@ class LinearTrend:
             fits = states <= COUNT_MAX_STATES
             out.append(Candidate("dp-counts", words, True, ops, memory, feasible=fits,
                                  note="" if fits else "too many counting states",
-                                 arrangements=float(arr)))
+                                 arrangements=arr))
         out.append(monte_carlo_candidate(N, arr, draws))
         return out
 

@@ -16,6 +16,7 @@ from typing import Callable
 from ..errors import PlanError
 from ..engine.montecarlo.sampling import fresh_seed
 from .cost import Candidate, calibrated
+from .sizes import words
 
 DEFAULT_DRAWS = 100_000
 EXACT_CEILING_SECONDS = 3600.0
@@ -126,5 +127,5 @@ def _bytes(b: float) -> str:
     return f"{b:.0f} B"
 
 
-def _count(v: float) -> str:
-    return f"{int(v):,}" if v < 1e15 else f"{v:.3g}"
+def _count(v) -> str:
+    return words(v)

@@ -33,8 +33,9 @@ from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import fresh_seed
 from .adjusted import _run_freedman_lane, adjusted_coefficient
 from .pairings import (CHUNK, DEFAULT_DRAWS, DESCRIPTIONS, ENUMERATION_LIMIT, _big, _has_ties,
-                       _run_enumeration, _run_inversions, _run_monte_carlo, arrangements,
+                       _run_enumeration, _run_monte_carlo, arrangements,
                        check_inputs, distinct_pairs, problem)
+from . import inversions
 from .slope import slope_estimate, slope_outcome, slope_pass
 
 # ---------------------------------------------------------------- cost
@@ -84,15 +85,22 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
 
 def _inversions_candidate(y, x) -> Candidate:
     n = len(x)
-    K = n * (n - 1) // 2
-    total = _big(factorial(n))
+    total = factorial(n)
     if _has_ties(x) or _has_ties(y):
         return Candidate("dp-inversions", DESCRIPTIONS["dp-inversions"], True, float("inf"),
                          float("inf"), feasible=False, note="ties: counting inversions needs distinct values",
                          arrangements=total)
-    ops = n * (K / 2 + 1) * 20.0          # Python integers cost about 20 array operations each
-    return Candidate("dp-inversions", DESCRIPTIONS["dp-inversions"], True, ops, (K / 2 + 1) * 64.0 * 3,
+    ops, memory = inversions.cost(n, _discordant(y, x), "two-sided")
+    return Candidate("dp-inversions", DESCRIPTIONS["dp-inversions"], True, ops, memory,
                      arrangements=total, note="no ties: exact counts of permutations by inversions")
+
+
+def _discordant(y, x) -> int:
+    """Discordant pairs without ties, in O(n log n): S = tau * n(n-1)/2 (exact after rounding)."""
+    n = len(x)
+    K = n * (n - 1) // 2
+    s = int(round(stats.kendalltau(x, y).statistic * K))
+    return (K - s) // 2
 
 
 # ---------------------------------------------------------------- run
@@ -113,7 +121,9 @@ def run(statistic: str, y, x, alternative: str, algorithm: str, draws: Optional[
     if algorithm == "dp-inversions":
         if statistic != "kendall" or _has_ties(x) or _has_ties(y):
             raise ValueError("counting inversions applies to Kendall's tau without ties")
-        return _run_inversions(problem("kendall", y, x), alternative, progress)
+        pb = problem("kendall", y, x)
+        return inversions.run(pb.name, pb.coefficient(pb.t_obs), int(round(pb.t_obs)), len(x),
+                              alternative, progress)
     if algorithm == "enumeration":
         fixed_is_x = arrangements(_scores(statistic, y)) <= arrangements(_scores(statistic, x))
         return _run_enumeration(problem(statistic, y, x, fixed_is_x), alternative, progress)

@@ -12,6 +12,8 @@ import numpy as np
 
 from ...errors import BindError, PlanError
 from ...plan.cost import Candidate
+from ...plan.sizes import big, words
+from ..core.counting import rescale
 from ...result import EngineOutcome
 from ..core import pvalues
 from ..montecarlo.sampling import iter_blocks
@@ -49,8 +51,8 @@ class Stratified:
     warnings: tuple
 
     @property
-    def arrangements(self) -> float:
-        return float(prod(comb(b.n, b.m) for b in self.blocks))
+    def arrangements(self) -> int:
+        return prod(comb(b.n, b.m) for b in self.blocks)
 
     @property
     def on_grid(self) -> bool:
@@ -105,7 +107,8 @@ def _stratified_integers(test, raw, scores):
 
 
 def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
-    total = prep.arrangements
+    count = prep.arrangements
+    total = big(count)
     out = []
     if prep.on_grid:
         ops, mem, acc = 0.0, 0.0, 1.0
@@ -118,23 +121,23 @@ def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
         note = ("mid-ranks within blocks (doubled, integers)" if prep.test == "stratified-ranks"
                 else f"data on a grid of {prep.step:g}")
         out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, ops, mem,
-                             feasible=mem <= MAX_DP_BYTES, note=note, arrangements=total))
+                             feasible=mem <= MAX_DP_BYTES, note=note, arrangements=count))
     else:
         out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, float("inf"),
                              float("inf"), feasible=False,
                              note=f"values are not on a grid of at most {MAX_DECIMALS} decimals",
-                             arrangements=total))
+                             arrangements=count))
     running, ops = 1.0, 0.0
     for b in prep.blocks:
         running *= comb(b.n, b.m)
         ops += running * 4 + comb(b.n, b.m) * b.m
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, ops, total * 8 * 4,
-                         feasible=total <= MAX_ENUMERATION, arrangements=total,
-                         note=f"{total:.4g} arrangements"))
+                         feasible=total <= MAX_ENUMERATION, arrangements=count,
+                         note=f"{words(count)} arrangements"))
     n = sum(b.n for b in prep.blocks)
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
                          min(draws, 8192) * max(b.n for b in prep.blocks) * 8 * 4,
-                         arrangements=total, note=f"{draws} draws"))
+                         arrangements=count, note=f"{draws} draws"))
     return out
 
 
@@ -146,6 +149,7 @@ def _stratified_dp(prep: Stratified, alternative, progress) -> EngineOutcome:
     s_obs, pairs = 0, []
     for i, b in enumerate(prep.blocks):
         acc = convolve_exact(acc, subset_sum_counts(b.ints, b.m))
+        rescale(acc)                       # exact powers of two: ratios are unchanged
         s_obs += int(b.ints[b.in_group0].sum())
         pairs.append((b.m * int(b.ints.sum()), b.n))
         progress.step((i + 1) / len(prep.blocks), "counting within blocks")
@@ -165,7 +169,7 @@ def _block_subset_sums(b: StratifiedBlock):
 
 def _stratified_enumeration(prep: Stratified, alternative, progress) -> EngineOutcome:
     if prep.arrangements > MAX_ENUMERATION:
-        raise PlanError(f"{prep.arrangements:.4g} arrangements are too many to enumerate")
+        raise PlanError(f"{words(prep.arrangements)} arrangements are too many to enumerate")
     vals, counts = np.zeros(1), np.ones(1)
     for i, b in enumerate(prep.blocks):
         u, c = _block_subset_sums(b)

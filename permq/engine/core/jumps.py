@@ -29,20 +29,76 @@ def interval_from_jumps(values, counts, identity: float, total: float, level: fl
         order = np.argsort(values, kind="stable")
         values, counts = values[order], counts[order]
     values, counts = _merge_equal(values, counts)
-    alpha = 1.0 - level
-    side = alpha if alternative != "two-sided" else alpha / 2
+    side = _side(level, alternative)
     lo, hi = -np.inf, np.inf
     if alternative in ("two-sided", "higher"):
-        cum = (identity + np.cumsum(counts)) / total
-        if identity / total <= side:
-            idx = np.flatnonzero(cum > side)
-            lo = float(values[idx[0]]) if idx.size else np.inf
+        lo = _first_past(values, counts, identity, total, side, np.inf)
     if alternative in ("two-sided", "lower"):
-        cum = (identity + np.cumsum(counts[::-1])) / total
-        if identity / total <= side:
-            idx = np.flatnonzero(cum > side)
-            hi = float(values[::-1][idx[0]]) if idx.size else -np.inf
+        hi = _first_past(values[::-1], counts[::-1], identity, total, side, -np.inf)
     return lo, hi
+
+
+def _side(level: float, alternative: str) -> float:
+    alpha = 1.0 - level
+    return alpha if alternative != "two-sided" else alpha / 2
+
+
+def _first_past(values, counts, identity, total, side, none) -> float:
+    """The first jump (in the order given) where the cumulative share passes `side`."""
+    if identity / total > side:
+        return -none
+    cum = (identity + np.cumsum(counts)) / total
+    idx = np.flatnonzero(cum > side)
+    return float(values[idx[0]]) if idx.size else none
+
+
+class JumpStream:
+    """The interval from jumps that arrive in chunks, holding only the few it is read from.
+
+    Each endpoint is the jump where the cumulative share first passes alpha/2 (alpha one-sided)
+    from its end, so it lies among the K = side * total - identity + 1 smallest (or largest)
+    jumps: those are kept, the rest are dropped as they arrive. Memory is 8 K bytes a side,
+    whatever the size of the reference set; the endpoints are those of `interval_from_jumps` on
+    every jump (the kept jumps are a prefix of the sorted list, so ties group the same way).
+    Every jump counts once (listed arrangements)."""
+
+    def __init__(self, identity: float, total: float, level: float, alternative: str):
+        self.identity, self.total = float(identity), float(total)
+        self.level, self.alternative = level, alternative
+        side = _side(level, alternative)
+        self.keep = int(max(0.0, np.floor(side * self.total - self.identity))) + 2
+        self.low = np.empty(0) if alternative in ("two-sided", "higher") else None
+        self.high = np.empty(0) if alternative in ("two-sided", "lower") else None
+
+    def add(self, values) -> None:
+        values = np.asarray(values, dtype=float)
+        if self.low is not None:
+            self.low = _keep_smallest(self.low, values, self.keep)
+        if self.high is not None:
+            self.high = -_keep_smallest(-self.high, -values, self.keep)
+
+    def interval(self) -> tuple[float, float]:
+        side = _side(self.level, self.alternative)
+        lo, hi = -np.inf, np.inf
+        if self.low is not None:
+            v, c = _merge_equal(np.sort(self.low), np.ones(self.low.size))
+            lo = _first_past(v, c, self.identity, self.total, side, np.inf)
+        if self.high is not None:
+            v, c = _merge_equal(np.sort(self.high), np.ones(self.high.size))
+            hi = _first_past(v[::-1], c[::-1], self.identity, self.total, side, -np.inf)
+        return lo, hi
+
+
+def _keep_smallest(kept: np.ndarray, new: np.ndarray, k: int) -> np.ndarray:
+    """The k smallest of kept and new together (kept holds at most k values)."""
+    if kept.size >= k:
+        new = new[new < kept.max()]          # most of a chunk falls past the kept ones
+        if new.size == 0:
+            return kept
+    both = np.concatenate([kept, new])
+    if both.size <= k:
+        return both
+    return np.partition(both, k - 1)[:k]
 
 
 def _merge_equal(values, counts):
