@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
-from .core.counting import counts_all_subsets, counts_by_size
+from .core.counting import counts_all_subsets, rescale
 
 MAX_PAIRS = 20_000_000
 
@@ -28,24 +28,64 @@ def _side(level, alternative):
     return alpha / 2 if alternative == "two-sided" else alpha
 
 
-def _interval_from_order(sorted_vals, c, alternative):
-    m = len(sorted_vals)
+def _interval_from_order(values, c, alternative):
+    """The order statistics c and m-1-c (from 0) of the values, by selection (no sort)."""
+    values = np.asarray(values, dtype=float)
+    m = len(values)
     lo, hi = -np.inf, np.inf
     if c >= 0 and c < m:
+        low, high = values[c], values[m - 1 - c]
+        if not (values.size < 2 or np.all(values[1:] >= values[:-1])):     # not yet sorted
+            picked = np.partition(values, sorted({c, m - 1 - c}))
+            low, high = picked[c], picked[m - 1 - c]
         if alternative in ("two-sided", "higher"):
-            lo = float(sorted_vals[c])
+            lo = float(low)
         if alternative in ("two-sided", "lower"):
-            hi = float(sorted_vals[m - 1 - c])
+            hi = float(high)
     return lo, hi
+
+
+def mann_whitney_counts(n1: int, n2: int) -> np.ndarray:
+    """Numbers of the C(n1 + n2, n1) splits with U = u, u = 0 .. n1*n2, without ties (times a
+    power of two past 2^960: use ratios).
+
+    The law's generating function is the Gaussian binomial coefficient
+    prod_{i=1..m} (1 - q^(n+i)) / (1 - q^i), m = min(n1, n2), n = max(n1, n2); multiplying
+    by (1 - q^(n+i)) is one shifted difference and dividing by (1 - q^i) a running sum along
+    each residue class mod i, so the law costs about m passes over a one-dimensional array
+    (Harding, E. F. (1984), An efficient, minimal-storage procedure for calculating the
+    Mann-Whitney U, generalized U and similar distributions, Applied Statistics 33, 1-6).
+    Both steps read only lower powers, so the half up to n1*n2/2 is formed and mirrored."""
+    m, n = min(n1, n2), max(n1, n2)
+    top = m * n // 2
+    c = np.zeros(top + 1)
+    c[0] = 1.0
+    for i in range(1, m + 1):
+        a = n + i
+        if a <= top:
+            c[a:] -= c[:top + 1 - a]                 # numpy reads the right side first
+        rows = -(-(top + 1) // i)
+        padded = np.zeros(rows * i)
+        padded[:top + 1] = c
+        np.cumsum(padded.reshape(rows, i), axis=0, out=padded.reshape(rows, i))
+        c = padded[:top + 1]
+        if i % 16 == 0:
+            rescale(c)
+    np.maximum(c, 0.0, out=c)                        # rounding noise below the smallest count
+    rest = m * n + 1 - c.size
+    return np.concatenate([c, c[:rest][::-1]])
 
 
 def mann_whitney_cdf(n1: int, n2: int) -> np.ndarray:
     """P(U <= u), u = 0 .. n1*n2, without ties."""
-    table = counts_by_size(np.arange(n1 + n2), n1)
-    row = table[n1]
-    offset = n1 * (n1 - 1) // 2
-    counts = row[offset:offset + n1 * n2 + 1]
+    counts = mann_whitney_counts(n1, n2)
     return np.cumsum(counts) / counts.sum()
+
+
+def mann_whitney_ops(n1: int, n2: int) -> float:
+    """Array operations of `mann_whitney_counts` (two or three passes a step)."""
+    m, n = min(n1, n2), max(n1, n2)
+    return 3.0 * m * (m * n / 2 + 1)
 
 
 def signed_rank_cdf(n: int) -> np.ndarray:
@@ -54,13 +94,22 @@ def signed_rank_cdf(n: int) -> np.ndarray:
     return np.cumsum(c) / c.sum()
 
 
+# the exact no-ties law is formed when it costs at most this many array operations (about
+# 0.3 s; 300 + 300 is within); past it, normal-approximation ranks
+EXACT_LAW_OPS = 2e7
+
+
+def pairwise_differences(x, y) -> np.ndarray:
+    return (np.asarray(x, float)[:, None] - np.asarray(y, float)[None, :]).ravel()
+
+
 def hodges_lehmann_two_sample(x, y, level, alternative):
     x, y = np.asarray(x, float), np.asarray(y, float)
     n1, n2 = len(x), len(y)
-    diffs = np.sort((x[:, None] - y[None, :]).ravel())
+    diffs = pairwise_differences(x, y)
     est = float(np.median(diffs))
     side = _side(level, alternative)
-    exact = n1 * n2 * (n1 + n2) <= 5e7
+    exact = mann_whitney_ops(n1, n2) <= EXACT_LAW_OPS
     if exact:
         c = _critical(mann_whitney_cdf(n1, n2), side)
     else:
@@ -70,16 +119,16 @@ def hodges_lehmann_two_sample(x, y, level, alternative):
 
 def hodges_lehmann_two_sample_normal(x, y, level, alternative):
     n1, n2 = len(x), len(y)
-    diffs = np.sort((np.asarray(x, float)[:, None] - np.asarray(y, float)[None, :]).ravel())
     c = _normal_critical(n1 * n2 / 2, np.sqrt(n1 * n2 * (n1 + n2 + 1) / 12),
                          _side(level, alternative))
-    return _interval_from_order(diffs, c, alternative)
+    return _interval_from_order(pairwise_differences(x, y), c, alternative)
 
 
 def walsh_averages(d):
+    """The n(n+1)/2 Walsh averages (d_i + d_j) / 2, i <= j, unsorted."""
     d = np.asarray(d, float)
     i, j = np.triu_indices(len(d))
-    return np.sort((d[i] + d[j]) / 2)
+    return (d[i] + d[j]) / 2
 
 
 def hodges_lehmann_one_sample(d, level, alternative):

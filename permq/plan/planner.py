@@ -3,6 +3,8 @@
 It asks the design's engine for its candidate algorithms with their estimated cost, and picks:
 - `sampled N` forces Monte Carlo with N draws;
 - otherwise the cheapest feasible exact algorithm within the time and memory budget;
+- past the time budget, still the cheapest exact algorithm when it is cheaper than the draws
+  (the answer is exact and comes sooner);
 - `exact` forces the cheapest feasible exact algorithm up to a hard ceiling, and refuses past
   it with the estimate;
 - otherwise Monte Carlo with the default number of draws.
@@ -92,6 +94,11 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
     within = [c for c in fitting if c.seconds <= budget]
     if within:
         return plan(within[0], "the cheapest exact method within the budget")
+    if fitting and fitting[0].seconds <= mc.seconds:
+        best = fitting[0]
+        return plan(best, f"the cheapest exact method would take {_about(best.seconds)}, past the "
+                          f"budget of {_seconds(budget)}, but Monte Carlo would take longer "
+                          f"({_about(mc.seconds)})")
     if exact:
         return plan(mc, f"the cheapest exact method ({exact[0].description}) would take "
                         f"{_about(exact[0].seconds)}, past the budget of {_seconds(budget)}")
