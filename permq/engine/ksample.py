@@ -43,6 +43,7 @@ from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
 from ..plan.sizes import big
 from ..result import EngineOutcome
+from . import ksample_dense
 from .core import pvalues
 from .montecarlo import sampling
 from .core.progress import NO_PROGRESS, Progress
@@ -53,6 +54,7 @@ NULL_KEEP_MAX = 2_000_000        # keep the null distribution when it has at mos
 DP_MAX_STATES = 3e7              # estimated peak states beyond which counting is not offered
 _ROWS = 1 << 18                  # rows handled at once when listing or counting
 _MAX_DECIMALS = 6
+DENSE_WORDS = "dynamic programming on dense tables of group score sums (three groups)"
 
 
 # ----------------------------------------------------------------------------- design
@@ -215,8 +217,14 @@ def _compositions(m: int, caps: np.ndarray) -> np.ndarray:
 
 
 def _multinomial_weights(m: int, xs: np.ndarray) -> np.ndarray:
+    """m! / prod x_g! for each split; past 2^53 all divided by the largest (a factor common to
+    the block, which cancels in every ratio) so that no weight overflows."""
     f = [math.factorial(v) for v in range(m + 1)]
-    return np.array([f[m] / math.prod(f[v] for v in x) for x in xs], dtype=float)
+    w = [f[m] // math.prod(f[v] for v in x) for x in xs]
+    top = max(w, default=1)
+    if top > 2 ** 53:
+        return np.array([v / top for v in w], dtype=float)
+    return np.array(w, dtype=float)
 
 
 @dataclass
@@ -292,11 +300,19 @@ def count_sum_squares(z, sizes, progress: Progress = NO_PROGRESS) -> tuple[np.nd
     values, mult = np.unique(z, return_counts=True)
     for i, (v, m) in enumerate(zip(values, mult)):
         st = _add_block(st, int(v), int(m), sizes, smax, classes)
+        _rescale_ways(st.ways)
         progress.step((i + 1) / len(values), "counting assignments")
     lcm = int(np.lcm.reduce(sizes))
     q = (st.sums ** 2 * (lcm // sizes)).sum(axis=1)
     support, inverse = np.unique(q, return_inverse=True)
     return support, np.bincount(inverse.ravel(), weights=st.ways)
+
+
+def _rescale_ways(ways: np.ndarray) -> None:
+    """Past 2^800, the ways times a power of two (exact) bringing the largest near 1."""
+    top = float(ways.max(initial=0.0))
+    if top > 2.0 ** 800:
+        ways *= 2.0 ** -math.frexp(top)[1]
 
 
 def estimate_states(z, sizes) -> float:
@@ -408,8 +424,22 @@ class QuadraticFamily:
         arr = multinomial(sizes)
         out = [enumeration_candidate(arr, len(x), len(sizes))]
         out.append(self._counting_candidate(x, sizes, arr))
+        dense = self._dense_candidate(x, sizes, arr)
+        if dense is not None:
+            out.append(dense)
         out.append(monte_carlo_candidate(len(x), arr, draws))
         return out
+
+    def _dense_candidate(self, x, sizes, arr) -> Optional[Candidate]:
+        """Three groups with scores on a grid: dense tables of score sums (ksample_dense)."""
+        grid = self.grid(x) if self.grid and ksample_dense.applies(sizes) else None
+        if grid is None:
+            return None
+        cells, peak = ksample_dense.work(grid.z, sizes)
+        fits = math.isfinite(cells)
+        return Candidate("dp-dense", DENSE_WORDS, True, cells * 2.0, peak * 8.0 * 2.5 + 1e5,
+                         feasible=fits, note="" if fits else "the tables of sums are too large",
+                         arrangements=arr)
 
     def _counting_candidate(self, x, sizes, arr) -> Candidate:
         if self.counting == "dp-hypergeometric":
@@ -441,12 +471,15 @@ class QuadraticFamily:
         if N == k:
             notes.append("each group has one value: every assignment gives the same statistic")
         run = {"enumeration": self._enumerate, "monte-carlo": self._sample,
-               "dp-sums": self._count, "dp-hypergeometric": self._count_medians}.get(algorithm)
-        if run is None or (algorithm.startswith("dp-") and algorithm != self.counting):
+               "dp-sums": self._count, "dp-hypergeometric": self._count_medians,
+               "dp-dense": self._count}.get(algorithm)
+        dense_ok = algorithm == "dp-dense" and self.grid is not None and ksample_dense.applies(sizes)
+        if run is None or (algorithm.startswith("dp-") and algorithm != self.counting
+                           and not dense_ok):
             raise PlanError(f"the {self.key} family has no algorithm '{algorithm}'",
                             hint=f"use enumeration, {self.counting} or monte-carlo")
         parts = run(x=x, g=g, sizes=sizes, a=a, sst=sst, ssb_obs=ssb_obs, draws=draws, seed=seed,
-                    progress=progress)
+                    progress=progress, dense=algorithm == "dp-dense")
         stat = float(self.statistic_of(ssb_obs, sst, N, k))
         return EngineOutcome(statistic_name=self.statistic_name, statistic=stat,
                              arrangements=arr if parts["method"] == "exact" else None,
@@ -486,17 +519,21 @@ class QuadraticFamily:
         return dict(p_value=p, method="monte-carlo", draws=draws, p_interval=interval, seed=seed,
                     algorithm="Monte Carlo: random assignments to groups")
 
-    def _count(self, x, g, sizes, progress, **_):
+    def _count(self, x, g, sizes, progress, dense=False, **_):
         grid = self.grid(x) if self.grid else None
         if grid is None:
             raise PlanError(f"exact counting needs {self.key} scores on a grid", hint="use enumeration")
         z = grid.z
-        support, ways = count_sum_squares(z, sizes, progress)
+        if dense:
+            support, ways = ksample_dense.count_three(z, sizes, progress)
+        else:
+            support, ways = count_sum_squares(z, sizes, progress)
         lcm = int(np.lcm.reduce(sizes))
         zg = np.bincount(g, weights=z, minlength=len(sizes)).round().astype(np.int64)
         q_obs = int(sum(int(s) ** 2 * (lcm // int(n)) for s, n in zip(zg, sizes)))
         p = float(ways[support >= q_obs].sum() / ways.sum())
-        return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words,
+        words = DENSE_WORDS if dense else self.counting_words
+        return dict(p_value=pvalues.clip(p), method="exact", algorithm=words,
                     **self._law(support / lcm, ways, z, sizes))
 
     def _law(self, q, ways, z, sizes) -> dict:

@@ -31,7 +31,7 @@ from ..result import EngineOutcome, Estimate
 from .core import pvalues
 from .montecarlo import sampling
 from .ksample import (
-    DEFAULT_DRAWS, NULL_KEEP_MAX, _compositions, _multinomial_weights, design,
+    DEFAULT_DRAWS, NULL_KEEP_MAX, _compositions, _multinomial_weights, _rescale_ways, design,
     enumerate_group_sums, enumeration_candidate, integer_grid, monte_carlo_candidate,
     multinomial, sample_group_sums)
 from .core.progress import NO_PROGRESS, Progress
@@ -63,6 +63,7 @@ def count_linear(block_values, block_mults, sizes, increment, progress: Progress
                 c = counts[ok]
                 parts.append((c + x, t[ok] + increment(c, x, v), ways[ok] * w))
         counts, t, ways = _merge(parts, radix, int(np.prod(sizes + 1)))
+        _rescale_ways(ways)
         progress.step((i + 1) / len(block_values), "counting assignments")
     support, inverse = np.unique(t, return_inverse=True)
     return support, np.bincount(inverse.ravel(), weights=ways)
