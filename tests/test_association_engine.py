@@ -4,7 +4,6 @@ enumerator over all n! permutations written here, and published values."""
 from __future__ import annotations
 
 import itertools
-import math
 import time
 from fractions import Fraction
 from math import factorial

@@ -331,9 +331,10 @@ def estimate_states(z, sizes) -> float:
         for j, g in enumerate(order):
             f = np.ones(int(sizes[g]) + 1)
             if j < len(order) - 1:
-                for c in range(min(int(sizes[g]), i) + 1):
-                    span = int(prefix[::-1][:c].sum() - prefix[:c].sum()) + 1
-                    f[c] = min(span, distinct[c])
+                top = min(int(sizes[g]), i) + 1
+                low = np.concatenate([[0], np.cumsum(prefix)])[:top]          # c smallest
+                high = np.concatenate([[0], np.cumsum(prefix[::-1])])[:top]   # c largest
+                f[:top] = np.minimum(high - low + 1, distinct[:top])
             f[min(int(sizes[g]), i) + 1:] = 0
             total = np.convolve(total, f)
         if i < len(total):

@@ -84,9 +84,15 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
         ok = [c for c in fitting if c.seconds <= EXACT_CEILING_SECONDS]
         if not ok:
             best = exact[0] if exact else None
-            what = (f"the cheapest exact method ({best.description}) would take "
-                    f"{_about(best.seconds)} and {_bytes(best.memory)}" if best else
-                    "no exact method applies to these data")
+            barred = [c for c in cands if c.exact and not c.feasible]
+            if best:
+                what = (f"the cheapest exact method ({best.description}) would take "
+                        f"{_about(best.seconds)} and {_bytes(best.memory)}")
+            elif barred:
+                what = "no exact method fits these data (" + "; ".join(
+                    f"{c.description}: {c.note or 'past its limits'}" for c in barred) + ")"
+            else:
+                what = "no exact method applies to these data"
             raise PlanError(f"'exact' refused: {what}; the limit is "
                             f"{_seconds(EXACT_CEILING_SECONDS)} and {_bytes(settings.memory_bytes)}",
                             hint="drop 'exact' for Monte Carlo, or use 'sampled N'")

@@ -57,8 +57,12 @@ def words(count) -> str:
             return f"{c:,}"
         if c < 10 ** 300:
             return f"{float(c):.3g}"
-        digits = len(str(c)) - 1
+        digits = int(math.log10(c))                # no decimal string: any size
         lead = c // 10 ** (digits - 2)             # three leading digits, truncated
+        if lead >= 1000:                           # log10 rounded up at the edge
+            digits, lead = digits + 1, lead // 10
+        elif lead < 100:
+            digits, lead = digits - 1, c // 10 ** (digits - 3)
         return f"{lead / 100:.2f}e+{digits}"
     f = float(count)
     if f != f or f == math.inf:

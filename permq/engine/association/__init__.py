@@ -28,11 +28,13 @@ import numpy as np
 from scipy import stats
 
 from ...plan.cost import Candidate
+from ...plan.sizes import big, words
+from ..core.tally import DEFAULT_LIMIT as TALLY_LIMIT
 from ...result import EngineOutcome, Estimate
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import fresh_seed
 from .adjusted import _run_freedman_lane, adjusted_coefficient
-from .pairings import (CHUNK, DEFAULT_DRAWS, DESCRIPTIONS, ENUMERATION_LIMIT, _big, _has_ties,
+from .pairings import (CHUNK, DEFAULT_DRAWS, DESCRIPTIONS, ENUMERATION_LIMIT, _has_ties,
                        _run_enumeration, _run_monte_carlo, arrangements,
                        check_inputs, distinct_pairs, problem)
 from . import inversions
@@ -66,20 +68,23 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
                           note="residual permutation is approximate; there is no exact reference set"),
                 Candidate("residual-permutation", DESCRIPTIONS["residual-permutation"], False,
                           draws * n * (6.0 + width), min(draws, 8192) * n * 8 * 2,
-                          arrangements=_big(factorial(n)), note=f"{draws} draws")]
-    total = _big(reference_size(statistic, y, x))
+                          arrangements=factorial(n), note=f"{draws} draws")]
+    count = reference_size(statistic, y, x)
+    total = big(count)
     pairs = n * (n - 1) / 2
     per = {"kendall": 4 * n + 3 * pairs, "slope": 10.0 * n}.get(statistic, 4.0 * n)
     out = []
     if statistic == "kendall":
         out.append(_inversions_candidate(y, x))
+    listing = min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0)
+    # the law's tally (bounded); the slope keeps T and its denominator for every arrangement
+    held = total * 16 * 3 if statistic == "slope" else min(total, TALLY_LIMIT) * 16 * 3
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, total * per,
-                         min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0),
-                         feasible=total <= ENUMERATION_LIMIT, arrangements=total,
-                         note=f"{total:.4g} distinct arrangements"))
+                         listing + held, feasible=total <= ENUMERATION_LIMIT, arrangements=count,
+                         note=f"{words(count)} distinct arrangements"))
     per_draw = {"kendall": 6 * n + 3 * pairs, "slope": 12.0 * n}.get(statistic, 6.0 * n)
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * per_draw,
-                         min(draws, 8192) * n * 8 * 2, arrangements=total, note=f"{draws} draws"))
+                         min(draws, 8192) * n * 8 * 2, arrangements=count, note=f"{draws} draws"))
     return out
 
 

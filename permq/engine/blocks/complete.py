@@ -210,7 +210,6 @@ def _page_dp_cost(ints: np.ndarray) -> tuple[float, float, bool]:
 
 def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
     count = prep.arrangements
-    total = big(count)
     out = []
     if prep.test == "page":
         ops, mem, ok = _page_dp_cost(prep.ints)
