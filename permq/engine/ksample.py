@@ -354,31 +354,65 @@ def dp_ops(z, sizes) -> tuple[float, float, float]:
 
 # ----------------------------------------------------------------------------- median counting
 
-def count_median_tables(sizes, above: int) -> tuple[list, list]:
+def count_median_tables(sizes, above: int) -> tuple[np.ndarray, np.ndarray]:
     """Exact law of Q = sum_g a_g^2 * (L / n_g) over the tables of counts a_g above the median.
 
     A table has prod_g C(n_g, a_g) of the C(N, A) equally likely choices of which items lie
-    above (multivariate hypergeometric); it stands for that many times
-    N!/(n_1!...n_k!) / C(N, A) assignments, an integer once multiplied out. Returns
-    (Q values, numbers of assignments) as Python integers.
+    above (multivariate hypergeometric). The groups are taken one at a time, the state being
+    (items above placed so far, partial Q) with its number of ways; the last group's count is
+    what is left (A less the rest), so it adds no branches. Returns (Q values, ways) with the
+    ways in float64: exact integers below 2^53; a group's weights C(n, a) are divided by their
+    largest when that passes 2^53 (a common factor, which cancels), and the ways are rescaled
+    by powers of two, so no size overflows. Ratios of ways are the probabilities.
     """
     sizes = [int(n) for n in sizes]
     lcm = math.lcm(*sizes)
-    states = {(0, 0): 1}
-    for n in sizes:
-        new: dict = {}
-        for (used, q), ways in states.items():
-            for a in range(0, min(n, above - used) + 1):
-                key = (used + a, q + a * a * (lcm // n))
-                new[key] = new.get(key, 0) + ways * math.comb(n, a)
-        states = new
-    laws: dict = {}
-    for (used, q), ways in states.items():
-        if used == above:
-            laws[q] = laws.get(q, 0) + ways
-    support = sorted(laws)
-    total, choices = multinomial(sizes), math.comb(sum(sizes), above)
-    return support, [laws[q] * total // choices for q in support]
+    used = np.zeros(1, dtype=np.int64)
+    q = np.zeros(1, dtype=np.int64)
+    ways = np.ones(1)
+    for n in sizes[:-1]:
+        a = np.arange(0, min(n, above) + 1, dtype=np.int64)
+        w = _binomial_weights(n, len(a))
+        new_used = (used[:, None] + a[None, :]).ravel()
+        keep = new_used <= above
+        new_q = (q[:, None] + (a * a * (lcm // n))[None, :]).ravel()[keep]
+        new_w = (ways[:, None] * w[None, :]).ravel()[keep]
+        new_used = new_used[keep]
+        key = new_used * (int(new_q.max(initial=0)) + 1) + new_q
+        uniq, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+        used, q = new_used[first], new_q[first]
+        ways = np.bincount(inverse.ravel(), weights=new_w)
+        _rescale_ways(ways)
+    last = sizes[-1]
+    rest = above - used
+    ok = (rest >= 0) & (rest <= last)
+    w_last = _binomial_weights(last, last + 1)
+    q = q[ok] + rest[ok] ** 2 * (lcm // last)
+    ways = ways[ok] * w_last[rest[ok]]
+    support, inverse = np.unique(q, return_inverse=True)
+    return support, np.bincount(inverse.ravel(), weights=ways)
+
+
+def _binomial_weights(n: int, count: int) -> np.ndarray:
+    """C(n, a) for a = 0 .. count-1 as floats; divided by the largest past 2^53."""
+    w = [math.comb(n, a) for a in range(count)]
+    top = max(w)
+    return np.array([v / top for v in w] if top > 2 ** 53 else w, dtype=float)
+
+
+def median_counting_cost(sizes, above: int) -> tuple[float, float]:
+    """(ops, bytes) of `count_median_tables`: the states before each group times its
+    branches (states bounded by the items above placed times the partial Q values)."""
+    sizes = [int(n) for n in sizes]
+    lcm = math.lcm(*sizes)
+    states, ops, peak, q_top = 1.0, 0.0, 1.0, 0
+    for n in sizes[:-1]:
+        branches = min(n, above) + 1
+        ops += states * branches * 12.0
+        peak = max(peak, states * branches)
+        q_top += n * n * (lcm // n)
+        states = min(states * branches, (above + 1.0) * (q_top + 1.0))
+    return ops + states * 10.0, peak * 8.0 * 8
 
 
 # ----------------------------------------------------------------------------- families
@@ -444,8 +478,8 @@ class QuadraticFamily:
 
     def _counting_candidate(self, x, sizes, arr) -> Candidate:
         if self.counting == "dp-hypergeometric":
-            ops = float(sum(sizes)) * float(sizes.max() + 1) * len(sizes) * 50.0
-            return Candidate("dp-hypergeometric", self.counting_words, True, ops, 1e6,
+            ops, memory = median_counting_cost(sizes, int(above_median(x).sum()))
+            return Candidate("dp-hypergeometric", self.counting_words, True, ops, memory,
                              arrangements=arr)
         grid = self.grid(x) if self.grid else None
         if grid is None:
@@ -554,10 +588,8 @@ class QuadraticFamily:
         lcm = math.lcm(*(int(n) for n in sizes))
         counts = np.bincount(g, weights=above, minlength=len(sizes)).round().astype(int)
         q_obs = sum(int(c) ** 2 * (lcm // int(n)) for c, n in zip(counts, sizes))
-        total = sum(ways)
-        p = sum(w for q, w in zip(support, ways) if q >= q_obs) / total   # exact integers
-        probs = np.array([w / total for w in ways], dtype=float)          # no overflow
-        law = self._law(np.array(support, dtype=float) / lcm, probs, above, sizes)
+        p = float(ways[support >= q_obs].sum() / ways.sum())
+        law = self._law(support.astype(float) / lcm, ways, above, sizes)
         return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words, **law)
 
 

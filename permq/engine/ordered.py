@@ -27,6 +27,7 @@ import numpy as np
 
 from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
+from ..plan.sizes import words
 from ..result import EngineOutcome, Estimate
 from .core import pvalues
 from .montecarlo import sampling
@@ -361,7 +362,7 @@ def slope_estimate(values, groups, scores=None, level: float = 0.95, alternative
     arr = multinomial(st.sizes)
     if arr > max_arrangements:
         return Estimate(name, b, None, level, "least squares; no exact interval: "
-                        f"{arr} assignments are too many to list")
+                        f"{words(arr)} assignments are too many to list")
     ratios, fixed = _slope_ratios(st, d_item, progress)
     lo, hi = _invert(ratios, fixed, arr, level, alternative)
     method = ("least squares; exact interval by inverting the permutation test of the slope "

@@ -12,7 +12,7 @@ It asks the design's engine for its candidate algorithms with their estimated co
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Callable
 
 from ..errors import PlanError
@@ -34,10 +34,23 @@ class Plan:
     seed: int
     reason: str
     budget_seconds: float
+    parts: tuple = ()           # the statement's other work (plan/statement.py): Part, ...
 
     @property
     def method(self) -> str:
         return "exact" if self.chosen.exact else "monte-carlo"
+
+    @property
+    def seconds(self) -> float:
+        """The whole statement: the chosen algorithm (with the fixed cost) and every part."""
+        return self.chosen.seconds + sum(p.seconds for p in self.parts)
+
+    @property
+    def memory(self) -> float:
+        return max([self.chosen.memory] + [p.memory for p in self.parts])
+
+    def with_parts(self, parts) -> "Plan":
+        return replace(self, parts=tuple(parts))
 
     def __str__(self) -> str:
         lines = [f"plan: {self.engine}, family '{self.family}'",
@@ -57,6 +70,15 @@ class Plan:
             lines.append(f"  draws: {self.draws:,}, seed {self.seed}")
         if self.chosen.arrangements:
             lines.append(f"  reference set: {_count(self.chosen.arrangements)} arrangements")
+        if self.parts:
+            merged: dict = {}
+            for p in self.parts:
+                merged[p.what] = merged.get(p.what, 0.0) + p.seconds
+            shown = [(what, secs) for what, secs in merged.items() if secs >= 0.01]
+            if shown:
+                lines.append("  besides the test:")
+                lines += [f"     {what:<62} {_seconds(secs)}" for what, secs in shown]
+            lines.append(f"  whole statement: {_seconds(self.seconds)}, {_bytes(self.memory)}")
         return "\n".join(lines)
 
 

@@ -26,6 +26,7 @@ import numpy as np
 from scipy import stats
 
 from ...plan.cost import Candidate
+from ...plan.sizes import big, words as count_words
 from . import arrangements, kernels as kernels, multiplicity
 from ..core.progress import NO_PROGRESS, Progress
 from .workers import LocalPool
@@ -62,7 +63,8 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
     sizes = [int(s) for s in sizes]
     N = sum(sizes)
     summed = N - max(sizes)
-    total = float(arrangements.count(sizes))
+    count = arrangements.count(sizes)
+    total = big(count)
     passes = 3.0 if method == "min-p" else 1.0
 
     def ops(rows):
@@ -83,9 +85,9 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
 
     out = [Candidate("enumeration", "complete enumeration, shared by every test", True,
                      ops(total), memory(total, True), feasible=total <= ENUMERATION_MAX,
-                     note=f"{total:.3g} arrangements" + ("" if total <= ENUMERATION_MAX else
-                                                          " (more than can be listed)"),
-                     arrangements=total),
+                     note=f"{count_words(count)} arrangements" + ("" if total <= ENUMERATION_MAX else
+                                                             " (more than can be listed)"),
+                     arrangements=count),
            Candidate("monte-carlo", "Monte Carlo joint draws (one arrangement for every test)",
                      False, ops(draws + 1), memory(draws + 1, False), arrangements=total,
                      note=f"{draws} draws")]
@@ -217,7 +219,7 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
                           pool, progress)
     else:
         adjusted = multiplicity.from_raw(raw, method, step)
-    return FamilyOutcome(t_obs, raw, adjusted, how, words, float(arrangements.count(sizes)),
+    return FamilyOutcome(t_obs, raw, adjusted, how, words, big(arrangements.count(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None)
 
@@ -311,7 +313,7 @@ def run_pairwise(values, codes, family: str, method: str, step: str, algorithm: 
     raw, adjusted = multiplicity.from_matrix(z, z_obs[0], method, step)
     t = overall_obs[0]
     p_overall = np.count_nonzero(overall >= t - multiplicity.tolerances([t])[0]) / R
-    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, float(arrangements.count(sizes)),
+    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, big(arrangements.count(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None,
                          overall={"statistic": float(t), "p_value": float(p_overall)},
