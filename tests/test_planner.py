@@ -82,7 +82,7 @@ def test_exact_is_refused_past_the_ceiling_with_the_estimate():
     err = info.value
     assert err.message == ("'exact' refused: the cheapest exact method (dynamic programming on "
                            f"integer scores) would take about "
-                           f"{planner._seconds(20 * 86400 + cost.BASE_SECONDS)} and 1 MB; "
+                           f"{planner._seconds(20 * 86400 + cost.base_seconds())} and 1 MB; "
                            "the limit is 60 min and 2 GB")
     assert "20 days" in err.message
     assert err.hint == "drop 'exact' for Monte Carlo, or use 'sampled N'"

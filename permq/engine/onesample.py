@@ -22,7 +22,7 @@ from .core.counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size
 from .core.enumeration import sign_patterns_chunks
 from ..plan.sizes import big, words
 from .core.jumps import JumpStream, collect_sampled, interval_from_jumps
-from .core.tally import DEFAULT_LIMIT as TALLY_LIMIT, Tally
+from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
 from .montecarlo.sampling import BLOCK, iter_blocks
 from .core.progress import NO_PROGRESS, Progress
 from .core.scores import integer_grid, midranks
@@ -94,7 +94,7 @@ def candidates(family: str, d, draws: int) -> list[Candidate]:
                              float("inf"), float("inf"), feasible=False, arrangements=count,
                              note="scores do not lie on a decimal grid"))
     patterns = (1 << min(n, 16)) * n * 8 * 4
-    law = min(total, TALLY_LIMIT) * 16 * 3
+    law = min(total, TALLY_LIMIT) * TALLY_BYTES
     jumps = 0.5 * total * 8 * 3 if family == "means" else 0.0
     out.append(Candidate("enumeration", "complete enumeration", True, total * n * 3,
                          patterns + law + jumps, arrangements=count,

@@ -20,7 +20,7 @@ from ..plan.sizes import big, words
 from .core.counting import EXACT_COUNT_LIMIT, convolve_counts, counts_by_size, layer_bytes
 from .core.enumeration import CHUNK, combinations_chunks
 from .core.jumps import JumpStream, collect_sampled, interval_from_jumps
-from .core.tally import DEFAULT_LIMIT as TALLY_LIMIT, Tally
+from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
 from .montecarlo.draws import random_u32, subset_sums
 from .core.progress import NO_PROGRESS, Progress
 from .montecarlo.sampling import iter_blocks
@@ -105,7 +105,7 @@ def _enumeration_bytes(family: str, m: int, total: float, level: float) -> float
     """A chunk of subsets and its sums, the law's tally, and for means the interval's kept
     jumps (a share alpha of the arrangements at most, a side)."""
     chunk = min(total, CHUNK) * (m * 8 * 4 + 64)
-    law = min(total, TALLY_LIMIT) * 16 * 3
+    law = min(total, TALLY_LIMIT) * TALLY_BYTES
     jumps = min(total, 0.5 * total) * 8 * 3 if family == "means" else 0.0
     return chunk + law + jumps
 

@@ -17,7 +17,7 @@ from typing import Callable
 
 from ..errors import PlanError
 from ..engine.montecarlo.sampling import fresh_seed
-from .cost import Candidate, calibrated
+from .cost import Candidate, base_bytes, calibrated
 from .sizes import words
 
 DEFAULT_DRAWS = 100_000
@@ -47,7 +47,8 @@ class Plan:
 
     @property
     def memory(self) -> float:
-        return max([self.chosen.memory] + [p.memory for p in self.parts])
+        """Peak bytes: the largest of the algorithm and the other parts, over the base."""
+        return base_bytes() + max([self.chosen.memory] + [p.memory for p in self.parts])
 
     def with_parts(self, parts) -> "Plan":
         return replace(self, parts=tuple(parts))

@@ -29,7 +29,7 @@ from scipy import stats
 
 from ...plan.cost import Candidate
 from ...plan.sizes import big, words
-from ..core.tally import DEFAULT_LIMIT as TALLY_LIMIT
+from ..core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT
 from ...result import EngineOutcome, Estimate
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import fresh_seed
@@ -78,7 +78,7 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
         out.append(_inversions_candidate(y, x))
     listing = min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0)
     # the law's tally (bounded); the slope keeps T and its denominator for every arrangement
-    held = total * 16 * 3 if statistic == "slope" else min(total, TALLY_LIMIT) * 16 * 3
+    held = total * 16 * 3 if statistic == "slope" else min(total, TALLY_LIMIT) * TALLY_BYTES
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, total * per,
                          listing + held, feasible=total <= ENUMERATION_LIMIT, arrangements=count,
                          note=f"{words(count)} distinct arrangements"))

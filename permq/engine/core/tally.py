@@ -12,7 +12,8 @@ import numpy as np
 
 from .pvalues import RTOL
 
-DEFAULT_LIMIT = 2_000_000
+DEFAULT_LIMIT = 1_000_000
+BYTES_PER_VALUE = 16 * 6     # values and counts, pending and kept, while a fold sorts them
 
 
 class Tally:
@@ -32,7 +33,7 @@ class Tally:
         counts = np.ones(values.size) if counts is None else np.asarray(counts, dtype=float)
         self._pending.append(_grouped(values, counts, self.tol))
         self._pending_size += self._pending[-1][0].size
-        if self._pending_size > max(4 * self.values.size, 1 << 20):
+        if self._pending_size > max(self.values.size, 1 << 19):
             self._fold()
 
     def law(self):
