@@ -80,12 +80,12 @@ def candidates(family: str, d, draws: int) -> list[Candidate]:
     if g is not None:
         width = float(g[0].sum()) + 1
         ops = n * width
-        mem = layer_bytes(1, width)
+        mem = 2 * layer_bytes(1, width)          # the counts and numpy's overlap copy
         if family == "means":  # the exact interval needs counts by size too
             full = integer_grid(np.asarray(d, dtype=float))
             w2 = float(full.integers.sum()) + 1 if full is not None else float("inf")
             ops += len(d) * (len(d) + 1) * w2 / 2
-            mem += layer_bytes(len(d) + 1, w2)
+            mem += 2 * layer_bytes(len(d) + 1, w2)
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
                              feasible=mem <= MAX_DP_BYTES, arrangements=count,
                              note="scores on an integer grid"))
