@@ -45,7 +45,7 @@ from permq.data.tables import Table  # noqa: E402
 from permq.engine.core.progress import NO_PROGRESS  # noqa: E402
 from permq.errors import PermqError  # noqa: E402
 from permq.pipeline import analyse, whole_plan  # noqa: E402
-from permq.families import handler_for  # noqa: E402
+from permq.families.registry import family_for  # noqa: E402
 from permq.plan import cost  # noqa: E402
 from permq.syntax import parse_statement  # noqa: E402
 
@@ -61,7 +61,7 @@ class Design:
         self.defaults = Defaults()
         self.node = parse_statement(text)
         design = bind(self.node, self.catalog, self.defaults)
-        self.plan = whole_plan(handler_for(design), design, self.node)
+        self.plan = whole_plan(family_for(design), design, self.node)
 
     @property
     def key(self) -> str:
@@ -184,8 +184,9 @@ def check(count: int, seed: int) -> dict:
         peak = d.peak_bytes()
         out.append((text, d.key, d.plan.seconds, took, d.plan.memory, peak))
         print(f"check {len(out):3d}/{count} {d.key:<34} predicted {d.plan.seconds:8.3f} s "
-              f"took {took:8.3f} s ({took / d.plan.seconds:5.2f}x)  memory {d.plan.memory / 1e6:9.2f}"
-              f" MB, peak {peak / 1e6:9.2f} MB ({peak / d.plan.memory:5.2f}x)", flush=True)
+              f"took {took:8.3f} s ({took / d.plan.seconds:5.2f}x)  memory "
+              f"{d.plan.memory / 1e6:9.2f} MB, peak {peak / 1e6:9.2f} MB "
+              f"({peak / d.plan.memory:5.2f}x)", flush=True)
     return summarise(out, skipped)
 
 

@@ -16,7 +16,8 @@ import brute
 from scipy import stats
 
 from permq.engine import association as A
-from permq.engine.association import inversions as A_inversions, pairings as A_pairings, slope as A_slope
+from permq.engine.association import inversions as A_inversions
+from permq.engine.association import pairings as A_pairings, slope as A_slope
 from permq.engine.core.progress import Progress
 from permq.errors import Cancelled, DataError
 from permq.normal import association as N

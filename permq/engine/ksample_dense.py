@@ -11,8 +11,8 @@ At the end the one table for the observed sizes holds the law of (S1, S2), hence
 Q = sum_g S_g^2 L / n_g (L = lcm of the sizes), the exact statistic of `count_sum_squares`.
 
 Ways are float64: exact integers below 2^53; past 2^800 every table is multiplied by one
-power of two (exact), so only ratios are used. Blocks of more than 170 tied items use multinomial weights
-divided by their largest (a common factor of the block, which cancels).
+power of two (exact), so only ratios are used. Blocks whose multinomial weights pass 2^53 use
+them divided by their largest (a common factor of the block, which cancels).
 """
 from __future__ import annotations
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from math import comb
-from typing import Optional
+from typing import Callable, Optional
 
 import numpy as np
 
@@ -32,35 +32,39 @@ MAX_INTERVAL_DRAWS = 2_000_000
 
 
 @dataclass(frozen=True)
-class TwoSampleFamily:
+class ScoreRule:
+    """How a two-sample family scores the pooled values; its statistic is the first group's
+    score sum (or, for `mean_difference`, the difference in means, with the exact interval
+    for a shift). A family may bring its own rule (families/scale.py does)."""
+
     key: str
     statistic_name: str
+    scores: Callable[[np.ndarray], np.ndarray]   # pooled values (first group first) -> scores
+    mean_difference: bool = False
 
 
-FAMILIES = {
-    "means": TwoSampleFamily("means", "difference in means"),
-    "ranks": TwoSampleFamily("ranks", "rank sum of the first group (mid-ranks)"),
-    "normal-scores": TwoSampleFamily("normal-scores", "normal-scores sum of the first group"),
-    "medians": TwoSampleFamily("medians", "count of the first group above the pooled median"),
+RULES = {
+    "means": ScoreRule("means", "difference in means", lambda a: a, mean_difference=True),
+    "ranks": ScoreRule("ranks", "rank sum of the first group (mid-ranks)", midranks),
+    "normal-scores": ScoreRule("normal-scores", "normal-scores sum of the first group",
+                               normal_scores),
+    "medians": ScoreRule("medians", "count of the first group above the pooled median",
+                         median_scores),
 }
 
 
-def scores_for(family: str, x, y) -> np.ndarray:
-    pooled = np.concatenate([x, y]).astype(float)
-    if family == "means":
-        return pooled
-    if family == "ranks":
-        return midranks(pooled)
-    if family == "normal-scores":
-        return normal_scores(pooled)
-    if family == "medians":
-        return median_scores(pooled)
-    raise KeyError(family)
+def rule_of(rule) -> ScoreRule:
+    """A rule, or the name of one of this engine's rules."""
+    return RULES[rule] if isinstance(rule, str) else rule
 
 
-def statistic_from_sum(family: str, s, a, n1: int):
+def scores_for(rule, x, y) -> np.ndarray:
+    return rule_of(rule).scores(np.concatenate([x, y]).astype(float))
+
+
+def statistic_from_sum(rule, s, a, n1: int):
     """The reported statistic for group-1 score sum(s) s."""
-    if family == "means":
+    if rule_of(rule).mean_difference:
         n2 = len(a) - n1
         return np.asarray(s) / n1 - (a.sum() - np.asarray(s)) / n2
     return np.asarray(s, dtype=float)
@@ -68,8 +72,9 @@ def statistic_from_sum(family: str, s, a, n1: int):
 
 # ---------------------------------------------------------------- cost
 
-def candidates(family: str, x, y, draws: int) -> list[Candidate]:
-    a = scores_for(family, x, y)
+def candidates(rule, x, y, draws: int) -> list[Candidate]:
+    rule = rule_of(rule)
+    a = scores_for(rule, x, y)
     n1, N = len(x), len(a)
     m = min(n1, N - n1)          # counting and listing take subsets of the smaller group
     count = comb(N, n1)
@@ -80,10 +85,10 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
         width = float(np.sort(grid.integers)[::-1][:m].sum()) + 1
         ops = N * (m + 1) * width / 2
         mem = 2 * layer_bytes(m + 1, width)          # the table and numpy's overlap copy
-        if family == "means":   # the exact interval counts each group on its own as well
+        if rule.mean_difference:   # the exact interval counts each group on its own as well
             ops *= 2
             mem *= 2
-        note = ("scores are integers" if family != "means"
+        note = ("scores are integers" if not rule.mean_difference
                 else f"data on a grid of {grid.step:g} ({grid.decimals} decimals)")
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
                              feasible=mem <= MAX_DP_BYTES, note=note, arrangements=count))
@@ -93,7 +98,7 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
                              note="scores do not lie on a decimal grid", arrangements=count))
     # listing runs at about 3 microseconds an arrangement (itertools, gathers, sums)
     out.append(Candidate("enumeration", "complete enumeration", True, total * (m * 8 + 600),
-                         _enumeration_bytes(family, m, total, 0.95), arrangements=count,
+                         _enumeration_bytes(rule.mean_difference, m, total), arrangements=count,
                          note=f"{words(count)} arrangements"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
                          draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=count,
@@ -101,27 +106,27 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
     return out
 
 
-def _enumeration_bytes(family: str, m: int, total: float, level: float) -> float:
+def _enumeration_bytes(mean_difference: bool, m: int, total: float) -> float:
     """A chunk of subsets and its sums, the law's tally, and for means the interval's kept
     jumps (a share alpha of the arrangements at most, a side)."""
     chunk = min(total, CHUNK) * (m * 8 * 4 + 64)
     law = min(total, TALLY_LIMIT) * TALLY_BYTES
-    jumps = min(total, 0.5 * total) * 8 * 3 if family == "means" else 0.0
+    jumps = 0.5 * total * 8 * 3 if mean_difference else 0.0
     return chunk + law + jumps
 
 
 # ---------------------------------------------------------------- run
 
-def run(family: str, x, y, alternative: str, algorithm: str, level: float,
+def run(rule, x, y, alternative: str, algorithm: str, level: float,
         draws: Optional[int] = None, seed: Optional[int] = None,
         progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:
     """The permutation p-value, and for `means` the exact interval for the shift x - y."""
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
-    a = scores_for(family, x, y)
+    fam = rule_of(rule)
+    a = scores_for(fam, x, y)
     n1 = len(x)
-    fam = FAMILIES[family]
-    t_obs = float(statistic_from_sum(family, a[:n1].sum(), a, n1))
+    t_obs = float(statistic_from_sum(fam, a[:n1].sum(), a, n1))
     if algorithm == "dp-integer":
         return _run_dp(fam, x, y, a, alternative, level, t_obs, progress)
     if algorithm == "enumeration":
@@ -145,12 +150,12 @@ def _run_dp(fam, x, y, a, alternative, level, t_obs, progress):
     total = comb(N, n1)
     warn = () if total < EXACT_COUNT_LIMIT else (
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
-    stat_support = statistic_from_sum(fam.key, n1 * grid.origin + grid.step * support, a, n1)
+    stat_support = statistic_from_sum(fam, n1 * grid.origin + grid.step * support, a, n1)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact",
                         "dynamic programming on integer scores", arrangements=total,
                         null_support=stat_support, null_probs=counts / counts.sum(), warnings=warn)
     interval = None
-    if fam.key == "means":
+    if fam.mean_difference:
         interval = _shift_interval_dp(q[:n1], q[n1:], grid, level, alternative)
     return out, interval
 
@@ -203,7 +208,7 @@ def _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress):
     scale = max(abs(s_obs - center), np.abs(a).max())
     sum_all, x_sum = a.sum(), s_obs
     tally = Tally(max(1.0, float(np.abs(a).sum())), TALLY_LIMIT)
-    jumps = JumpStream(1.0, float(total), level, alternative) if fam.key == "means" else None
+    jumps = JumpStream(1.0, float(total), level, alternative) if fam.mean_difference else None
     b, done = 0, 0
     for idx in combinations_chunks(N, m):
         picked = a[idx]
@@ -231,7 +236,7 @@ def _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress):
     uniq, cnt = tally.law()
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact", "complete enumeration",
                         arrangements=total,
-                        null_support=None if uniq is None else statistic_from_sum(fam.key, uniq, a, n1),
+                        null_support=None if uniq is None else statistic_from_sum(fam, uniq, a, n1),
                         null_probs=None if cnt is None else cnt / cnt.sum())
     return out, (jumps.interval() if jumps is not None else None)
 
@@ -241,15 +246,17 @@ def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progr
     s_obs = a[:n1].sum()
     center = n1 * a.mean()
     scale = max(abs(s_obs - center), float(np.abs(a).max()))
-    means = fam.key == "means"
+    means = fam.mean_difference
 
     def work(size, rng):
-        s, u, g2_in = subset_sums(a, n1, random_u32(rng, size, n1), sums_only=not means)
+        s, u = subset_sums(a, n1, random_u32(rng, size, n1), sums_only=not means)
         b = pvalues.exceedances(s, s_obs, alternative, center=center, scale=scale)
         if not means:
             return b, None, 0
-        moved = u > 0   # jump of each arrangement: (group-1 sum moved out - group-2 sum in) / u
-        jumps = (s_obs - (s - g2_in) - g2_in)[moved] / u[moved]
+        # jump of each arrangement: (group-1 sum moved out - group-2 sum moved in) / u, which
+        # is (observed group-1 sum - this arrangement's) / u
+        moved = u > 0
+        jumps = (s_obs - s)[moved] / u[moved]
         return b, jumps, int((~moved).sum())
 
     b, vals, identity, used = collect_sampled(iter_blocks(seed, draws, work, progress), means,

@@ -4,8 +4,9 @@ With x and y free of ties, the reference set is the n! orders of y against x, an
 S = K - 2D with K = n(n-1)/2 pairs and D the discordant pairs, i.e. the inversions of the
 permutation. The number I_n(k) of permutations of n items with k inversions (the Mahonian
 numbers) obeys I_m(k) = sum_{i<m} I_{m-1}(k - i), a window sum read off as a difference of
-cumulative sums: one cumulative sum and one difference over the counts for each m (Kendall, Rank Correlation
-Methods, 1970, ch. 5, the recurrence for the frequencies of S; common practice).
+cumulative sums: one cumulative sum and one difference over the counts for each m (Kendall,
+Rank Correlation Methods, 1970, ch. 5, the recurrence for the frequencies of S; common
+practice).
 
 Only the counts up to the tail the p-value needs are formed (the law is symmetric about
 K/2, so the smaller tail is always enough), as float64 times a power of two: exact integers

@@ -230,7 +230,8 @@ def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
         out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True,
                              fixed * prep.k * 6, rows * prep.k * 8 * 3,
                              feasible=fixed <= MAX_ENUMERATION, arrangements=count,
-                             note=f"{words(count)} arrangements ({fixed:.4g} after fixing block 1)"))
+                             note=f"{words(count)} arrangements "
+                                  f"({words(count // factorial(prep.k))} after fixing block 1)"))
     n = prep.b * prep.k
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
                          min(draws, 8192) * prep.k * 8 * 4, arrangements=count,

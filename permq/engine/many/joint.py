@@ -23,7 +23,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...plan.sizes import big, words as count_words
@@ -85,8 +85,8 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
 
     out = [Candidate("enumeration", "complete enumeration, shared by every test", True,
                      ops(total), memory(total, True), feasible=total <= ENUMERATION_MAX,
-                     note=f"{count_words(count)} arrangements" + ("" if total <= ENUMERATION_MAX else
-                                                             " (more than can be listed)"),
+                     note=f"{count_words(count)} arrangements"
+                          + ("" if total <= ENUMERATION_MAX else " (more than can be listed)"),
                      arrangements=count),
            Candidate("monte-carlo", "Monte Carlo joint draws (one arrangement for every test)",
                      False, ops(draws + 1), memory(draws + 1, False), arrangements=total,

@@ -12,7 +12,7 @@ has one row or one column left is the only table with its margins: p = 1.
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
