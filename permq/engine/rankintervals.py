@@ -5,28 +5,37 @@ Two samples: the median of the n1*n2 pairwise differences x_i - y_j, with the in
 Mann-Whitney null without ties. Paired / one sample: the median of the n(n+1)/2 Walsh averages,
 with the same rule from the signed-rank null without ties. Median: order statistics from the
 binomial(n, 1/2) law (the sign-test interval). With ties in the data the untied laws make
-these intervals slightly conservative (common practice).
+these intervals slightly conservative (common practice). C is read by the interval-end rule
+of `core.confidence` (exact counts against alpha_side as written).
 """
 from __future__ import annotations
+
+from fractions import Fraction
+from math import comb
 
 import numpy as np
 from ..lazy import stats
 from ..normal.tails import normal_isf
 
+from .core.confidence import alpha_side, last_rejected
 from .core.counting import counts_all_subsets, rescale
+from .core.grid import common_grid, integer_grid
 
-MAX_PAIRS = 20_000_000
-
-
-def _critical(cdf, alpha_side: float) -> int:
-    """Largest c with cdf[c] <= alpha_side (cdf indexed from 0), or -1 when none."""
-    idx = np.flatnonzero(cdf <= alpha_side + 1e-12)
-    return int(idx[-1]) if idx.size else -1
+# the exact no-ties laws are counted up to these sizes (two samples: EXACT_LAW_OPS below);
+# beyond, normal-approximation ranks
+EXACT_ONE_SAMPLE_N = 400
+EXACT_BINOMIAL_N = 2000
 
 
-def _side(level, alternative):
-    alpha = 1 - level
-    return alpha / 2 if alternative == "two-sided" else alpha
+def critical(counts, side: Fraction) -> int:
+    """Largest c with P(U <= c) <= alpha_side under the null law given by its counts
+    (indexed from 0), or -1 when none."""
+    cum = np.cumsum(np.asarray(counts, dtype=float))
+    return last_rejected(cum, cum[-1], side)
+
+
+def _side(level, alternative) -> Fraction:
+    return alpha_side(level, alternative)
 
 
 def _interval_from_order(values, c, alternative):
@@ -89,10 +98,24 @@ def mann_whitney_ops(n1: int, n2: int) -> float:
     return 3.0 * m * (m * n / 2 + 1)
 
 
-def signed_rank_cdf(n: int) -> np.ndarray:
-    """P(T+ <= t), t = 0 .. n(n+1)/2, without ties."""
-    c = counts_all_subsets(np.arange(1, n + 1))
-    return np.cumsum(c) / c.sum()
+def signed_rank_counts(n: int) -> np.ndarray:
+    """Numbers of sign patterns with T+ = t, t = 0 .. n(n+1)/2, without ties."""
+    return counts_all_subsets(np.arange(1, n + 1))
+
+
+def binomial_critical(n: int, side: Fraction) -> int:
+    """Largest c with P(B <= c) <= alpha_side for B ~ binomial(n, 1/2), or -1 (exact)."""
+    if n > EXACT_BINOMIAL_N:
+        cdf = stats.binom.cdf(np.arange(n + 1), n, 0.5)
+        idx = np.flatnonzero(cdf <= float(side) * (1 + 1e-12))
+        return int(idx[-1]) if idx.size else -1
+    bound, cum, c = side * 2 ** n, 0, -1
+    for k in range(n + 1):
+        cum += comb(n, k)
+        if cum > bound:
+            break
+        c = k
+    return c
 
 
 # the exact no-ties law is formed when it costs at most this many array operations (about
@@ -101,7 +124,13 @@ EXACT_LAW_OPS = 2e7
 
 
 def pairwise_differences(x, y) -> np.ndarray:
-    return (np.asarray(x, float)[:, None] - np.asarray(y, float)[None, :]).ravel()
+    """Every x_i - y_j (unsorted), formed on the data's decimal grid (exact decimals)."""
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    grid = common_grid(x, y) if x.size and y.size else None
+    if grid is None:
+        return (x[:, None] - y[None, :]).ravel()
+    z = grid.integers
+    return grid.differences((z[:x.size, None] - z[None, x.size:]).ravel())
 
 
 def hodges_lehmann_two_sample(x, y, level, alternative):
@@ -112,7 +141,7 @@ def hodges_lehmann_two_sample(x, y, level, alternative):
     side = _side(level, alternative)
     exact = mann_whitney_ops(n1, n2) <= EXACT_LAW_OPS
     if exact:
-        c = _critical(mann_whitney_cdf(n1, n2), side)
+        c = critical(mann_whitney_counts(n1, n2), side)
     else:
         c = _normal_critical(n1 * n2 / 2, np.sqrt(n1 * n2 * (n1 + n2 + 1) / 12), side)
     return est, _interval_from_order(diffs, c, alternative), exact
@@ -126,10 +155,15 @@ def hodges_lehmann_two_sample_normal(x, y, level, alternative):
 
 
 def walsh_averages(d):
-    """The n(n+1)/2 Walsh averages (d_i + d_j) / 2, i <= j, unsorted."""
+    """The n(n+1)/2 Walsh averages (d_i + d_j) / 2, i <= j, unsorted; on the data's decimal
+    grid, exact decimals."""
     d = np.asarray(d, float)
     i, j = np.triu_indices(len(d))
-    return (d[i] + d[j]) / 2
+    grid = integer_grid(d)
+    if grid is None:
+        return (d[i] + d[j]) / 2
+    z = grid.integers
+    return grid.means(z[i] + z[j], 2)
 
 
 def hodges_lehmann_one_sample(d, level, alternative):
@@ -137,9 +171,9 @@ def hodges_lehmann_one_sample(d, level, alternative):
     n = len(d)
     est = float(np.median(w))
     side = _side(level, alternative)
-    exact = n <= 400
+    exact = n <= EXACT_ONE_SAMPLE_N
     if exact:
-        c = _critical(signed_rank_cdf(n), side)
+        c = critical(signed_rank_counts(n), side)
     else:
         c = _normal_critical(n * (n + 1) / 4, np.sqrt(n * (n + 1) * (2 * n + 1) / 24), side)
     return est, _interval_from_order(w, c, alternative), exact
@@ -155,7 +189,7 @@ def hodges_lehmann_one_sample_normal(d, level, alternative):
 def median_interval(d, level, alternative):
     d = np.sort(np.asarray(d, float))
     n = len(d)
-    c = _critical(stats.binom.cdf(np.arange(n + 1), n, 0.5), _side(level, alternative))
+    c = binomial_critical(n, _side(level, alternative))
     return float(np.median(d)), _interval_from_order(d, c, alternative)
 
 
@@ -167,5 +201,5 @@ def median_interval_normal(d, level, alternative):
 
 
 def _normal_critical(mean, sd, side):
-    z = normal_isf(side)
+    z = normal_isf(float(side))
     return int(np.floor(mean - z * sd))

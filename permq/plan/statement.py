@@ -20,8 +20,6 @@ from .sizes import big
 
 # pictures of Monte Carlo results draw this many arrangements afresh (robustness/pictures.py)
 PICTURE_DRAWS = 20_000
-# the exact trend-slope interval lists at most this many assignments (families/groups.py)
-SLOPE_LISTING = 200_000
 
 
 @dataclass(frozen=True)
@@ -94,11 +92,14 @@ def _estimate_and_normal(design) -> list:
         n = len(design.values)
         out = [Part("normal", "normal theory", 60.0 * n)]
         if design.ordered and design.blocks is None:
-            from ..engine.ksample import multinomial
+            from ..engine.core.counting import multinomial
+            from ..engine.core.limits import limits_for
+            from ..engine.ordered import _SLOPE_OPS_PER_ITEM
 
             sizes = np.bincount(design.groups)
             listed = big(multinomial(sizes))
-            if listed <= SLOPE_LISTING:
+            # listed when it fits the statement's limits (engine/ordered.py, slope_estimate)
+            if limits_for(design.settings).fits(listed * n * _SLOPE_OPS_PER_ITEM, listed * 8.0 * 3):
                 out.append(Part("listing", "the exact trend-slope interval (every assignment)",
                                 listed * n, listed * n * 8 * 2))
         return out

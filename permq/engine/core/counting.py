@@ -1,4 +1,5 @@
-"""Exact counting of subsets by the sum of their integer scores (dynamic programming).
+"""Counts of arrangements (multinomial coefficients, distinct arrangements of a multiset) and
+exact counting of subsets by the sum of their integer scores (dynamic programming).
 
 Counts are held in float64: they are exact integers while every count stays below 2^53
 (the reference set then has fewer than 2^53 members); beyond that the relative error of each
@@ -8,13 +9,41 @@ never overflow; callers use ratios of counts, or ask for the exponent (`with_exp
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from .progress import NO_PROGRESS, Progress
 
-EXACT_COUNT_LIMIT = 2.0 ** 53
 RESCALE_BITS = 960                  # a table past 2^960 is multiplied by 2^-960 (exactly)
 _RESCALE_EVERY = 16                 # items between checks: a table at most doubles per item
+
+
+def multinomial(sizes) -> int:
+    """N! / (n_1! ... n_k!): the assignments of N items to groups of these sizes (exact)."""
+    total, out = 0, 1
+    for n in sizes:
+        total += int(n)
+        out *= math.comb(total, int(n))
+    return out
+
+
+def distinct_orderings(values) -> int:
+    """Distinct orderings of a multiset: n! / prod(t!) over its tied values."""
+    _, counts = np.unique(np.asarray(values), return_counts=True)
+    return multinomial(counts)
+
+
+def multinomial_weights(m: int, splits) -> np.ndarray:
+    """m! / prod(x_g!) for each split (x_1 .. x_k) of m tied items over k groups (floats);
+    past 2^53 all are divided by the largest (a factor common to the block, which cancels in
+    every ratio of counts), so that no weight overflows."""
+    f = [math.factorial(v) for v in range(int(m) + 1)]
+    w = [f[int(m)] // math.prod(f[int(v)] for v in x) for x in np.asarray(splits, dtype=np.int64)]
+    top = max(w, default=1)
+    if top > 2 ** 53:
+        return np.array([v / top for v in w], dtype=float)
+    return np.array(w, dtype=float).reshape(len(w))
 
 
 def rescale(table: np.ndarray) -> int:
