@@ -21,7 +21,7 @@ from typing import Callable, Optional
 # The modules that declare families, in the order their words are offered. Adding a family is
 # adding its module here.
 MODULES = ("two_sample", "one_sample", "k_sample", "ordered", "blocked", "association",
-           "tables", "many", "scale")
+           "tables", "paired_counts", "many", "scale")
 
 
 @dataclass(frozen=True)
@@ -31,6 +31,7 @@ class Kind:
     verb: str            # the statement that produces it
     words: str           # in messages: "'signs' is not a test family for two groups"
     how: str = ""        # how a statement reaches it, for hints
+    extends: str = ""    # the kind a statement becomes this one from, by adding `how`
 
 
 BASE_KINDS = {
@@ -38,16 +39,16 @@ BASE_KINDS = {
     "paired": Kind("compare", "paired data", "compare after vs before paired"),
     "one-sample": Kind("compare", "one sample", "compare Y vs 12.5"),
     "k-sample": Kind("compare", "three or more groups", "compare Y by G with three or more levels"),
-    "ordered": Kind("compare", "ordered groups", "add 'ordered'"),
+    "ordered": Kind("compare", "ordered groups", "add 'ordered'", "k-sample"),
     "stratified": Kind("compare", "two groups within blocks", "add 'within BLOCK' with two levels"),
     "blocked": Kind("compare", "blocked designs", "add 'within BLOCK' with three or more levels"),
-    "ordered-blocked": Kind("compare", "ordered groups within blocks",
-                            "add 'ordered' and 'within BLOCK'"),
+    "ordered-blocked": Kind("compare", "ordered groups within blocks", "add 'ordered'",
+                            "blocked"),
     "many": Kind("compare", "several responses", "compare Y1, Y2 by G"),
     "association": Kind("relate", "an association", "relate Y to X"),
     "table": Kind("count", "a table", "count A by B"),
     "ordered-table": Kind("count", "an ordered table",
-                          "add 'ordered' (rows and columns in the order given)"),
+                          "add 'ordered' (rows and columns in the order given)", "table"),
     "paired-table": Kind("count", "paired outcomes", "count first vs second paired"),
     "proportion": Kind("count", "one proportion", "count 7 of 20 vs 0.5"),
 }
