@@ -39,9 +39,13 @@ def bind_relate(node: n.Relate, catalog, defaults):
 
 
 def bind_count(node: n.Count, catalog, defaults):
+    from . import counts
     from .common import settings_for
 
     opts = n.options_of(node)
+    design = counts.bind_count(node, opts, catalog, defaults)
+    if design is not None:
+        return design
     sub = node.subject
     if isinstance(sub, n.CountProportion):
         s = settings_for(node, opts, defaults, "proportion", "one proportion", ())
@@ -132,8 +136,7 @@ def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
                          f"'levels'",)
         a, b = a[inside], b[inside]
     ct = pd.crosstab(a, b)
-    if ordered:
-        ct = ct.loc[sorted(ct.index, key=_natural), sorted(ct.columns, key=_natural)]
+    ct = ct.loc[sorted(ct.index, key=_natural), sorted(ct.columns, key=_natural)]
     if "levels" in opts:
         ct = ct[[c for c in chosen if c in ct.columns]]
     t = ct.to_numpy(np.int64)
@@ -175,7 +178,6 @@ def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
 
 
 def _natural(text):
-    try:
-        return (0, float(text), text)
-    except ValueError:
-        return (1, 0.0, text)
+    from ..data.order import natural_key
+
+    return natural_key(text)

@@ -475,7 +475,7 @@ class QuadraticFamily:
 
     def _sample(self, x, sizes, a, sst, ssb_obs, draws, seed, progress, **_):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         hits = 0
         for chunk in sample_group_sums(a, sizes, seed, draws, progress):
             ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)
@@ -547,7 +547,7 @@ def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
 def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
                           description: str = "Monte Carlo: random assignments to groups") -> Candidate:
     return Candidate("monte-carlo", description, False, float(draws) * N * per_item,
-                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws} draws",
+                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws:,} draws",
                      arrangements=float(arr))
 
 

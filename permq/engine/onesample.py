@@ -96,7 +96,7 @@ def candidates(family: str, d, draws: int) -> list[Candidate]:
                          feasible=n <= 30, note=f"{total:.3g} sign patterns"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of sign patterns", False,
                          draws * n * 6.0, min(draws, BLOCK) * n * 8 * 3, arrangements=total,
-                         note=f"{draws} draws"))
+                         note=f"{draws:,} draws"))
     return out
 
 

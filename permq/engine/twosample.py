@@ -98,7 +98,7 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
                          note=f"{total:.3g} arrangements"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
                          draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=total,
-                         note=f"{draws} draws"))
+                         note=f"{draws:,} draws"))
     return out
 
 

@@ -95,10 +95,14 @@ def result_table(r: dict) -> str:
     nt = r.get("normal_theory")
     if nt:
         df = f"df {fmt.df(nt['df'])}" if nt.get("df") is not None else ""
-        rows.append(_row("", "normal theory", fmt.p(nt["p_value"]),
-                         f"{nt['test']}: {fmt.num(nt['statistic'])} {df}".strip()))
+        shown = (f"undefined ({nt['undefined']})" if nt.get("undefined")
+                 else f"{fmt.num(nt['statistic'])} {df}".strip())
+        rows.append(_row("", "normal theory", "undefined" if nt.get("undefined")
+                         else fmt.p(nt["p_value"]), f"{nt['test']}: {shown}"))
     for extra in r.get("normal_theory_also") or []:
-        rows.append(_row("", "also", fmt.p(extra["p_value"]), extra["test"]))
+        p_shown = f"undefined ({extra['undefined']})" if extra.get("undefined") else \
+            fmt.p(extra["p_value"])
+        rows.append(_row("", "also", p_shown, extra["test"]))
     est = r.get("estimate")
     if est:
         iv = fmt.interval(_floats(est["interval"])) if est.get("interval") else "none"

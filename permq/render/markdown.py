@@ -28,9 +28,10 @@ def render(outputs) -> str:
             continue
         oc, nt, est = o.outcome, o.normal, o.estimate
         method = (f"exact, {fmt.count(oc.arrangements)} arrangements" if oc.method == "exact"
-                  else f"Monte Carlo, {oc.draws:,} draws, seed {oc.seed}")
+                  else f"Monte Carlo, {oc.draws:,} draws, {fmt.seed(oc.seed, o.seed_source)}")
         cells = [f"`{o.statement}`", o.family, f"{oc.statistic_name} = {fmt.num(oc.statistic)}",
-                 fmt.p(oc.p_value), method, fmt.p(nt.p_value) if nt else "-",
+                 fmt.p(oc.p_value) if oc.method == "exact"
+                 else fmt.sampled_p(oc.p_value, oc.p_interval), method, fmt.normal_p(nt),
                  f"{est.name} = {fmt.num(est.value)}" if est else "-",
                  fmt.interval(est.interval) if est and est.interval else "-",
                  fmt.interval(nt.interval) if nt and nt.interval else "-"]

@@ -77,7 +77,7 @@ _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
                "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
                "top": ("compare",), "below": ("compare",), "levels": ("compare", "count"),
                "rows": ("count",), "columns": ("count",),
-               "within": ("compare",), "ordered": ("compare", "count"),
+               "within": ("compare", "count"), "ordered": ("compare", "count"),
                "paired": ("compare", "count")}
 
 

@@ -115,9 +115,29 @@ class CountProportion:
 
 
 @dataclass(frozen=True)
+class CountTwoProportions:
+    """`count 3 of 20 vs 9 of 21`."""
+
+    span: Span
+    first: tuple             # (successes, trials)
+    second: tuple
+
+
+@dataclass(frozen=True)
+class CountRates:
+    """`count 7 events in 120.5 vs 0.05` (one rate) or `... vs 2 events in 98` (two)."""
+
+    span: Span
+    counts: tuple            # one or two event counts
+    exposures: tuple
+    reference: Optional[float] = None   # one rate: the reference rate
+
+
+@dataclass(frozen=True)
 class Count:
     span: Span
-    subject: Union[CountBy, CountVersus, CountInline, CountProportion]
+    subject: Union[CountBy, CountVersus, CountInline, CountProportion, CountTwoProportions,
+                   CountRates]
     options: tuple = ()
 
 
@@ -141,6 +161,7 @@ class Load:
     span: Span
     path: str
     alias: Optional[Name] = None
+    options: tuple = ()          # Option: delimiter, decimal, sheet (each a string)
 
 
 @dataclass(frozen=True)
