@@ -9,7 +9,7 @@ from ..normal.theory import one_sample as normal_one_sample
 from ..engine.onesample import MAX_INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family
+from .registry import Family, effect_pieces
 
 ZERO_RULE = ("zero differences carry no sign and are left out of the sign flips; for ranks they "
              "keep their place in the ranking (Pratt's rule)")
@@ -93,10 +93,11 @@ def _t_name(problem) -> str:
     return "one-sample t on the differences" if problem.kind == "paired" else "one-sample t"
 
 
-def _declare(keyword, title, summary, normal, estimate, robustness, default=False):
+def _declare(keyword, title, summary, normal, estimate, robustness, sizes, default=False):
     kinds = ("paired", "one-sample")
     return Family(keyword, kinds, title, summary, plan, execute, normal, estimate,
-                  robustness=robustness, default_in=kinds if default else ())
+                  robustness=robustness, default_in=kinds if default else (),
+                  effect_sizes=effect_pieces(*sizes))
 
 
 FAMILIES = [
@@ -104,15 +105,17 @@ FAMILIES = [
              "mean difference, by sign flips", "one-sample t",
              "mean; exact interval by inverting the sign-flip test",
              _check("values", _t_name, "one_sample_t", "mean_of_flips", "mean", "mean"),
-             default=True),
+             ("standardised_mean_difference_with_interval",), default=True),
     _declare("ranks", "Wilcoxon signed-rank test (mid-ranks, Pratt's rule for zeros)",
              "Wilcoxon signed ranks", "normal approximation to the signed-rank sum",
              "Hodges-Lehmann pseudo-median; interval at the exact signed-rank quantiles",
              _check("signed_ranks", "normal approximation to the signed-rank sum",
-                    "signed_rank_z", "positive_sum", "pseudo_median", "pseudo-median")),
+                    "signed_rank_z", "positive_sum", "pseudo_median", "pseudo-median"),
+             ("standardised_mean_difference", "matched_rank_biserial")),
     _declare("signs", "sign test", "sign test (paired, one sample)",
              "normal approximation to the sign count",
              "median; interval at binomial quantiles",
              _check("signs", "normal approximation to the sign count", "sign_z",
-                    "positive_sum", "median", "median")),
+                    "positive_sum", "median", "median"),
+             ("standardised_mean_difference", "positive_share")),
 ]

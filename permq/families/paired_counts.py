@@ -18,7 +18,7 @@ import numpy as np
 from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Estimate, NormalTheory, Result
-from .registry import Family, Kind
+from .registry import Family, Kind, effect_pieces
 
 symmetry = module("permq.engine.tables.symmetry")
 blocks_engine = module("permq.engine.blocks")
@@ -114,10 +114,12 @@ def execute_cochran(design, the_plan, progress, statement: str = "") -> Result:
     if same:
         warnings.append(f"{same} unit{'s' if same != 1 else ''} with the same outcome in every "
                         "column carry no information for this test")
-    return Result(statement, "blocked", s.alternative, out, normal, estimate,
-                  effect=f"differences among {', '.join(design.labels)} in the proportion of "
-                         f"{design.response}",
-                  groups=groups, two_sided_rule=MARGINAL_RULE, warnings=warnings)
+    result = Result(statement, "blocked", s.alternative, out, normal, estimate,
+                    effect=f"differences among {', '.join(design.labels)} in the proportion "
+                           f"of {design.response}",
+                    groups=groups, two_sided_rule=MARGINAL_RULE, warnings=warnings)
+    result.summary_decimals = [4] * k            # the means are proportions
+    return result
 
 
 def cochran_q(y: np.ndarray) -> float:
@@ -138,17 +140,18 @@ FAMILIES = [
            "largest change of a marginal proportion (no exact interval)",
            no_robustness="no sampling scheme for paired categories yet: the count check covers "
                          "tables, paired yes/no outcomes and one proportion",
-           default_in=("paired-categories",)),
+           default_in=("paired-categories",), effect_sizes=effect_pieces()),
     Family("symmetry", ("paired-categories",), "exact test of symmetry (Bowker)",
            "Bowker's symmetry of the changes (paired categories)", plan_categories,
            execute_categories, "Bowker's chi-square",
            "largest change of a marginal proportion (no exact interval)",
            no_robustness="no sampling scheme for paired categories yet: the count check covers "
-                         "tables, paired yes/no outcomes and one proportion"),
+                         "tables, paired yes/no outcomes and one proportion",
+           effect_sizes=effect_pieces()),
     Family("cochran", ("several-paired",),
            "Cochran's Q test by permutation within units",
            "Cochran's Q (several yes/no outcomes)", plan_cochran, execute_cochran,
            "chi-square approximation to Cochran's Q", "range of the column proportions",
            no_robustness="no sampling scheme for several paired outcomes yet",
-           default_in=("several-paired",)),
+           default_in=("several-paired",), effect_sizes=effect_pieces()),
 ]

@@ -71,6 +71,7 @@ class Family:
     options: tuple = ()            # options only this family takes, e.g. ("adjusting",)
     help: str = ""                 # its help paragraph (`help KEYWORD`)
     selectable: bool = True        # offered after `using` (False: the kind's only test)
+    effect_sizes: Optional[Callable] = None   # (design, result) -> list (effects.pieces)
     extra: dict = field(default_factory=dict, compare=False)   # what else the family needs
 
 
@@ -162,6 +163,16 @@ def family_for(design) -> Family:
         raise PlanError(f"'{s.family}' analyses of {kind(s.kind).words} are not available "
                         "in this version")
     return found
+
+
+def effect_pieces(*names: str) -> Callable:
+    """A family's effect sizes: the pieces of permq/effects.py named, in order (loaded when a
+    result first needs them)."""
+    def sizes(design, result):
+        from ..effects import pieces
+
+        return pieces(*names)(design, result)
+    return sizes
 
 
 def declaring_module(family: Family) -> str:
