@@ -14,12 +14,24 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   compare mass by recipe                              k-sample (means: F; ranks: Kruskal-Wallis)
   compare mass by recipe ordered "B" < "A" < "C"      ordered: linear trend (means), Jonckheere-Terpstra (ranks)
   compare yield by dose within block using ranks      complete blocks: Friedman; 'ordered': Page
-  compare mass by recipe levels "A", "B" within bench  two levels, blocks of any size: stratified""",
+  compare mass by recipe levels "A", "B" within bench  two levels, blocks of any size: stratified
+  compare yield by variety and fertiliser             two crossed factors (help factors)
+  compare yield by fertiliser adjusting for nitrate   a covariate in the statistic (help factors)""",
+    "factors": """two crossed factors, and groups adjusted for covariates (try them on the demo's beans)
+  compare yield by variety and fertiliser             each main effect and the interaction, the two-way F beside each
+      main effects: the values permuted within the levels of the other factor (exact by listing)
+      interaction: residuals of the additive model permuted (Freedman-Lane, Monte Carlo)
+  compare yield by fertiliser adjusting for nitrate   groups permuted over the residuals of yield on nitrate:
+      exact (Rosenbaum 2002); the adjusted difference with its exact interval; ANCOVA beside it
+  compare yield by variety adjusting for nitrate      three or more groups: F of the residuals
+  ... using ranks                                     Wilcoxon / Kruskal-Wallis of the residuals
+text covariates (block, sex ...) enter as indicators, here and in relate ... adjusting for""",
     "relate": """relate: association and slopes
   relate mass to light                                Pearson correlation by permutation
   relate mass to light using kendall                  Kendall's tau (spearman: Spearman's rho)
   relate mass to light using slope                    slope with its exact interval
-  relate mass to light using slope adjusting for tray  Freedman-Lane residual permutation""",
+  relate mass to light using slope adjusting for tray  Freedman-Lane residual permutation
+  relate mass to light using slope adjusting for bench  a text covariate: indicator columns""",
     "count": """count: tables, paired outcomes, one proportion
   count sprouted by dose in plots                     r x c exact test (fisher, chi-square, likelihood-ratio)
   count sprouted by dose in plots ordered             trend (linear-by-linear)
@@ -88,6 +100,7 @@ TOPICS["tables"] = TOPICS["count"]
 TOPICS["proportions"] = TOPICS["rates"] = TOPICS["strata"] = TOPICS["events"]
 TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
+TOPICS["adjusting"] = TOPICS["covariates"] = TOPICS["and"] = TOPICS["factors"]
 
 
 def topics() -> list[str]:

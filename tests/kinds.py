@@ -47,9 +47,12 @@ KINDS = {
     "dose response": "relate wilted to dose in sprays",
     "several responses": 'compare mass, light by recipe levels "A", "B" in trays',
     "pairwise": "compare mass by recipe in trays pairwise sampled 2000 seed 4",
+    "two factors": "compare yield by variety and fertiliser in beans sampled 2000 seed 6",
+    "adjusted": "compare yield by fertiliser adjusting for nitrate, variety in beans sampled 5000 seed 6",
     "failure": "compare mass by recipy in trays",
 }
 LOADS = 'load "trays.csv" as trays\nload "seedlings.csv" as pots\nload "plots.csv" as plots\n'
+BEANS = 'load "beans.csv" as beans\n'      # the field trial of two factors and a covariate
 SPRAYS = 'load "sprays.csv" as sprays\n'      # the count forms' demo table
 # paired yes/no outcomes for the `count ... paired` form (made up for this contract test)
 PAIRS = pd.DataFrame({"first": ["yes", "yes", "no", "yes", "yes", "no", "yes", "yes"],
@@ -59,11 +62,11 @@ PAIRS = pd.DataFrame({"first": ["yes", "yes", "no", "yes", "yes", "no", "yes", "
 @lru_cache(maxsize=1)
 def kinds() -> dict:
     """name -> output, all from one session."""
-    out = permq.run(LOADS + SPRAYS + "\n".join(KINDS.values()), tables={"pairs": PAIRS}, base_dir=DEMO)
+    out = permq.run(LOADS + SPRAYS + BEANS + "\n".join(KINDS.values()), tables={"pairs": PAIRS}, base_dir=DEMO)
     outputs = [o for o in out if not isinstance(o, permq.Note)]
     assert len(outputs) == len(KINDS), outputs
     return dict(zip(KINDS, outputs))
 
 
 def session_results() -> permq.Results:
-    return permq.run(LOADS + SPRAYS + "\n".join(KINDS.values()), tables={"pairs": PAIRS}, base_dir=DEMO)
+    return permq.run(LOADS + SPRAYS + BEANS + "\n".join(KINDS.values()), tables={"pairs": PAIRS}, base_dir=DEMO)

@@ -457,4 +457,5 @@ def test_completion_offers_only_the_options_a_statement_takes():
     compare = set(words("compare mass by recipe ", session))
     assert {"within", "levels", "adjust", "pairwise"} <= compare and "datasets" not in compare
     check = set(words("robustness compare mass by recipe ", session))
-    assert {"datasets", "shift", "significance"} <= check and "adjusting" not in check
+    assert {"datasets", "shift", "significance", "adjusting"} <= check and "rows" not in check
+    assert "adjusting" in compare and "datasets" not in compare

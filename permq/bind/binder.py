@@ -10,6 +10,8 @@ once), non-numeric responses, wrong numbers of levels, empty samples, missing va
     samples.py     compare: two groups, inline samples, paired, one sample
     groups.py      compare: three or more groups, ordered groups, blocks
     many.py        compare: several responses, for each, pairwise
+    factorial.py   compare: two crossed factors (by A and B)
+    adjusted.py    compare: groups adjusted for covariates (covariates.py: text as indicators)
     other_forms.py relate and count
     counts.py      count: two proportions, strata, rates; relate with a two-valued response
     designs.py     the designs handed on to the planner

@@ -166,3 +166,34 @@ class ManyDesign:
     cluster: object = None   # an address or a dask.distributed Client
     warnings: tuple = ()
     kind: str = "many"
+
+
+@dataclass(frozen=True)
+class FactorialDesign:
+    """One response across two crossed factors (`compare Y by A and B`), every cell filled."""
+
+    values: np.ndarray
+    first: np.ndarray        # level codes of the first factor, 0..a-1 in level order
+    second: np.ndarray       # level codes of the second factor
+    first_labels: tuple
+    second_labels: tuple
+    names: tuple             # (response, first factor, second factor)
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "two-factor"
+
+
+@dataclass(frozen=True)
+class AdjustedDesign:
+    """Groups compared with covariates in the statistic (`compare Y by G adjusting for Z`)."""
+
+    values: np.ndarray
+    groups: np.ndarray       # codes 0..k-1 in level order
+    labels: tuple
+    response: str
+    group: str
+    covariates: np.ndarray   # rows x columns (text covariates as indicator columns)
+    covariate_names: tuple   # the columns named, in the user's words
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "adjusted"

@@ -43,6 +43,10 @@ def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
                 f"{escape(e['message'])}{where}</p></div>")
     if record.get("family") in SEVERAL:
         body = several_table(record)
+    elif record.get("family") == "two factors":
+        from .factorial import html_table
+
+        body = html_table(record)
     elif record.get("family") == "robustness":
         body = robustness_table(record)
         if pictures:
@@ -55,7 +59,7 @@ def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
         from .svg import null_distribution
 
         body += null_distribution(record["null_picture"])
-    elif pictures and record.get("family") not in SEVERAL + ("robustness",):
+    elif pictures and record.get("family") not in SEVERAL + ("robustness", "two factors"):
         body += ('<p class="note">no picture: the null distribution is not kept for this '
                  'method</p>')
 

@@ -7,6 +7,8 @@ from . import numbers as fmt
 from .robustness import markdown_section
 from ..result_many import ManyResult
 from .many import markdown_section as many_section
+from ..result_factorial import FactorialResult
+from .factorial import markdown_section as factorial_section
 
 
 def render(outputs) -> str:
@@ -17,6 +19,9 @@ def render(outputs) -> str:
     for o in outputs:
         if isinstance(o, ManyResult):
             families.append(many_section(o))
+            continue
+        if isinstance(o, FactorialResult):
+            families.append(factorial_section(o.to_dict()))
             continue
         if isinstance(o, RobustnessResult):
             checks.append(markdown_section(o))

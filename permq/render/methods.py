@@ -7,7 +7,8 @@ normal-theory counterparts, intervals, effect sizes, adjustments, Monte Carlo p-
 Nothing here computes.
 
 The Kerby (2014) and Tomczak and Tomczak (2014) entries were checked against the articles' first
-pages; the other entries are the standard citations, given from memory.
+pages, the Anderson and ter Braak (2003) and Rosenbaum (2002) entries against their
+bibliographic records; the other entries are the standard citations, given from memory.
 """
 from __future__ import annotations
 
@@ -105,6 +106,11 @@ SOURCES = {
                     "81-93.",
     "spearman-1904": "Spearman, C. (1904). The proof and measurement of association between "
                      "two things. American Journal of Psychology 15, 72-101.",
+    "anderson-ter-braak-2003": "Anderson, M. J. and ter Braak, C. J. F. (2003). Permutation "
+                               "tests for multi-factorial analysis of variance. Journal of "
+                               "Statistical Computation and Simulation 73, 85-113.",
+    "rosenbaum-2002": "Rosenbaum, P. R. (2002). Covariance adjustment in randomized experiments "
+                      "and observational studies. Statistical Science 17, 286-327.",
     "freedman-lane-1983": "Freedman, D. and Lane, D. (1983). A nonstochastic interpretation of "
                           "reported significance levels. Journal of Business and Economic "
                           "Statistics 1, 292-298.",
@@ -226,6 +232,17 @@ _TESTS = [
      Method("permutation test of the least-squares slope", ("pitman-1937b",))),
     (("association",), "t of the slope",
      Method("Freedman-Lane permutation test of the adjusted slope", ("freedman-lane-1983",))),
+    (("adjusted",), "difference in mean covariate-adjusted",
+     Method("covariate-adjusted randomisation test of the difference in means (Rosenbaum)",
+            ("rosenbaum-2002", "pitman-1937"))),
+    (("adjusted",), "rank sum", Method("Wilcoxon rank-sum test of covariate-adjusted residuals "
+                                       "(Rosenbaum)", ("rosenbaum-2002", "wilcoxon-1945"))),
+    (("adjusted",), "F of the covariate-adjusted",
+     Method("covariate-adjusted randomisation F test (Rosenbaum)",
+            ("rosenbaum-2002", "pitman-1938"))),
+    (("adjusted",), "Kruskal-Wallis",
+     Method("Kruskal-Wallis test of covariate-adjusted residuals (Rosenbaum)",
+            ("rosenbaum-2002", "kruskal-wallis-1952"))),
     (("table",), "top-left count", Method("Fisher's exact test", ("fisher-1935b",))),
     (("table",), "table probability",
      Method("Fisher-Freeman-Halton exact test", ("freeman-halton-1951",))),
@@ -261,6 +278,7 @@ _TESTS = [
 # normal-theory counterparts and intervals: (start of the words) -> source keys
 _NORMAL = [("Welch one-way", ("welch-1951",)), ("Welch t", ("welch-1947",)),
            ("one-sample t", ("student-1908",)), ("one-way ANOVA", ("fisher-1925",)),
+           ("two-way ANOVA", ("fisher-1925",)), ("ANCOVA", ("fisher-1925",)),
            ("Kruskal-Wallis", ("kruskal-wallis-1952",)),
            ("chi-square approximation to Friedman", ("friedman-1937",)),
            ("normal approximation to Page", ("page-1963",)),
@@ -288,6 +306,10 @@ def method_of(record: dict) -> Method:
     if family in ("several responses", "for each", "pairwise"):
         return Method(record.get("test", "several tests"),
                       _match(_ADJUSTMENTS, record.get("adjustment", "").lower()))
+    if family == "two factors":
+        return Method("two-way permutation ANOVA (restricted permutation for the main effects, "
+                      "Freedman-Lane residual permutation for the interaction)",
+                      ("anderson-ter-braak-2003", "freedman-lane-1983"))
     if family == "robustness":
         a = record.get("analysis", {})
         inner = method_of({"family": a.get("family", ""),
@@ -318,7 +340,8 @@ def sources_for(records) -> list:
         if "error" in r or "plan" in r:
             continue
         keys += method_of(r).sources
-        for nt in [r.get("normal_theory")] + list(r.get("normal_theory_also") or []):
+        terms = [t.get("normal_theory") for t in r.get("terms") or []]   # two factors
+        for nt in [r.get("normal_theory")] + list(r.get("normal_theory_also") or []) + terms:
             if nt:
                 keys += normal_sources(nt.get("test", ""))
         for part in (r.get("estimate") or {}, r.get("normal_interval") or {}):

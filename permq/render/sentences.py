@@ -46,6 +46,10 @@ def sentence(record: dict) -> str:
         return ""
     if record.get("family") in SEVERAL:
         return _several(record)
+    if record.get("family") == "two factors":
+        from .factorial import sentence as factorial_sentence
+
+        return factorial_sentence(record)
     if record.get("family") == "robustness":
         return _robustness(record)
     return _single(record)

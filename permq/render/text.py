@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import re
 
+from ..result_factorial import FactorialResult
 from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
@@ -37,6 +38,10 @@ def render_one(o, color: bool = False) -> str:
         from .many import text_block
 
         return text_block(o, color, BOLD, DIM, RESET)
+    if isinstance(o, FactorialResult):
+        from .factorial import text_block as factorial_block
+
+        return factorial_block(o, color, BOLD, DIM, RESET)
     if isinstance(o, Result):
         return result_block(o, color) + "".join(ln + "\n" for ln in null_picture_block(o))
     if isinstance(o, RobustnessResult):

@@ -65,6 +65,16 @@ class Grouped:
 
 
 @dataclass(frozen=True)
+class Crossed:
+    """`compare Y by A and B`: one response, two crossed factors."""
+
+    span: Span
+    response: object             # Name (Responses is refused by the binder)
+    first: Name
+    second: Name
+
+
+@dataclass(frozen=True)
 class Versus:
     span: Span
     operands: tuple
@@ -73,7 +83,7 @@ class Versus:
 @dataclass(frozen=True)
 class Compare:
     span: Span
-    subject: Union[Grouped, Versus]
+    subject: Union[Grouped, Crossed, Versus]
     options: tuple = ()
 
 

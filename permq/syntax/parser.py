@@ -261,6 +261,9 @@ class _ToNodes(Transformer):
     def grouped(self, meta, ch):
         return n.Grouped(_span(meta), ch[0], ch[1])
 
+    def crossed(self, meta, ch):
+        return n.Crossed(_span(meta), ch[0], ch[1], ch[2])
+
     def response_list(self, meta, ch):
         return n.Responses(_span(meta), tuple(ch))
 
