@@ -5,7 +5,7 @@ import numpy as np
 
 from ..engine import onesample, rankintervals
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
-from ..normal.theory import one_sample as normal_one_sample
+from ..normal import theory
 from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
@@ -26,7 +26,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     outcome, interval = onesample.run(s.family, design.d, s.alternative,
                                       the_plan.chosen.algorithm, s.level, draws=the_plan.draws,
                                       seed=the_plan.seed, progress=progress)
-    normal = normal_one_sample(s.family, design.d, s.level, s.alternative)
+    normal = NORMAL[s.family](design.d, s.level, s.alternative)
     estimate = _estimate(design, interval, outcome.method, the_plan.draws)
     warnings = list(design.warnings)
     zeros = int(np.sum(design.d == 0))
@@ -40,6 +40,9 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                   effect=_effect_words(s.family, design), groups=groups,
                   two_sided_rule=TWO_SIDED_LINEAR, warnings=warnings,
                   extra={"zero_rule": ZERO_RULE})
+
+
+NORMAL = {"means": theory.one_sample_t, "ranks": theory.signed_rank_z, "signs": theory.sign_z}
 
 
 def _effect_words(family, design):

@@ -5,7 +5,7 @@ import numpy as np
 
 from ..engine import rankintervals, twosample
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
-from ..normal.theory import two_sample as normal_two_sample
+from ..normal import theory
 from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
@@ -23,13 +23,17 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     outcome, interval = twosample.run(s.family, design.x, design.y, s.alternative,
                                       the_plan.chosen.algorithm, s.level,
                                       draws=the_plan.draws, seed=the_plan.seed, progress=progress)
-    normal = normal_two_sample(s.family, design.x, design.y, s.level, s.alternative)
+    normal = NORMAL[s.family](design.x, design.y, s.level, s.alternative)
     estimate = _estimate(design, interval, outcome.method, the_plan.draws)
     a, b = design.labels
     groups = [_summary(a, design.x), _summary(b, design.y)]
     return Result(statement, "two-sample", s.alternative, outcome, normal, estimate,
                   effect=_effect_words(s.family, design.effect), groups=groups,
                   two_sided_rule=TWO_SIDED_LINEAR, warnings=list(design.warnings))
+
+
+NORMAL = {"means": theory.welch_t, "ranks": theory.rank_sum_z,
+          "normal-scores": theory.normal_scores_z, "medians": theory.median_count_z}
 
 
 def _effect_words(family, effect):
