@@ -56,7 +56,8 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
     result.extra["estimated_seconds"] = round(the_plan.seconds, 4)   # what explain said
-    result.summary_decimals = decimals.for_design(design)
+    if result.summary_decimals is None:      # a family may set its own (proportions)
+        result.summary_decimals = decimals.for_design(design)
     result.design = design            # kept for the report's pictures (not in the JSON)
     diagnostics.attach(design, result)
     effects.attach(design, result)

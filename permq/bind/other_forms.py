@@ -160,7 +160,10 @@ def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
         raise BindError("two columns of outcomes are compared as pairs", sub.span,
                         hint=f"write: count {sub.first.text} vs {sub.second.text} paired, or "
                              f"count {sub.first.text} by {sub.second.text} for a table")
-    s = settings_for(node, opts, defaults, "paired-table", "paired outcomes", ("paired",))
+    from . import paired_counts
+
+    if sub.more:
+        return paired_counts.bind_several(node, sub, opts, defaults, catalog)
     table = resolve_table(opts, catalog, sub.span)
     check_columns(table, [sub.first, sub.second])
     a, b = table.frame[sub.first.text], table.frame[sub.second.text]
@@ -168,9 +171,12 @@ def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
     warnings = dropped_warning(int((~keep).sum()), f"'{sub.first.text}' or '{sub.second.text}'")
     a, b = a[keep].map(level_text), b[keep].map(level_text)
     levels = sorted(set(a) | set(b), key=_natural)
+    if len(levels) > 2:
+        return paired_counts.bind_categories(node, sub, opts, defaults, a, b, levels, warnings)
     if len(levels) != 2:
-        raise BindError(f"paired outcomes need exactly two values in all; found {len(levels)}"
+        raise BindError(f"paired outcomes need two values or more in all; found {len(levels)}"
                         f" ({', '.join(levels[:6])})", sub.span)
+    s = settings_for(node, opts, defaults, "paired-table", "paired outcomes", ("paired",))
     t = np.zeros((2, 2), dtype=np.int64)
     for u, v in zip(a, b):
         t[levels.index(u), levels.index(v)] += 1

@@ -11,7 +11,8 @@ test drops them. The reference set has 2^(number of non-zero differences) sign p
 """
 from __future__ import annotations
 
-from typing import Optional
+from dataclasses import dataclass
+from typing import Callable, Optional
 
 import numpy as np
 
@@ -32,31 +33,41 @@ from .core.scores import midranks
 
 ENUMERATION_MAX_ITEMS = 62      # sign patterns are listed as the bits of one int64 code
 
-STATISTIC_NAMES = {
-    "means": "mean difference",
-    "ranks": "signed-rank sum W+ (mid-ranks)",
-    "signs": "number of positive differences",
+@dataclass(frozen=True)
+class FlipRule:
+    """How a one-sample family scores the differences' sizes; its statistic is the sum of the
+    positive differences' scores (or, for `mean`, the mean difference, with the exact
+    interval of the mean)."""
+
+    key: str
+    statistic_name: str
+    scores: Callable[[np.ndarray], np.ndarray]   # |d| -> scores
+    mean: bool = False
+
+
+RULES = {
+    "means": FlipRule("means", "mean difference", lambda a: a, mean=True),
+    "ranks": FlipRule("ranks", "signed-rank sum W+ (mid-ranks)", midranks),
+    "signs": FlipRule("signs", "number of positive differences", np.ones_like),
 }
 
 
-def flip_scores(family: str, d) -> tuple[np.ndarray, np.ndarray]:
+def rule_of(rule) -> FlipRule:
+    """A rule, or the name of one of this engine's rules."""
+    return RULES[rule] if isinstance(rule, str) else rule
+
+
+def flip_scores(rule, d) -> tuple[np.ndarray, np.ndarray]:
     """(scores r >= 0 of the non-zero differences, their signs as bool positive)."""
     d = np.asarray(d, dtype=float)
     nonzero = d != 0
-    if family == "means":
-        r = np.abs(d)
-    elif family == "ranks":
-        r = midranks(np.abs(d))      # zeros keep their ranks (Pratt) ...
-    elif family == "signs":
-        r = np.ones_like(d)
-    else:
-        raise KeyError(family)
-    return r[nonzero], d[nonzero] > 0  # ... and are then left out of the flips
+    r = np.asarray(rule_of(rule).scores(np.abs(d)), dtype=float)   # zeros keep their ranks
+    return r[nonzero], d[nonzero] > 0  # (Pratt) and are then left out of the flips
 
 
-def statistic_from_positive_sum(family: str, p_sum, r, n_all: int):
+def statistic_from_positive_sum(rule, p_sum, r, n_all: int):
     """Reported statistic from P = sum of scores with positive sign."""
-    if family == "means":
+    if rule_of(rule).mean:
         return (2 * np.asarray(p_sum) - r.sum()) / n_all
     return np.asarray(p_sum, dtype=float)
 
@@ -72,8 +83,9 @@ def _anchored_grid(r):
 
 # ---------------------------------------------------------------- cost
 
-def candidates(family: str, d, draws: int) -> list[Candidate]:
-    r, _ = flip_scores(family, d)
+def candidates(rule, d, draws: int) -> list[Candidate]:
+    rule = rule_of(rule)
+    r, _ = flip_scores(rule, d)
     n = len(r)
     count = 2 ** n
     total = big(count)
@@ -83,7 +95,7 @@ def candidates(family: str, d, draws: int) -> list[Candidate]:
         width = float(g[0].sum()) + 1
         ops = n * width
         mem = 2 * layer_bytes(1, width)          # the counts and numpy's overlap copy
-        if family == "means":  # the exact interval needs counts by size too
+        if rule.mean:  # the exact interval needs counts by size too
             full = integer_grid(np.asarray(d, dtype=float))
             w2 = float(full.integers.sum()) + 1 if full is not None else float("inf")
             ops += len(d) * (len(d) + 1) * w2 / 2
@@ -108,27 +120,28 @@ def candidates(family: str, d, draws: int) -> list[Candidate]:
 
 # ---------------------------------------------------------------- run
 
-def run(family: str, d, alternative: str, algorithm: str, level: float,
+def run(rule, d, alternative: str, algorithm: str, level: float,
         draws: Optional[int] = None, seed: Optional[int] = None,
         progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:
     """The sign-flip p-value, and for `means` the exact interval for the mean difference."""
     d = np.asarray(d, dtype=float)
-    r, pos = flip_scores(family, d)
+    rule = rule_of(rule)
+    r, pos = flip_scores(rule, d)
     n_all = len(d)
-    t_obs = float(statistic_from_positive_sum(family, r[pos].sum(), r, n_all))
-    name = STATISTIC_NAMES[family]
+    t_obs = float(statistic_from_positive_sum(rule, r[pos].sum(), r, n_all))
+    name = rule.statistic_name
     if algorithm == "dp-integer":
-        out = _p_dp(family, name, r, pos, n_all, t_obs, alternative, progress)
-        interval = _mean_interval_dp(d, level, alternative) if family == "means" else None
+        out = _p_dp(rule, name, r, pos, n_all, t_obs, alternative, progress)
+        interval = _mean_interval_dp(d, level, alternative) if rule.mean else None
     elif algorithm == "enumeration":
-        out, interval = _enumerate(family, name, d, r, pos, t_obs, alternative, level, progress)
+        out, interval = _enumerate(rule, name, d, r, pos, t_obs, alternative, level, progress)
     else:
-        out, interval = _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws,
+        out, interval = _monte_carlo(rule, name, d, r, pos, t_obs, alternative, level, draws,
                                      seed, progress)
     return out, interval
 
 
-def _p_dp(family, name, r, pos, n_all, t_obs, alternative, progress):
+def _p_dp(rule, name, r, pos, n_all, t_obs, alternative, progress):
     q, step = _anchored_grid(r)
     counts = counts_all_subsets(q, progress)
     support = np.flatnonzero(counts)
@@ -142,7 +155,7 @@ def _p_dp(family, name, r, pos, n_all, t_obs, alternative, progress):
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
     return EngineOutcome(name, t_obs, p, "exact", "dynamic programming on integer scores",
                          arrangements=2 ** n,
-                         null_support=statistic_from_positive_sum(family, support * step, r, n_all),
+                         null_support=statistic_from_positive_sum(rule, support * step, r, n_all),
                          null_probs=counts / counts.sum(), warnings=warn)
 
 
@@ -183,7 +196,7 @@ def _flip_scores_exact(r):
     return g[0].astype(float), True, g[1]
 
 
-def _enumerate(family, name, d, r, pos, t_obs, alternative, level, progress):
+def _enumerate(rule, name, d, r, pos, t_obs, alternative, level, progress):
     """Every sign pattern in chunks: exceedances counted and the law tallied as they come."""
     n = len(r)
     total = 2 ** n
@@ -204,7 +217,7 @@ def _enumerate(family, name, d, r, pos, t_obs, alternative, level, progress):
                         statistic_from_positive_sum(family, support * unit, r, len(d)),
                         null_probs=None if counts is None else counts / counts.sum())
     interval = None
-    if family == "means":
+    if rule.mean:
         interval = _mean_interval_enumerate(np.asarray(d, float), level, alternative)
     return out, interval
 
@@ -221,7 +234,7 @@ def _mean_interval_enumerate(d, level, alternative):
     return jumps.interval()
 
 
-def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed, progress):
+def _monte_carlo(rule, name, d, r, pos, t_obs, alternative, level, draws, seed, progress):
     """One random sign for every difference in every draw (one bit of the generator's output
     each; zeros included, so the mean's interval can use the same draws); the test flips the
     non-zero ones. Compiled, with a numpy path that gives the same numbers (draws.flip_sums)."""
@@ -229,7 +242,7 @@ def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed
     nonzero = d != 0
     w, exact, _ = _flip_scores_exact(r)
     p_obs = w[pos].sum()
-    means = family == "means"
+    means = rule.mean
     scores = np.zeros(len(d))            # the test's scores in place; zeros carry none
     scores[nonzero] = w
 

@@ -5,11 +5,11 @@ import numpy as np
 
 from ..engine import rankintervals, twosample
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
-from ..normal.theory import two_sample as normal_two_sample
+from ..normal import theory
 from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family
+from .registry import Family, effect_pieces
 
 
 def plan(design):
@@ -23,13 +23,17 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     outcome, interval = twosample.run(s.family, design.x, design.y, s.alternative,
                                       the_plan.chosen.algorithm, s.level,
                                       draws=the_plan.draws, seed=the_plan.seed, progress=progress)
-    normal = normal_two_sample(s.family, design.x, design.y, s.level, s.alternative)
+    normal = NORMAL[s.family](design.x, design.y, s.level, s.alternative)
     estimate = _estimate(design, interval, outcome.method, the_plan.draws)
     a, b = design.labels
     groups = [_summary(a, design.x), _summary(b, design.y)]
     return Result(statement, "two-sample", s.alternative, outcome, normal, estimate,
                   effect=_effect_words(s.family, design.effect), groups=groups,
                   two_sided_rule=TWO_SIDED_LINEAR, warnings=list(design.warnings))
+
+
+NORMAL = {"means": theory.welch_t, "ranks": theory.rank_sum_z,
+          "normal-scores": theory.normal_scores_z, "medians": theory.median_count_z}
 
 
 def _effect_words(family, effect):
@@ -82,10 +86,11 @@ def _check(scores, counterpart, normal_p, reported, effect):
     return check
 
 
-def _declare(keyword, title, summary, normal, estimate, robustness, default=False, help=""):
+def _declare(keyword, title, summary, normal, estimate, robustness, sizes, default=False,
+             help=""):
     return Family(keyword, ("two-sample",), title, summary, plan, execute, normal, estimate,
                   robustness=robustness, default_in=("two-sample",) if default else (),
-                  help=help)
+                  help=help, effect_sizes=effect_pieces(*sizes))
 
 
 FAMILIES = [
@@ -93,20 +98,23 @@ FAMILIES = [
              "difference in means, by permutation", "Welch t (unequal variances)",
              "difference in means; exact interval by inverting the test under a shift",
              _check("values", "Welch t", "welch_t", "mean_difference", "mean_difference"),
-             default=True),
+             ("standardised_difference_with_interval",), default=True),
     _declare("ranks", "Wilcoxon rank-sum test (mid-ranks)", "Wilcoxon ranks with mid-ranks",
              "normal approximation to the rank sum (tie-corrected)",
              "Hodges-Lehmann shift; interval at the exact rank-sum quantiles",
              _check("ranks", "normal approximation to the rank sum", "score_sum_z", "as_is",
-                    "hodges_lehmann_shift")),
+                    "hodges_lehmann_shift"),
+             ("standardised_difference", "probability_of_superiority")),
     _declare("normal-scores", "van der Waerden normal-scores test",
              "van der Waerden normal scores",
              "normal approximation to the normal-scores sum", "Hodges-Lehmann shift",
              _check("normal_scores", "normal approximation to the normal-scores sum",
-                    "score_sum_z", "as_is", "hodges_lehmann_shift")),
+                    "score_sum_z", "as_is", "hodges_lehmann_shift"),
+             ("standardised_difference",)),
     _declare("medians", "Mood's median test", "Mood's median test",
              "normal approximation to the count above the median",
              "difference in medians (no exact interval)",
              _check("above_median", "normal approximation to the count above the median",
-                    "score_sum_z", "as_is", "median_difference")),
+                    "score_sum_z", "as_is", "median_difference"),
+             ("standardised_difference",)),
 ]

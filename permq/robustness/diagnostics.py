@@ -75,6 +75,8 @@ def _residuals(design):
         d = design.d
         return d - d.mean(), len(d) - 1, None, None
     if isinstance(design, designs.GroupsDesign):
+        if np.isin(design.values, (0.0, 1.0)).all():     # yes/no outcomes have no residuals
+            return None, 0, None, None
         return _group_residuals(design)
     if isinstance(design, designs.AssociationDesign):
         return _line_residuals(design)

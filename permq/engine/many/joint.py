@@ -97,10 +97,11 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
 
 # ---------------------------------------------------------------- scores
 
-def standardised_scores(values, family: str):
-    """(N, m) scores centred on their observed mean over their sd, 0 where missing; observed."""
+def standardised_scores(values, ranked: bool):
+    """(N, m) scores (mid-ranks of each column when `ranked`, else the values) centred on their
+    observed mean over their sd, 0 where missing; observed."""
     observed = ~np.isnan(values)
-    if family == "ranks":
+    if ranked:
         scores = midranks(values, axis=0, nan_policy="omit")
     else:           # centred on a middle value first, so no offset drowns the differences
         scores = np.array(values, dtype=float)
@@ -183,7 +184,7 @@ def reference_windows(codes, sizes, algorithm, draws, seed, progress):
 
 # ---------------------------------------------------------------- responses
 
-def run_family(values, codes, family: str, alternative: str, method: str, step: str,
+def run_family(values, codes, ranked: bool, alternative: str, method: str, step: str,
                algorithm: str, draws: int, seed: int, progress: Progress = NO_PROGRESS,
                pool=None) -> FamilyOutcome:
     """All responses (columns of values, NaN where missing) across the groups of `codes`."""
@@ -191,7 +192,7 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
     codes = np.asarray(codes, dtype=np.int8)
     k = int(codes.max()) + 1
     sizes = np.bincount(codes, minlength=k)
-    y, observed = standardised_scores(np.asarray(values, dtype=float), family)
+    y, observed = standardised_scores(np.asarray(values, dtype=float), ranked)
     fam, lut = build_family(y, observed, codes, sizes, alternative)
     t_obs = observed_statistics(fam, lut[codes])
     tol = multiplicity.tolerances(t_obs)
@@ -299,13 +300,13 @@ def _pair_statistics(ref, y, sizes, pairs, chunk: int = 65536):
     return overall, z
 
 
-def run_pairwise(values, codes, family: str, method: str, step: str, algorithm: str,
+def run_pairwise(values, codes, ranked: bool, method: str, step: str, algorithm: str,
                  draws: int, seed: int, progress: Progress = NO_PROGRESS) -> FamilyOutcome:
     """Every pair of levels of one response (no missing values), and the k-sample test."""
     codes = np.asarray(codes, dtype=np.int8)
     k = int(codes.max()) + 1
     sizes = np.bincount(codes, minlength=k)
-    y, _ = standardised_scores(np.asarray(values, dtype=float)[:, None], family)
+    y, _ = standardised_scores(np.asarray(values, dtype=float)[:, None], ranked)
     y = y[:, 0]
     pairs = pair_list(k)
     ref, how, words = reference_set(codes, sizes, algorithm, draws, seed, progress)
