@@ -108,7 +108,7 @@ def candidates(rule, d, draws: int) -> list[Candidate]:
                              note="scores do not lie on a decimal grid"))
     patterns = (1 << min(n, 16)) * n * 8 * 4
     law = min(total, TALLY_LIMIT) * TALLY_BYTES
-    jumps = 0.5 * total * 8 * 3 if family == "means" else 0.0
+    jumps = 0.5 * total * 8 * 3 if rule.mean else 0.0
     out.append(Candidate("enumeration", "complete enumeration", True, total * n * 3,
                          patterns + law + jumps, arrangements=count,
                          feasible=n <= ENUMERATION_MAX_ITEMS, note=f"{words(count)} sign patterns"))
@@ -214,7 +214,7 @@ def _enumerate(rule, name, d, r, pos, t_obs, alternative, level, progress):
     out = EngineOutcome(name, t_obs, pvalues.clip(b / total), "exact", "complete enumeration",
                         arrangements=total,
                         null_support=None if support is None else
-                        statistic_from_positive_sum(family, support * unit, r, len(d)),
+                        statistic_from_positive_sum(rule, support * unit, r, len(d)),
                         null_probs=None if counts is None else counts / counts.sum())
     interval = None
     if rule.mean:
