@@ -14,24 +14,22 @@ from __future__ import annotations
 
 import numpy as np
 
-from .network import MAX_ENTRIES, Layout, log_factorials, merge, moves, stage_moves
+from .network import MAX_ENTRIES, Layout, gains, log_factorials, merge, moves, stage_moves
 
 # Turn round when the lists would hold at most this many sums per pair carried (or this many).
 TURN_RATIO = 4.0
 TURN_FLOOR = 200_000
 
 
-def completion_counts(layout: Layout) -> np.ndarray:
-    """(columns, size): number of ways to fill columns j.. from each state at boundary j."""
-    r, c = len(layout.rows), len(layout.cols)
-    out = np.zeros((c, layout.size))
-    cur = np.zeros(layout.size)
-    cur[0] = 1.0
+def completion_counts(layout: Layout) -> list:
+    """Per column boundary j: the number of ways to fill columns j.. from each state there
+    (aligned with `layout.reach[j * r]`)."""
+    r, c = layout.per_column, len(layout.cols)
+    out = [None] * c
+    cur = np.ones(1)
     for stage in range(layout.stages - 1, -1, -1):
         _, _, nxt, starts = stage_moves(layout, stage)
-        new = np.zeros(layout.size)
-        new[layout.reach[stage]] = np.add.reduceat(cur[nxt], starts)
-        cur = new
+        cur = np.add.reduceat(cur[layout.position(stage + 1, nxt)], starts)
         if stage % r == 0:
             out[stage // r] = cur
     return out
@@ -43,14 +41,12 @@ def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf, budget=MA
     Returns (code, rest, probability) sorted by code, then rest; each code's probabilities
     sum to 1. Returns None when a step would hold more than `budget` sums.
     """
-    r = len(layout.rows)
     reach = [np.unique(codes)]
     for s in range(stage, layout.stages):
         reach.append(np.unique(moves(layout, s, reach[-1])[2]))
     dtype = np.int64 if quantum is None else float
     lc, lv, lp = np.zeros(1, np.int64), np.zeros(1, dtype), np.ones(1)
     for s in range(layout.stages - 1, stage - 1, -1):
-        i, j = s % r, s // r
         src = reach[s - stage]
         rep, x, nxt, logw = moves(layout, s, src, lf)
         start = np.searchsorted(lc, nxt, "left")
@@ -59,8 +55,9 @@ def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf, budget=MA
             return None
         e = np.repeat(np.arange(rep.size), length)
         idx = start[e] + (np.arange(e.size) - np.repeat(np.cumsum(length) - length, length))
-        lc, lv, lp = merge(src[rep[e]], cell[i, j, x[e]] + lv[idx], np.exp(logw[e]) * lp[idx],
-                           quantum)
+        source = src[rep[e]]
+        lc, lv, lp = merge(source, gains(layout, cell, s, source, x[e]) + lv[idx],
+                           np.exp(logw[e]) * lp[idx], quantum)
     return lc, lv, lp
 
 
@@ -123,11 +120,12 @@ class Turn:
         self.list_error = 0.0
 
     def __call__(self, stage, codes, vals, mass):
-        j = stage // len(self.layout.rows)
+        j = stage // self.layout.per_column
         if j >= len(self.layout.cols) - 1:
             return None
         budget = min(max(TURN_RATIO * codes.size, TURN_FLOOR), MAX_ENTRIES)
-        if float(self.counts[j, np.unique(codes)].sum()) > 1e3 * budget:
+        at = self.layout.position(stage, np.unique(codes))
+        if float(self.counts[j][at].sum()) > 1e3 * budget:
             return None                       # hopeless: not worth an attempt
         lists = future_lists(self.layout, self.cell, codes, stage, self.quantum, self.lf, budget)
         if lists is None:

@@ -1,10 +1,15 @@
 """The network algorithm for r x c tables with both margins fixed.
 
-A table is built one cell at a time, column by column, top row to bottom row. The state
-between cells is the vector of row margins still to fill; it is coded as one integer in mixed
-radix (digit i runs over 0..R_i). Every state is reachable and completable, so the network is
-dense over those codes. A move places x in cell (i, j) with the conditional (hypergeometric)
-probability
+A table is built one cell at a time, column by column, top row to bottom row; the last row's
+cell of a column is forced (the column's remainder), so it is placed together with the cell
+above it and a column takes r - 1 stages. The state between stages is the vector of row
+margins still to fill, coded as one integer in mixed radix
+(digit i runs over 0..R_i). Only the states that can really occur are kept: `reach[s]` holds,
+sorted, the codes of the states met before cell s (found by a forward sweep over the moves; a
+state is on some path from the start to the end), and every per-state array is aligned with it.
+`states.state_counts` gives the same numbers before anything is built.
+
+A move places x in cell (i, j) with the conditional (hypergeometric) probability
 
     comb(r_i, x) comb(below, left - x) / comb(r_i + below, left),
 
@@ -12,15 +17,17 @@ where `left` is what column j still needs and `below` is what the rows under i c
 The moves out of a state sum to 1, and the product along a path is the table's probability
 prod R_i! prod C_j! / (N! prod n_ij!), so no mass is lost or invented on the way.
 
-The statistic is additive over cells, S = sum g_ij(n_ij). Each state carries a list of
-(partial sum, probability mass) pairs; pairs with equal partial sums are merged. Before each
-move the exact range of the remaining sum (the longest and shortest path to the end, found by a
-backward pass) settles whole pairs: if every completion is extreme the mass joins the p-value,
-if none is, the mass is set aside; only undecided pairs go on.
+The statistic is additive over cells, S = sum g_ij(n_ij), or more generally over moves: a
+move's gain may depend on the state it leaves (`gains`), which is how Kendall's S on a table
+is carried. Each state carries a list of (partial sum, probability mass) pairs; pairs with equal
+partial sums are merged. Before each move the exact range of the remaining sum (the longest and
+shortest path to the end, found by a backward pass) settles whole pairs: if every completion is
+extreme the mass joins the p-value, if none is, the mass is set aside; only undecided pairs go
+on.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 from scipy.special import gammaln
@@ -29,6 +36,10 @@ from ..core.progress import NO_PROGRESS, Progress
 
 # Most (state, partial sum) pairs one step may create; beyond it the exact network gives way.
 MAX_ENTRIES = 40_000_000
+# Most states one stage may hold when the network is laid out.
+MAX_STAGE_STATES = 20_000_000
+# Mixed-radix codes must fit in a signed 64-bit integer.
+MAX_CODE = 2 ** 62
 
 
 class NetworkTooLarge(MemoryError):
@@ -37,63 +48,109 @@ class NetworkTooLarge(MemoryError):
 
 @dataclass(frozen=True)
 class Layout:
-    """Shape of the network: margins, mixed-radix coding and per-code digit sums."""
+    """Shape of the network: margins, mixed-radix coding and the states met at each stage."""
 
     rows: tuple            # row margins R_i (all > 0)
     cols: tuple            # column margins C_j (all > 0), in processing order
     radix: np.ndarray      # radix[i] = prod_{k < i} (R_k + 1)
-    digits: np.ndarray     # (size, r): remaining row margins for each code
-    below: np.ndarray      # (size, r): sum of digits k > i
-    total: np.ndarray      # (size,): sum of digits
     after: tuple           # after[j] = sum of C_k for k > j
     reach: tuple = ()      # reach[s]: sorted codes of the states that occur before stage s
+    fold: bool = True      # the last row's forced cell goes with the cell above it
 
     @property
-    def size(self) -> int:
-        return int(self.total.size)
+    def per_column(self) -> int:
+        return len(self.rows) - 1 if self.fold else len(self.rows)
 
     @property
     def stages(self) -> int:
-        return len(self.rows) * len(self.cols)
+        return self.per_column * len(self.cols)
+
+    def cell_of(self, stage: int) -> tuple:
+        """(row, column) of the cell a stage chooses."""
+        return stage % self.per_column, stage // self.per_column
+
+    def folds(self, stage: int) -> bool:
+        """Whether the stage also places the forced last cell of its column."""
+        return self.fold and stage % self.per_column == self.per_column - 1
+
+    @property
+    def states(self) -> int:
+        """States over all stages (the size of every per-state array together)."""
+        return int(sum(r.size for r in self.reach))
 
     def start_code(self) -> int:
         return int(np.dot(self.rows, self.radix))
 
+    def position(self, stage: int, codes) -> np.ndarray:
+        """Index of each code in reach[stage] (the codes must occur there)."""
+        return np.searchsorted(self.reach[stage], codes)
 
-def dense_size(rows) -> int:
-    return int(np.prod([int(v) + 1 for v in rows], dtype=float))
+    def digits(self, codes) -> np.ndarray:
+        """(len(codes), r): the remaining row margins of each state."""
+        codes = np.asarray(codes, np.int64)
+        base = np.asarray([v + 1 for v in self.rows], np.int64)
+        return (codes[:, None] // self.radix[None, :]) % base[None, :]
 
 
-def make_layout(rows, cols) -> Layout:
+def dense_size(rows) -> float:
+    """Number of mixed-radix codes (every vector 0 <= r <= R), reachable or not."""
+    return float(np.prod([float(v) + 1.0 for v in rows]))
+
+
+def make_layout(rows, cols, max_stage_states: int = MAX_STAGE_STATES, fold: bool = True) -> Layout:
+    """The network for these margins; `fold=False` gives every cell its own stage."""
     rows = tuple(int(v) for v in rows)
     cols = tuple(int(v) for v in cols)
+    if dense_size(rows) >= MAX_CODE:
+        raise NetworkTooLarge("the row margins are too many and too large to code the states")
     radix = np.cumprod([1] + [v + 1 for v in rows[:-1]]).astype(np.int64)
-    size = int(np.prod([v + 1 for v in rows]))
-    code = np.arange(size, dtype=np.int64)
-    digits = np.stack([(code // radix[i]) % (rows[i] + 1) for i in range(len(rows))], axis=1)
-    digits = digits.astype(np.int32)
-    csum = np.cumsum(digits[:, ::-1], axis=1)[:, ::-1]
-    below = np.concatenate([csum[:, 1:], np.zeros((size, 1), np.int32)], axis=1).astype(np.int32)
     after = tuple(int(sum(cols[j + 1:])) for j in range(len(cols)))
-    layout = Layout(rows, cols, radix, digits, below, csum[:, 0].astype(np.int32), after)
+    layout = Layout(rows, cols, radix, after, fold=fold)
     reach = [np.array([layout.start_code()], np.int64)]
     for stage in range(layout.stages):
-        reach.append(np.unique(moves(layout, stage, reach[-1])[2]))
-    return replace(layout, reach=tuple(reach))
+        nxt = np.unique(moves(layout, stage, reach[-1])[2])
+        if nxt.size > max_stage_states:
+            raise NetworkTooLarge(f"the network would hold {nxt.size:,} states at one stage")
+        reach.append(nxt)
+    return Layout(rows, cols, radix, after, tuple(reach), fold)
 
 
 def _move_range(layout: Layout, stage: int, codes):
     """(lowest x, highest x, r_i, below, left) for the cell of `stage`, per state code."""
-    r = len(layout.rows)
-    i, j = stage % r, stage // r
-    digit = layout.digits[codes, i].astype(np.int64)
-    below = layout.below[codes, i].astype(np.int64)
-    left = layout.total[codes].astype(np.int64) - layout.after[j]
+    i, j = layout.cell_of(stage)
+    d = layout.digits(codes)
+    digit = d[:, i]
+    below = d[:, i + 1:].sum(axis=1)
+    left = d.sum(axis=1) - layout.after[j]
     lo = np.maximum(0, left - below)
     hi = np.minimum(digit, left)
     ok = (left >= 0) & (left <= layout.cols[j])
     hi = np.where(ok, hi, -1)
     return lo, hi, digit, below, left
+
+
+def moves(layout, stage, codes, lf=None):
+    """Every move out of the given states: (index of the source, x, next code, log weight).
+
+    The log weights (conditional probabilities) are computed only when `lf`, the table of
+    log factorials, is given."""
+    i, _ = layout.cell_of(stage)
+    codes = np.asarray(codes, np.int64)
+    lo, hi, digit, below, left = _move_range(layout, stage, codes)
+    cnt = np.maximum(hi - lo + 1, 0)
+    if int(cnt.sum()) > MAX_ENTRIES:
+        raise NetworkTooLarge(f"the network would carry {int(cnt.sum()):,} pairs at one step")
+    rep = np.repeat(np.arange(codes.size), cnt)
+    x = lo[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(cnt) - cnt, cnt))
+    nxt = codes[rep] - x * layout.radix[i]
+    if layout.folds(stage):
+        nxt = nxt - (left[rep] - x) * layout.radix[i + 1]
+    if lf is None:
+        return rep, x, nxt, None
+    d, b, k = digit[rep], below[rep], left[rep]
+    logw = (lf[d] - lf[x] - lf[d - x] + lf[b] - lf[k - x] - lf[b - k + x]
+            - lf[d + b] + lf[k] + lf[d + b - k])
+    return rep, x, nxt, logw
 
 
 def stage_moves(layout: Layout, stage: int):
@@ -104,33 +161,48 @@ def stage_moves(layout: Layout, stage: int):
     return rep, x, nxt, starts
 
 
+def gains(layout: Layout, cell, stage: int, source, x) -> np.ndarray:
+    """What each move adds to S: `cell[i, j, x]` (and the forced last cell's value) for a fixed
+    table of cell values, or `cell.gain(layout, stage, source, x)` when the gain depends on the
+    state left (`source`: the code each move leaves)."""
+    if not isinstance(cell, np.ndarray):
+        return cell.gain(layout, stage, source, x)
+    i, j = layout.cell_of(stage)
+    g = cell[i, j, x]
+    if layout.folds(stage):
+        g = g + cell[i + 1, j, column_left(layout, j, source) - x]
+    return g
+
+
+def column_left(layout: Layout, j: int, codes) -> np.ndarray:
+    """What column j still needs in each state (remaining total minus the later columns)."""
+    return layout.digits(codes).sum(axis=1) - layout.after[j]
+
+
 def count_tables(layout: Layout) -> float:
     """Number of tables with these margins (one path through the network each)."""
-    counts = np.zeros(layout.size)
-    counts[layout.start_code()] = 1.0
+    counts = np.ones(1)
     for stage in range(layout.stages):
         rep, _, nxt, _ = stage_moves(layout, stage)
-        counts = np.bincount(nxt, weights=counts[layout.reach[stage]][rep], minlength=layout.size)
+        counts = np.bincount(layout.position(stage + 1, nxt), weights=counts[rep],
+                             minlength=layout.reach[stage + 1].size)
     return float(counts[0])
 
 
-def path_bounds(layout: Layout, cell: np.ndarray):
+def path_bounds(layout: Layout, cell):
     """Longest and shortest remaining sum from every state at every stage.
 
-    `cell[i, j, x]` is g_ij(x). Returns two (stages + 1, size) arrays; states that cannot occur
-    at a stage hold -inf / +inf.
+    Returns two lists over stages 0..stages of arrays aligned with `layout.reach[stage]`.
     """
-    stages, r = layout.stages, len(layout.rows)
-    hi_b = np.full((stages + 1, layout.size), -np.inf)
-    lo_b = np.full((stages + 1, layout.size), np.inf)
-    hi_b[stages, 0] = lo_b[stages, 0] = 0.0
+    stages = layout.stages
+    hi_b, lo_b = [None] * (stages + 1), [None] * (stages + 1)
+    hi_b[stages] = lo_b[stages] = np.zeros(1)
     for stage in range(stages - 1, -1, -1):
-        i, j = stage % r, stage // r
-        _, x, nxt, starts = stage_moves(layout, stage)
-        g = cell[i, j, x]
-        codes = layout.reach[stage]
-        hi_b[stage, codes] = np.maximum.reduceat(g + hi_b[stage + 1, nxt], starts)
-        lo_b[stage, codes] = np.minimum.reduceat(g + lo_b[stage + 1, nxt], starts)
+        rep, x, nxt, starts = stage_moves(layout, stage)
+        g = gains(layout, cell, stage, layout.reach[stage][rep], x)
+        at = layout.position(stage + 1, nxt)
+        hi_b[stage] = np.maximum.reduceat(g + hi_b[stage + 1][at], starts)
+        lo_b[stage] = np.minimum.reduceat(g + lo_b[stage + 1][at], starts)
     return hi_b, lo_b
 
 
@@ -145,34 +217,10 @@ class Pass:
     probs: np.ndarray = None
 
 
-def moves(layout, stage, codes, lf=None):
-    """Every move out of the given states: (index of the source, x, next code, log weight).
-
-    The log weights (conditional probabilities) are computed only when `lf`, the table of
-    log factorials, is given."""
-    r = len(layout.rows)
-    i = stage % r
-    lo, hi, digit, below, left = _move_range(layout, stage, codes)
-    cnt = np.maximum(hi - lo + 1, 0)
-    if int(cnt.sum()) > MAX_ENTRIES:
-        raise NetworkTooLarge(f"the network would carry {int(cnt.sum()):,} pairs at one step")
-    rep = np.repeat(np.arange(codes.size), cnt)
-    x = lo[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(cnt) - cnt, cnt))
-    nxt = codes[rep] - x * layout.radix[i]
-    if lf is None:
-        return rep, x, nxt, None
-    d, b, k = digit[rep], below[rep], left[rep]
-    logw = (lf[d] - lf[x] - lf[d - x] + lf[b] - lf[k - x] - lf[b - k + x]
-            - lf[d + b] + lf[k] + lf[d + b - k])
-    return rep, x, nxt, logw
-
-
 def _expand(layout, stage, codes, vals, mass, cell, lf):
     """All moves out of the given pairs: new codes, partial sums and masses."""
-    r = len(layout.rows)
-    i, j = stage % r, stage // r
     rep, x, nxt, logw = moves(layout, stage, codes, lf)
-    return nxt, vals[rep] + cell[i, j, x], mass[rep] * np.exp(logw)
+    return nxt, vals[rep] + gains(layout, cell, stage, codes[rep], x), mass[rep] * np.exp(logw)
 
 
 def merge(codes, vals, mass, quantum):
@@ -204,7 +252,7 @@ def log_factorials(layout: Layout) -> np.ndarray:
     return gammaln(np.arange(int(sum(layout.rows)) + 2, dtype=float) + 1.0)
 
 
-def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
+def forward(layout: Layout, cell, region, quantum=None, bounds=None,
             progress: Progress = NO_PROGRESS, turn=None) -> Pass:
     """Sum the probability of tables whose S lies in the region.
 
@@ -224,11 +272,11 @@ def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
     for stage in range(layout.stages + 1):
         progress.step(stage / (layout.stages + 1), "network")
         if region is not None:
-            codes, vals, mass = _settle(out, stage, codes, vals, mass, region, bounds)
+            codes, vals, mass = _settle(out, layout, stage, codes, vals, mass, region, bounds)
         out.entries += int(codes.size)
         if stage == layout.stages or codes.size == 0 and region is not None:
             break
-        if turn is not None and stage % len(layout.rows) == 0 and stage > 0:
+        if turn is not None and stage % layout.per_column == 0 and stage > 0:
             settled = turn(stage, codes, vals, mass)
             if settled is not None:
                 out.extreme += settled[0]
@@ -241,10 +289,11 @@ def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
     return out
 
 
-def _settle(out: Pass, stage, codes, vals, mass, region, bounds):
+def _settle(out: Pass, layout, stage, codes, vals, mass, region, bounds):
     lo_thr, hi_thr = region
-    top = vals + bounds[0][stage, codes]
-    bottom = vals + bounds[1][stage, codes]
+    at = layout.position(stage, codes)
+    top = vals + bounds[0][stage][at]
+    bottom = vals + bounds[1][stage][at]
     extreme = (bottom >= hi_thr) | (top <= lo_thr)
     ordinary = (top < hi_thr) & (bottom > lo_thr)
     out.extreme += float(mass[extreme].sum())
