@@ -27,7 +27,7 @@ on.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from scipy.special import gammaln
@@ -56,6 +56,8 @@ class Layout:
     after: tuple           # after[j] = sum of C_k for k > j
     reach: tuple = ()      # reach[s]: sorted codes of the states that occur before stage s
     fold: bool = True      # the last row's forced cell goes with the cell above it
+    tables: float = 0.0    # number of tables with these margins (paths through the network)
+    moves: int = 0         # moves over all stages
 
     @property
     def per_column(self) -> int:
@@ -65,6 +67,11 @@ class Layout:
     def stages(self) -> int:
         return self.per_column * len(self.cols)
 
+    @property
+    def states(self) -> int:
+        """States over all stages (the size of every per-state array together)."""
+        return int(sum(r.size for r in self.reach))
+
     def cell_of(self, stage: int) -> tuple:
         """(row, column) of the cell a stage chooses."""
         return stage % self.per_column, stage // self.per_column
@@ -72,11 +79,6 @@ class Layout:
     def folds(self, stage: int) -> bool:
         """Whether the stage also places the forced last cell of its column."""
         return self.fold and stage % self.per_column == self.per_column - 1
-
-    @property
-    def states(self) -> int:
-        """States over all stages (the size of every per-state array together)."""
-        return int(sum(r.size for r in self.reach))
 
     def start_code(self) -> int:
         return int(np.dot(self.rows, self.radix))
@@ -98,7 +100,8 @@ def dense_size(rows) -> float:
 
 
 def make_layout(rows, cols, max_stage_states: int = MAX_STAGE_STATES, fold: bool = True) -> Layout:
-    """The network for these margins; `fold=False` gives every cell its own stage."""
+    """The network for these margins, with its number of tables (paths counted on the way);
+    `fold=False` gives every cell its own stage."""
     rows = tuple(int(v) for v in rows)
     cols = tuple(int(v) for v in cols)
     if dense_size(rows) >= MAX_CODE:
@@ -107,103 +110,130 @@ def make_layout(rows, cols, max_stage_states: int = MAX_STAGE_STATES, fold: bool
     after = tuple(int(sum(cols[j + 1:])) for j in range(len(cols)))
     layout = Layout(rows, cols, radix, after, fold=fold)
     reach = [np.array([layout.start_code()], np.int64)]
+    paths, total_moves = np.ones(1), 0
     for stage in range(layout.stages):
-        nxt = np.unique(moves(layout, stage, reach[-1])[2])
+        st = step(layout, stage, reach[-1])
+        total_moves += st.x.size
+        nxt, at = sorted_unique(st.nxt)
         if nxt.size > max_stage_states:
             raise NetworkTooLarge(f"the network would hold {nxt.size:,} states at one stage")
+        paths = np.bincount(at.ravel(), weights=paths[st.rep], minlength=nxt.size)
         reach.append(nxt)
-    return Layout(rows, cols, radix, after, tuple(reach), fold)
+    return replace(layout, reach=tuple(reach), tables=float(paths[0]), moves=total_moves)
 
 
-def _move_range(layout: Layout, stage: int, codes):
-    """(lowest x, highest x, r_i, below, left) for the cell of `stage`, per state code."""
+def sorted_unique(codes):
+    """(sorted distinct codes, index of each code among them): through a dense mark over the
+    codes' range when it is not much wider than their number, else by sorting."""
+    if codes.size == 0:
+        return codes, codes
+    low, high = int(codes.min()), int(codes.max())
+    span = high - low + 1
+    if span > max(8 * codes.size, 1 << 20):
+        out, inverse = np.unique(codes, return_inverse=True)
+        return out, inverse.ravel()
+    mark = np.zeros(span, bool)
+    mark[codes - low] = True
+    out = np.flatnonzero(mark)
+    index = np.cumsum(mark, dtype=np.int64) - 1
+    return out + low, index[codes - low]
+
+
+@dataclass(frozen=True)
+class Step:
+    """The moves out of some states at one stage, one entry a move (sources: `codes`)."""
+
+    codes: np.ndarray      # the states left, one each
+    rep: np.ndarray        # for each move, the index of its source in `codes`
+    x: np.ndarray          # what the move places in the stage's cell
+    nxt: np.ndarray        # the state it reaches
+    logw: np.ndarray       # its log conditional probability (None unless asked for)
+    digits: np.ndarray     # (len(codes), r): remaining row margins of each source
+    left: np.ndarray       # what the stage's column still needs, per source
+
+
+def step(layout: Layout, stage: int, codes, lf=None) -> Step:
+    """Every move out of the given states at `stage` (log weights when `lf`, the table of log
+    factorials, is given)."""
     i, j = layout.cell_of(stage)
+    codes = np.asarray(codes, np.int64)
     d = layout.digits(codes)
     digit = d[:, i]
     below = d[:, i + 1:].sum(axis=1)
     left = d.sum(axis=1) - layout.after[j]
     lo = np.maximum(0, left - below)
-    hi = np.minimum(digit, left)
-    ok = (left >= 0) & (left <= layout.cols[j])
-    hi = np.where(ok, hi, -1)
-    return lo, hi, digit, below, left
+    hi = np.where((left >= 0) & (left <= layout.cols[j]), np.minimum(digit, left), -1)
+    cnt = np.maximum(hi - lo + 1, 0)
+    total = int(cnt.sum())
+    if total > MAX_ENTRIES:
+        raise NetworkTooLarge(f"the network would carry {total:,} pairs at one step")
+    rep = np.repeat(np.arange(codes.size), cnt)
+    x = np.arange(total) - np.repeat(np.cumsum(cnt) - cnt - lo, cnt)
+    nxt = codes[rep] - x * layout.radix[i]
+    if layout.folds(stage):
+        nxt -= (left[rep] - x) * layout.radix[i + 1]
+    logw = None
+    if lf is not None:
+        dr, b, k = digit[rep], below[rep], left[rep]
+        logw = (lf[dr] - lf[x] - lf[dr - x] + lf[b] - lf[k - x] - lf[b - k + x]
+                - (lf[dr + b] - lf[k] - lf[dr + b - k]))
+    return Step(codes, rep, x, nxt, logw, d, left)
 
 
 def moves(layout, stage, codes, lf=None):
-    """Every move out of the given states: (index of the source, x, next code, log weight).
-
-    The log weights (conditional probabilities) are computed only when `lf`, the table of
-    log factorials, is given."""
-    i, _ = layout.cell_of(stage)
-    codes = np.asarray(codes, np.int64)
-    lo, hi, digit, below, left = _move_range(layout, stage, codes)
-    cnt = np.maximum(hi - lo + 1, 0)
-    if int(cnt.sum()) > MAX_ENTRIES:
-        raise NetworkTooLarge(f"the network would carry {int(cnt.sum()):,} pairs at one step")
-    rep = np.repeat(np.arange(codes.size), cnt)
-    x = lo[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(cnt) - cnt, cnt))
-    nxt = codes[rep] - x * layout.radix[i]
-    if layout.folds(stage):
-        nxt = nxt - (left[rep] - x) * layout.radix[i + 1]
-    if lf is None:
-        return rep, x, nxt, None
-    d, b, k = digit[rep], below[rep], left[rep]
-    logw = (lf[d] - lf[x] - lf[d - x] + lf[b] - lf[k - x] - lf[b - k + x]
-            - lf[d + b] + lf[k] + lf[d + b - k])
-    return rep, x, nxt, logw
+    """Every move out of the given states: (index of the source, x, next code, log weight)."""
+    st = step(layout, stage, codes, lf)
+    return st.rep, st.x, st.nxt, st.logw
 
 
-def stage_moves(layout: Layout, stage: int):
-    """Moves at `stage` out of every state that occurs there: (source index, x, next code,
-    start of each source's run of moves); the moves of one source are consecutive."""
-    rep, x, nxt, _ = moves(layout, stage, layout.reach[stage])
-    starts = np.flatnonzero(np.r_[True, rep[1:] != rep[:-1]])
-    return rep, x, nxt, starts
+def run_starts(rep) -> np.ndarray:
+    """Where each source's run of consecutive moves starts."""
+    return np.flatnonzero(np.r_[True, rep[1:] != rep[:-1]])
 
 
-def gains(layout: Layout, cell, stage: int, source, x) -> np.ndarray:
+def gains(layout: Layout, cell, stage: int, st: Step) -> np.ndarray:
     """What each move adds to S: `cell[i, j, x]` (and the forced last cell's value) for a fixed
-    table of cell values, or `cell.gain(layout, stage, source, x)` when the gain depends on the
-    state left (`source`: the code each move leaves)."""
+    table of cell values, or `cell.gain(layout, stage, st)` when the gain depends on the state
+    the move leaves."""
     if not isinstance(cell, np.ndarray):
-        return cell.gain(layout, stage, source, x)
+        return cell.gain(layout, stage, st)
     i, j = layout.cell_of(stage)
-    g = cell[i, j, x]
+    g = cell[i, j, st.x]
     if layout.folds(stage):
-        g = g + cell[i + 1, j, column_left(layout, j, source) - x]
+        g = g + cell[i + 1, j, st.left[st.rep] - st.x]
     return g
-
-
-def column_left(layout: Layout, j: int, codes) -> np.ndarray:
-    """What column j still needs in each state (remaining total minus the later columns)."""
-    return layout.digits(codes).sum(axis=1) - layout.after[j]
 
 
 def count_tables(layout: Layout) -> float:
     """Number of tables with these margins (one path through the network each)."""
-    counts = np.ones(1)
-    for stage in range(layout.stages):
-        rep, _, nxt, _ = stage_moves(layout, stage)
-        counts = np.bincount(layout.position(stage + 1, nxt), weights=counts[rep],
-                             minlength=layout.reach[stage + 1].size)
-    return float(counts[0])
+    return layout.tables
 
 
-def path_bounds(layout: Layout, cell):
-    """Longest and shortest remaining sum from every state at every stage.
+@dataclass(frozen=True)
+class Bounds:
+    """Per stage, aligned with `layout.reach[stage]`: the longest and shortest remaining sum,
+    and the number of ways to complete the table."""
 
-    Returns two lists over stages 0..stages of arrays aligned with `layout.reach[stage]`.
-    """
+    hi: list
+    lo: list
+    ways: list
+
+
+def path_bounds(layout: Layout, cell) -> Bounds:
+    """Longest and shortest remaining sum (and completions) from every state at every stage."""
     stages = layout.stages
-    hi_b, lo_b = [None] * (stages + 1), [None] * (stages + 1)
+    hi_b, lo_b, ways = [None] * (stages + 1), [None] * (stages + 1), [None] * (stages + 1)
     hi_b[stages] = lo_b[stages] = np.zeros(1)
+    ways[stages] = np.ones(1)
     for stage in range(stages - 1, -1, -1):
-        rep, x, nxt, starts = stage_moves(layout, stage)
-        g = gains(layout, cell, stage, layout.reach[stage][rep], x)
-        at = layout.position(stage + 1, nxt)
+        st = step(layout, stage, layout.reach[stage])
+        starts = run_starts(st.rep)
+        g = gains(layout, cell, stage, st)
+        at = layout.position(stage + 1, st.nxt)
         hi_b[stage] = np.maximum.reduceat(g + hi_b[stage + 1][at], starts)
         lo_b[stage] = np.minimum.reduceat(g + lo_b[stage + 1][at], starts)
-    return hi_b, lo_b
+        ways[stage] = np.add.reduceat(ways[stage + 1][at], starts)
+    return Bounds(hi_b, lo_b, ways)
 
 
 @dataclass
@@ -219,8 +249,8 @@ class Pass:
 
 def _expand(layout, stage, codes, vals, mass, cell, lf):
     """All moves out of the given pairs: new codes, partial sums and masses."""
-    rep, x, nxt, logw = moves(layout, stage, codes, lf)
-    return nxt, vals[rep] + gains(layout, cell, stage, codes[rep], x), mass[rep] * np.exp(logw)
+    st = step(layout, stage, codes, lf)
+    return st.nxt, vals[st.rep] + gains(layout, cell, stage, st), mass[st.rep] * np.exp(st.logw)
 
 
 def merge(codes, vals, mass, quantum):
@@ -292,8 +322,8 @@ def forward(layout: Layout, cell, region, quantum=None, bounds=None,
 def _settle(out: Pass, layout, stage, codes, vals, mass, region, bounds):
     lo_thr, hi_thr = region
     at = layout.position(stage, codes)
-    top = vals + bounds[0][stage][at]
-    bottom = vals + bounds[1][stage][at]
+    top = vals + bounds.hi[stage][at]
+    bottom = vals + bounds.lo[stage][at]
     extreme = (bottom >= hi_thr) | (top <= lo_thr)
     ordinary = (top < hi_thr) & (bottom > lo_thr)
     out.extreme += float(mass[extreme].sum())

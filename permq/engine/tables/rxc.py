@@ -22,9 +22,11 @@ from ..core.pvalues import clip, monte_carlo_p
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import fresh_seed, iter_blocks
 from .join import Turn
-from .network import MAX_ENTRIES, MAX_STAGE_STATES, NetworkTooLarge, count_tables, forward, make_layout
+from .network import (MAX_ENTRIES, MAX_STAGE_STATES, NetworkTooLarge, count_tables, forward,
+                      make_layout, path_bounds)
 from .states import processing_order
-from .stats import NAMES, Prepared, check_choice, prepare
+from . import concordance
+from .stats import NAMES, Prepared, check_choice, prepare as prepare_cells
 
 NETWORK = "network"
 MONTE_CARLO = "monte-carlo"
@@ -32,10 +34,24 @@ DEFAULT_DRAWS = 100_000
 # Up to this many states the planner lays the network out to count its tables.
 LAYOUT_STATES = 3_000_000
 # Statistics that need the columns in their own order (their gains depend on it).
-ORDERED_STATISTICS = ()
+ORDERED_STATISTICS = ("concordance",)
 NETWORK_WORDS = ("network algorithm over columns: dynamic programming on the remaining row "
                  "margins, with exact bounds on the rest of the statistic")
 SAMPLED_WORDS = "random tables with both margins fixed (Patefield's algorithm)"
+
+
+def check_statistic(statistic: str, alternative: str) -> None:
+    if statistic == "concordance":
+        check_choice("trend", alternative)
+    else:
+        check_choice(statistic, alternative)
+
+
+def prepare(t, statistic, alternative, u, v, stages):
+    """The statistic set up for table `t` as the network takes it."""
+    if statistic == "concordance":
+        return concordance.prepare(t, alternative)
+    return prepare_cells(t, statistic, alternative, u, v, stages=stages)
 
 
 def as_table(table) -> np.ndarray:
@@ -143,7 +159,7 @@ def run(table, statistic: str = "fisher", alternative: str = "two-sided",
         algorithm: str = NETWORK, draws=None, seed=None, progress: Progress = NO_PROGRESS,
         row_scores=None, col_scores=None) -> EngineOutcome:
     """Test independence in an r x c table with both margins fixed."""
-    check_choice(statistic, alternative)
+    check_statistic(statistic, alternative)
     t, u, v, warnings, counts = _shape(table, row_scores, col_scores,
                                        keep_order=statistic in ORDERED_STATISTICS)
     if min(t.shape) < 2:
@@ -161,7 +177,8 @@ def run(table, statistic: str = "fisher", alternative: str = "two-sided",
 
 def _single(statistic, warnings) -> EngineOutcome:
     value = 1.0 if statistic == "fisher" else 0.0
-    return EngineOutcome(NAMES[statistic], value, 1.0, "exact", "single table with these margins",
+    name = concordance.NAME if statistic == "concordance" else NAMES[statistic]
+    return EngineOutcome(name, value, 1.0, "exact", "single table with these margins",
                          arrangements=1.0, warnings=tuple(warnings) + (
                              "only one table has these margins: p = 1",))
 
@@ -172,8 +189,9 @@ def _exact(t, prep: Prepared, progress, warnings) -> EngineOutcome:
     if prep.everything:
         p = 1.0
     else:
-        turn = Turn(layout, prep.cell, prep.region, prep.quantum)
-        res = forward(layout, prep.cell, prep.region, prep.quantum, progress=progress, turn=turn)
+        bounds = path_bounds(layout, prep.cell)
+        turn = Turn(layout, prep.cell, prep.region, prep.quantum, bounds)
+        res = forward(layout, prep.cell, prep.region, prep.quantum, bounds, progress, turn)
         if abs(res.extreme + res.ordinary - 1.0) > 1e-9 or turn.list_error > 1e-9:
             raise ArithmeticError("the network lost probability mass; no exact p-value")
         p = res.extreme
@@ -186,7 +204,8 @@ def null_distribution(table, statistic: str = "trend", row_scores=None, col_scor
 
     No pruning, so it costs more than `run`; meant for pictures and checks on small tables.
     """
-    t, u, v, _, _ = _shape(table, row_scores, col_scores)
+    t, u, v, _, _ = _shape(table, row_scores, col_scores,
+                           keep_order=statistic in ORDERED_STATISTICS)
     if min(t.shape) < 2:
         raise ValueError("a table with one row or one column has a single arrangement")
     prep = prepare(t, statistic, "two-sided", u, v, stages=t.size)
