@@ -22,6 +22,7 @@ from .core.jumps import collect_sampled, interval_from_jumps
 from .montecarlo.draws import random_u32, subset_sums
 from .core.progress import NO_PROGRESS, Progress
 from .montecarlo.sampling import iter_blocks
+from .tables import ranked
 from .core.scores import Grid, integer_grid, median_scores, midranks, normal_scores
 
 MAX_DP_BYTES = 2.0e9
@@ -91,6 +92,9 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
     out.append(Candidate("enumeration", "complete enumeration", True, total * (n1 * 8 + 600),
                          min(total, 2e5) * n1 * 8 * 3, arrangements=total,
                          note=f"{total:.3g} arrangements"))
+    if family == "ranks" and ranked.offered(a):
+        t, u, v = ranked.rank_sum_table(x, y)
+        out.append(ranked.candidate(t, "trend", "2 groups x categories", total, u, v))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
                          draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=total,
                          note=f"{draws} draws"))
@@ -113,6 +117,11 @@ def run(family: str, x, y, alternative: str, algorithm: str, level: float,
         return _run_dp(fam, x, y, a, alternative, level, t_obs, progress)
     if algorithm == "enumeration":
         return _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress)
+    if algorithm == ranked.TABLE and family == "ranks":
+        p, _ = ranked.rank_sum(x, y, alternative, progress)
+        return EngineOutcome(fam.statistic_name, t_obs, p, "exact",
+                             ranked.WORDS.format(what="2 groups x categories"),
+                             arrangements=float(comb(len(a), n1))), None
     return _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progress)
 
 

@@ -247,10 +247,24 @@ class Pass:
     probs: np.ndarray = None
 
 
-def _expand(layout, stage, codes, vals, mass, cell, lf):
-    """All moves out of the given pairs: new codes, partial sums and masses."""
-    st = step(layout, stage, codes, lf)
-    return st.nxt, vals[st.rep] + gains(layout, cell, stage, st), mass[st.rep] * np.exp(st.logw)
+def _expand(layout, stage, at, vals, mass, cell, lf):
+    """All moves out of the given pairs (`at`: their states' indices in reach[stage], sorted):
+    the moves of each distinct state are worked out once, then every pair takes them."""
+    first = np.flatnonzero(np.r_[True, at[1:] != at[:-1]])
+    st = step(layout, stage, layout.reach[stage][at[first]], lf)
+    g = gains(layout, cell, stage, st)
+    w = np.exp(st.logw)
+    nxt = layout.position(stage + 1, st.nxt)
+    starts = run_starts(st.rep)
+    cnt = np.diff(np.r_[starts, st.rep.size])
+    which = np.repeat(np.arange(first.size), np.diff(np.r_[first, at.size]))
+    per = cnt[which]
+    total = int(per.sum())
+    if total > MAX_ENTRIES:
+        raise NetworkTooLarge(f"the network would carry {total:,} pairs at one step")
+    rep = np.repeat(np.arange(at.size), per)
+    move = np.arange(total) + np.repeat(starts[which] - (np.cumsum(per) - per), per)
+    return nxt[move], vals[rep] + g[move], mass[rep] * w[move]
 
 
 def merge(codes, vals, mass, quantum):
@@ -270,10 +284,18 @@ def merge(codes, vals, mass, quantum):
 
 
 def _order(codes, keys):
-    """Order by (code, key): one integer sort key when the two fit in 62 bits."""
+    """Order by (code, key). When the two and the entry's index fit in 63 bits, one sort of
+    packed integers (much faster than an argsort); else one argsort of a combined key; else a
+    lexical sort."""
     low = int(keys.min())
     span = int(keys.max()) - low + 1
-    if span * (int(codes.max()) + 1) < 2 ** 62:
+    top = span * (int(codes.max()) + 1)
+    bits = max(int(codes.size - 1).bit_length(), 1)
+    if top < 2 ** (63 - bits):
+        packed = ((codes * span + (keys - low)) << bits) | np.arange(codes.size, dtype=np.int64)
+        packed.sort()
+        return packed & ((1 << bits) - 1)
+    if top < 2 ** 62:
         return np.argsort(codes * span + (keys - low), kind="stable")
     return np.lexsort((keys, codes))
 
@@ -293,7 +315,7 @@ def forward(layout: Layout, cell, region, quantum=None, bounds=None,
     """
     lf = log_factorials(layout)
     dtype = np.int64 if quantum is None else float
-    codes = np.array([layout.start_code()], np.int64)
+    at = np.zeros(1, np.int64)                 # the pairs' states, as indices in reach[stage]
     vals = np.zeros(1, dtype)
     mass = np.ones(1)
     out = Pass()
@@ -302,26 +324,25 @@ def forward(layout: Layout, cell, region, quantum=None, bounds=None,
     for stage in range(layout.stages + 1):
         progress.step(stage / (layout.stages + 1), "network")
         if region is not None:
-            codes, vals, mass = _settle(out, layout, stage, codes, vals, mass, region, bounds)
-        out.entries += int(codes.size)
-        if stage == layout.stages or codes.size == 0 and region is not None:
+            at, vals, mass = _settle(out, stage, at, vals, mass, region, bounds)
+        out.entries += int(at.size)
+        if stage == layout.stages or at.size == 0 and region is not None:
             break
         if turn is not None and stage % layout.per_column == 0 and stage > 0:
-            settled = turn(stage, codes, vals, mass)
+            settled = turn(stage, layout.reach[stage][at], vals, mass)
             if settled is not None:
                 out.extreme += settled[0]
                 out.ordinary += settled[1]
                 break
-        codes, vals, mass = _expand(layout, stage, codes, vals, mass, cell, lf)
-        codes, vals, mass = merge(codes, vals, mass, quantum)
+        at, vals, mass = _expand(layout, stage, at, vals, mass, cell, lf)
+        at, vals, mass = merge(at, vals, mass, quantum)
     if region is None:
         out.support, out.probs = vals.astype(float), mass
     return out
 
 
-def _settle(out: Pass, layout, stage, codes, vals, mass, region, bounds):
+def _settle(out: Pass, stage, at, vals, mass, region, bounds):
     lo_thr, hi_thr = region
-    at = layout.position(stage, codes)
     top = vals + bounds.hi[stage][at]
     bottom = vals + bounds.lo[stage][at]
     extreme = (bottom >= hi_thr) | (top <= lo_thr)
@@ -329,4 +350,4 @@ def _settle(out: Pass, layout, stage, codes, vals, mass, region, bounds):
     out.extreme += float(mass[extreme].sum())
     out.ordinary += float(mass[ordinary].sum())
     keep = ~(extreme | ordinary)
-    return codes[keep], vals[keep], mass[keep]
+    return at[keep], vals[keep], mass[keep]

@@ -25,7 +25,7 @@ from .join import Turn
 from .network import (MAX_ENTRIES, MAX_STAGE_STATES, NetworkTooLarge, count_tables, forward,
                       make_layout, path_bounds)
 from .states import processing_order
-from . import concordance
+from . import concordance, integers
 from .stats import NAMES, Prepared, check_choice, prepare as prepare_cells
 
 NETWORK = "network"
@@ -35,6 +35,8 @@ DEFAULT_DRAWS = 100_000
 LAYOUT_STATES = 3_000_000
 # Statistics that need the columns in their own order (their gains depend on it).
 ORDERED_STATISTICS = ("concordance",)
+# Statistics that are exact integers (the trend with its default scores 1..k).
+INTEGER_STATISTICS = ("concordance", "trend")
 NETWORK_WORDS = ("network algorithm over columns: dynamic programming on the remaining row "
                  "margins, with exact bounds on the rest of the statistic")
 SAMPLED_WORDS = "random tables with both margins fixed (Patefield's algorithm)"
@@ -107,7 +109,7 @@ def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS) -> 
     if min(t.shape) < 2:
         return [Candidate(NETWORK, "single table with these margins", True, 1.0, 1.0,
                           arrangements=1.0)]
-    out = [network_candidate(t, counts, statistic)]
+    out = [network_candidate(t, counts, statistic, integer=statistic in INTEGER_STATISTICS)]
     mc_ops = float(draws) * (12.0 * t.size + 60.0)
     out.append(Candidate(MONTE_CARLO, SAMPLED_WORDS, False, mc_ops, 8192 * t.size * 24.0,
                          arrangements=out[0].arrangements))
@@ -115,7 +117,7 @@ def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS) -> 
 
 
 def network_candidate(t, counts, statistic, words: str = NETWORK_WORDS,
-                      algorithm: str = NETWORK) -> Candidate:
+                      algorithm: str = NETWORK, integer: bool = False) -> Candidate:
     """The exact network for table `t` as the network takes it (`orient`), with its cost:
     the states it really meets (`counts`, exact), the tables they hold, and the pairs."""
     states, widest = float(counts.sum()), float(counts.max())
@@ -125,7 +127,7 @@ def network_candidate(t, counts, statistic, words: str = NETWORK_WORDS,
     rows, cols = t.sum(axis=1), t.sum(axis=0)
     arrangements = 0.0
     if states <= LAYOUT_STATES:
-        arrangements = count_tables(cached_layout(tuple(rows), tuple(cols)))
+        arrangements = tables_with_margins(rows, cols, integer)
     ops = network_ops(t, states, arrangements, statistic)
     memory = states * 64.0 + min(ops * 0.2, 4.0 * MAX_ENTRIES * 24.0) + 2e6
     note = f"{_count_words(states)} states"
@@ -183,8 +185,33 @@ def _single(statistic, warnings) -> EngineOutcome:
                              "only one table has these margins: p = 1",))
 
 
+def compiled_route(integer: bool) -> bool:
+    """Whether an integer statistic goes through the compiled dense network."""
+    return integer and integers.available()
+
+
+def tables_with_margins(rows, cols, integer: bool) -> float:
+    """Number of tables with these margins (from the layout the run will use)."""
+    rows, cols = tuple(int(v) for v in rows), tuple(int(v) for v in cols)
+    if compiled_route(integer):
+        return integers.layout(rows, cols).tables
+    return count_tables(cached_layout(rows, cols))
+
+
 def _exact(t, prep: Prepared, progress, warnings) -> EngineOutcome:
-    layout = cached_layout(tuple(t.sum(axis=1)), tuple(t.sum(axis=0)))
+    rows, cols = tuple(int(v) for v in t.sum(axis=1)), tuple(int(v) for v in t.sum(axis=0))
+    if compiled_route(integers.is_integer(prep.cell)) and not prep.everything:
+        try:
+            lay = integers.layout(rows, cols)
+            res = integers.forward(lay, prep.cell, prep.region, progress)
+            if abs(res.extreme + res.ordinary - 1.0) > 1e-9:
+                raise ArithmeticError("the network lost probability mass; no exact p-value")
+            return EngineOutcome(prep.name, float(prep.reported(prep.observed)),
+                                 clip(res.extreme), "exact", NETWORK_WORDS,
+                                 arrangements=lay.tables, warnings=tuple(warnings))
+        except (integers.TooWide, NetworkTooLarge):
+            pass                           # the sorting network below holds sparse lists
+    layout = cached_layout(rows, cols)
     arrangements = count_tables(layout)
     if prep.everything:
         p = 1.0
