@@ -69,6 +69,8 @@ class Result:
     line: Optional[int] = None
     extra: dict = field(default_factory=dict)     # family-specific additions (kept in JSON)
     also_normal: list = field(default_factory=list)  # further textbook tests (e.g. Welch ANOVA, HC3)
+    reference: str = "arrangements"   # what the exact reference set is made of, in words
+    exact_heading: str = ""           # the exact column's heading when not a permutation test
 
     def to_dict(self) -> dict:
         o = self.outcome

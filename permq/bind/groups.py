@@ -38,7 +38,7 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         family_set, form, kind = ORDERED_FAMILIES, "ordered groups", "ordered"
     else:
         family_set, form, kind = K_SAMPLE_FAMILIES, "three or more groups", "k-sample"
-    allowed = ("levels", "within", "ordered")
+    allowed = ("levels", "within", "ordered", "scores")
     default_family = "ranks" if within and len(levels) > 2 and not ordered else "means"
     s = settings_for(node, opts, defaults, family_set, default_family, form, allowed)
     if ordered and within and len(levels) > 2 and s.family != "ranks":
@@ -56,7 +56,15 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         block_codes = np.array([block_labels.index(b) for b in block_text], dtype=np.int64)
     if within and len(levels) > 2:
         _check_complete(codes, block_codes, levels, block_labels, opts["within"].value)
-    scores = _dose_scores(levels) if ordered else None
+    scores = None
+    if ordered:
+        listed = bool(opts["ordered"].value) or "levels" in opts
+        scores, how = _dose_scores(levels, listed, table.frame[subject.group.text])
+        scores, how = _given_scores(opts, scores, how, within)
+        if not within:
+            warnings += (f"dose scores: {_listed(scores)} ({how})",)
+    elif "scores" in opts:
+        raise BindError("'scores' go with 'ordered'", opts["scores"].span, hint="add 'ordered'")
     if len(levels) == 2 and not within and ordered:
         warnings += ("two ordered levels: the trend test is the two-sample test",)
     return GroupsDesign(y.to_numpy(float), codes, tuple(levels), subject.response.text, s,
@@ -72,13 +80,20 @@ def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
                         opts["ordered"].span)
     family_set = ORDERED_FAMILIES if ordered else K_SAMPLE_FAMILIES
     s = settings_for(node, opts, defaults, family_set, "means",
-                     "ordered samples" if ordered else "three or more samples", ("ordered",))
+                     "ordered samples" if ordered else "three or more samples",
+                     ("ordered", "scores"))
     if not ordered and s.alternative != "two-sided":
         raise BindError(f"a comparison of {len(samples)} samples has no direction",
                         opts["alternative"].span, hint="drop 'alternative', or add 'ordered'")
     values = np.concatenate(samples)
     codes = np.concatenate([np.full(len(a), i) for i, a in enumerate(samples)])
-    scores = np.arange(1, len(samples) + 1, dtype=float) if ordered else None
+    scores = None
+    if ordered:
+        scores, how = _given_scores(opts, np.arange(1.0, len(samples) + 1),
+                                    "1..k in the order written", False)
+        warnings = tuple(warnings) + (f"dose scores: {_listed(scores)} ({how})",)
+    elif "scores" in opts:
+        raise BindError("'scores' go with 'ordered'", opts["scores"].span, hint="add 'ordered'")
     return GroupsDesign(values, codes.astype(np.int64), tuple(labels), "values", s,
                         None, (), ordered, scores, warnings,
                         "ordered" if ordered else "k-sample")
@@ -128,10 +143,36 @@ def _all_numbers(levels) -> bool:
         return False
 
 
-def _dose_scores(levels) -> np.ndarray:
-    if _all_numbers(levels):
-        return np.array([float(v) for v in levels])
-    return np.arange(1, len(levels) + 1, dtype=float)
+def _dose_scores(levels, listed: bool, column):
+    """(scores, in words): a numeric group column's levels score their values (in whatever
+    order they are listed); listed text levels score 1..k."""
+    import pandas as pd
+
+    if pd.api.types.is_numeric_dtype(column) and _all_numbers(levels):
+        return np.array([float(v) for v in levels]), "the levels' values"
+    return (np.arange(1, len(levels) + 1, dtype=float),
+            "1..k in the order listed" if listed else "1..k in order")
+
+
+def _given_scores(opts, scores, how, within):
+    """`scores 0, 10, 20, 40` in place of the default dose scores, checked."""
+    if "scores" not in opts:
+        return scores, how
+    opt = opts["scores"]
+    if within:
+        raise BindError("Page's test within blocks takes no dose scores", opt.span,
+                        hint="drop 'scores'")
+    given = np.array([v for v, _ in opt.value], float)
+    if given.size != scores.size:
+        raise BindError(f"{given.size} scores for {scores.size} ordered levels", opt.span,
+                        hint=f"give {scores.size} scores, one a level, in order")
+    if not np.all(np.isfinite(given)) or np.ptp(given) == 0:
+        raise BindError("the scores must be finite numbers, not all equal", opt.span)
+    return given, "as given"
+
+
+def _listed(values) -> str:
+    return ", ".join(f"{v:g}" for v in values)
 
 
 def _natural(text):

@@ -58,7 +58,9 @@ def result_block(r: Result, color: bool = False) -> str:
         lines.extend(table_lines(r.extra["table"]))
     lines.append(f"  {'statistic':<15}{fmt.num(o.statistic, 6)}")
     method_word = "exact" if o.method == "exact" else "Monte Carlo"
-    lines.append(f"  {'':<15}{'permutation (' + method_word + ')':<28}normal theory")
+    heading = (r.exact_heading if o.method == "exact" and r.exact_heading
+               else "permutation (" + method_word + ")")
+    lines.append(f"  {'':<15}{heading:<28}normal theory")
     p_label = f"p ({r.alternative})"
     normal_p = fmt.p(nt.p_value) if nt else "-"
     exact_p = fmt.p(o.p_value)
@@ -84,7 +86,7 @@ def result_block(r: Result, color: bool = False) -> str:
     if diagnostics_line(r):
         lines.append(diagnostics_line(r))
     if o.method == "exact":
-        how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
+        how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} {r.reference}"
     else:
         lo, hi = o.p_interval
         how = (f"Monte Carlo: {o.draws:,} draws, seed {o.seed}; "

@@ -210,6 +210,7 @@ _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
                "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
                "top": ("compare",), "below": ("compare",), "levels": ("compare",),
                "within": ("compare",), "ordered": ("compare", "count"),
+               "scores": ("compare", "count"),
                "paired": ("compare", "count")}
 
 
@@ -470,6 +471,9 @@ class _ToNodes(Transformer):
 
     def ordered(self, meta, ch):
         return self._opt(meta, "ordered", tuple((c.value, c.span) for c in ch))
+
+    def scores(self, meta, ch):
+        return self._opt(meta, "scores", tuple((float(c.value), c.span) for c in ch))
 
     def paired(self, meta, ch):
         return self._opt(meta, "paired")

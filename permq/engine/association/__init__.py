@@ -31,9 +31,10 @@ from ...plan.cost import Candidate
 from ...result import EngineOutcome, Estimate
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import fresh_seed
+from ..tables import ranked
 from .adjusted import _run_freedman_lane, adjusted_coefficient
 from .pairings import (CHUNK, DEFAULT_DRAWS, DESCRIPTIONS, ENUMERATION_LIMIT, _big, _has_ties,
-                       _run_enumeration, _run_inversions, _run_monte_carlo, arrangements,
+                       _run_enumeration, _run_inversions, _run_monte_carlo, _warnings, arrangements,
                        check_inputs, distinct_pairs, problem)
 from .slope import slope_estimate, slope_outcome, slope_pass
 
@@ -72,6 +73,9 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
     out = []
     if statistic == "kendall":
         out.append(_inversions_candidate(y, x))
+        if ranked.offered(x) and ranked.offered(y):
+            t, _, _ = ranked.table_of(x, y)
+            out.append(ranked.candidate(t, "concordance", "x values x y values", total))
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, total * per,
                          min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0),
                          feasible=total <= ENUMERATION_LIMIT, arrangements=total,
@@ -114,6 +118,15 @@ def run(statistic: str, y, x, alternative: str, algorithm: str, draws: Optional[
         if statistic != "kendall" or _has_ties(x) or _has_ties(y):
             raise ValueError("counting inversions applies to Kendall's tau without ties")
         return _run_inversions(problem("kendall", y, x), alternative, progress)
+    if algorithm == ranked.TABLE:
+        if statistic != "kendall":
+            raise ValueError("the table route applies to Kendall's tau")
+        pb = problem("kendall", y, x)
+        p, _ = ranked.kendall(y, x, alternative, progress)
+        return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), p, "exact",
+                             ranked.WORDS.format(what="x values x y values"),
+                             arrangements=_big(reference_size("kendall", y, x)),
+                             warnings=_warnings(pb))
     if algorithm == "enumeration":
         fixed_is_x = arrangements(_scores(statistic, y)) <= arrangements(_scores(statistic, x))
         return _run_enumeration(problem(statistic, y, x, fixed_is_x), alternative, progress)

@@ -11,6 +11,7 @@ has one row or one column left is the only table with its margins: p = 1.
 """
 from __future__ import annotations
 
+from dataclasses import replace
 from functools import lru_cache
 
 import numpy as np
@@ -19,6 +20,7 @@ from scipy import stats
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
 from ..core.pvalues import clip, monte_carlo_p
+from ..core.scores import integer_grid
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import fresh_seed, iter_blocks
 from .join import Turn
@@ -35,8 +37,6 @@ DEFAULT_DRAWS = 100_000
 LAYOUT_STATES = 3_000_000
 # Statistics that need the columns in their own order (their gains depend on it).
 ORDERED_STATISTICS = ("concordance",)
-# Statistics that are exact integers (the trend with its default scores 1..k).
-INTEGER_STATISTICS = ("concordance", "trend")
 NETWORK_WORDS = ("network algorithm over columns: dynamic programming on the remaining row "
                  "margins, with exact bounds on the rest of the statistic")
 SAMPLED_WORDS = "random tables with both margins fixed (Patefield's algorithm)"
@@ -50,9 +50,21 @@ def check_statistic(statistic: str, alternative: str) -> None:
 
 
 def prepare(t, statistic, alternative, u, v, stages):
-    """The statistic set up for table `t` as the network takes it."""
+    """The statistic set up for table `t` as the network takes it. Trend scores on decimal
+    grids are put on integer grids first (S is then an exact integer; the reported statistic
+    is the same affine function of it)."""
     if statistic == "concordance":
         return concordance.prepare(t, alternative)
+    if statistic == "trend" and u is not None and v is not None:
+        gu, gv = integer_grid(u), integer_grid(v)
+        if gu is not None and gv is not None and (gu.step != 1 or gv.step != 1
+                                                  or gu.origin != 0 or gv.origin != 0):
+            prep = prepare_cells(t, statistic, alternative, gu.integers.astype(float),
+                                 gv.integers.astype(float), stages=stages)
+            rows, cols, n = t.sum(axis=1), t.sum(axis=0), float(t.sum())
+            offset = (gu.origin * gv.origin * n + gu.origin * gv.step * float(gv.integers @ cols)
+                      + gu.step * gv.origin * float(gu.integers @ rows))
+            return replace(prep, scale=gu.step * gv.step, offset=offset)
     return prepare_cells(t, statistic, alternative, u, v, stages=stages)
 
 
@@ -103,13 +115,17 @@ def _shape(table, row_scores=None, col_scores=None, keep_order=False):
     return t, u, v, warnings, counts
 
 
-def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS) -> list[Candidate]:
+def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS, row_scores=None,
+               col_scores=None) -> list[Candidate]:
     """The exact network and Monte Carlo, with their estimated cost."""
-    t, _, _, _, counts = _shape(table, keep_order=statistic in ORDERED_STATISTICS)
+    t, u, v, _, counts = _shape(table, row_scores, col_scores,
+                                keep_order=statistic in ORDERED_STATISTICS)
     if min(t.shape) < 2:
         return [Candidate(NETWORK, "single table with these margins", True, 1.0, 1.0,
                           arrangements=1.0)]
-    out = [network_candidate(t, counts, statistic, integer=statistic in INTEGER_STATISTICS)]
+    integer = statistic == "concordance" or (
+        statistic == "trend" and bool(np.all(u == np.round(u)) and np.all(v == np.round(v))))
+    out = [network_candidate(t, counts, statistic, integer=integer)]
     mc_ops = float(draws) * (12.0 * t.size + 60.0)
     out.append(Candidate(MONTE_CARLO, SAMPLED_WORDS, False, mc_ops, 8192 * t.size * 24.0,
                          arrangements=out[0].arrangements))
