@@ -135,7 +135,7 @@ def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS, row
 def network_candidate(t, counts, statistic, words: str = NETWORK_WORDS,
                       algorithm: str = NETWORK, integer: bool = False) -> Candidate:
     """The exact network for table `t` as the network takes it (`orient`), with its cost:
-    the states it really meets (`counts`, exact), the tables they hold, and the pairs."""
+    the states it really meets (`counts`, exact), its moves (estimated) and tables."""
     states, widest = float(counts.sum()), float(counts.max())
     if widest > MAX_STAGE_STATES or not np.isfinite(states):
         return Candidate(algorithm, words, True, float("inf"), float("inf"), feasible=False,
@@ -144,27 +144,38 @@ def network_candidate(t, counts, statistic, words: str = NETWORK_WORDS,
     arrangements = 0.0
     if states <= LAYOUT_STATES:
         arrangements = tables_with_margins(rows, cols, integer)
-    ops = network_ops(t, states, arrangements, statistic)
-    memory = states * 64.0 + min(ops * 0.2, 4.0 * MAX_ENTRIES * 24.0) + 2e6
+    moves = estimated_moves(rows, cols, counts)
+    compiled = compiled_route(integer)
+    ops = network_ops(moves, arrangements or states ** 1.5, statistic, compiled)
+    memory = (moves * 16.0 + states * 48.0 if compiled else states * 64.0)
+    memory += min(ops * 0.2, 4.0 * MAX_ENTRIES * 24.0) + 2e6
     note = f"{_count_words(states)} states"
     return Candidate(algorithm, words, True, ops, memory, note=note, arrangements=arrangements)
+
+
+def estimated_moves(rows, cols, counts) -> float:
+    """Moves of the network: at each stage, the states times about half the range of the
+    cell (within a factor of about 2 of the count, `tests/test_table_routes.py`)."""
+    per = len(rows) - 1
+    return float(sum(counts[s] * (min(rows[s % per], cols[s // per]) / 2.0 + 1.0)
+                     for s in range(len(counts) - 1)))
 
 
 def _count_words(v: float) -> str:
     return f"{int(v):,}" if v < 1e7 else f"{v:.3g}"
 
 
-def network_ops(t, states, arrangements, statistic) -> float:
-    """Estimated work of the network: laying it out and the bounds (per state and move), and
-    the forward pass, which grows like the square root of the number of tables (an empirical
+def network_ops(moves, tables, statistic, compiled: bool = False) -> float:
+    """Estimated work of the network: laying it out and the bounds (per move), and the pass
+    over the pairs, which grows like the square root of the number of tables (an empirical
     fit on this class of machine, `bench/calibrate.py`); Pearson's X^2 settles fewer pairs
-    early and costs about twice as much."""
-    rows, cols = t.sum(axis=1), t.sum(axis=0)
-    per_state = float(np.mean(np.minimum.outer(rows, cols))) + 1.0
-    ops = states * per_state * 30.0
-    tables = arrangements if arrangements > 0 else states ** 2
+    early and costs about twice as much; the compiled pass for integer statistics about a
+    quarter."""
     factor = 2.0 if statistic == "chi-square" else 1.0
-    return ops + factor * 1.0e4 * float(np.sqrt(max(tables, 1.0)))
+    if compiled:
+        factor *= 0.25
+    return moves * 30.0 * (0.3 if compiled else 1.0) + factor * 1.0e4 * float(
+        np.sqrt(max(tables, 1.0)))
 
 
 @lru_cache(maxsize=4)
