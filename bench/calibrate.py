@@ -24,7 +24,7 @@ from permq.bind.binder import bind  # noqa: E402
 from permq.bind.common import Catalog, Defaults  # noqa: E402
 from permq.data.tables import Table  # noqa: E402
 from permq.engine.core.progress import NO_PROGRESS  # noqa: E402
-from permq.families import handler_for  # noqa: E402
+from permq.families.registry import family_for  # noqa: E402
 from permq.plan import cost  # noqa: E402
 from permq.syntax import parse_statement  # noqa: E402
 
@@ -75,7 +75,7 @@ def measure(item, rng):
     catalog = Catalog(tables, "d" if tables else None)
     defaults = Defaults(budget_seconds=60.0)
     design = bind(parse_statement(text), catalog, defaults)
-    handler = handler_for(design)
+    handler = family_for(design)
     plan = handler.plan(design)
     raw = cost.calibration()
     factor = raw.get((plan.engine, plan.chosen.algorithm), 1.0)

@@ -1,6 +1,8 @@
 """Speed targets beside scipy on the same data, in one process. Not part of the test run.
 
     python bench/run.py            # print the table
+    python bench/run.py --process  # also each statement in a fresh process, and the
+                                   # start-up, first-call and steady figures (bench/process.py)
     python bench/run.py --readme   # also write it into README.md's performance section
 
 Data are generated with fixed seeds (benchmark inputs, not checks). Each case is timed through
@@ -21,6 +23,22 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 import permq  # noqa: E402
+
+import process  # noqa: E402  (bench/process.py)
+
+# statement and tables of each result the benchmark got, for its whole-process column
+_RAN: dict = {}
+_run_in_process = permq.run
+
+
+def _recorded_run(text, tables=None, **kw):
+    out = _run_in_process(text, tables=tables, **kw)
+    if out and not kw.get("cluster"):
+        _RAN[id(out[0])] = (out[0], text, tables)
+    return out
+
+
+permq.run = _recorded_run
 
 
 def lst(a) -> str:
@@ -280,9 +298,11 @@ def many_cases(repeat=3):
     return rows
 
 
-def table(rows) -> str:
+def table(rows, whole=False) -> str:
     out = ["| design | permq | target | met | explain predicted | reference set | beside scipy |",
            "|---|---|---|---|---|---|---|"]
+    if whole:
+        out = [out[0].replace("| permq |", "| permq | whole process |"), out[1] + "---|"]
     for name, t, target, r, note in rows:
         o = getattr(r, "outcome", None)
         if o is None:
@@ -293,7 +313,12 @@ def table(rows) -> str:
         extra = getattr(r, "extra", {}) or {}
         predicted = extra.get("estimated_seconds")
         pred = f"{predicted:.3g} s ({t / predicted:.2g}x)" if predicted else "-"
-        out.append(f"| {name} | {t:.3f} s | < {target:g} s | {'yes' if t < target else 'NO'} "
+        cell = ""
+        if whole:
+            ran = _RAN.get(id(r))
+            cell = (f" {process.whole_process_seconds(ran[1], ran[2]):.3f} s |" if ran
+                    else " - |")
+        out.append(f"| {name} | {t:.3f} s |{cell} < {target:g} s | {'yes' if t < target else 'NO'} "
                    f"| {pred} | {ref} | {note} |")
     return "\n".join(out)
 
@@ -301,8 +326,18 @@ def table(rows) -> str:
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--readme", action="store_true")
+    ap.add_argument("--process", action="store_true",
+                    help="also time every statement, and start-up, in fresh processes")
+    ap.add_argument("--python", default=sys.executable,
+                    help="the interpreter of the whole-process runs (one with permq installed)")
     args = ap.parse_args()
-    text = table(cases())
+    text = table(cases(), whole=args.process)
+    if args.process:
+        text += ("\n\nStart-up, the first call and the steady state, each process timed from "
+                 "outside (`bench/run.py --process`; the in-process column above is the best "
+                 "of a few runs in one warm process, the whole-process one `permq run` on the "
+                 "statement, its tables loaded from CSV, best of two):\n\n"
+                 + process.table(process.figures(args.python)))
     print(text)
     if args.readme:
         readme = ROOT / "README.md"

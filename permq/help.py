@@ -25,7 +25,9 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   count sprouted by dose in plots ordered             trend (linear-by-linear)
   count [[9, 1], [3, 7]]                              Fisher's exact test, conditional odds ratio
   count first vs second paired                        McNemar's exact test (your two yes/no columns)
-  count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval""",
+  count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval
+  count sprouted by dose in plots levels "40", "0"    choose the arms; the last named is the reference
+  count [[9, 1], [3, 7]] rows "treated", "control" columns "better", "same"   name an inline table""",
     "many": """several responses or comparisons at once, permuted together
   compare mass, light by recipe levels "A", "B" adjust max-t step-down
   compare every numeric except tray by recipe adjust max-t
@@ -33,14 +35,6 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   compare value by recipe for each marker adjust fdr top 20   (your long table: a marker column)
 adjustments: holm, fdr (Benjamini-Hochberg), max-t, min-p [single-step | step-down], none
 filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scale out""",
-    "families": """test families (after 'using')
-  means          difference in means (two samples) or mean difference (paired), by permutation
-  ranks          Wilcoxon rank-sum / signed-rank with mid-ranks
-  normal-scores  van der Waerden normal scores (two samples)
-  medians        Mood's median test (two samples)
-  signs          the sign test (paired, one sample)
-  pearson, spearman, kendall, slope                   (relate)
-  fisher, chi-square, likelihood-ratio, trend         (count)""",
     "options": """options follow the statement, in any order
   using FAMILY                   statistic family (help families)
   alternative two-sided|higher|lower   'higher' means the effect named is positive
@@ -66,10 +60,11 @@ every result also carries diagnostics: skewness, largest residual, spread ratio"
   set seed 11 | set confidence 90% | set alternative higher | set budget 5s | set format json
   explain STATEMENT              the plan and its cost; nothing is run
   save "file.pq"                 write what ran as a query file that replays
+  save report "report.html"      an HTML report: results, pictures, methods, data files, seeds
+  copy                           the last result's reporting sentence, ready to copy
+  set format sentences           one reporting sentence per result
   quit""",
 }
-TOPICS["ranks"] = TOPICS["families"]
-TOPICS["means"] = TOPICS["families"]
 TOPICS["set"] = TOPICS["session"]
 TOPICS["load"] = TOPICS["session"]
 TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
@@ -78,15 +73,70 @@ TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
 
 
+def topics() -> list[str]:
+    """Every help topic: the pages above, `families`, and one page per family word."""
+    from .families.registry import keywords
+
+    return sorted(set(TOPICS) | {"families"} | set(keywords()))
+
+
 def help_text(topic) -> str:
     if topic is None:
         return ("permq: exact permutation and rank tests beside their normal-theory counterparts\n"
-                "topics: " + ", ".join(sorted(k for k in TOPICS)) + "\n\n" + TOPICS["compare"])
+                "topics: " + ", ".join(topics()) + "\n\n" + TOPICS["compare"])
     topic = str(topic).lower()
     if topic in TOPICS:
         return TOPICS[topic]
+    if topic == "families":
+        return families_page()
+    from .families.registry import keywords
+
+    if topic in keywords():
+        return family_page(topic)
     import difflib
 
-    close = difflib.get_close_matches(topic, list(TOPICS), n=1)
+    close = difflib.get_close_matches(topic, topics(), n=1)
     hint = f" (did you mean '{close[0]}'?)" if close else ""
-    return f"no help on '{topic}'{hint}; topics: " + ", ".join(sorted(TOPICS))
+    return f"no help on '{topic}'{hint}; topics: " + ", ".join(topics())
+
+
+def families_page() -> str:
+    """`help families`: every word `using` takes, with the designs it applies to (registry)."""
+    from .families import registry
+
+    lines = ["test families (after 'using'); 'help WORD' tells more of one"]
+    for verb in ("compare", "relate", "count"):
+        words = registry.for_verb(verb)
+        lines.append(f"  {verb}:")
+        for w in words:
+            lines.append(f"    {w:<17} {_summary(w)}")
+    lines.append("the default, where 'using' is left out:")
+    for name, kind in registry.kinds().items():
+        if registry.for_kind(name):
+            lines.append(f"    {kind.words + ':':<30} {registry.default(name).title}")
+    return "\n".join(lines)
+
+
+def family_page(word: str) -> str:
+    """`help ranks`: what the word means for each design, with counterpart and estimate."""
+    from .families import registry
+
+    lines = [f"using {word}: {_summary(word)}"]
+    for f in registry.families():
+        if f.keyword != word:
+            continue
+        kinds = ", ".join(registry.kind(k).words for k in f.kinds)
+        lines.append(f"  {kinds}: {f.title}")
+        lines.append(f"    beside it: {f.normal}")
+        if f.estimate:
+            lines.append(f"    estimate: {f.estimate}")
+        if f.help:
+            lines.extend("    " + line for line in f.help.splitlines())
+    return "\n".join(lines)
+
+
+def _summary(word: str) -> str:
+    from .families import registry
+
+    return next((f.summary for f in registry.families() if f.keyword == word and f.summary),
+                next(f.title for f in registry.families() if f.keyword == word))

@@ -309,10 +309,8 @@ def test_routes_match_the_engines_they_stand_in_for():
                     lt.run(v, g, alt, "dp-counts", scores=doses).p_value, rel=1e-10)
             if k == 2:
                 x, y = v[g == 0], v[g == 1]
-                a = twosample.run("ranks", x, y, alt, R.TABLE, 0.95)[0]
                 b = twosample.run("ranks", x, y, alt, "dp-integer", 0.95)[0]
-                assert a.p_value == pytest.approx(b.p_value, rel=1e-10)
-                assert a.statistic == b.statistic
+                assert R.rank_sum(x, y, alt)[0] == pytest.approx(b.p_value, rel=1e-10)
 
 
 def test_rank_sum_route_against_scipy_permutations():
@@ -326,7 +324,7 @@ def test_rank_sum_route_against_scipy_permutations():
         ref = stats.permutation_test(
             (ranks[:n1], ranks[n1:]), lambda a, b, axis: np.abs(a.sum(axis) - center),
             permutation_type="independent", n_resamples=10**6, alternative="greater")
-        got = twosample.run("ranks", x, y, "two-sided", R.TABLE, 0.95)[0].p_value
+        got = R.rank_sum(x, y, "two-sided")[0]
         assert got == pytest.approx(ref.pvalue, rel=1e-9)
 
 
@@ -345,13 +343,34 @@ def test_kendall_route_against_brute_force_permutations():
         assert got.statistic == pytest.approx(s0, rel=1e-12)
 
 
+def _samples(x, y):
+    return " vs ".join("[" + ", ".join(f"{v:g}" for v in a) + "]" for a in (x, y))
+
+
 def test_routes_are_candidates_only_for_few_categories():
     x = np.arange(20.0)
-    assert R.TABLE not in {c.algorithm for c in twosample.candidates("ranks", x[:10], x[10:],
-                                                                     1000)}
+    assert "2 groups x categories" not in permq_explain(
+        f"compare {_samples(x[:10], x[10:])} using ranks")
     v = np.tile([1.0, 2.0, 3.0], 10)
-    names = {c.algorithm for c in twosample.candidates("ranks", v[:15], v[15:], 1000)}
-    assert R.TABLE in names
+    assert "2 groups x categories" in permq_explain(
+        f"compare {_samples(v[:15], v[15:])} using ranks")
+    # the rank-sum family declares the route; means never takes it
+    assert "2 groups x categories" not in permq_explain(f"compare {_samples(v[:15], v[15:])}")
+
+
+def test_rank_sum_route_through_the_family_reports_the_engines_statistic(monkeypatch):
+    # the engine's own exact methods withheld, so the family runs the table network
+    real = twosample.candidates
+    monkeypatch.setattr(twosample, "candidates", lambda *a: [
+        c for c in real(*a) if c.algorithm not in ("dp-integer", "enumeration")])
+    rng = np.random.default_rng(19)
+    x, y = rng.integers(1, 5, 14).astype(float), rng.integers(2, 6, 12).astype(float)
+    for alt in ALTS:
+        got = result_of(f"compare {_samples(x, y)} using ranks alternative {alt}").outcome
+        want = twosample.run("ranks", x, y, alt, "dp-integer", 0.95)[0]
+        assert got.method == "exact" and "2 groups x categories" in got.algorithm
+        assert got.statistic == want.statistic and got.arrangements == want.arrangements
+        assert got.p_value == pytest.approx(want.p_value, rel=1e-10)
 
 
 # ---------------------------------------------------------------- ordinal data, 4 x 4, n = 100

@@ -8,7 +8,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import BindError, MultipleErrors, Span
 from ..syntax import nodes as n
@@ -38,22 +38,32 @@ class Catalog:
 
 # ---------------------------------------------------------------- settings
 
-def settings_for(node, opts: dict, defaults: Defaults, allowed_families: tuple,
-                 default_family: str, form: str, allowed_options: tuple) -> Settings:
+def settings_for(node, opts: dict, defaults: Defaults, kind: str, form: str,
+                 allowed_options: tuple) -> Settings:
+    """The statement's settings for a design of `kind` (families.registry.kinds()); `form` names
+    the design in messages ("two groups", "two samples")."""
+    from ..families import registry
+
+    family_options = {o for f in registry.for_kind(kind) for o in f.options}
     for key, opt in opts.items():
-        if key not in allowed_options and key not in ("using", "alternative", "confidence",
-                                                      "exact", "sampled", "seed", "in",
-                                                      "picture"):
+        if key not in allowed_options and key not in family_options and key not in (
+                "using", "alternative", "confidence", "exact", "sampled", "seed", "in",
+                "picture"):
             raise BindError(f"'{key}' does not apply to {form}", opt.span,
                             hint=_option_hint(key))
     if "picture" in opts:
         check_picture(opts["picture"])
-    family = default_family
+    chosen = registry.default(kind)
     if "using" in opts:
-        family = opts["using"].value
-        if family not in allowed_families:
-            raise BindError(f"'{family}' is not a test family for {form}", opts["using"].span,
-                            hint="choose one of " + ", ".join(allowed_families))
+        chosen = registry.find(kind, opts["using"].value)
+        if chosen is None or not chosen.selectable:
+            raise _not_a_family(opts["using"], kind, form)
+    for key in sorted(family_options - set(chosen.options)):
+        if key in opts:
+            takers = [f.keyword for f in registry.for_kind(kind) if key in f.options]
+            raise BindError(f"'{_OPTION_WORDS.get(key, key)}' goes with {' or '.join(takers)}",
+                            opts[key].span, hint=f"add: using {takers[0]}")
+    family = chosen.keyword
     level = defaults.confidence
     if "confidence" in opts:
         level = confidence_value(opts["confidence"].value, opts["confidence"].span)
@@ -69,9 +79,29 @@ def settings_for(node, opts: dict, defaults: Defaults, allowed_families: tuple,
             raise BindError("'sampled' is limited to 1,000,000,000 draws", opts["sampled"].span)
     seed = opts["seed"].value if "seed" in opts else defaults.seed
     alternative = opts["alternative"].value if "alternative" in opts else defaults.alternative
-    return Settings(family=family, alternative=alternative, level=level,
+    return Settings(family=family, kind=kind, alternative=alternative, level=level,
                     exact="exact" in opts, sampled=sampled, seed=seed,
                     budget_seconds=defaults.budget_seconds, memory_bytes=defaults.memory_bytes)
+
+
+_OPTION_WORDS = {"adjusting": "adjusting for"}
+
+
+def _not_a_family(opt, kind: str, form: str) -> BindError:
+    """'ranks' is not a test family for ...: the families of this kind, or where the word fits."""
+    from ..families import registry
+
+    word = opt.value
+    allowed = [f.keyword for f in registry.for_kind(kind) if f.selectable]
+    # where the word fits this statement with one more option ('trend' once 'ordered' is added)
+    elsewhere = [k for k in registry.kinds_of(word) if registry.kind(k).verb ==
+                 registry.kind(kind).verb and registry.kind(k).how.startswith("add ")]
+    hint = "choose one of " + ", ".join(allowed) if allowed else (
+        f"{form} has one test, {registry.default(kind).title}: drop 'using'")
+    if elsewhere:
+        hint = f"'{word}' applies to {registry.kind(elsewhere[0]).words}: " \
+               f"{registry.kind(elsewhere[0]).how}"
+    return BindError(f"'{word}' is not a test family for {form}", opt.span, hint=hint)
 
 
 def confidence_value(value, span: Optional[Span]) -> float:

@@ -13,7 +13,8 @@ import numpy as np
 
 @dataclass(frozen=True)
 class Settings:
-    family: str
+    family: str              # the word after `using` (or the kind's default family)
+    kind: str = ""           # the design kind it was bound as (families.registry.kinds())
     alternative: str = "two-sided"
     level: float = 0.95
     exact: bool = False

@@ -16,9 +16,6 @@ import numpy as np
 from ..errors import BindError
 from .designs import GroupsDesign
 
-K_SAMPLE_FAMILIES = ("means", "ranks", "normal-scores", "medians")
-ORDERED_FAMILIES = ("means", "ranks")
-BLOCKED_FAMILIES = ("means", "ranks")
 
 
 def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, table):
@@ -33,17 +30,17 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
             blocks = blocks[keep]
     within = blocks is not None
     if within:
-        family_set, form, kind = BLOCKED_FAMILIES, "blocked designs", "blocked"
+        form, kind = "blocked designs", "blocked"
+        registry_kind = ("stratified" if len(levels) == 2 else
+                         "ordered-blocked" if ordered else "blocked")
     elif ordered:
-        family_set, form, kind = ORDERED_FAMILIES, "ordered groups", "ordered"
+        form, kind = "ordered groups", "ordered"
+        registry_kind = kind
     else:
-        family_set, form, kind = K_SAMPLE_FAMILIES, "three or more groups", "k-sample"
+        form, kind = "three or more groups", "k-sample"
+        registry_kind = kind
     allowed = ("levels", "within", "ordered", "scores")
-    default_family = "ranks" if within and len(levels) > 2 and not ordered else "means"
-    s = settings_for(node, opts, defaults, family_set, default_family, form, allowed)
-    if ordered and within and len(levels) > 2 and s.family != "ranks":
-        raise BindError("an ordered comparison within blocks uses Page's test",
-                        opts["ordered"].span, hint="add: using ranks")
+    s = settings_for(node, opts, defaults, registry_kind, form, allowed)
     if not ordered and len(levels) > 2 and s.alternative != "two-sided":
         raise BindError(f"a comparison of {len(levels)} groups has no direction",
                         opts["alternative"].span if "alternative" in opts else node.span,
@@ -78,10 +75,8 @@ def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
     if "ordered" in opts and opts["ordered"].value:
         raise BindError("inline samples are ordered as written; write just 'ordered'",
                         opts["ordered"].span)
-    family_set = ORDERED_FAMILIES if ordered else K_SAMPLE_FAMILIES
-    s = settings_for(node, opts, defaults, family_set, "means",
-                     "ordered samples" if ordered else "three or more samples",
-                     ("ordered", "scores"))
+    s = settings_for(node, opts, defaults, "ordered" if ordered else "k-sample",
+                     "ordered samples" if ordered else "three or more samples", ("ordered", "scores"))
     if not ordered and s.alternative != "two-sided":
         raise BindError(f"a comparison of {len(samples)} samples has no direction",
                         opts["alternative"].span, hint="drop 'alternative', or add 'ordered'")

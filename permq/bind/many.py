@@ -10,13 +10,12 @@ dropped without a word.
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import BindError
 from ..syntax import nodes as n
 from .designs import ManyDesign
 
-MANY_FAMILIES = ("means", "ranks")
 MANY_OPTIONS = ("levels", "adjust", "pairwise", "for_each", "top", "below")
 MIN_PER_GROUP = 2          # values each group needs for a response to be tested
 SHOWN_NAMES = 10
@@ -39,7 +38,7 @@ def bind_many(node, subject, opts, catalog, defaults) -> ManyDesign:
     check_columns(table, wanted)
     form = ("pairwise comparisons" if "pairwise" in opts else
             "'for each'" if "for_each" in opts else "several responses")
-    s = settings_for(node, opts, defaults, MANY_FAMILIES, "means", form, MANY_OPTIONS)
+    s = settings_for(node, opts, defaults, "many", form, MANY_OPTIONS)
     adjustment, step = _adjustment(opts)
     top, below = _filters(opts)
     frame = table.frame

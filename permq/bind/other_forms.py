@@ -2,15 +2,12 @@
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import BindError
 from ..syntax import nodes as n
 from .designs import AssociationDesign, TableDesign
 
-ASSOCIATION_FAMILIES = ("pearson", "spearman", "kendall", "slope")
-TABLE_FAMILIES = ("fisher", "chi-square", "likelihood-ratio", "trend")
-PAIRED_TABLE_FAMILIES = ("fisher",)
 MAX_TABLE_CELLS = 400
 
 
@@ -18,13 +15,9 @@ def bind_relate(node: n.Relate, catalog, defaults):
     from .common import check_columns, dropped_warning, numeric_column, resolve_table, settings_for
 
     opts = n.options_of(node)
-    s = settings_for(node, opts, defaults, ASSOCIATION_FAMILIES, "pearson", "an association",
-                     ("adjusting",))
+    s = settings_for(node, opts, defaults, "association", "an association", ())
     table = resolve_table(opts, catalog, node.span)
     covs = list(opts["adjusting"].value) if "adjusting" in opts else []
-    if covs and s.family != "slope":
-        raise BindError("'adjusting for' goes with the slope", opts["adjusting"].span,
-                        hint="add: using slope")
     check_columns(table, [node.response, node.predictor] + covs)
     cols = [numeric_column(table, c) for c in [node.response, node.predictor] + covs]
     frame = pd.concat(cols, axis=1, keys=range(len(cols)))
@@ -51,7 +44,7 @@ def bind_count(node: n.Count, catalog, defaults):
     opts = n.options_of(node)
     sub = node.subject
     if isinstance(sub, n.CountProportion):
-        s = settings_for(node, opts, defaults, ("binomial",), "binomial", "one proportion", ())
+        s = settings_for(node, opts, defaults, "proportion", "one proportion", ())
         if sub.trials == 0 or sub.successes > sub.trials:
             raise BindError(f"{sub.successes} of {sub.trials} is not a proportion", sub.span)
         ref = 0.5 if sub.value is None else float(sub.value)
@@ -67,16 +60,11 @@ def bind_count(node: n.Count, catalog, defaults):
     return _crosstab(node, sub, opts, defaults, catalog)
 
 
-def _table_settings(node, opts, defaults, ordered):
+def _table_settings(node, opts, defaults, ordered, extra=()):
     from .common import settings_for
 
-    default = "trend" if ordered else "fisher"
-    s = settings_for(node, opts, defaults, TABLE_FAMILIES, default, "a table",
-                     ("ordered", "scores"))
-    if s.family == "trend" and not ordered:
-        raise BindError("the trend statistic needs an order", opts["using"].span,
-                        hint="add 'ordered' (rows and columns in the order given)")
-    return s
+    kind = "ordered-table" if ordered else "table"
+    return settings_for(node, opts, defaults, kind, "a table", ("ordered",) + extra)
 
 
 def _check_shape(t, span):
@@ -102,8 +90,10 @@ def _inline_table(node, sub, opts, defaults):
     if ordered and opts["ordered"].value:
         raise BindError("an inline table is ordered as written; write just 'ordered'",
                         opts["ordered"].span)
-    s = _table_settings(node, opts, defaults, ordered)
+    s = _table_settings(node, opts, defaults, ordered, ("rows", "columns", "scores"))
     r, c = t.shape
+    rows = _labels(opts.get("rows"), r, "row", "rows")
+    cols = _labels(opts.get("columns"), c, "column", "columns")
     u, v = np.arange(1.0, r + 1), np.arange(1.0, c + 1)
     warnings = ()
     if "scores" in opts:
@@ -120,10 +110,24 @@ def _inline_table(node, sub, opts, defaults):
                     "order written",)
     elif ordered:
         warnings = ("trend scores: rows and columns 1..k in the order written",)
-    return TableDesign(t, tuple(f"row {i + 1}" for i in range(r)),
-                       tuple(f"column {j + 1}" for j in range(c)), s, "table", ordered,
-                       warnings=warnings, row_scores=tuple(u) if ordered else None,
+    return TableDesign(t, rows, cols, s, "table", ordered, warnings=warnings,
+                       row_scores=tuple(u) if ordered else None,
                        col_scores=tuple(v) if ordered else None)
+
+
+def _labels(opt, size: int, word: str, plural: str) -> tuple:
+    """`rows "treated", "control"` / `columns "yes", "no"`: names for an inline table's rows
+    or columns, one each, no repeats."""
+    if opt is None:
+        return tuple(f"{word} {i + 1}" for i in range(size))
+    names = [text for text, _ in opt.value]
+    if len(names) != size:
+        raise BindError(f"the table has {size} {plural}; '{opt.key}' names {len(names)}",
+                        opt.span, hint=f"give {size} names")
+    for i, (text, span) in enumerate(opt.value):
+        if text in names[:i]:
+            raise BindError(f"\"{text}\" names two {plural}", span)
+    return tuple(names)
 
 
 def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
@@ -137,32 +141,48 @@ def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
     numeric = (pd.api.types.is_numeric_dtype(a), pd.api.types.is_numeric_dtype(b))
     a, b = a[keep].map(level_text), b[keep].map(level_text)
     ordered = "ordered" in opts
+    s = _table_settings(node, opts, defaults, ordered, ("levels", "scores"))
+    chosen = None
+    if "levels" in opts:        # the arms: choose and order the `by` column's levels
+        from .common import chosen_levels as _chosen_levels
+
+        present = sorted(set(b), key=_natural)
+        chosen = _chosen_levels(opts["levels"], present, sub.columns.text)
+        inside = b.isin(chosen)
+        if (~inside).sum():
+            warnings += (f"left out {int((~inside).sum())} row"
+                         f"{'s' if (~inside).sum() != 1 else ''} at levels not named in "
+                         f"'levels'",)
+        a, b = a[inside], b[inside]
     if "scores" in opts and not ordered:
         raise BindError("'scores' go with 'ordered'", opts["scores"].span,
                         hint="add 'ordered' (and the order of the levels, unless numeric)")
     scores = (None, None)
     if ordered:
-        a, b, row_levels, col_levels, scores, more = _order_crosstab(sub, opts, a, b, numeric)
+        a, b, row_levels, col_levels, scores, more = _order_crosstab(sub, opts, a, b, numeric,
+                                                                     chosen)
         warnings += more
     ct = pd.crosstab(a, b)
     if ordered:
         ct = ct.reindex(index=row_levels, columns=col_levels, fill_value=0)
+    elif "levels" in opts:
+        ct = ct[[c for c in chosen if c in ct.columns]]
     t = ct.to_numpy(np.int64)
     _check_shape(t, sub.span)
-    s = _table_settings(node, opts, defaults, ordered)
     return TableDesign(t, tuple(map(str, ct.index)), tuple(map(str, ct.columns)), s, "table",
                        ordered, names=(sub.rows.text, sub.columns.text), warnings=warnings,
                        row_scores=scores[0], col_scores=scores[1])
 
 
-def _order_crosstab(sub, opts, a, b, numeric):
+def _order_crosstab(sub, opts, a, b, numeric, chosen=None):
     """The order and the trend scores of both variables of an ordered table.
 
     A listed order (`ordered "control" < "low" < ...`) names the levels of one of the two
     variables, in that order (rows with other levels are left out) and scores them 1..k; the
     other variable, and an unlisted one, go by their values when numeric (scores: the values),
     else in natural text order (scores 1..k). `scores` set the scores of the listed variable
-    (of the columns when none is listed)."""
+    (of the columns when none is listed). Levels chosen with `levels` are a listed order of
+    the columns."""
     from .common import chosen_levels
 
     names = (sub.rows.text, sub.columns.text)
@@ -179,6 +199,8 @@ def _order_crosstab(sub, opts, a, b, numeric):
             a, b = a[keep], b[keep]
             warnings += (f"{dropped} row{'s' if dropped != 1 else ''} with other levels of "
                          f"'{names[listed]}' left out",)
+    elif chosen is not None:
+        listed, levels[1] = 1, list(chosen)
     scores, how = [], []
     for side in (0, 1):
         if side == listed:
@@ -241,7 +263,7 @@ def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
         raise BindError("two columns of outcomes are compared as pairs", sub.span,
                         hint=f"write: count {sub.first.text} vs {sub.second.text} paired, or "
                              f"count {sub.first.text} by {sub.second.text} for a table")
-    s = settings_for(node, opts, defaults, ("fisher",), "fisher", "paired outcomes", ("paired",))
+    s = settings_for(node, opts, defaults, "paired-table", "paired outcomes", ("paired",))
     table = resolve_table(opts, catalog, sub.span)
     check_columns(table, [sub.first, sub.second])
     a, b = table.frame[sub.first.text], table.frame[sub.second.text]

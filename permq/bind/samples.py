@@ -10,10 +10,6 @@ from .common import (Catalog, Defaults, check_columns, chosen_levels, dropped_wa
                      settings_for)
 from .designs import OneSampleDesign, TwoSampleDesign
 
-TWO_SAMPLE_FAMILIES = ("means", "ranks", "normal-scores", "medians")
-ONE_SAMPLE_FAMILIES = ("means", "ranks", "signs")
-
-
 def bind_compare(node: n.Compare, catalog: Catalog, defaults: Defaults):
     opts = n.options_of(node)
     subject = node.subject
@@ -70,7 +66,7 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
     if len(levels) > 2 or "within" in opts or "ordered" in opts:
         return grouped_forms.bind_groups(node, subject, opts, defaults, y, g, levels, blocks,
                                          warnings, table)
-    s = settings_for(node, opts, defaults, TWO_SAMPLE_FAMILIES, "means", "two groups",
+    s = settings_for(node, opts, defaults, "two-sample", "two groups",
                      ("levels",))
     a, b = levels
     x1 = y[g == a].to_numpy(float)
@@ -104,7 +100,7 @@ def bind_samples(node, operands, opts, catalog, defaults):
             raise BindError("this sample has no values", op.span)
     if len(samples) > 2:
         return grouped_forms.bind_inline_groups(node, opts, defaults, samples, labels, warnings)
-    s = settings_for(node, opts, defaults, TWO_SAMPLE_FAMILIES, "means", "two samples", ())
+    s = settings_for(node, opts, defaults, "two-sample", "two samples", ())
     return TwoSampleDesign(samples[0], samples[1], tuple(labels), "values",
                            f"{labels[0]} - {labels[1]}", s, warnings)
 
@@ -117,7 +113,7 @@ def bind_paired(node, operands, opts, catalog, defaults):
     if len(operands) != 2:
         raise BindError("'paired' compares exactly two columns or lists", node.subject.span)
     a, b = operands
-    s = settings_for(node, opts, defaults, ONE_SAMPLE_FAMILIES, "means", "paired data",
+    s = settings_for(node, opts, defaults, "paired", "paired data",
                      ("paired",))
     warnings = ()
     if isinstance(a, n.ListOperand) and isinstance(b, n.ListOperand):
@@ -153,7 +149,7 @@ def bind_one_sample(node, operands, opts, catalog, defaults):
     if "paired" in opts:
         raise BindError("'paired' needs two columns; against a value the test is one-sample",
                         opts["paired"].span)
-    s = settings_for(node, opts, defaults, ONE_SAMPLE_FAMILIES, "means", "one sample", ())
+    s = settings_for(node, opts, defaults, "one-sample", "one sample", ())
     warnings = ()
     if isinstance(first, n.ListOperand):
         x = finite_array(first.values, "this list", first.span)

@@ -9,7 +9,7 @@ import re
 from dataclasses import dataclass
 from pathlib import Path
 
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import DataError, Span
 

@@ -1,29 +1,10 @@
-"""Families: each joins a design to its engine, its normal-theory counterpart and its estimate.
+"""Test families: each declares itself once in `registry` (its keyword, kinds, plan, execute,
+counterpart, estimate, robustness form, help), in a module of this package of its own.
 
-A family module offers `plan(design) -> Plan` and `execute(design, plan, progress) -> Result`.
-`handler_for(design)` picks the module by the design's type. To add a family, write an engine
-module (candidates + run), a normal-theory function, and a family module here; register it in
-HANDLERS.
+    registry.py     the declarations' shape, the list of declaring modules, lookups
+    two_sample.py   two groups          one_sample.py  paired data, one sample
+    k_sample.py     three or more       ordered.py     ordered groups
+    blocked.py      within blocks       association.py relate
+    tables.py       count               many.py        several tests at once
+    scale.py        two-sample scale tests
 """
-from __future__ import annotations
-
-from ..bind import designs
-from . import association, groups, many, one_sample, tables, two_sample
-
-HANDLERS = {
-    designs.TwoSampleDesign: two_sample,
-    designs.OneSampleDesign: one_sample,
-    designs.GroupsDesign: groups,
-    designs.AssociationDesign: association,
-    designs.TableDesign: tables,
-    designs.ManyDesign: many,
-}
-
-
-def handler_for(design):
-    try:
-        return HANDLERS[type(design)]
-    except KeyError:
-        from ..errors import PlanError
-
-        raise PlanError(f"{design.kind} analyses are not available in this version") from None

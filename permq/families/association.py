@@ -1,11 +1,14 @@
 """Association and slopes: permutation tests of correlation and regression slopes."""
 from __future__ import annotations
 
-from ..engine import association
+from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
-from ..normal.association import normal_theory
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
+from .registry import Family
+
+association = module("permq.engine.association")  # loaded when a statement first runs
+normal_association = module("permq.normal.association")
 
 WORDS = {"pearson": "Pearson correlation", "spearman": "Spearman correlation (mid-ranks)",
          "kendall": "Kendall's tau", "slope": "slope"}
@@ -24,8 +27,8 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     out, est = association.run_with_estimate(
         s.family, design.y, design.x, s.alternative, the_plan.chosen.algorithm, s.level,
         the_plan.draws, the_plan.seed, progress, design.covariates)
-    normals = normal_theory(s.family, design.y, design.x, s.alternative, s.level,
-                            design.covariates)
+    normals = normal_association.normal_theory(s.family, design.y, design.x, s.alternative,
+                                               s.level, design.covariates)
     adjusted = f", adjusted for {', '.join(design.covariate_names)}" if design.covariate_names else ""
     effect = f"{WORDS[s.family]} of {y_name} with {x_name}{adjusted}"
     if s.family == "slope":
@@ -45,3 +48,53 @@ def _median(v):
     import numpy as np
 
     return np.median(v)
+
+
+def _spearman_weights(design):
+    from ..engine.core.scores import midranks
+
+    rx = midranks(design.x)
+    return rx - rx.mean()
+
+
+def _check(form, scores, counterpart, normal_p, reported, weights=None):
+    def check(design):
+        from ..robustness import counterparts, reported as rep, scoring
+        from ..robustness.spec import Check
+
+        if design.covariates is not None:     # the adjusted slope: residual permutation
+            return Check("residual", scoring.residuals,
+                         "least-squares t test of the slope adjusted for covariates",
+                         counterparts.adjusted_slope_t, rep.as_is)
+        return Check(form, getattr(scoring, scores), counterpart, getattr(counterparts, normal_p),
+                     getattr(rep, reported), weights=weights)
+    return check
+
+
+def _declare(keyword, title, summary, normal, estimate, robustness, **more):
+    return Family(keyword, ("association",), title, summary, plan, execute, normal, estimate,
+                  robustness=robustness, **more)
+
+
+FAMILIES = [
+    _declare("pearson", "permutation test of Pearson's correlation", "Pearson correlation",
+             "t test of Pearson's r", "sample correlation (no permutation interval)",
+             _check("linear", "values", "t test of Pearson's r", "slope_t", "correlation"),
+             default_in=("association",)),
+    _declare("spearman", "permutation test of Spearman's rho (mid-ranks)",
+             "Spearman rank correlation", "t approximation for Spearman's rho",
+             "sample rank correlation (no permutation interval)",
+             _check("linear", "ranks", "t approximation for Spearman's rho", "slope_t",
+                    "correlation", weights=_spearman_weights)),
+    _declare("kendall", "Kendall's tau (tau-b with ties), exact by counting inversions",
+             "Kendall's tau", "normal approximation for Kendall's S",
+             "sample tau (no permutation interval)",
+             _check("pairs", "values", "normal approximation for Kendall's S", "kendall_z",
+                    "kendall_tau")),
+    _declare("slope", "permutation test of the least-squares slope; with covariates, "
+             "Freedman-Lane residual permutation", "least-squares slope",
+             "least-squares t test of the slope (and its HC3 form)",
+             "slope; exact interval by inverting the test (none when adjusted)",
+             _check("linear", "values", "least-squares t test of the slope", "slope_t", "slope"),
+             options=("adjusting",)),
+]

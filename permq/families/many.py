@@ -8,15 +8,19 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
-from ..engine.many import joint as many, estimates as many_estimates
-from ..engine import rankintervals
-from ..engine.many.workers import pool_for
+from ..lazy import module
 from ..errors import PlanError
 from ..normal.theory import two_sample as normal_two_sample
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
+from .registry import Family
+
+# loaded when a statement first runs
+many, many_estimates = module("permq.engine.many.joint"), module("permq.engine.many.estimates")
+rankintervals = module("permq.engine.rankintervals")
+many_workers = module("permq.engine.many.workers")
 
 RULES = {
     ("max-t", "step-down"): "Westfall-Young max-T, step-down, from the joint permutation "
@@ -66,7 +70,7 @@ def execute(design, the_plan, progress, statement: str = "") -> ManyResult:
         rows, names = _pair_rows(design, out), _pair_names(s.family)
         where = "this machine"
     else:
-        pool = pool_for(design.workers, design.cluster)
+        pool = many_workers.pool_for(design.workers, design.cluster)
         out = many.run_family(design.values, design.groups, s.family, s.alternative,
                               design.adjustment, design.step, alg, draws, seed, progress, pool)
         rows, names = _response_rows(design, out), _response_names(design)
@@ -238,3 +242,15 @@ def _overall(design, out) -> dict:
                 "p_value": out.overall["p_value"]}
     return {"test": "Kruskal-Wallis (mid-ranks, tie-corrected)", "statistic": t,
             "p_value": out.overall["p_value"]}
+
+
+FAMILIES = [
+    Family("means", ("many",), "joint permutation tests of differences in means", "",
+           plan, execute, "Welch t per response", "difference in means with its Welch interval",
+           no_robustness="several tests at once: the check takes one response or pair at a time",
+           default_in=("many",)),
+    Family("ranks", ("many",), "joint Wilcoxon rank-sum tests", "", plan, execute,
+           "normal approximation to the rank sum per response",
+           "Hodges-Lehmann shift per response",
+           no_robustness="several tests at once: the check takes one response or pair at a time"),
+]

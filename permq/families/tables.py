@@ -3,18 +3,22 @@ from __future__ import annotations
 
 import dataclasses
 
-from ..engine.tables import (
-    rxc as tables, twobytwo as tables_2x2, paired as tables_paired,
-    proportion as tables_proportion)
-from ..engine.tables.stats import RULES
 from ..errors import BindError
-from ..normal import tables as normal_tables
+from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
+from .registry import Family
 
-RC_NORMAL = {"fisher": normal_tables.pearson_chi_square,
-             "chi-square": normal_tables.pearson_chi_square,
-             "likelihood-ratio": normal_tables.likelihood_ratio}
+# loaded when a statement first runs
+tables, tables_2x2 = module("permq.engine.tables.rxc"), module("permq.engine.tables.twobytwo")
+tables_paired = module("permq.engine.tables.paired")
+tables_proportion = module("permq.engine.tables.proportion")
+table_stats = module("permq.engine.tables.stats")
+normal_tables = module("permq.normal.tables")
+
+# the counterpart of each r x c family, by name in normal/tables.py
+RC_NORMAL = {"fisher": "pearson_chi_square", "chi-square": "pearson_chi_square",
+             "likelihood-ratio": "likelihood_ratio"}
 
 
 def route_of(design) -> str:
@@ -75,6 +79,9 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
         estimate = tables_2x2.odds_ratio(t, s.level, s.alternative)
         effect = (f"odds ratio of '{design.col_labels[0]}' in '{design.row_labels[0]}' "
                   f"against '{design.row_labels[1]}'")
+        if design.names:        # from columns: the arms are the `by` column's levels
+            effect = (f"odds ratio of '{design.row_labels[0]}' in '{design.col_labels[0]}' "
+                      f"against '{design.col_labels[1]}'")
         rule = tables_2x2.TWO_SIDED_RULE
     else:
         u, v = design.row_scores, design.col_scores
@@ -84,14 +91,52 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                                          col_scores=v)
             effect = "a rise of the column order with the row order"
         else:
-            normal = RC_NORMAL[s.family](t)
+            normal = getattr(normal_tables, RC_NORMAL[s.family])(t)
             if s.family == "fisher":
                 also.append(normal_tables.likelihood_ratio(t))
             effect = "association of rows and columns"
-        rule = RULES[s.family]
+        rule = table_stats.RULES[s.family]
     summary = normal_tables.table_summary(t, design.row_labels, design.col_labels)
     binomial = route in ("proportion", "paired")     # counts of successes, not arrangements
     return Result(statement, "table", s.alternative, out, normal, estimate, effect=effect,
                   two_sided_rule=rule, warnings=list(design.warnings), also_normal=also,
                   extra={"table": summary}, reference="outcomes" if binomial else "arrangements",
                   exact_heading="exact binomial" if binomial else "")
+
+
+TABLE_KINDS = ("table", "ordered-table")
+
+
+def _count_check(design):
+    """The count check: each simulated table gets the route and statistic this design's own
+    exact test takes."""
+    from ..robustness.spec import CountCheck
+
+    s = design.settings
+    return CountCheck(route_of(design), s.family, ordered=s.family == "trend")
+
+FAMILIES = [
+    Family("fisher", TABLE_KINDS, "Fisher's exact test (Freeman-Halton for r x c)",
+           "Fisher's exact test", plan, execute,
+           "Pearson chi-square (and the likelihood ratio G2)",
+           "2 x 2: conditional maximum-likelihood odds ratio with its exact interval",
+           robustness=_count_check, default_in=("table",)),
+    Family("chi-square", TABLE_KINDS, "exact test of Pearson's chi-square",
+           "Pearson chi-square, exact", plan, execute, "Pearson chi-square approximation",
+           robustness=_count_check),
+    Family("likelihood-ratio", TABLE_KINDS, "exact test of the likelihood-ratio statistic G2",
+           "likelihood-ratio statistic, exact", plan, execute,
+           "chi-square approximation to G2", robustness=_count_check),
+    Family("trend", ("ordered-table",), "exact linear-by-linear association (trend) test",
+           "linear-by-linear trend (ordered tables)", plan, execute,
+           "normal approximation to the linear-by-linear statistic", robustness=_count_check,
+           default_in=("ordered-table",)),
+    Family("fisher", ("paired-table",), "McNemar's exact test (binomial on discordant pairs)",
+           "Fisher's exact test", plan, execute, "McNemar's chi-square",
+           "conditional odds ratio of the discordant pairs with its exact interval",
+           robustness=_count_check, default_in=("paired-table",)),
+    Family("binomial", ("proportion",), "exact binomial test", "exact binomial test", plan,
+           execute, "normal approximation to the binomial (score test)",
+           "proportion with its Clopper-Pearson interval", robustness=_count_check,
+           default_in=("proportion",), selectable=False),
+]

@@ -17,7 +17,7 @@ from __future__ import annotations
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..errors import DataError
 from ..result import NormalTheory

@@ -10,7 +10,7 @@ from __future__ import annotations
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..engine.blocks.complete import block_matrix, friedman_from_ranks
 from ..engine.blocks.shared import design_arrays, midranks

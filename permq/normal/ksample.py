@@ -9,7 +9,7 @@ import math
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..engine.ksample import above_median, design, midranks, normal_scores
 from ..engine.ordered import dose_scores, jt_doubled, least_squares_slope

@@ -16,8 +16,8 @@
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
-from scipy.special import xlogy
+from ..lazy import stats
+from ..lazy import xlogy
 
 from ..result import NormalTheory
 from .tails import p_from_z as _p_from_z

@@ -41,7 +41,7 @@ def _cells(r, row) -> list:
 
 def _titles(r) -> list:
     first = {"pairwise": "pair", "for each": "feature"}.get(r.family, "response")
-    n = "n " + "/".join(r.labels) if r.family != "pairwise" else "n"
+    n = "n" if first == "pair" else "n " + "/".join(r.labels)
     if len(n) > 16:
         n = "n"
     stat = r.statistic_name.split(":")[0]

@@ -16,7 +16,7 @@ from ..bind import designs
 from ..bind.binder import bind
 from ..engine.montecarlo import sampling
 from ..errors import BindError
-from ..families import handler_for
+from ..families.registry import family_for
 from ..result import Note
 from ..syntax import nodes as n
 from ..syntax.parser import one_line
@@ -92,7 +92,7 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
     observed = _observed(design, text, progress, check)
     sim = simulate(problem, pattern, check.datasets, check.alpha, int(seed), progress)
     picture = null_picture(design, observed.outcome, int(seed))
-    warnings = list(design.warnings)
+    warnings = list(design.warnings) + [why for _, why in problem.check.leaves_out]
     if problem.kind == "paired":
         warnings.append("pairs are simulated as two values from the law, so their differences "
                         "are symmetric under the null, as random order within a pair makes them")
@@ -110,7 +110,7 @@ def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
     inner = node.analysis
     check = check_settings(n.options_of(inner))
     design = bind(without_check_options(inner), catalog, defaults)
-    the_plan = handler_for(design).plan(design)
+    the_plan = family_for(design).plan(design)
     seconds = None
     if isinstance(design, designs.TableDesign):
         _table_effect(design, check, inner)
@@ -120,7 +120,7 @@ def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
     else:
         problem = problem_for(design)
         pattern, _, _ = pattern_for(problem, check.shift)
-        panel = laws.panel(problem.kind)
+        panel = laws.panel_for(problem)
         size = reference_size(problem)
         ref = (f"all {size:,} arrangements (exact)" if size <= EXACT_LIMIT else
                f"{PERMUTATIONS:,} Monte Carlo arrangements")
@@ -149,7 +149,7 @@ def _table_effect(design, check, inner):
 
 def _observed(design, text, progress, check):
     """The statement's own analysis of the data as they are, with its diagnostics."""
-    handler = handler_for(design)
+    handler = family_for(design)
     observed = handler.execute(design, handler.plan(design), progress, text)
     attach_diagnostics(design, observed, check.alpha)
     return observed

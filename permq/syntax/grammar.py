@@ -14,12 +14,28 @@ from lark import Lark
 GRAMMAR_FILE = "permq.lark"
 
 
-def grammar_text() -> str:
-    packaged = resources.files("permq").joinpath("_grammar").joinpath(GRAMMAR_FILE)
+FAMILY_PLACEHOLDER = '"<families from the registry>"'
+
+
+def grammar_file_text() -> str:
+    """The grammar as shipped (with the placeholder for the family words)."""
+    packaged = Path(__file__).resolve().parents[1] / "_grammar" / GRAMMAR_FILE   # in a wheel
+    if not packaged.is_file() and not Path(__file__).is_file():   # a zipped install
+        packaged = resources.files("permq").joinpath("_grammar").joinpath(GRAMMAR_FILE)
     if packaged.is_file():
         return packaged.read_text(encoding="utf-8")
     checkout = Path(__file__).resolve().parents[2] / "grammar" / GRAMMAR_FILE
     return checkout.read_text(encoding="utf-8")
+
+
+def grammar_text() -> str:
+    """The grammar the parser is built from: the file, with the registry's family words."""
+    from ..families.registry import keywords
+
+    text = grammar_file_text()
+    if FAMILY_PLACEHOLDER not in text:
+        raise RuntimeError("the grammar has lost its placeholder for the family words")
+    return text.replace(FAMILY_PLACEHOLDER, " | ".join(f'"{w}"' for w in keywords()))
 
 
 class RunTogether(Exception):

@@ -7,7 +7,7 @@ from math import ceil, floor
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...errors import BindError
 from ...result import EngineOutcome

@@ -23,7 +23,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...plan.cost import Candidate
 from . import arrangements, kernels as kernels, multiplicity

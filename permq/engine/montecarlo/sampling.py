@@ -7,6 +7,8 @@ size or the number of workers. Block boundaries are where a cancel request takes
 from __future__ import annotations
 
 import secrets
+from contextlib import contextmanager
+from contextvars import ContextVar
 from typing import Callable, Iterator, Optional
 
 import numpy as np
@@ -47,10 +49,27 @@ def blocks(seed: int, draws: int, block: int = BLOCK) -> Iterator[tuple[int, int
 
 
 
+# `set workers N` for the statement being run (None: every core, up to 8)
+_WORKERS: ContextVar = ContextVar("permq_workers", default=None)
+
+
 def default_workers() -> int:
+    chosen = _WORKERS.get()
+    if chosen:
+        return int(chosen)
     import os
 
     return max(1, min(8, os.cpu_count() or 1))
+
+
+@contextmanager
+def using_workers(workers: Optional[int]):
+    """Run the statements inside on `workers` threads (None: every core)."""
+    token = _WORKERS.set(workers)
+    try:
+        yield
+    finally:
+        _WORKERS.reset(token)
 
 
 def iter_blocks(seed: int, draws: int, work: Callable, progress: "Progress" = NO_PROGRESS,

@@ -9,11 +9,12 @@ the forward pass merges equal partial sums in a scratch window per state instead
 Gains: kind 0 reads a table of cell values cell[i, j, x] (int64); kind 1 is Kendall's S (see
 `concordance.py`): x units in cell (i, j) gain x (placed in earlier columns above - below).
 """
-import numba
 import numpy as np
 
+from ..montecarlo.jit import njit
 
-@numba.njit(cache=True, nogil=True)
+
+@njit
 def _state(code, radix, base, r, d):
     total = 0
     for k in range(r):
@@ -22,7 +23,7 @@ def _state(code, radix, base, r, d):
     return total
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def _row(dig, a, d, r):
     total = 0
     for k in range(r):
@@ -31,7 +32,7 @@ def _row(dig, a, d, r):
     return total
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def digits_of(codes, radix, base):
     """(states, r): the remaining row margins of each state code."""
     r = radix.shape[0]
@@ -42,7 +43,7 @@ def digits_of(codes, radix, base):
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def _range(d, total, i, after_j, col_j, r):
     """(lo, hi, below, left) of the moves out of a state with digits d."""
     below = 0
@@ -58,7 +59,7 @@ def _range(d, total, i, after_j, col_j, r):
     return lo, hi, below, left
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def moves_of(codes, radix, base, i, after_j, col_j, fold):
     """The moves out of `codes` at a stage: (offsets, next codes)."""
     r = radix.shape[0]
@@ -84,7 +85,7 @@ def moves_of(codes, radix, base, i, after_j, col_j, fold):
     return offsets, nxt
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def locate(nxt, dense_limit):
     """(sorted distinct codes, index of each code among them)."""
     m = nxt.shape[0]
@@ -113,7 +114,7 @@ def locate(nxt, dense_limit):
     return out, pos
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def _gain(kind, cell, rows, d, i, j, x, left, col_j, fold, r):
     if kind == 0:
         g = cell[i, j, x]
@@ -134,7 +135,7 @@ def _gain(kind, cell, rows, d, i, j, x, left, col_j, fold, r):
     return g
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def bounds_stage(dig, offsets, dst, i, j, after_j, col_j, fold, kind, cell,
                  rows, hi_next, lo_next, ways_next):
     """Longest and shortest remaining sum, and completions, of every state at a stage."""
@@ -165,7 +166,7 @@ def bounds_stage(dig, offsets, dst, i, j, after_j, col_j, fold, kind, cell,
     return hi, lo_b, ways
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def _chunks(low, high, limit):
     """Cut the states into runs whose windows (lowest to highest sum) hold at most `limit`
     sums together (a run holds at least one state): the run of each state and each state's
@@ -186,7 +187,7 @@ def _chunks(low, high, limit):
     return run, offset, current + 1
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def _bucket(keys, buckets):
     """Stable counting sort of item indices by key: (order, start of each bucket)."""
     start = np.zeros(buckets + 1, np.int64)
@@ -202,7 +203,7 @@ def _bucket(keys, buckets):
     return order, start
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def _accumulate(n, low, high, run, offset, runs, order, run_start, m_from, m_to, m_gain, m_w,
                 src_start, src_vals, src_mass, limit):
     """For every target state t, the sums v + gain of the pairs of each move's source, with
@@ -259,7 +260,7 @@ def _accumulate(n, low, high, run, offset, runs, order, run_start, m_from, m_to,
     return t_start, out_v[:pos], out_p[:pos]
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def spread_stage(active, a_start, vals, mass, dig, offsets, dst, i, j, after_j,
                  col_j, fold, kind, cell, rows, lf, n_next, limit):
     """Carry every pair along every move and merge equal partial sums.
@@ -308,7 +309,7 @@ def spread_stage(active, a_start, vals, mass, dig, offsets, dst, i, j, after_j,
                        m_gain, m_w, a_start, vals, mass, limit)
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def settle_stage(n_start, vals, mass, hi_b, lo_b, lo_thr, hi_thr, prune):
     """Settle the pairs against the region with the bounds. Returns (extreme, ordinary, the
     states still carrying pairs, their starts, values, masses)."""
@@ -357,7 +358,7 @@ def settle_stage(n_start, vals, mass, hi_b, lo_b, lo_thr, hi_thr, prune):
     return extreme, ordinary, active, a_start, out_v, out_p
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def gather_stage(dig, needed, offsets, dst, i, j, after_j, col_j, fold, kind,
                  cell, rows, lf, b_start, b_vals, b_mass, limit):
     """The law of the rest of S from every `needed` state at a stage (the others get an empty
@@ -410,7 +411,7 @@ def gather_stage(dig, needed, offsets, dst, i, j, after_j, col_j, fold, kind,
                        m_w, b_start, b_vals, b_mass, limit)
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def reach_mask(offsets, dst, mask, n_next):
     """Which states of the next stage the masked states of this one can reach."""
     out = np.zeros(n_next, np.bool_)
@@ -421,7 +422,7 @@ def reach_mask(offsets, dst, mask, n_next):
     return out
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def join_stage(active, f_start, f_vals, f_mass, b_start, b_vals, b_mass, lo_thr, hi_thr):
     """Settle the forward pairs of each active state against the law of the rest of S from
     it: (extreme mass, ordinary mass, worst deviation of a law's total from 1). Tails are

@@ -14,7 +14,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
-from scipy.special import gammaln
+from ...lazy import gammaln
 
 from ..core.progress import NO_PROGRESS, Progress
 from .concordance import ConcordanceGain

@@ -119,6 +119,17 @@ def rank_sum(x, y, alternative: str, progress: Progress = NO_PROGRESS):
     return p_value(t, "trend", alternative, progress, u, v)
 
 
+RANK_SUM_WORDS = "2 groups x categories"
+
+
+def rank_sum_candidate(x, y, arrangements: float) -> Candidate | None:
+    """The table route of the rank-sum test, when the pooled data have few distinct values."""
+    if not offered(np.r_[x, y]):
+        return None
+    t, u, v = rank_sum_table(x, y)
+    return candidate(t, "trend", RANK_SUM_WORDS, arrangements, u, v)
+
+
 def linear_trend(values, groups, scores, alternative: str, progress: Progress = NO_PROGRESS):
     t, u, v = trend_table(values, groups, scores)
     return p_value(t, "trend", alternative, progress, u, v)

@@ -15,7 +15,7 @@ from dataclasses import replace
 from functools import lru_cache
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome

@@ -171,6 +171,10 @@ class _Context:
             return self.paths(TABLE_FILES)
         if prev == "SAVE":
             return self.paths((".pq",)) or [('"session.pq"', "query file to write")]
+        if prev == "REPORT":
+            return self.paths((".html",)) or [('"report.html"', "report page to write")]
+        if prev in ("ROWS", "COLUMNS"):
+            return []
         if prev in ("LEVELS", "ORDERED", "COMMA", "LESSTHAN"):
             return self.levels()
         if prev == "SETTING":
@@ -205,9 +209,9 @@ class _Context:
             return []
         prev = self.prev_type()
         if prev == "HELP":
-            from ...help import TOPICS
+            from ...help import topics
 
-            return [(t, "help topic") for t in sorted(TOPICS)]
+            return [(t, "help topic") for t in topics()]
         if prev == "SETTING":
             return notes.setting_values(str(self.prev))
         return []

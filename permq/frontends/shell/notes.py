@@ -34,7 +34,11 @@ KEYWORDS = {
     "show": "list tables or settings",
     "describe": "the columns of a table",
     "help": "help pages",
-    "save": "write what ran as a query file",
+    "save": "write what ran as a query file, or: save report \"x.html\"",
+    "report": "an HTML report of what ran",
+    "copy": "the last result's reporting sentence, to copy",
+    "rows": "names for an inline table's rows",
+    "columns": "names for an inline table's columns",
     "quit": "leave the shell",
     "exit": "leave the shell",
     "by": "group column follows",
@@ -59,21 +63,6 @@ KEYWORDS = {
 }
 
 VALUES = {
-    "FAMILY": {
-        "means": "difference in means, by permutation",
-        "ranks": "Wilcoxon ranks with mid-ranks",
-        "normal-scores": "van der Waerden normal scores",
-        "medians": "Mood's median test",
-        "signs": "sign test (paired, one sample)",
-        "fisher": "Fisher's exact test",
-        "chi-square": "Pearson chi-square, exact",
-        "likelihood-ratio": "likelihood-ratio statistic, exact",
-        "trend": "linear-by-linear trend (ordered tables)",
-        "pearson": "Pearson correlation",
-        "spearman": "Spearman rank correlation",
-        "kendall": "Kendall's tau",
-        "slope": "least-squares slope",
-    },
     "ALTERNATIVE": {
         "two-sided": "an effect in either direction",
         "higher": "the named effect is positive",
@@ -109,7 +98,17 @@ def keyword_note(word: str) -> str:
 
 
 def value_note(terminal: str, word: str) -> str:
+    if terminal == "FAMILY":
+        return family_note(word)
     return VALUES.get(terminal, {}).get(word, terminal.lower().replace("_", " "))
+
+
+def family_note(word: str) -> str:
+    """A family's one-line summary, as its first declaration gives it."""
+    from ...families import registry
+
+    return next((f.summary for f in registry.families() if f.keyword == word and f.summary),
+                "test family")
 
 
 def examples(terminal: str) -> list[tuple[str, str]]:
@@ -117,21 +116,10 @@ def examples(terminal: str) -> list[tuple[str, str]]:
 
 
 def families_for(verb: Optional[str]) -> set[str]:
-    """The families the binder accepts for a verb (empty: no filter)."""
-    from ...bind import samples as binder
+    """The families the binder accepts for a verb (empty: no filter), from the registry."""
+    from ...families import registry
 
-    if verb == "compare":
-        from ...bind import groups
-
-        names = ("TWO_SAMPLE_FAMILIES", "ONE_SAMPLE_FAMILIES")
-        fams = {f for n in names for f in getattr(binder, n, ())}
-        return fams | set(getattr(groups, "K_SAMPLE_FAMILIES", ()))
-    if verb in ("relate", "count"):
-        from ...bind import other_forms
-
-        name = "ASSOCIATION_FAMILIES" if verb == "relate" else "TABLE_FAMILIES"
-        return set(getattr(other_forms, name, ()))
-    return set()
+    return set(registry.for_verb(verb)) if verb else set()
 
 
 def family_known(word: str) -> bool:
