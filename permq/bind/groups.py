@@ -14,6 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import BindError
+from .common import all_numbers as _all_numbers, listed_numbers as _listed
 from .designs import GroupsDesign
 
 
@@ -130,14 +131,6 @@ def _ordered_levels(opt, levels, g, subject, table):
     return sorted(levels, key=float)
 
 
-def _all_numbers(levels) -> bool:
-    try:
-        [float(v) for v in levels]
-        return True
-    except ValueError:
-        return False
-
-
 def _dose_scores(levels, listed: bool, column):
     """(scores, in words): a numeric group column's levels score their values (in whatever
     order they are listed); listed text levels score 1..k."""
@@ -164,10 +157,6 @@ def _given_scores(opts, scores, how, within):
     if not np.all(np.isfinite(given)) or np.ptp(given) == 0:
         raise BindError("the scores must be finite numbers, not all equal", opt.span)
     return given, "as given"
-
-
-def _listed(values) -> str:
-    return ", ".join(f"{v:g}" for v in values)
 
 
 def _natural(text):

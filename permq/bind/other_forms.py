@@ -6,6 +6,7 @@ from ..lazy import pandas as pd
 
 from ..errors import BindError
 from ..syntax import nodes as n
+from .common import all_numbers as _all_numbers, listed_numbers as _listed
 from .designs import AssociationDesign, TableDesign
 
 MAX_TABLE_CELLS = 400
@@ -244,16 +245,6 @@ def _given_scores(opt, ordered) -> np.ndarray:
     return values
 
 
-def _listed(values) -> str:
-    return ", ".join(f"{v:g}" for v in values)
-
-
-def _all_numbers(levels) -> bool:
-    try:
-        [float(v) for v in levels]
-        return True
-    except ValueError:
-        return False
 
 
 def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
