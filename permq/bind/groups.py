@@ -46,6 +46,12 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         raise BindError(f"a comparison of {len(levels)} groups has no direction",
                         opts["alternative"].span if "alternative" in opts else node.span,
                         hint="drop 'alternative', or add 'ordered' for a trend")
+    if within and ordered and len(levels) == 2:
+        # a rise along the order is the later level above the earlier one: the stratified
+        # comparison of the later level minus the earlier ('higher' means a rise)
+        warnings += (f"two ordered levels within blocks: the stratified comparison of "
+                     f"{levels[1]} - {levels[0]} (a rise along {levels[0]} < {levels[1]})",)
+        levels = levels[::-1]
     codes = np.array([levels.index(v) for v in g], dtype=np.int64)
     block_codes, block_labels = None, ()
     if within:
@@ -160,7 +166,6 @@ def _given_scores(opts, scores, how, within):
 
 
 def _natural(text):
-    try:
-        return (0, float(text), text)
-    except ValueError:
-        return (1, 0.0, text)
+    from ..data.order import natural_key
+
+    return natural_key(text)

@@ -2,6 +2,7 @@
 and one sample against a value."""
 from __future__ import annotations
 
+from ..engine.core.grid import exact_difference
 from ..errors import BindError
 from ..syntax import nodes as n
 from . import groups as grouped_forms
@@ -15,6 +16,10 @@ def bind_compare(node: n.Compare, catalog: Catalog, defaults: Defaults):
     subject = node.subject
     if isinstance(subject, n.Grouped):
         return bind_grouped(node, subject, opts, catalog, defaults)
+    if isinstance(subject, n.Crossed):
+        from .factorial import bind_crossed
+
+        return bind_crossed(node, subject, opts, catalog, defaults)
     operands = subject.operands
     kinds = {type(o) for o in operands}
     if n.ValueOperand in kinds:
@@ -31,6 +36,10 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
         from .many import bind_many
 
         return bind_many(node, subject, opts, catalog, defaults)
+    if "adjusting" in opts:
+        from .adjusted import bind_adjusted
+
+        return bind_adjusted(node, subject, opts, catalog, defaults)
     table = resolve_table(opts, catalog, subject.span)
     check_columns(table, [subject.response, subject.group] +
                   ([opts["within"].value] if "within" in opts else []))
@@ -134,7 +143,7 @@ def bind_paired(node, operands, opts, catalog, defaults):
     else:
         raise BindError("'paired' needs two columns or two lists of the same kind",
                         node.subject.span)
-    d = first - second
+    d = exact_difference(first, second)      # on the data's decimal grid: ties stay ties
     if len(d) == 0:
         raise BindError("no complete pairs to compare", node.subject.span)
     return OneSampleDesign(d, f"{labels[0]} - {labels[1]}", s, "paired", 0.0, labels, warnings)
@@ -164,5 +173,5 @@ def bind_one_sample(node, operands, opts, catalog, defaults):
     if len(x) == 0:
         raise BindError("this sample has no values", first.span)
     ref = float(value.value)
-    return OneSampleDesign(x - ref, f"{label} - {level_text(ref)}", s, "one-sample", ref,
+    return OneSampleDesign(exact_difference(x, ref), f"{label} - {level_text(ref)}", s, "one-sample", ref,
                            (label,), warnings)

@@ -9,7 +9,7 @@ from ..engine import rankintervals, twosample
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..lazy import module
 from ..normal.theory import two_sample as normal_two_sample
-from ..engine.twosample import MAX_INTERVAL_DRAWS
+from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import EngineOutcome, Estimate, Result
 from .registry import Family, family_for
@@ -55,12 +55,10 @@ def _table_route(design, progress) -> EngineOutcome:
     """The rank sum's exact p-value from the table network (its statistic as the engine's)."""
     x, y = np.asarray(design.x, float), np.asarray(design.y, float)
     rule = twosample.rule_of(design.settings.family)
-    a = twosample.scores_for(rule, x, y)
-    t_obs = float(twosample.statistic_from_sum(rule, a[:len(x)].sum(), a, len(x)))
     p, _ = ranked.rank_sum(x, y, design.settings.alternative, progress)
-    return EngineOutcome(rule.statistic_name, t_obs, p, "exact",
+    return EngineOutcome(rule.statistic_name, twosample.observed(rule, x, y), p, "exact",
                          ranked.WORDS.format(what=ranked.RANK_SUM_WORDS),
-                         arrangements=float(comb(len(a), len(x))))
+                         arrangements=float(comb(len(x) + len(y), len(x))))
 
 
 def _effect_words(family, effect):
@@ -96,8 +94,8 @@ def _summary(name, v):
 def _sampled_words(method, draws, what):
     if method != "monte-carlo":
         return ""
-    if draws > MAX_INTERVAL_DRAWS:
-        return f" (on the first {MAX_INTERVAL_DRAWS:,} sampled {what})"
+    if draws > INTERVAL_DRAWS:
+        return f" (on the first {INTERVAL_DRAWS:,} sampled {what})"
     return f" (on the sampled {what})"
 
 

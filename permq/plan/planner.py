@@ -11,14 +11,11 @@ It asks the design's engine for its candidate algorithms with their estimated co
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable
+from typing import Callable, Optional
 
 from ..errors import PlanError
-from ..engine.montecarlo.sampling import fresh_seed
+from ..engine.core.limits import DEFAULT_DRAWS, EXACT_CEILING_SECONDS, Limits, limits_for
 from .cost import Candidate, calibrated
-
-DEFAULT_DRAWS = 100_000
-EXACT_CEILING_SECONDS = 3600.0
 
 
 @dataclass(frozen=True)
@@ -28,9 +25,10 @@ class Plan:
     chosen: Candidate
     candidates: tuple
     draws: int
-    seed: int
+    seed: Optional[int]         # None only outside the pipeline (nothing sampled yet)
     reason: str
     budget_seconds: float
+    limits: Limits = Limits()      # from the settings (`set memory`, `set budget`), for the engine
 
     @property
     def method(self) -> str:
@@ -61,13 +59,14 @@ class Plan:
 def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int], list]) -> Plan:
     draws = settings.sampled or DEFAULT_DRAWS
     cands = tuple(calibrated(engine, c) for c in candidates_for(draws))
-    seed = settings.seed if settings.seed is not None else fresh_seed()
+    seed = settings.seed          # decided once by the pipeline (plan/seeds.py)
     mc = next((c for c in cands if not c.exact), None)
     exact = sorted((c for c in cands if c.exact and c.feasible), key=lambda c: c.ops)
     budget = settings.budget_seconds
 
     def plan(chosen, reason):
-        return Plan(engine, family, chosen, cands, draws, seed, reason, budget)
+        return Plan(engine, family, chosen, cands, draws, seed, reason, budget,
+                    limits_for(settings))
 
     if settings.sampled and mc is not None:
         return plan(mc, f"'sampled {settings.sampled}' asks for Monte Carlo")

@@ -3,8 +3,9 @@
 `diagnostics(design, result, level)` gives, as plain data for `Result.extra["diagnostics"]`:
 
 - skewness: the adjusted Fisher-Pearson skewness G1 of the residuals (values minus their
-  group mean; differences minus their mean; residuals about the least-squares line or the
-  additive fit of blocks and treatments), None with fewer than three;
+  group mean; differences minus their mean; residuals about the least-squares line, the
+  additive fit of blocks and treatments, or the analysis of covariance), None with fewer
+  than three;
 - largest_residual_sd: the largest |residual| divided by the residual standard deviation
   (residual sum of squares over its degrees of freedom);
 - spread_ratio: the largest group standard deviation over the smallest (for slopes: the
@@ -77,6 +78,8 @@ def _residuals(design):
         return _group_residuals(design)
     if isinstance(design, designs.AssociationDesign):
         return _line_residuals(design)
+    if isinstance(design, designs.AdjustedDesign):
+        return _adjusted_residuals(design)
     return None, 0, None, None
 
 
@@ -96,6 +99,20 @@ def _group_residuals(design):
     if design.blocks is not None:
         what = "residual standard deviations of the groups (additive fit), largest over smallest"
     return r, df, _ratio(sds), what
+
+
+def _adjusted_residuals(design):
+    """Residuals of the analysis of covariance (groups and covariates)."""
+    v, g = design.values, design.groups
+    k = int(g.max()) + 1
+    X = np.column_stack([np.ones(len(v)), design.covariates] +
+                        [(g == i).astype(float) for i in range(1, k)])
+    coef, *_ = np.linalg.lstsq(X, v, rcond=None)
+    r = v - X @ coef
+    sds = [np.std(r[g == i], ddof=1) if np.sum(g == i) > 1 else np.nan for i in range(k)]
+    return (r, len(v) - np.linalg.matrix_rank(X), _ratio(sds),
+            "residual standard deviations of the groups (analysis of covariance), largest "
+            "over smallest")
 
 
 def _line_residuals(design):

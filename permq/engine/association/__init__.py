@@ -21,19 +21,21 @@ step functions of beta and the endpoints are read off exactly from the jumps of 
 reference set (all arrangements, or the same Monte Carlo draws for every beta)."""
 from __future__ import annotations
 
-from math import factorial, prod
+from math import factorial
 from typing import Optional
 
 import numpy as np
-from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome, Estimate
+from ..core.counting import multinomial
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
-from ..montecarlo.sampling import fresh_seed
+from ..core.scores import midranks
+from ..montecarlo.sampling import require_seed
 from ..tables import ranked
 from .adjusted import _run_freedman_lane, adjusted_coefficient
-from .pairings import (CHUNK, DEFAULT_DRAWS, DESCRIPTIONS, ENUMERATION_LIMIT, _big, _has_ties,
+from .pairings import (CHUNK, DESCRIPTIONS, _big, _has_ties,
                        _run_enumeration, _run_inversions, _run_monte_carlo, _warnings, arrangements,
                        check_inputs, distinct_pairs, problem)
 from .slope import slope_estimate, slope_outcome, slope_pass
@@ -48,9 +50,9 @@ def reference_size(statistic: str, y, x) -> int:
     """Distinct arrangements enumeration would list."""
     if statistic == "slope":
         counts = distinct_pairs(y, x)[2]
-        return factorial(len(x)) // prod(factorial(int(c)) for c in counts)
+        return multinomial(counts)
     if statistic == "spearman":
-        y, x = stats.rankdata(y), stats.rankdata(x)
+        y, x = midranks(y), midranks(x)
     return min(arrangements(y), arrangements(x))
 
 
@@ -66,7 +68,7 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
                           note="residual permutation is approximate; there is no exact reference set"),
                 Candidate("residual-permutation", DESCRIPTIONS["residual-permutation"], False,
                           draws * n * (6.0 + width), min(draws, 8192) * n * 8 * 2,
-                          arrangements=_big(factorial(n)), note=f"{draws} draws")]
+                          arrangements=_big(factorial(n)), note=f"{draws:,} draws")]
     total = _big(reference_size(statistic, y, x))
     pairs = n * (n - 1) / 2
     per = {"kendall": 4 * n + 3 * pairs, "slope": 10.0 * n}.get(statistic, 4.0 * n)
@@ -78,12 +80,12 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
             out.append(ranked.candidate(t, "concordance", "x values x y values", total))
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, total * per,
                          min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0),
-                         feasible=total <= ENUMERATION_LIMIT, arrangements=total,
+                         arrangements=total,
                          note=f"{total:.4g} distinct arrangements"))
     # Kendall's S of a draw by merge sort: about n log2 n steps (compiled)
     per_draw = {"kendall": 6 * n + 4 * n * np.log2(n), "slope": 12.0 * n}.get(statistic, 6.0 * n)
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * per_draw,
-                         min(draws, 8192) * n * 8 * 2, arrangements=total, note=f"{draws} draws"))
+                         min(draws, 8192) * n * 8 * 2, arrangements=total, note=f"{draws:,} draws"))
     return out
 
 
@@ -137,12 +139,12 @@ def run(statistic: str, y, x, alternative: str, algorithm: str, draws: Optional[
 
 
 def _scores(statistic, v):
-    return stats.rankdata(v) if statistic == "spearman" else v
+    return midranks(v) if statistic == "spearman" else v
 
 
 def _mc_settings(algorithm, draws, seed):
     if algorithm in ("monte-carlo", "residual-permutation"):
-        return (DEFAULT_DRAWS if draws is None else int(draws)), (fresh_seed() if seed is None else seed)
+        return (DEFAULT_DRAWS if draws is None else int(draws)), require_seed(seed)
     return draws, seed
 
 

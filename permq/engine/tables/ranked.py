@@ -27,7 +27,7 @@ import numpy as np
 
 from ...plan.cost import Candidate
 from ..core.progress import NO_PROGRESS, Progress
-from ..core.scores import integer_grid
+from ..core.grid import integer_grid
 from . import rxc
 
 TABLE = "table-network"

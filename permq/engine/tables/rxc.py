@@ -11,7 +11,6 @@ has one row or one column left is the only table with its margins: p = 1.
 """
 from __future__ import annotations
 
-from dataclasses import replace
 from functools import lru_cache
 
 import numpy as np
@@ -19,10 +18,10 @@ from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
+from ..core.limits import DEFAULT_DRAWS
 from ..core.pvalues import clip, monte_carlo_p
-from ..core.scores import integer_grid
 from ..core.progress import NO_PROGRESS, Progress
-from ..montecarlo.sampling import fresh_seed, iter_blocks
+from ..montecarlo.sampling import iter_blocks, require_seed
 from .join import Turn
 from .network import (MAX_ENTRIES, MAX_STAGE_STATES, NetworkTooLarge, count_tables, forward,
                       make_layout, path_bounds)
@@ -32,7 +31,6 @@ from .stats import NAMES, Prepared, check_choice, prepare as prepare_cells
 
 NETWORK = "network"
 MONTE_CARLO = "monte-carlo"
-DEFAULT_DRAWS = 100_000
 # Up to this many states the planner lays the network out to count its tables.
 LAYOUT_STATES = 3_000_000
 # Statistics that need the columns in their own order (their gains depend on it).
@@ -50,21 +48,10 @@ def check_statistic(statistic: str, alternative: str) -> None:
 
 
 def prepare(t, statistic, alternative, u, v, stages):
-    """The statistic set up for table `t` as the network takes it. Trend scores on decimal
-    grids are put on integer grids first (S is then an exact integer; the reported statistic
-    is the same affine function of it)."""
+    """The statistic set up for table `t` as the network takes it (trend scores on decimal
+    grids become integers in `stats`: S is then an exact integer)."""
     if statistic == "concordance":
         return concordance.prepare(t, alternative)
-    if statistic == "trend" and u is not None and v is not None:
-        gu, gv = integer_grid(u), integer_grid(v)
-        if gu is not None and gv is not None and (gu.step != 1 or gv.step != 1
-                                                  or gu.origin != 0 or gv.origin != 0):
-            prep = prepare_cells(t, statistic, alternative, gu.integers.astype(float),
-                                 gv.integers.astype(float), stages=stages)
-            rows, cols, n = t.sum(axis=1), t.sum(axis=0), float(t.sum())
-            offset = (gu.origin * gv.origin * n + gu.origin * gv.step * float(gv.integers @ cols)
-                      + gu.step * gv.origin * float(gu.integers @ rows))
-            return replace(prep, scale=gu.step * gv.step, offset=offset)
     return prepare_cells(t, statistic, alternative, u, v, stages=stages)
 
 
@@ -271,7 +258,7 @@ def null_distribution(table, statistic: str = "trend", row_scores=None, col_scor
 
 
 def _sampled(t, prep: Prepared, draws, seed, progress, warnings) -> EngineOutcome:
-    seed = fresh_seed() if seed is None else int(seed)
+    seed = require_seed(seed)
     dist = stats.random_table(t.sum(axis=1), t.sum(axis=0))
     def work(size, gen):
         tables = dist.rvs(size=size, method="patefield", random_state=gen)
