@@ -283,3 +283,17 @@ def chosen_levels(opt: n.Option, present: list, column: str) -> list:
         raise BindError(f"'{opt.key}' needs two or more levels", opt.span,
                         hint=f"levels: {', '.join(present)}")
     return levels
+
+
+def all_numbers(levels) -> bool:
+    """Whether every level reads as a number."""
+    try:
+        [float(v) for v in levels]
+        return True
+    except ValueError:
+        return False
+
+
+def listed_numbers(values) -> str:
+    """Scores in a message: "0, 10, 20"."""
+    return ", ".join(f"{v:g}" for v in values)

@@ -38,6 +38,7 @@ from .montecarlo import sampling
 from .ksample import (_compositions, _rescale_ways, design, enumerate_group_sums,
                       enumeration_candidate, monte_carlo_candidate, sample_group_sums)
 from .core.progress import NO_PROGRESS, Progress
+from .tables import ranked
 
 _CHUNK_ROWS = 1 << 21
 # listing one assignment for the slope interval costs about this many operations per item
@@ -146,9 +147,12 @@ class JonckheereTerpstra:
         t_max = float(len(x) ** 2 - np.sum(sizes ** 2))          # largest 2J
         states, ops, memory = count_estimate(sizes, t_max, _blocks_of(x)[1])
         words = "dynamic programming over tie blocks and group counts (doubled statistic, integers)"
-        return [Candidate("dp-counts", words, True, ops, memory,
-                          note=f"about {states:.3g} counting states", arrangements=arr),
-                monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes))]
+        out = [Candidate("dp-counts", words, True, ops, memory,
+                         note=f"about {states:.3g} counting states", arrangements=arr)]
+        if ranked.offered(x):
+            out.append(ranked.candidate(ranked.ordered_table(x, groups), "concordance",
+                                        "groups x categories", arr))
+        return out + [monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes))]
 
     def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
             seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
@@ -168,10 +172,15 @@ class JonckheereTerpstra:
                                  algorithm="dynamic programming over tie blocks and group counts "
                                            "(doubled statistic, integers)",
                                  null_support=support / 2.0, null_probs=ways / ways.sum(), **common)
+        if algorithm == ranked.TABLE:
+            p, _ = ranked.jonckheere(x, g, alternative, progress)
+            return EngineOutcome(p_value=p, method="exact", arrangements=multinomial(sizes),
+                                 algorithm=ranked.WORDS.format(what="groups x categories"),
+                                 **common)
         if algorithm == "monte-carlo":
             return self._sample(x, sizes, j_obs, center, alternative, draws, seed, progress, common)
         raise PlanError(f"the Jonckheere-Terpstra test has no algorithm '{algorithm}'",
-                        hint="use dp-counts or monte-carlo")
+                        hint=f"use dp-counts, {ranked.TABLE} or monte-carlo")
 
     def _sample(self, x, sizes, j_obs, center, alternative, draws, seed, progress, common):
         draws = int(draws or DEFAULT_DRAWS)
@@ -303,6 +312,9 @@ class LinearTrend:
             out.append(Candidate("dp-counts", words, True, ops, memory,
                                  note=f"about {states:.3g} counting states",
                                  arrangements=arr))
+        if ranked.offered(st.x):
+            t, u, v = ranked.trend_table(st.x, st.g, st.d)
+            out.append(ranked.candidate(t, "trend", "groups x values", arr, u, v))
         out.append(monte_carlo_candidate(N, arr, draws))
         return out
 
@@ -321,10 +333,14 @@ class LinearTrend:
             return self._count(st, alternative, progress, common)
         if algorithm == "enumeration":
             return self._enumerate(st, alternative, progress, common)
+        if algorithm == ranked.TABLE:
+            p, _ = ranked.linear_trend(st.x, st.g, st.d, alternative, progress)
+            return EngineOutcome(p_value=p, method="exact", arrangements=multinomial(st.sizes),
+                                 algorithm=ranked.WORDS.format(what="groups x values"), **common)
         if algorithm == "monte-carlo":
             return self._sample(st, alternative, draws, seed, progress, common)
         raise PlanError(f"the trend test has no algorithm '{algorithm}'",
-                        hint="use dp-counts, enumeration or monte-carlo")
+                        hint=f"use dp-counts, enumeration, {ranked.TABLE} or monte-carlo")
 
     def _count(self, st: TrendSetup, alternative, progress, common):
         grids = _trend_grids(st)

@@ -141,6 +141,13 @@ def _statistic(rule: ScoreRule, sc: Scores, s_w, n1: int):
     return n1 * sc.base + sc.unit * s_w
 
 
+def observed(rule, x, y) -> float:
+    """The reported statistic of the data as they are (what `run` reports)."""
+    fam = rule_of(rule)
+    sc = _scores(scores_for(fam, np.asarray(x, float), np.asarray(y, float)))
+    return float(_statistic(fam, sc, sc.w[:len(x)].sum(), len(x)))
+
+
 def run(rule, x, y, alternative: str, algorithm: str, level: float,
         draws: Optional[int] = None, seed: Optional[int] = None,
         progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:

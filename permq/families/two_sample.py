@@ -1,28 +1,47 @@
 """Two independent samples: permutation p-value, normal theory and the shift estimate."""
 from __future__ import annotations
 
+from math import comb
+
 import numpy as np
 
 from ..engine import rankintervals, twosample
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
+from ..lazy import module
 from ..normal import theory
 from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
-from ..result import Estimate, Result
-from .registry import Family, effect_pieces
+from ..result import EngineOutcome, Estimate, Result
+from .registry import Family, effect_pieces, family_for
+
+ranked = module("permq.engine.tables.ranked")       # the table route, loaded when it runs
 
 
 def plan(design):
     s = design.settings
-    return make_plan("two-sample", s.family, s,
-                     lambda draws: twosample.candidates(s.family, design.x, design.y, draws))
+    table_route = family_for(design).extra.get("table_route", False)
+
+    def cands(draws):
+        out = twosample.candidates(s.family, design.x, design.y, draws)
+        if table_route:      # few distinct values: the test on the 2 x categories table
+            arrangements = out[0].arrangements
+            c = ranked.rank_sum_candidate(design.x, design.y, arrangements)
+            if c is not None:
+                out.insert(len(out) - 1, c)
+        return out
+
+    return make_plan("two-sample", s.family, s, cands)
 
 
 def execute(design, the_plan, progress, statement: str = "") -> Result:
     s = design.settings
-    outcome, interval = twosample.run(s.family, design.x, design.y, s.alternative,
-                                      the_plan.chosen.algorithm, s.level,
-                                      draws=the_plan.draws, seed=the_plan.seed, progress=progress)
+    if the_plan.chosen.algorithm == ranked.TABLE:
+        outcome, interval = _table_route(design, progress), None
+    else:
+        outcome, interval = twosample.run(s.family, design.x, design.y, s.alternative,
+                                          the_plan.chosen.algorithm, s.level,
+                                          draws=the_plan.draws, seed=the_plan.seed,
+                                          progress=progress)
     normal = NORMAL[s.family](design.x, design.y, s.level, s.alternative)
     estimate = _estimate(design, interval, outcome.method, the_plan.draws)
     a, b = design.labels
@@ -34,6 +53,14 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
 
 NORMAL = {"means": theory.welch_t, "ranks": theory.rank_sum_z,
           "normal-scores": theory.normal_scores_z, "medians": theory.median_count_z}
+def _table_route(design, progress) -> EngineOutcome:
+    """The rank sum's exact p-value from the table network (its statistic as the engine's)."""
+    x, y = np.asarray(design.x, float), np.asarray(design.y, float)
+    rule = twosample.rule_of(design.settings.family)
+    p, _ = ranked.rank_sum(x, y, design.settings.alternative, progress)
+    return EngineOutcome(rule.statistic_name, twosample.observed(rule, x, y), p, "exact",
+                         ranked.WORDS.format(what=ranked.RANK_SUM_WORDS),
+                         arrangements=float(comb(len(x) + len(y), len(x))))
 
 
 def _effect_words(family, effect):
@@ -87,10 +114,10 @@ def _check(scores, counterpart, normal_p, reported, effect):
 
 
 def _declare(keyword, title, summary, normal, estimate, robustness, sizes, default=False,
-             help=""):
+             help="", extra=None):
     return Family(keyword, ("two-sample",), title, summary, plan, execute, normal, estimate,
                   robustness=robustness, default_in=("two-sample",) if default else (),
-                  help=help, effect_sizes=effect_pieces(*sizes))
+                  help=help, effect_sizes=effect_pieces(*sizes), extra=extra or {})
 
 
 FAMILIES = [
@@ -104,7 +131,8 @@ FAMILIES = [
              "Hodges-Lehmann shift; interval at the exact rank-sum quantiles",
              _check("ranks", "normal approximation to the rank sum", "score_sum_z", "as_is",
                     "hodges_lehmann_shift"),
-             ("standardised_difference", "probability_of_superiority")),
+             ("standardised_difference", "probability_of_superiority"),
+             extra={"table_route": True}),   # few categories: the 2 x c table's network
     _declare("normal-scores", "van der Waerden normal-scores test",
              "van der Waerden normal scores",
              "normal approximation to the normal-scores sum", "Hodges-Lehmann shift",

@@ -30,6 +30,7 @@ class Candidate:
     feasible: bool = True   # False when the method cannot apply (e.g. scores not on a grid)
     note: str = ""          # why, in words (e.g. "scores are not on a grid")
     arrangements: float = 0.0  # size of the reference set, when known
+    reference: str = "arrangements"   # what that set is made of, in words
 
     @property
     def seconds(self) -> float:

@@ -68,7 +68,8 @@ class Plan:
         if not self.chosen.exact:
             lines.append(f"  draws: {self.draws:,}, seed {self.seed}")
         if self.chosen.arrangements:
-            lines.append(f"  reference set: {_count(self.chosen.arrangements)} arrangements")
+            lines.append(f"  reference set: {_count(self.chosen.arrangements)} "
+                         f"{self.chosen.reference}")
         if self.parts:
             merged: dict = {}
             for p in self.parts:

@@ -363,6 +363,9 @@ class _ToNodes(Transformer):
     def ordered(self, meta, ch):
         return self._opt(meta, "ordered", tuple((c.value, c.span) for c in ch))
 
+    def scores(self, meta, ch):
+        return self._opt(meta, "scores", tuple((float(c.value), c.span) for c in ch))
+
     def paired(self, meta, ch):
         return self._opt(meta, "paired")
 

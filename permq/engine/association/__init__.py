@@ -36,9 +36,10 @@ from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from ..core.scores import midranks
 from ..montecarlo.sampling import require_seed
+from ..tables import ranked
 from .adjusted import _run_freedman_lane, adjusted_coefficient
-from .pairings import (CHUNK, DESCRIPTIONS, _has_ties, _run_enumeration, _run_monte_carlo,
-                       arrangements,
+from .pairings import (CHUNK, DESCRIPTIONS, _big, _has_ties, _run_enumeration, _run_monte_carlo,
+                       _warnings, arrangements,
                        check_inputs, distinct_pairs, problem)
 from . import inversions
 from .slope import slope_estimate, slope_outcome, slope_pass
@@ -79,6 +80,9 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
     out = []
     if statistic == "kendall":
         out.append(_inversions_candidate(y, x))
+        if ranked.offered(x) and ranked.offered(y):
+            t, _, _ = ranked.table_of(x, y)
+            out.append(ranked.candidate(t, "concordance", "x values x y values", total))
     listing = min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0)
     # the law's tally (bounded); the slope keeps T and its denominator for every arrangement
     held = total * 16 * 3 if statistic == "slope" else min(total, TALLY_LIMIT) * TALLY_BYTES
@@ -133,6 +137,15 @@ def run(statistic: str, y, x, alternative: str, algorithm: str, draws: Optional[
         pb = problem("kendall", y, x)
         return inversions.run(pb.name, pb.coefficient(pb.t_obs), int(round(pb.t_obs)), len(x),
                               alternative, progress)
+    if algorithm == ranked.TABLE:
+        if statistic != "kendall":
+            raise ValueError("the table route applies to Kendall's tau")
+        pb = problem("kendall", y, x)
+        p, _ = ranked.kendall(y, x, alternative, progress)
+        return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), p, "exact",
+                             ranked.WORDS.format(what="x values x y values"),
+                             arrangements=_big(reference_size("kendall", y, x)),
+                             warnings=_warnings(pb))
     if algorithm == "enumeration":
         fixed_is_x = arrangements(_scores(statistic, y)) <= arrangements(_scores(statistic, x))
         return _run_enumeration(problem(statistic, y, x, fixed_is_x), alternative, progress)
