@@ -57,7 +57,7 @@ def _spearman_weights(design):
     return rx - rx.mean()
 
 
-def _check(form, scores, counterpart, normal_p, reported, weights=None):
+def _check(form, scores, counterpart, normal_p, reported, weights=None, inverts=False):
     def check(design):
         from ..robustness import counterparts, reported as rep, scoring
         from ..robustness.spec import Check
@@ -67,7 +67,7 @@ def _check(form, scores, counterpart, normal_p, reported, weights=None):
                          "least-squares t test of the slope adjusted for covariates",
                          counterparts.adjusted_slope_t, rep.as_is)
         return Check(form, getattr(scoring, scores), counterpart, getattr(counterparts, normal_p),
-                     getattr(rep, reported), weights=weights)
+                     getattr(rep, reported), weights=weights, inverts=inverts)
     return check
 
 
@@ -95,6 +95,7 @@ FAMILIES = [
              "Freedman-Lane residual permutation", "least-squares slope",
              "least-squares t test of the slope (and its HC3 form)",
              "slope; exact interval by inverting the test (none when adjusted)",
-             _check("linear", "values", "least-squares t test of the slope", "slope_t", "slope"),
+             _check("linear", "values", "least-squares t test of the slope", "slope_t", "slope",
+                    inverts=True),
              options=("adjusting",), effect_sizes=effect_pieces("standardised_slope")),
 ]

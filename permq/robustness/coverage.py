@@ -37,7 +37,7 @@ def applies(problem, observed) -> str:
     if problem.kind in ("two-sample", "paired", "one-sample") and problem.form in ("linear",
                                                                                    "signs"):
         return ""
-    if problem.kind == "slope" and problem.family == "slope" and problem.form == "linear":
+    if problem.check is not None and problem.check.inverts:   # declared by the family
         return ""
     return "its interval is not the inverted test simulated here"
 

@@ -44,6 +44,8 @@ class Check:
     test: str = ""                       # the test's name in the problem (e.g. "friedman")
     reversed: bool = False               # 'higher' is the statistic's lower tail
     leaves_out: tuple = ()               # ((law key, reason), ...)
+    inverts: bool = False                # the family's exact interval inverts this very test
+                                         # (its coverage is read off the simulated tests)
 
     def counterpart_name(self, problem) -> str:
         return self.counterpart(problem) if callable(self.counterpart) else self.counterpart
