@@ -17,7 +17,7 @@ from ..result import Result
 from .registry import Family, Kind
 
 KINDS = {"events": Kind("compare", "censored times",
-                        "compare days by arm event died (1 = event, 0 = censored)")}
+                        "compare days by supplier event failed (1 = event, 0 = censored)")}
 
 
 def _data(design):
@@ -68,8 +68,9 @@ NO_CHECK = ("censored times are not a response under the check's panel of error 
             "the check has no censoring scheme: there is no robustness form for them yet")
 
 HELP = """  censored times to an event, two groups:
-  compare days by arm event died               died: 1 = the event, 0 = censored then
-  compare days by arm event outcome "dead"     that value marks an event, others are censored
+  compare days by supplier event failed in lamps    failed: 1 = the event, 0 = censored then
+  compare days by arm event outcome "dead"          your text column: that value marks an
+                                                    event, any other a censored time
   exact permutation test of the score U = O - E of the first group over the group labels,
   given the times and censoring; beside it the textbook chi-square; hazard ratio exp(U / V);
   Kaplan-Meier medians. 'alternative higher': the first group has the higher hazard."""
