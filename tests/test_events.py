@@ -226,3 +226,22 @@ def test_three_groups_and_no_events_are_refused():
 def test_robustness_says_why_there_is_none():
     out = permq.run("robustness compare weeks by drug event relapse", tables={"leuk": frame()})
     assert isinstance(out[-1], permq.Failure) and "censored times" in str(out[-1])
+
+
+def test_help_and_completion_know_the_form():
+    from permq.frontends.shell.completion import suggest
+    from permq.help import help_text
+
+    assert "log-rank" in help_text("families") and "Gehan 1965" in help_text("gehan")
+    assert "censored times" in help_text("events")
+    from permq.data.tables import Table
+
+    s = permq.Session()
+    s.catalog.tables["leuk"] = Table("leuk", frame())
+    s.catalog.current = "leuk"
+    after = dict(suggest("compare weeks by drug ", s.catalog, s.base_dir))
+    assert "censored times" in after["event"]
+    offered = [w for w, _ in suggest("compare weeks by drug event relapse using ", s.catalog,
+                                     s.base_dir)]
+    assert {"log-rank", "gehan", "tarone-ware", "peto-prentice"} <= set(offered)
+

@@ -89,7 +89,7 @@ VALUES = {
     },
     "STEP": {"step-down": "step-down procedure", "single-step": "single-step procedure"},
     "SHOWABLE": {"tables": "the loaded tables", "settings": "the session defaults"},
-    "EVENTS": {"events": "events in an exposure (a rate)",
+    "EVENTS": {"events": "events in an exposure (a rate); or the event column of censored times",
                "event": "one event in an exposure; or the event column of censored times"},
 }
 
