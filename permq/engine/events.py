@@ -33,6 +33,7 @@ from typing import Optional
 import numpy as np
 
 from . import twosample
+from .core import pvalues
 from .core.progress import NO_PROGRESS, Progress
 
 WEIGHTS = ("log-rank", "gehan", "tarone-ware", "peto-prentice")
@@ -267,13 +268,14 @@ def _merge(parts):
 
 def _run_sparse(q, n1: int, alternative: str, progress):
     from ..result import EngineOutcome
-    from .core.counting import EXACT_COUNT_LIMIT
+    from .core.limits import EXACT_COUNT_LIMIT
 
     q = np.asarray(q, dtype=np.int64)
     support, ways = sparse_counts(q, n1, progress)
     N = len(q)
     s_obs = int(q[:n1].sum())
-    p = twosample._integer_tail(support, ways, s_obs, int(q.sum()) * n1, N, alternative)
+    mask = pvalues.integer_tail_mask(support, s_obs, alternative, int(q.sum()) * n1, N)
+    p = pvalues.clip(ways[mask].sum() / ways.sum())
     total = comb(N, n1)
     warn = () if total < EXACT_COUNT_LIMIT else (
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
