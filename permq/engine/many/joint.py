@@ -25,6 +25,7 @@ from typing import Optional
 import numpy as np
 
 from ...plan.cost import Candidate
+from ...plan.sizes import big, words as count_words
 from . import arrangements, kernels as kernels, multiplicity
 from ..core.counting import multinomial
 from ..core.limits import DEFAULT_DRAWS
@@ -65,7 +66,8 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
     sizes = [int(s) for s in sizes]
     N = sum(sizes)
     summed = N - max(sizes)
-    total = float(multinomial(sizes))
+    count = multinomial(sizes)
+    total = big(count)
     passes = 3.0 if method == "min-p" else 1.0
 
     def ops(rows):
@@ -85,8 +87,8 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
         return held * per_row + data
 
     out = [Candidate("enumeration", "complete enumeration, shared by every test", True,
-                     ops(total), memory(total, True), note=f"{total:.3g} arrangements",
-                     arrangements=total),
+                     ops(total), memory(total, True), note=f"{count_words(count)} arrangements",
+                     arrangements=count),
            Candidate("monte-carlo", "Monte Carlo joint draws (one arrangement for every test)",
                      False, ops(draws + 1), memory(draws + 1, False), arrangements=total,
                      note=f"{draws:,} draws")]
@@ -220,7 +222,7 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
                           pool, progress)
     else:
         adjusted = multiplicity.from_raw(raw, method, step)
-    return FamilyOutcome(t_obs, raw, adjusted, how, words, float(multinomial(sizes)),
+    return FamilyOutcome(t_obs, raw, adjusted, how, words, big(multinomial(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None)
 
@@ -314,7 +316,7 @@ def run_pairwise(values, codes, family: str, method: str, step: str, algorithm: 
     raw, adjusted = multiplicity.from_matrix(z, z_obs[0], method, step)
     t = overall_obs[0]
     p_overall = np.count_nonzero(overall >= t - multiplicity.tolerances([t])[0]) / R
-    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, float(multinomial(sizes)),
+    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, big(multinomial(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None,
                          overall={"statistic": float(t), "p_value": float(p_overall)},
