@@ -190,6 +190,49 @@ def critical_count(counts: list, side: float) -> int:
     return c
 
 
+# ---------------------------------------------------------------- censored times, two groups
+
+def weighted_logrank_u(weight: str, times, events, first: tuple):
+    """U = sum_j w_j (d_1j - d_j n_1j / n_j) recomputed from the risk sets of this labelling
+    (the units in `first` form the first group); Fractions, or floats for Tarone-Ware."""
+    import math
+
+    first = set(first)
+    units = range(len(times))
+    event_times = sorted({times[i] for i in units if events[i] == 1})
+    u, survival = Fraction(0), Fraction(1)
+    for t in event_times:
+        at_risk = [i for i in units if times[i] >= t]
+        dead = [i for i in at_risk if times[i] == t and events[i] == 1]
+        n, d = len(at_risk), len(dead)
+        n1 = sum(1 for i in at_risk if i in first)
+        d1 = sum(1 for i in dead if i in first)
+        if weight == "log-rank":
+            w = Fraction(1)
+        elif weight == "gehan":
+            w = Fraction(n)
+        elif weight == "peto-prentice":
+            survival *= Fraction(n + 1 - d, n + 1)
+            w = survival
+        else:                                   # tarone-ware: irrational weights, floats
+            w = math.sqrt(n)
+            u = float(u) + w * (d1 - d * n1 / n)
+            continue
+        u += w * (d1 - Fraction(d * n1, n))
+    return u
+
+
+def logrank_p(weight: str, x_times, x_events, y_times, y_events, alternative: str) -> Fraction:
+    """The share of the C(N, n1) labellings whose U is at least as extreme as the observed."""
+    times = [frac(v) for v in list(x_times) + list(y_times)]
+    events = list(x_events) + list(y_events)
+    n1, N = len(x_times), len(times)
+    values = [weighted_logrank_u(weight, times, events, c)
+              for c in itertools.combinations(range(N), n1)]
+    return tail_share(values, weighted_logrank_u(weight, times, events, tuple(range(n1))),
+                      alternative)
+
+
 def mahonian(n: int, upto=None) -> list:
     """Exact numbers of permutations of n items with k inversions, k = 0 .. upto (Python
     integers), by I_m(k) = sum_{i < m} I_{m-1}(k - i); truncation is exact."""

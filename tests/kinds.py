@@ -49,11 +49,14 @@ KINDS = {
     "pairwise": "compare mass by recipe in trays pairwise sampled 2000 seed 4",
     "two factors": "compare yield by variety and fertiliser in beans sampled 2000 seed 6",
     "adjusted": "compare yield by fertiliser adjusting for nitrate, variety in beans sampled 5000 seed 6",
+    "censored times": "compare days by supplier event failed in lamps using gehan",
     "failure": "compare mass by recipy in trays",
 }
 LOADS = 'load "trays.csv" as trays\nload "seedlings.csv" as pots\nload "plots.csv" as plots\n'
 BEANS = 'load "beans.csv" as beans\n'      # the field trial of two factors and a covariate
-SPRAYS = 'load "sprays.csv" as sprays\n'      # the count forms' demo table
+SPRAYS = ('load "sprays.csv" as sprays\n'     # the count forms' demo table
+          'load "lamps.csv" as lamps\n')      # and the censored times'
+
 # paired yes/no outcomes for the `count ... paired` form (made up for this contract test)
 PAIRS = pd.DataFrame({"first": ["yes", "yes", "no", "yes", "yes", "no", "yes", "yes"],
                       "second": ["yes", "no", "yes", "no", "no", "no", "no", "yes"]})

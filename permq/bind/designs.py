@@ -201,3 +201,20 @@ class AdjustedDesign:
     settings: Settings
     warnings: tuple = ()
     kind: str = "adjusted"
+
+
+@dataclass(frozen=True)
+class EventsDesign:
+    """Censored times to an event in two groups: event 1 marks an event at that time, 0 a
+    unit censored then (still without the event)."""
+
+    time1: np.ndarray
+    event1: np.ndarray
+    time2: np.ndarray
+    event2: np.ndarray
+    labels: tuple            # the two groups, first and second
+    names: tuple             # (time column, group column, event column)
+    event_words: str         # what counts as an event, e.g. "died = 1"
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "events"

@@ -32,6 +32,10 @@ def bind_compare(node: n.Compare, catalog: Catalog, defaults: Defaults):
 # ---------------------------------------------------------------- grouped: Y by G
 
 def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
+    if "event" in opts:
+        from .events import bind_events
+
+        return bind_events(node, subject, opts, catalog, defaults)
     if isinstance(subject.response, n.Responses) or "for_each" in opts or "pairwise" in opts:
         from .many import bind_many
 

@@ -33,7 +33,8 @@ def count_lines(r) -> list:
 
 
 def data_lines(r) -> list:
-    """The strata (events of n in each group, and each stratum's odds ratio) and the rates."""
+    """The strata (events of n in each group, and each stratum's odds ratio), the censored
+    times' groups (events, censored, Kaplan-Meier median) and the rates."""
     out = []
     for i, row in enumerate(r.extra.get("strata") or []):
         label = "strata" if i == 0 else ""
@@ -41,6 +42,11 @@ def data_lines(r) -> list:
         odds = (f"  (odds ratio {fmt.num(_value(row['odds_ratio']))})"
                 if row.get("odds_ratio") is not None else "")
         out.append(f"  {label:<15}{row['stratum']}: {groups}{odds}")
+    for i, g in enumerate(r.extra.get("survival") or []):
+        label = "groups" if i == 0 else ""
+        median = "not reached" if g["median"] is None else fmt.num(g["median"])
+        out.append(f"  {label:<15}{g['name']}: n {g['n']}, {g['events']} events, "
+                   f"{g['censored']} censored; Kaplan-Meier median {median}")
     for i, g in enumerate(r.extra.get("rates") or []):
         label = "rates" if i == 0 else ""
         out.append(f"  {label:<15}{g['name']}: {fmt.num(g['rate'])} events per unit")

@@ -377,6 +377,12 @@ class _ToNodes(Transformer):
     def within(self, meta, ch):
         return self._opt(meta, "within", ch[0])
 
+    def event_column(self, meta, ch):
+        # (the event column, the value that marks an event or None)
+        name = next(c for c in ch if isinstance(c, n.Name))
+        marks = [c for c in ch if isinstance(c, _Lit) and c.span.start > name.span.start]
+        return self._opt(meta, "event", (name, (marks[0].value, marks[0].span) if marks else None))
+
     def ordered(self, meta, ch):
         return self._opt(meta, "ordered", tuple((c.value, c.span) for c in ch))
 

@@ -102,7 +102,8 @@ VALUES = {
             "pilot": "the pilot's residuals, resampled"},
     "STEP": {"step-down": "step-down procedure", "single-step": "single-step procedure"},
     "SHOWABLE": {"tables": "the loaded tables", "settings": "the session defaults"},
-    "EVENTS": {"events": "events in an exposure (a rate)", "event": "one event in an exposure"},
+    "EVENTS": {"events": "events in an exposure (a rate); or the event column of censored times",
+               "event": "one event in an exposure; or the event column of censored times"},
 }
 
 EXAMPLES = {

@@ -1,0 +1,104 @@
+"""Censored times to an event in two groups: `compare days by arm event died`.
+
+The log-rank test and its weighted forms as exact permutation tests over the group labels,
+given the observed times and censoring (engine/events.py: the weighted log-rank score U is a
+sum of unit scores, so the two-sample engine counts, lists or samples it). Beside each, the
+textbook chi-square with the hypergeometric variance (normal/events.py); the hazard ratio by
+Peto's one-step exp(U / V) with its normal-theory interval; Kaplan-Meier medians per group.
+
+`alternative higher`: the first group has more events than expected under the null (U > 0),
+that is, its hazard is the higher (its times are the shorter).
+"""
+from __future__ import annotations
+
+from ..engine.core.pvalues import TWO_SIDED_LINEAR
+from ..plan.planner import make_plan
+from ..result import Result
+from .registry import Family, Kind
+
+KINDS = {"events": Kind("compare", "censored times",
+                        "compare days by supplier event failed (1 = event, 0 = censored)")}
+
+
+def _data(design):
+    from ..engine.events import EventTimes
+
+    return EventTimes(tuple(float(v) for v in design.time1), tuple(int(v) for v in design.event1),
+                      tuple(float(v) for v in design.time2), tuple(int(v) for v in design.event2))
+
+
+def plan(design):
+    from ..engine import events
+
+    data = _data(design)
+    return make_plan("two-sample", design.settings.family, design.settings,
+                     lambda draws: events.candidates(design.settings.family, data, draws))
+
+
+def execute(design, the_plan, progress, statement: str = "") -> Result:
+    from ..engine import events
+    from ..normal import events as normal
+
+    s = design.settings
+    data = _data(design)
+    outcome = events.run(s.family, data, s.alternative, the_plan.chosen.algorithm, s.level,
+                         draws=the_plan.draws, seed=the_plan.seed, progress=progress)
+    args = (design.time1, design.event1, design.time2, design.event2)
+    nt = normal.chi_square(s.family, *args, s.alternative, s.level, design.labels)
+    also = [] if s.family == "log-rank" else [normal.chi_square("log-rank", *args,
+                                                                  s.alternative)]
+    estimate = normal.hazard_ratio(*args, s.level, design.labels)
+    a, b = design.labels
+    survival = [_group(a, design.time1, design.event1), _group(b, design.time2, design.event2)]
+    return Result(statement, "events", s.alternative, outcome, nt, estimate,
+                  effect=f"hazard of {a} against {b} (higher: {a} has the events sooner); "
+                         f"event: {design.event_words}",
+                  two_sided_rule=TWO_SIDED_LINEAR, warnings=list(design.warnings),
+                  also_normal=also, extra={"survival": survival})
+
+
+def _group(name, time, event) -> dict:
+    from ..normal.events import km_median
+
+    return {"name": name, "n": int(len(time)), "events": int(sum(event)),
+            "censored": int(len(time) - sum(event)), "median": km_median(time, event)}
+
+
+NO_CHECK = ("censored times are not a response under the check's panel of error laws, and "
+            "the check has no censoring scheme: there is no robustness form for them yet")
+
+HELP = """  censored times to an event, two groups:
+  compare days by supplier event failed in lamps    failed: 1 = the event, 0 = censored then
+  compare days by arm event outcome "dead"          your text column: that value marks an
+                                                    event, any other a censored time
+  exact permutation test of the score U = O - E of the first group over the group labels,
+  given the times and censoring; beside it the textbook chi-square; hazard ratio exp(U / V);
+  Kaplan-Meier medians. 'alternative higher': the first group has the higher hazard."""
+
+FAMILIES = [
+    Family("log-rank", ("events",), "log-rank test (exact permutation law of O - E)",
+           "log-rank test of censored times", plan, execute,
+           "log-rank chi-square (hypergeometric variance)",
+           "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
+           no_robustness=NO_CHECK, default_in=("events",), help=HELP),
+    Family("gehan", ("events",), "Gehan's generalised Wilcoxon test (exact permutation law)",
+           "Gehan test: early differences weigh more", plan, execute,
+           "Gehan-Breslow weighted log-rank chi-square",
+           "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
+           no_robustness=NO_CHECK,
+           help=HELP + "\n  gehan: each event time weighted by the number at risk (Gehan 1965)"),
+    Family("tarone-ware", ("events",), "Tarone-Ware test (exact permutation law)",
+           "Tarone-Ware test: root-at-risk weights", plan, execute,
+           "Tarone-Ware weighted log-rank chi-square",
+           "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
+           no_robustness=NO_CHECK,
+           help=HELP + "\n  tarone-ware: weights the square root of the number at risk "
+                       "(Tarone & Ware 1977)"),
+    Family("peto-prentice", ("events",), "Peto-Prentice generalised Wilcoxon test (exact "
+           "permutation law)", "Peto-Prentice test: survival-estimate weights", plan, execute,
+           "Peto-Prentice weighted log-rank chi-square",
+           "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
+           no_robustness=NO_CHECK,
+           help=HELP + "\n  peto-prentice: weights prod (1 - d / (n + 1)) over earlier event "
+                       "times (Peto & Peto 1972; Prentice 1978)"),
+]
