@@ -34,6 +34,8 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
         return result
     result.extra["estimated_seconds"] = round(the_plan.chosen.seconds, 4)   # what explain said
     result.design = design            # kept for the report's pictures (not in the JSON)
+    if getattr(design, "units", None) is not None:     # the randomised unit (bind/units.py)
+        result.extra["units"] = design.units.to_dict()
     diagnostics.attach(design, result)
     effects.attach(design, result)
     if "picture" in n.options_of(node):

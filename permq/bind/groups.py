@@ -18,7 +18,8 @@ from .designs import GroupsDesign
 
 
 
-def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, table):
+def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, table,
+                units=None):
     from .common import settings_for, level_text
 
     ordered = "ordered" in opts
@@ -39,7 +40,7 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
     else:
         form, kind = "three or more groups", "k-sample"
         registry_kind = kind
-    allowed = ("levels", "within", "ordered")
+    allowed = ("levels", "within", "ordered", "units")
     s = settings_for(node, opts, defaults, registry_kind, form, allowed)
     if not ordered and len(levels) > 2 and s.alternative != "two-sided":
         raise BindError(f"a comparison of {len(levels)} groups has no direction",
@@ -56,8 +57,14 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
     scores = _dose_scores(levels) if ordered else None
     if len(levels) == 2 and not within and ordered:
         warnings += ("two ordered levels: the trend test is the two-sample test",)
+    info = None
+    if units is not None:
+        from .units import one_row_units_warning
+
+        info = units.info(y.index)
+        warnings += one_row_units_warning(info)
     return GroupsDesign(y.to_numpy(float), codes, tuple(levels), subject.response.text, s,
-                        block_codes, block_labels, ordered, scores, warnings, kind)
+                        block_codes, block_labels, ordered, scores, warnings, kind, units=info)
 
 
 def bind_inline_groups(node, opts, defaults, samples, labels, warnings):

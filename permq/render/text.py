@@ -54,6 +54,12 @@ def result_block(r: Result, color: bool = False) -> str:
             sd = f"  sd {fmt.num(g['sd'])}" if g.get("sd") is not None else ""
             lines.append(f"  {label:<15}{g['name']:<16} n {g['n']:<4} mean {fmt.num(g['mean']):<9}"
                          f" median {fmt.num(g['median'])}{sd}")
+    if "units" in r.extra:
+        u = r.extra["units"]
+        low, high = u["rows_per_unit"]["min"], u["rows_per_unit"]["max"]
+        per = f"{low}" if low == high else f"{low} to {high}"
+        lines.append(f"  {'units':<15}{u['units']} units of '{u['column']}', {u['rows']} rows "
+                     f"({per} a unit); a unit's value is the mean of its rows")
     if "table" in r.extra:
         lines.extend(table_lines(r.extra["table"]))
     lines.append(f"  {'statistic':<15}{fmt.num(o.statistic, 6)}")

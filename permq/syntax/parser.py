@@ -326,6 +326,9 @@ class _ToNodes(Transformer):
     def within(self, meta, ch):
         return self._opt(meta, "within", ch[0])
 
+    def units(self, meta, ch):
+        return self._opt(meta, "units", ch[0])
+
     def ordered(self, meta, ch):
         return self._opt(meta, "ordered", tuple((c.value, c.span) for c in ch))
 

@@ -55,6 +55,7 @@ KEYWORDS = {
     "seed": "seed for Monte Carlo",
     "levels": "choose and order the levels",
     "within": "blocks or strata column",
+    "units": "the randomised unit: its rows move together",
     "ordered": "ordered alternative (trend)",
     "paired": "paired columns",
     "in": "take the columns from a table",
