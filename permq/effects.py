@@ -187,11 +187,27 @@ def _blocked(design, result):
     k = len(design.labels)
     if k < 3:
         return []
+    if design.settings.kind == "incomplete-blocked":
+        return _incomplete_blocks(design)
     if design.settings.family == "ranks":
         return [_size("kendall_w", "Kendall's W (agreement of the rankings within blocks, "
                       "tie-corrected)", kendall_w(v, g, b, k), "kendall-1939")]
     return [_size("partial_eta_squared", "partial eta-squared (treatments over treatments "
                   "plus error, additive model)", _partial_eta(v, g, b), "cohen-1988")]
+
+
+def _incomplete_blocks(design):
+    """Partial eta-squared from the least-squares fit to the cells there are (no agreed
+    effect size for rankings within incomplete blocks)."""
+    if design.settings.family != "means":
+        return []
+    from .engine.incomplete import prepare
+
+    lay = prepare("within-block-f", design.values, design.groups, design.blocks,
+                  len(design.labels))
+    return [_size("partial_eta_squared", "partial eta-squared (treatments adjusted for blocks "
+                  "over that plus error, least squares)", lay.internal_obs / lay.scale,
+                  "cohen-1988")]
 
 
 def kendall_w(v, g, b, k) -> float:

@@ -14,6 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import BindError
+from . import incomplete
 from .designs import GroupsDesign
 
 
@@ -30,10 +31,25 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         if blocks is not None:
             blocks = blocks[keep]
     within = blocks is not None
+    codes = np.array([levels.index(v) for v in g], dtype=np.int64)
+    block_codes, block_labels, layout = None, (), "complete"
+    if within:
+        block_text = blocks.map(level_text)
+        block_labels = tuple(sorted(block_text.unique(), key=_natural))
+        block_codes = np.array([block_labels.index(b) for b in block_text], dtype=np.int64)
+        if len(levels) > 2:
+            layout = incomplete.pattern(codes, block_codes, len(levels))
+        if layout != "complete" and (ordered or layout == "repeated"):
+            _check_complete(codes, block_codes, levels, block_labels, opts["within"].value,
+                            ordered and layout == "incomplete")
+        if layout == "incomplete":
+            warnings += incomplete.check(codes, block_codes, levels, block_labels,
+                                         opts["within"].value)
     if within:
         form, kind = "blocked designs", "blocked"
         registry_kind = ("stratified" if len(levels) == 2 else
-                         "ordered-blocked" if ordered else "blocked")
+                         "ordered-blocked" if ordered else
+                         "incomplete-blocked" if layout == "incomplete" else "blocked")
     elif ordered:
         form, kind = "ordered groups", "ordered"
         registry_kind = kind
@@ -46,14 +62,6 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         raise BindError(f"a comparison of {len(levels)} groups has no direction",
                         opts["alternative"].span if "alternative" in opts else node.span,
                         hint="drop 'alternative', or add 'ordered' for a trend")
-    codes = np.array([levels.index(v) for v in g], dtype=np.int64)
-    block_codes, block_labels = None, ()
-    if within:
-        block_text = blocks.map(level_text)
-        block_labels = tuple(sorted(block_text.unique(), key=_natural))
-        block_codes = np.array([block_labels.index(b) for b in block_text], dtype=np.int64)
-    if within and len(levels) > 2:
-        _check_complete(codes, block_codes, levels, block_labels, opts["within"].value)
     scores = _dose_scores(levels) if ordered else None
     if len(levels) == 2 and not within and ordered:
         warnings += ("two ordered levels: the trend test is the two-sample test",)
@@ -87,8 +95,9 @@ def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
                         "ordered" if ordered else "k-sample")
 
 
-def _check_complete(codes, block_codes, levels, block_labels, within_name):
-    """Friedman, Page and the within-block F need each level exactly once in every block."""
+def _check_complete(codes, block_codes, levels, block_labels, within_name, ordered=False):
+    """Page's test needs each level exactly once in every block, and no analysis within
+    blocks takes a level twice in a block (bind/incomplete.py takes blocks lacking a level)."""
     k = len(levels)
     for b, label in enumerate(block_labels):
         counts = np.bincount(codes[block_codes == b], minlength=k)
@@ -101,10 +110,15 @@ def _check_complete(codes, block_codes, levels, block_labels, within_name):
             what.append("no " + ", ".join(f"'{m}'" for m in missing))
         if extra:
             what.append("more than one " + ", ".join(f"'{e}'" for e in extra))
+        test = f"Page's test of {k} ordered levels" if ordered else \
+            f"a comparison of {k} levels within blocks"
         raise BindError(f"block '{label}' of '{within_name.text}' has {' and '.join(what)}: "
-                        f"a comparison of {k} levels within blocks needs each level exactly once "
-                        "in every block (complete blocks)", within_name.span,
-                        hint="choose two levels (levels \"A\", \"B\") for a stratified comparison "
+                        f"{test} needs each level exactly once in every block (complete blocks)"
+                        if ordered else
+                        f"{test} takes each level at most once in a block", within_name.span,
+                        hint="drop 'ordered': blocks that lack a level take the F within blocks "
+                             "and Skillings-Mack" if ordered else
+                             "choose two levels (levels \"A\", \"B\") for a stratified comparison "
                              "that takes blocks of any size")
 
 

@@ -16,6 +16,7 @@ Permutation statistics (`form`):
 - "linear": T = sum_i w_pi(i) a_i, arrangements within `strata` when there are blocks;
 - "signs": T = sum_i s_i a_i over sign flips;
 - "quadratic": sum_g S_g^2 / n_g of the group score sums (within `strata` when blocked);
+- "quadform": S' M S of the group score sums, `matrix` M (incomplete blocks, within `strata`);
 - "pairs": Kendall's S between y and the fixed x (Kendall's tau; Jonckheere-Terpstra, with
   x the group order), T = sum_{i<j} sign(x_j - x_i) sign(y_j - y_i);
 - "residual": the t of the slope in the full model, recomputed on permuted residuals of the
@@ -57,6 +58,7 @@ class Problem:
     residual_df: int = 0                   #   orthogonal to it; the full model's residual df
     check: Optional[Check] = None          # the family's check: scores, counterpart, reported
     clusters: Optional[np.ndarray] = None  # clustered errors without units: cluster of each row
+    matrix: Optional[np.ndarray] = None    # "quadform": T = S' M S of the group score sums
     unit_sizes: Optional[np.ndarray] = None    # with `units`: rows of each unit (the problem's
                                                #   units are then the design's units)
 
@@ -88,6 +90,8 @@ def problem_for(design) -> Problem:
     if check.reversed:
         alternative = {"higher": "lower", "lower": "higher"}.get(alternative, alternative)
     pb = _with_clusters(pb, design)
+    if check.matrix is not None:
+        pb = replace(pb, matrix=np.asarray(check.matrix(design), dtype=float))
     return replace(pb, check=check, family=check.test or design.settings.family,
                    alternative=alternative)
 
