@@ -58,6 +58,7 @@ class ManyResult:
     warnings: list = field(default_factory=list)
     where: str = ""                  # where it ran (not part of the JSON: it never changes it)
     line: Optional[int] = None
+    seed_source: str = ""        # how the seed was had: given, statement, fresh (plan/seeds.py)
 
     def to_dict(self) -> dict:
         d = {"statement": self.statement, "family": self.family, "test": self.test,

@@ -13,7 +13,7 @@ from permq.render.methods import method_of
 from permq.render.sentences import decimals_for, number, render, sentence
 
 SINGLE = [k for k in KINDS if k not in ("robustness", "robustness counts", "several responses",
-                                        "pairwise", "failure")]
+                                        "pairwise", "two factors", "failure")]
 
 
 @pytest.mark.parametrize("kind", SINGLE)

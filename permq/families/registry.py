@@ -21,7 +21,8 @@ from typing import Callable, Optional
 # The modules that declare families, in the order their words are offered. Adding a family is
 # adding its module here.
 MODULES = ("two_sample", "one_sample", "k_sample", "ordered", "blocked", "association",
-           "tables", "many", "scale", "incomplete_blocks")
+           "tables", "two_proportions", "strata", "rates", "dose_response", "many", "scale",
+           "factorial", "adjusted", "incomplete_blocks")
 
 
 @dataclass(frozen=True)
