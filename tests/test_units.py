@@ -256,3 +256,91 @@ def test_clustered_unit_errors_have_the_intraclass_correlation():
     ratio = means[:, m == 2].var() / means[:, m == 8].var()
     rho = L.CLUSTER_ICC
     assert ratio == pytest.approx((rho + (1 - rho) / 2) / (rho + (1 - rho) / 8), rel=0.05)
+
+
+# ---------------------------------------------------------------- count: events in units
+
+def _dead(groups):
+    """Eight litters of unequal size, a two-valued outcome per pup (invented for the test)."""
+    sizes = [3, 4, 2, 5, 3, 4, 2, 3]
+    dead = ["yes", "no", "no", "yes", "yes", "no", "yes", "no", "no", "no", "no", "no", "yes",
+            "no", "yes", "yes", "yes", "yes", "no", "yes", "no", "yes", "yes", "yes", "no",
+            "yes"]
+    litters = [f"L{i}" for i, s in enumerate(sizes) for _ in range(s)]
+    dose = [groups[i] for i, s in enumerate(sizes) for _ in range(s)]
+    return pd.DataFrame({"litter": litters, "dose": dose, "dead": dead}), sizes
+
+
+def _unit_proportions(frame):
+    return [Fraction(int((rows["dead"] == "yes").sum()), len(rows))
+            for _, rows in frame.groupby("litter", sort=True)]
+
+
+def test_count_moves_whole_units_two_groups_brute_force():
+    frame, _ = _dead(["0"] * 4 + ["5"] * 4)
+    prop = _unit_proportions(frame)
+    diff = lambda chosen: (sum(prop[i] for i in chosen) / 4
+                           - sum(prop[i] for i in range(8) if i not in chosen) / 4)
+    every = [diff(c) for c in itertools.combinations(range(8), 4)]
+    obs = diff((0, 1, 2, 3))
+    r = permq.run("count dead by dose units litter", tables={"t": frame})[0]
+    assert r.outcome.arrangements == 70 and r.outcome.method == "exact"
+    assert r.outcome.statistic == pytest.approx(float(obs), rel=1e-12)
+    assert r.outcome.p_value == pytest.approx(float(_two_sided(every, obs)), rel=1e-12)
+    assert r.extra["units"]["unit_value"] == ("proportion of its rows with dead = yes (each "
+                                              "unit weighted equally)")
+    assert r.extra["units"]["rows"] == 26 and "litter proportions of dead = yes" in r.effect
+
+
+def test_count_moves_whole_units_ordered_doses_brute_force():
+    doses = ["0", "0", "5", "5", "10", "10", "20", "20"]
+    frame, _ = _dead(doses)
+    prop = _unit_proportions(frame)
+    score = {"0": 0, "5": 5, "10": 10, "20": 20}
+    t = lambda labels: sum(score[d] * p for d, p in zip(labels, prop))
+    every = [t(a) for a in set(itertools.permutations(doses))]
+    assert len(every) == 2520
+    p = _two_sided(every, t(doses))
+    r = permq.run("count dead by dose ordered units litter", tables={"t": frame})[0]
+    assert r.outcome.arrangements == 2520
+    assert r.outcome.p_value == pytest.approx(float(p), rel=1e-12)
+
+
+def test_count_units_messages():
+    frame, _ = _dead(["0"] * 4 + ["5"] * 4)
+    frame.loc[0, "dose"] = "5"
+    f = _fails("count dead by dose units litter", frame)
+    assert f.message.startswith("unit 'L0' of 'litter' has rows with 2 values of 'dose'")
+    frame, _ = _dead(["0"] * 4 + ["5"] * 4)
+    frame.loc[3, "dead"] = "maybe"
+    f = _fails("count dead by dose units litter", frame)
+    assert "needs exactly two values" in f.message
+
+
+# ---------------------------------------------------------------- the interval over units
+
+def test_the_shift_interval_inverts_the_test_over_unit_arrangements():
+    """Each end of the exact 80% interval (equal tails, permq/engine/core/jumps.py): shifting
+    the first group's unit means by a value just inside keeps both one-sided p-values over the
+    20 unit arrangements above 10%, just outside one of them falls to 10% or below (at 95% no
+    arrangement of 20 is rare enough: the interval is the whole line)."""
+    units = _unit_values(PUPS, "w", "litter", "dose")
+    means = [float(m) for m, _ in units]
+    wide = permq.run('compare w by dose levels "0", "10" units litter', tables={"p": PUPS})[0]
+    assert list(wide.estimate.interval) == [-np.inf, np.inf]
+    r = permq.run('compare w by dose levels "0", "10" units litter confidence 80%',
+                  tables={"p": PUPS})[0]
+    lo, hi = r.estimate.interval
+
+    def one_sided(delta):
+        v = [m - delta if i < 3 else m for i, m in enumerate(means)]
+        d = lambda c: sum(v[i] for i in c) / 3 - sum(v[i] for i in range(6) if i not in c) / 3
+        every = [d(c) for c in itertools.combinations(range(6), 3)]
+        obs = d((0, 1, 2))
+        return (sum(x >= obs - 1e-12 for x in every) / 20, sum(x <= obs + 1e-12 for x in every) / 20)
+    eps = 1e-6
+    assert np.isfinite(lo) and np.isfinite(hi) and lo < r.estimate.value < hi
+    for inside in (lo + eps, hi - eps):
+        assert min(one_sided(inside)) > 0.1
+    for outside in (lo - eps, hi + eps):
+        assert min(one_sided(outside)) <= 0.1

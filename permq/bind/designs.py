@@ -34,6 +34,7 @@ class UnitsInfo:
     labels: tuple            # the units, in the order of the design's values
     sizes: np.ndarray        # rows of each unit, in the same order
     rows: int                # rows used in all
+    value: str = "mean of the unit's rows"   # what a unit's value is, in words
 
     @property
     def count(self) -> int:
@@ -42,7 +43,7 @@ class UnitsInfo:
     def to_dict(self) -> dict:
         return {"column": self.column, "units": self.count, "rows": int(self.rows),
                 "rows_per_unit": {"min": int(self.sizes.min()), "max": int(self.sizes.max())},
-                "unit_value": "mean of the unit's rows (each unit weighted equally)"}
+                "unit_value": f"{self.value} (each unit weighted equally)"}
 
     def words(self) -> str:
         low, high = int(self.sizes.min()), int(self.sizes.max())

@@ -69,6 +69,8 @@ def bind_count(node: n.Count, catalog, defaults):
     from .common import settings_for
 
     opts = n.options_of(node)
+    if "units" in opts and isinstance(node.subject, n.CountBy):
+        return unit_rows.bind_count_units(node, node.subject, opts, catalog, defaults)
     design = counts.bind_count(node, opts, catalog, defaults)
     if design is not None:
         return design

@@ -31,7 +31,8 @@ def bind_compare(node: n.Compare, catalog: Catalog, defaults: Defaults):
 
 # ---------------------------------------------------------------- grouped: Y by G
 
-def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
+def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults, table=None):
+    """`table`: the rows to read instead of the statement's table (a count's events as 0/1)."""
     if isinstance(subject.response, n.Responses) or "for_each" in opts or "pairwise" in opts:
         from .many import bind_many
 
@@ -40,7 +41,7 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
         from .adjusted import bind_adjusted
 
         return bind_adjusted(node, subject, opts, catalog, defaults)
-    table = resolve_table(opts, catalog, subject.span)
+    table = table or resolve_table(opts, catalog, subject.span)
     check_columns(table, [subject.response, subject.group] +
                   [opts[k].value for k in ("within", "units") if k in opts])
     y = numeric_column(table, subject.response)

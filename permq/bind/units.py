@@ -105,3 +105,37 @@ def one_row_units_warning(info: UnitsInfo) -> tuple:
     if int(info.sizes.max()) == 1:
         return (f"every unit of '{info.column}' has one row: naming the units changes nothing",)
     return ()
+
+
+def bind_count_units(node, sub, opts, catalog, defaults):
+    """`count Y by G units U` with Y two-valued: each unit's value is its proportion of rows
+    with the event, and the units' proportions are compared as `compare` compares unit means
+    (two groups, three or more, ordered, within blocks), whole units moved."""
+    from dataclasses import replace
+
+    from ..data.tables import Table
+    from ..syntax import nodes as n
+    from .common import check_columns, level_text, resolve_table
+    from .counts import binary_events
+    from .samples import bind_grouped
+
+    table = resolve_table(opts, catalog, sub.span)
+    check_columns(table, [sub.rows, sub.columns] +
+                  [opts[k].value for k in ("within", "units") if k in opts])
+    y = table.frame[sub.rows.text]
+    present = y.notna()
+    if not present.any():
+        raise BindError(f"column '{sub.rows.text}' has no values", sub.rows.span)
+    words, hits = binary_events(y[present].map(level_text), sub.rows)
+    frame = table.frame.copy()
+    frame[sub.rows.text] = pd.Series(np.nan, index=frame.index)
+    frame.loc[present, sub.rows.text] = hits.astype(float)
+    derived = Table(table.name, frame, table.source)
+    design = bind_grouped(node, n.Grouped(sub.span, sub.rows, sub.columns), opts, catalog,
+                          defaults, table=derived)
+    value = f"proportion of its rows with {words[0]}"
+    design = replace(design, units=replace(design.units, value=value))
+    if hasattr(design, "effect") and isinstance(design.effect, str):
+        design = replace(design, effect=design.effect.replace(
+            f"{design.units.column} means", f"{design.units.column} proportions of {words[0]}"))
+    return design

@@ -67,7 +67,8 @@ def result_block(r: Result, color: bool = False) -> str:
         low, high = u["rows_per_unit"]["min"], u["rows_per_unit"]["max"]
         per = f"{low}" if low == high else f"{low} to {high}"
         lines.append(f"  {'units':<15}{u['units']} units of '{u['column']}', {u['rows']} rows "
-                     f"({per} a unit); a unit's value is the mean of its rows")
+                     f"({per} a unit), arrangements move whole units")
+        lines.append(f"  {'':<15}a unit's value: the {u['unit_value']}")
     if "table" in r.extra:
         lines.extend(table_lines(r.extra["table"]))
     lines.extend(data_lines(r))

@@ -100,7 +100,9 @@ def interval_from_jumps(jumps_higher, jumps_lower, identity: float, total: float
                         alternative: str) -> tuple:
     """{beta: p_higher(beta) > a and p_lower(beta) > a}, a = 1 - level (one-sided) or half
     of it (two-sided, equal tails); closed at finite ends."""
-    side = (1.0 - level) / (2.0 if alternative == "two-sided" else 1.0)
+    from ..core.pvalues import tail_alpha
+
+    side = tail_alpha(level, alternative)
     ok = (identity + np.arange(len(jumps_higher) + 1)) / total > side
     need = int(np.argmax(ok)) if ok.any() else None      # jumps needed to stop rejecting
     lo, hi = -np.inf, np.inf

@@ -29,8 +29,9 @@ def interval_from_jumps(values, counts, identity: float, total: float, level: fl
         order = np.argsort(values, kind="stable")
         values, counts = values[order], counts[order]
     values, counts = _merge_equal(values, counts)
-    alpha = 1.0 - level
-    side = alpha if alternative != "two-sided" else alpha / 2
+    from .pvalues import tail_alpha
+
+    side = tail_alpha(level, alternative)
     lo, hi = -np.inf, np.inf
     if alternative in ("two-sided", "higher"):
         cum = (identity + np.cumsum(counts)) / total

@@ -61,3 +61,12 @@ def monte_carlo_p(b: int, m: int, level: float = 0.99) -> tuple[float, tuple]:
 
 def clip(p: float) -> float:
     return float(min(1.0, max(0.0, p)))
+
+
+def tail_alpha(level: float, alternative: str) -> float:
+    """The error rate an interval allows on each tested side: 1 - level, halved for equal tails.
+
+    Rounded to 12 decimals first: in floating point 1 - 0.8 is 0.19999999999999996, and an
+    exact p of 2/20 would then count as above 0.1 and widen an 80% interval by a step."""
+    alpha = round(1.0 - level, 12)
+    return alpha / 2 if alternative == "two-sided" else alpha
