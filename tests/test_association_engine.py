@@ -276,7 +276,11 @@ def test_exact_slope_interval_is_the_set_not_rejected(alternative, level):
     y, x = _slope_data()
     est = A.estimate("slope", y, x, alternative, "enumeration", level=level)
     lo, hi = est.interval
-    side = (1 - level) / (2 if alternative == "two-sided" else 1)
+    # the nearest double to the exact 1 - level (in floating point 1 - 0.8 < 0.2, and an exact
+    # p of 1/10 would pass for "above" 0.09999999999999998)
+    from fractions import Fraction
+
+    side = float((1 - Fraction(str(level))) / (2 if alternative == "two-sided" else 1))
     assert est.value == pytest.approx(stats.linregress(x, y).slope, rel=1e-12)
     assert lo < est.value < hi
     if alternative in ("two-sided", "higher"):
