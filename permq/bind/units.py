@@ -31,7 +31,7 @@ from dataclasses import dataclass
 from typing import Optional
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import BindError
 from .designs import UnitsInfo
