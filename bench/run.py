@@ -21,6 +21,7 @@ from scipy import stats
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "bench"))
 
 import permq  # noqa: E402
 
@@ -107,6 +108,7 @@ def cases():
                                                 random_state=1), 1)
     rows.append(("Monte Carlo, 100,000 draws, 100 + 100", t, 1.0, r,
                  f"scipy permutation_test: {ts:.2f} s (permq {ts / t:.1f}x faster)"))
+    rows.extend(previous_cases())
     rows.extend(group_cases(rng))
     rows.extend(factor_cases(rng))
     rows.extend(unit_cases(rng))
@@ -114,6 +116,62 @@ def cases():
     rows.extend(counts_cases(rng))
     rows.extend(robustness_cases(rng))
     rows.extend(many_cases())
+    return rows
+
+
+def _timed_with(patches, fn, repeat):
+    """fn() timed with module attributes replaced (restored afterwards)."""
+    saved = [(mod, name, getattr(mod, name)) for mod, name, _ in patches]
+    try:
+        for mod, name, value in patches:
+            setattr(mod, name, value)
+        return best(fn, repeat)
+    finally:
+        for mod, name, value in saved:
+            setattr(mod, name, value)
+
+
+def previous_cases():
+    """Three exact counts beside their former versions, timed in this run on the same data:
+    the former Hodges-Lehmann law and Kendall count are copies in bench/previous.py; the former
+    Kruskal-Wallis count (state lists merged by sorting) is still the product's for four or
+    more groups, and is had here by leaving out the three-group tables."""
+    import pandas as pd
+
+    import previous
+    from permq.engine import ksample_dense, rankintervals
+    from permq.engine.association import inversions
+
+    rng = np.random.default_rng(20261204)
+    rows = []
+    x = np.round(rng.normal(10, 2, 150), 2)
+    y = np.round(rng.normal(10.5, 2, 150), 2)
+    st = f"compare {lst(x)} vs {lst(y)} using ranks"
+    t, r = permq_case(st, 2)
+    old, _ = _timed_with([(rankintervals, "mann_whitney_cdf", previous.mann_whitney_cdf)],
+                         lambda: permq.run(st), 1)
+    rows.append(("rank-sum with its Hodges-Lehmann interval, 150 + 150", t, 1.0, r,
+                 f"previous: {old:.2f} s in this run ({old / t:.1f}x), the interval's law from "
+                 "the full table of subset counts (bench/previous.py)"))
+    x = rng.normal(size=1000)
+    df = pd.DataFrame({"x": x, "y": 0.05 * x + rng.normal(size=1000)})
+    st = "relate y to x using kendall exact"
+    t, out = best(lambda: permq.run(st, tables={"d": df}), 2)
+    old, _ = _timed_with([(inversions, "run", previous.inversions_run)],
+                         lambda: permq.run(st, tables={"d": df}), 1)
+    ts, _ = best(lambda: stats.kendalltau(df.x, df.y, method="exact"), 1)
+    rows.append(("Kendall's tau exact, n = 1,000, no ties", t, 5.0, out[0],
+                 f"previous: {old:.1f} s in this run ({old / t:.0f}x), Python integers over "
+                 f"the whole half law (bench/previous.py); scipy kendalltau exact: {ts:.2f} s"))
+    g = [rng.normal(size=15) for _ in range(3)]
+    st = groups_statement(g, "using ranks exact")
+    t, r = permq_case(st, 2)
+    old, out = _timed_with([(ksample_dense, "applies", lambda sizes: False)],
+                           lambda: permq.run(st), 1)
+    same = abs(out[0].outcome.p_value - r.outcome.p_value) <= 1e-12
+    rows.append(("Kruskal-Wallis, 3 groups of 15, exact", t, 1.0, r,
+                 f"previous: {old:.2f} s in this run ({old / t:.1f}x), state lists merged by "
+                 f"sorting; {'the same' if same else 'a DIFFERENT'} p-value"))
     return rows
 
 

@@ -231,5 +231,7 @@ def _num(v):
 def _count(v):
     if v is None:
         return None
+    if isinstance(v, int):           # exact, any size (JSON numbers have no size limit)
+        return v
     f = float(v)
     return int(f) if f < 2 ** 63 and f == int(f) else f

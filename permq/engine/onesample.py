@@ -18,17 +18,19 @@ import numpy as np
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .core import pvalues
-from .core.counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size, layer_bytes
+from .core.counting import counts_all_subsets, counts_by_size, layer_bytes
 from .core.enumeration import sign_patterns_chunks
-from .core.jumps import collect_sampled, interval_from_jumps
+from ..plan.sizes import big, words
+from .core.grid import integer_grid
+from .core.jumps import JumpStream, collect_sampled, interval_from_jumps
+from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
+from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
 from .montecarlo.draws import flip_sums, random_bits
 from .montecarlo.sampling import BLOCK, iter_blocks
 from .core.progress import NO_PROGRESS, Progress
-from .core.scores import integer_grid, midranks
+from .core.scores import midranks
 
-MAX_DP_BYTES = 2.0e9
-# the Monte Carlo interval uses the first draws up to this many (memory stays bounded)
-MAX_INTERVAL_DRAWS = 2_000_000
+ENUMERATION_MAX_ITEMS = 62      # sign patterns are listed as the bits of one int64 code
 
 STATISTIC_NAMES = {
     "means": "mean difference",
@@ -60,9 +62,10 @@ def statistic_from_positive_sum(family: str, p_sum, r, n_all: int):
 
 
 def _anchored_grid(r):
-    """Integer scores with origin 0 (a sum over a variable number of items needs it)."""
+    """Integer scores with origin 0 (a sum over a variable number of items needs it), or None
+    off a grid or when their total would pass the exact integers of double precision."""
     grid = integer_grid(np.append(r, 0.0))
-    if grid is None or grid.origin != 0.0:
+    if grid is None or grid.origin != 0.0 or float(grid.integers.sum()) >= EXACT_COUNT_LIMIT:
         return None
     return grid.integers[:-1], grid.step
 
@@ -72,30 +75,33 @@ def _anchored_grid(r):
 def candidates(family: str, d, draws: int) -> list[Candidate]:
     r, _ = flip_scores(family, d)
     n = len(r)
-    total = float(2 ** n)
+    count = 2 ** n
+    total = big(count)
     out = []
     g = _anchored_grid(r)
     if g is not None:
         width = float(g[0].sum()) + 1
         ops = n * width
-        mem = layer_bytes(1, width)
+        mem = 2 * layer_bytes(1, width)          # the counts and numpy's overlap copy
         if family == "means":  # the exact interval needs counts by size too
             full = integer_grid(np.asarray(d, dtype=float))
             w2 = float(full.integers.sum()) + 1 if full is not None else float("inf")
             ops += len(d) * (len(d) + 1) * w2 / 2
-            mem += layer_bytes(len(d) + 1, w2)
+            mem += 2 * layer_bytes(len(d) + 1, w2)
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
-                             feasible=mem <= MAX_DP_BYTES, arrangements=total,
-                             note="scores on an integer grid"))
+                             arrangements=count, note="scores on an integer grid"))
     else:
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True,
-                             float("inf"), float("inf"), feasible=False, arrangements=total,
+                             float("inf"), float("inf"), feasible=False, arrangements=count,
                              note="scores do not lie on a decimal grid"))
+    patterns = (1 << min(n, 16)) * n * 8 * 4
+    law = min(total, TALLY_LIMIT) * TALLY_BYTES
+    jumps = 0.5 * total * 8 * 3 if family == "means" else 0.0
     out.append(Candidate("enumeration", "complete enumeration", True, total * n * 3,
-                         (1 << min(n, 16)) * n * 8 * 2, arrangements=total,
-                         feasible=n <= 30, note=f"{total:.3g} sign patterns"))
+                         patterns + law + jumps, arrangements=count,
+                         feasible=n <= ENUMERATION_MAX_ITEMS, note=f"{words(count)} sign patterns"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of sign patterns", False,
-                         draws * n * 6.0, min(draws, BLOCK) * n * 8 * 3, arrangements=total,
+                         draws * n * 6.0, min(draws, BLOCK) * n * 8 * 3, arrangements=count,
                          note=f"{draws:,} draws"))
     return out
 
@@ -129,18 +135,13 @@ def _p_dp(family, name, r, pos, n_all, t_obs, alternative, progress):
     counts = counts[support]
     p_obs = int(q[pos].sum())
     total_q = int(q.sum())
-    if alternative == "higher":
-        mask = support >= p_obs
-    elif alternative == "lower":
-        mask = support <= p_obs
-    else:
-        mask = np.abs(2 * support - total_q) >= abs(2 * p_obs - total_q)
+    mask = pvalues.integer_tail_mask(2 * support - total_q, 2 * p_obs - total_q, alternative)
     p = pvalues.clip(counts[mask].sum() / counts.sum())
     n = len(r)
-    warn = () if 2.0 ** n < EXACT_COUNT_LIMIT else (
+    warn = () if 2 ** n < EXACT_COUNT_LIMIT else (
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
     return EngineOutcome(name, t_obs, p, "exact", "dynamic programming on integer scores",
-                         arrangements=2.0 ** n,
+                         arrangements=2 ** n,
                          null_support=statistic_from_positive_sum(family, support * step, r, n_all),
                          null_probs=counts / counts.sum(), warnings=warn)
 
@@ -149,38 +150,59 @@ def _mean_interval_dp(d, level, alternative):
     """Exact interval for the mean difference: jumps S_F / k over all subsets F (k = |F| >= 1)."""
     grid = integer_grid(d)
     n = len(d)
-    table = counts_by_size(grid.integers, n)
+    table, e = counts_by_size(grid.integers, n, with_exponent=True)
     values, counts = [], []
     for k in range(1, n + 1):
         row = table[k]
         nz = np.flatnonzero(row)
-        values.append(grid.origin + grid.step * nz / k)
+        values.append(grid.origin + grid.differences(nz) / k)
         counts.append(row[nz])
-    return interval_from_jumps(np.concatenate(values), np.concatenate(counts), 1.0, 2.0 ** n,
-                               level, alternative)
+    counts = np.concatenate(counts)
+    identity = float(np.ldexp(1.0, -e))       # the empty set: no sign flipped (counts x 2^-e)
+    return interval_from_jumps(np.concatenate(values), counts, identity,
+                               float(counts.sum()) + identity, level, alternative)
 
 
-def _tail(sampled_p, p_obs, total_r, alternative):
-    # statistic T = 2P - R is centred at zero; compare with the relative tolerance
-    t = 2 * sampled_p - total_r
-    return pvalues.exceedances(t, 2 * p_obs - total_r, alternative, center=0.0,
-                               scale=max(abs(2 * p_obs - total_r), total_r))
+def _tail(sampled_p, p_obs, total_r, alternative, exact: bool):
+    """Patterns at least as extreme, on T = 2P - R (centred at zero): exactly for integer
+    scores, else with the relative tolerance."""
+    t = 2 * np.asarray(sampled_p, dtype=float) - total_r
+    t_obs = 2 * p_obs - total_r
+    if exact:
+        return pvalues.integer_exceedances(t, t_obs, alternative)
+    return pvalues.exceedances(t, t_obs, alternative, center=0.0,
+                               scale=max(abs(t_obs), total_r))
+
+
+def _flip_scores_exact(r):
+    """(w, exact, unit): the scores as exact integers when they lie on a grid (sums are then
+    exact; r = unit * w), else r itself with unit 1."""
+    g = _anchored_grid(r)
+    if g is None:
+        return np.asarray(r, float), False, 1.0
+    return g[0].astype(float), True, g[1]
 
 
 def _enumerate(family, name, d, r, pos, t_obs, alternative, level, progress):
+    """Every sign pattern in chunks: exceedances counted and the law tallied as they come."""
     n = len(r)
     total = 2 ** n
-    p_obs = r[pos].sum()
-    b, sums, done = 0, [], 0
+    w, exact, unit = _flip_scores_exact(r)
+    p_obs = w[pos].sum()
+    tally = Tally(max(1.0, float(w.sum())), TALLY_LIMIT)
+    b, done = 0, 0
     for signs in sign_patterns_chunks(n):
-        s = signs.astype(float) @ r
-        b += _tail(s, p_obs, r.sum(), alternative)
-        sums.append(s)
+        s = signs.astype(float) @ w
+        b += _tail(s, p_obs, w.sum(), alternative, exact)
+        tally.add(s)
         done += len(signs)
         progress.step(done / total, "enumerating")
-    sums = np.sort(np.concatenate(sums))
+    support, counts = tally.law()
     out = EngineOutcome(name, t_obs, pvalues.clip(b / total), "exact", "complete enumeration",
-                        arrangements=float(total))
+                        arrangements=total,
+                        null_support=None if support is None else
+                        statistic_from_positive_sum(family, support * unit, r, len(d)),
+                        null_probs=None if counts is None else counts / counts.sum())
     interval = None
     if family == "means":
         interval = _mean_interval_enumerate(np.asarray(d, float), level, alternative)
@@ -188,15 +210,15 @@ def _enumerate(family, name, d, r, pos, t_obs, alternative, level, progress):
 
 
 def _mean_interval_enumerate(d, level, alternative):
+    """Jumps S_F / |F| over every non-empty subset F, streamed (only the extreme ones kept)."""
     n = len(d)
-    vals = []
+    jumps = JumpStream(1.0, float(2 ** n), level, alternative)
     for signs in sign_patterns_chunks(n):
         k = signs.sum(axis=1)
         s = signs.astype(float) @ d
         keep = k > 0
-        vals.append(s[keep] / k[keep])
-    v = np.concatenate(vals)
-    return interval_from_jumps(v, np.ones(v.size), 1.0, 2.0 ** n, level, alternative)
+        jumps.add(s[keep] / k[keep])
+    return jumps.interval()
 
 
 def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed, progress):
@@ -205,24 +227,25 @@ def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed
     non-zero ones. Compiled, with a numpy path that gives the same numbers (draws.flip_sums)."""
     d = np.asarray(d, dtype=float)
     nonzero = d != 0
-    p_obs = r[pos].sum()
+    w, exact, _ = _flip_scores_exact(r)
+    p_obs = w[pos].sum()
     means = family == "means"
     scores = np.zeros(len(d))            # the test's scores in place; zeros carry none
-    scores[nonzero] = r
+    scores[nonzero] = w
 
     def work(size, rng):
         s, sf, k = flip_sums(scores, random_bits(rng, size, len(d)), d if means else None)
-        b = _tail(s, p_obs, r.sum(), alternative)
+        b = _tail(s, p_obs, w.sum(), alternative, exact)
         if not means:
             return b, None, 0
         keep = k > 0
         return b, sf[keep] / k[keep], int((~keep).sum())
 
     b, v, identity, used = collect_sampled(iter_blocks(seed, draws, work, progress), means,
-                                              MAX_INTERVAL_DRAWS)
+                                              INTERVAL_DRAWS)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(name, t_obs, p, "monte-carlo", "Monte Carlo sampling of sign patterns",
-                        arrangements=2.0 ** len(r), draws=draws, p_interval=p_int, seed=seed)
+                        arrangements=2 ** len(r), draws=draws, p_interval=p_int, seed=seed)
     interval = None
     if means:
         interval = interval_from_jumps(v, None, identity, float(used + 1), level,

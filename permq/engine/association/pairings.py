@@ -4,16 +4,19 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 import itertools
-from math import comb, factorial, prod
+from math import comb, factorial
 from typing import Optional
 
 import numpy as np
-from ...lazy import stats
 
 from ...errors import DataError
 from ...result import EngineOutcome
 from ..core import pvalues
+from ..core.counting import distinct_orderings
+from ..core.grid import centred, is_constant
+from ..core.scores import midranks
 from ..core.progress import Progress
+from ..core.tally import Tally
 from ..montecarlo.draws import KendallPairs, random_u32, shuffled_dots
 from ..montecarlo.draws import kendall_s as shuffled_kendall_s
 from ..montecarlo.sampling import iter_blocks
@@ -22,8 +25,6 @@ STATISTICS = ("pearson", "spearman", "kendall", "slope")
 ALTERNATIVES = ("higher", "lower", "two-sided")
 CHUNK = 1 << 16               # arrangements evaluated at a time
 ROW_BYTES = 1 << 25           # bytes of permuted rows held at a time (Monte Carlo)
-ENUMERATION_LIMIT = 1e10      # beyond this, listing arrangements is not offered
-DEFAULT_DRAWS = 10_000
 
 DESCRIPTIONS = {
     "enumeration": "complete enumeration",
@@ -62,7 +63,7 @@ def check_inputs(y, x, alternative: Optional[str] = None, covariates=None):
     if not (np.all(np.isfinite(y)) and np.all(np.isfinite(x))):
         raise DataError("the values must be finite numbers (no missing values)")
     for name, v in (("the response", y), ("the predictor", x)):
-        if np.ptp(v) == 0:
+        if is_constant(v):
             raise DataError(f"{name} is constant, so no association can be measured")
     if alternative is not None and alternative not in ALTERNATIVES:
         raise ValueError(f"alternative must be one of {ALTERNATIVES}, not {alternative!r}")
@@ -82,7 +83,7 @@ def problem(statistic: str, y, x, fixed_is_x: bool = True) -> Problem:
     if statistic not in STATISTICS:
         raise KeyError(statistic)
     if statistic == "spearman":
-        y, x = stats.rankdata(y), stats.rankdata(x)
+        y, x = midranks(y), midranks(x)
     if not fixed_is_x:
         if statistic == "slope":
             raise ValueError("the slope is not symmetric in x and y")
@@ -90,7 +91,11 @@ def problem(statistic: str, y, x, fixed_is_x: bool = True) -> Problem:
     ties = _has_ties(x) or _has_ties(y)
     if statistic == "kendall":
         return _kendall_problem(y, x, ties)
-    xc = x - x.mean()
+    # both centred on one of their own values first: no offset drowns the differences (T moves
+    # by the same constant for every arrangement, so no p-value changes)
+    xc = centred(x)
+    xc = xc - xc.mean()
+    y = centred(y)
     sxx, syy = float(xc @ xc), float(((y - y.mean()) ** 2).sum())
     t_obs = float(y @ xc)
     if statistic == "slope":
@@ -140,8 +145,7 @@ def kendall_s(y, x, rows: int = 256) -> int:
 
 def arrangements(v) -> int:
     """Distinct arrangements of v: n! / prod(t!) over tied groups."""
-    _, c = np.unique(v, return_counts=True)
-    return factorial(len(v)) // prod(factorial(int(t)) for t in c)
+    return distinct_orderings(v)
 
 
 def distinct_pairs(y, x):
@@ -209,15 +213,14 @@ def arrangement_chunks(counts, chunk: int = CHUNK):
 
 
 def _enumerate_t(pb: Problem, progress: Progress):
-    """T over every distinct arrangement of pb.moving (equal weights)."""
+    """Chunks of T over every distinct arrangement of pb.moving (equal weights)."""
     vals, counts = np.unique(pb.moving, return_counts=True)
     total = arrangements(pb.moving)
-    out, done = [], 0
+    done = 0
     for labels in arrangement_chunks(counts):
-        out.append(evaluate(pb, vals[labels]))
+        yield evaluate(pb, vals[labels])
         done += len(labels)
         progress.step(done / total, "enumerating")
-    return np.concatenate(out), total
 
 
 def _tally(values, scale):
@@ -227,51 +230,6 @@ def _tally(values, scale):
     new[1:] = np.diff(v) > pvalues.RTOL * max(scale, 1e-300)
     starts = np.flatnonzero(new)
     return v[starts], np.diff(np.append(starts, v.size)).astype(float)
-
-
-# ---------------------------------------------------------------- Kendall by counting
-
-def inversion_counts(n: int, upto: Optional[int] = None) -> list:
-    """Exact counts (Python ints) of permutations of n items with k inversions, k = 0..upto
-    (Mahonian numbers; default all k up to n(n-1)/2). Truncation is exact: count k depends
-    only on counts at k' <= k for n - 1."""
-    top = n * (n - 1) // 2 if upto is None else min(upto, n * (n - 1) // 2)
-    c = np.array([1], dtype=object)
-    for m in range(2, n + 1):
-        length = min(len(c) + m - 1, top + 1)
-        ext = np.zeros(length, dtype=object)
-        ext[:min(len(c), length)] = c[:length]
-        cs = np.cumsum(ext)
-        new = cs.copy()
-        new[m:] -= cs[:-m]
-        c = new
-    return list(c)
-
-
-def _run_inversions(pb: Problem, alternative: str, progress: Progress) -> EngineOutcome:
-    n = len(pb.fixed)
-    K = n * (n - 1) // 2
-    d = (K - int(round(pb.t_obs))) // 2                # discordant pairs
-    half = inversion_counts(n, K // 2)
-    progress.step(1.0, "counting inversions")
-    full = half + half[:K + 1 - len(half)][::-1]       # symmetric about K / 2
-    total = factorial(n)
-    p = pvalues.clip(_inversion_tail(full, d, K, alternative) / total)
-    tau = 1.0 - 4.0 * np.arange(K + 1) / (n * (n - 1))
-    probs = np.array([c / total for c in full], dtype=float)
-    return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), p, "exact",
-                         DESCRIPTIONS["dp-inversions"], arrangements=_big(total),
-                         null_support=tau[::-1], null_probs=probs[::-1])
-
-
-def _inversion_tail(full, d, K, alternative) -> int:
-    """Count of permutations at least as extreme as d discordant pairs (exact integers)."""
-    if alternative == "higher":                        # positive association: few inversions
-        return sum(full[:d + 1])
-    if alternative == "lower":
-        return sum(full[d:])
-    dev = abs(2 * d - K)
-    return sum(c for k, c in enumerate(full) if abs(2 * k - K) >= dev)
 
 
 # ---------------------------------------------------------------- Monte Carlo
@@ -315,13 +273,19 @@ def _run_monte_carlo(pb: Problem, alternative, draws, seed, progress) -> EngineO
 
 
 def _run_enumeration(pb: Problem, alternative, progress) -> EngineOutcome:
-    t, total = _enumerate_t(pb, progress)
-    b = pvalues.exceedances(t, pb.t_obs, alternative, 0.0, pb.scale)
-    support, counts = _tally(t, pb.scale)
+    """Exceedances counted and the law tallied chunk by chunk (memory stays bounded)."""
+    total = arrangements(pb.moving)
+    tally = Tally(pb.scale)
+    b = 0
+    for t in _enumerate_t(pb, progress):
+        b += pvalues.exceedances(t, pb.t_obs, alternative, 0.0, pb.scale)
+        tally.add(t)
+    support, counts = tally.law()
     what = DESCRIPTIONS["enumeration"] + (" of distinct arrangements (ties)" if pb.ties else "")
     return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), pvalues.clip(b / total),
-                         "exact", what, arrangements=float(total),
-                         null_support=pb.coefficient(support), null_probs=counts / total,
+                         "exact", what, arrangements=total,
+                         null_support=None if support is None else pb.coefficient(support),
+                         null_probs=None if counts is None else counts / total,
                          warnings=_warnings(pb))
 
 

@@ -8,12 +8,15 @@ exactly, without a search:
     p_higher(delta) = (identity + #{jumps <= delta}) / total      (non-decreasing)
     p_lower(delta)  = (identity + #{jumps >= delta}) / total      (non-increasing)
 
-The two-sided interval at level 1 - alpha is {delta: p_higher > alpha/2 and p_lower > alpha/2};
-a one-sided interval uses alpha on its one side.
+The interval is {delta: p_higher > alpha_side and p_lower > alpha_side}, with the ends read by
+the interval-end rule of `confidence` (alpha_side exact, ties at a jump counted as extreme, so
+finite ends are closed and are jumps).
 """
 from __future__ import annotations
 
 import numpy as np
+
+from .confidence import alpha_side, first_kept, rejected_up_to
 
 
 def interval_from_jumps(values, counts, identity: float, total: float, level: float,
@@ -29,28 +32,81 @@ def interval_from_jumps(values, counts, identity: float, total: float, level: fl
         order = np.argsort(values, kind="stable")
         values, counts = values[order], counts[order]
     values, counts = _merge_equal(values, counts)
-    from .pvalues import tail_alpha
-
-    side = tail_alpha(level, alternative)
+    side = alpha_side(level, alternative)
     lo, hi = -np.inf, np.inf
     if alternative in ("two-sided", "higher"):
-        cum = (identity + np.cumsum(counts)) / total
-        if identity / total <= side:
-            idx = np.flatnonzero(cum > side)
-            lo = float(values[idx[0]]) if idx.size else np.inf
+        lo = _end(values, counts, identity, total, side, -np.inf, np.inf)
     if alternative in ("two-sided", "lower"):
-        cum = (identity + np.cumsum(counts[::-1])) / total
-        if identity / total <= side:
-            idx = np.flatnonzero(cum > side)
-            hi = float(values[::-1][idx[0]]) if idx.size else -np.inf
+        hi = _end(values[::-1], counts[::-1], identity, total, side, np.inf, -np.inf)
     return lo, hi
 
 
+def _end(values, counts, identity, total, side, open_end, empty):
+    """The first jump (in the order given) at which the one-sided p-value leaves the rejected
+    region: open_end when the observed arrangement alone keeps every value, `empty` when no
+    value is kept."""
+    cum = identity + np.concatenate([[0.0], np.cumsum(counts)])
+    i = first_kept(cum, total, side)
+    if i == 0:
+        return open_end
+    return float(values[i - 1]) if i < cum.size else empty
+
+
+class JumpStream:
+    """The interval from jumps that arrive in chunks, holding only the few it is read from.
+
+    Each endpoint is the jump where the one-sided p-value first leaves the rejected region
+    (the interval-end rule of `confidence`) from its end, so it lies among the
+    K = C - identity + 1 smallest (or largest) jumps, C the largest rejected count: those are
+    kept, the rest are dropped as they arrive. Memory is 8 K bytes a side,
+    whatever the size of the reference set; the endpoints are those of `interval_from_jumps` on
+    every jump (the kept jumps are a prefix of the sorted list, so ties group the same way).
+    Every jump counts once (listed arrangements)."""
+
+    def __init__(self, identity: float, total: float, level: float, alternative: str):
+        self.identity, self.total = float(identity), float(total)
+        self.level, self.alternative = level, alternative
+        side = alpha_side(level, alternative)
+        self.keep = int(max(0.0, rejected_up_to(side, self.total) - self.identity)) + 2
+        self.low = np.empty(0) if alternative in ("two-sided", "higher") else None
+        self.high = np.empty(0) if alternative in ("two-sided", "lower") else None
+
+    def add(self, values) -> None:
+        values = np.asarray(values, dtype=float)
+        if self.low is not None:
+            self.low = _keep_smallest(self.low, values, self.keep)
+        if self.high is not None:
+            self.high = -_keep_smallest(-self.high, -values, self.keep)
+
+    def interval(self) -> tuple[float, float]:
+        side = alpha_side(self.level, self.alternative)
+        lo, hi = -np.inf, np.inf
+        if self.low is not None:
+            v, c = _merge_equal(np.sort(self.low), np.ones(self.low.size))
+            lo = _end(v, c, self.identity, self.total, side, -np.inf, np.inf)
+        if self.high is not None:
+            v, c = _merge_equal(np.sort(self.high), np.ones(self.high.size))
+            hi = _end(v[::-1], c[::-1], self.identity, self.total, side, np.inf, -np.inf)
+        return lo, hi
+
+
+def _keep_smallest(kept: np.ndarray, new: np.ndarray, k: int) -> np.ndarray:
+    """The k smallest of kept and new together (kept holds at most k values)."""
+    if kept.size >= k:
+        new = new[new < kept.max()]          # most of a chunk falls past the kept ones
+        if new.size == 0:
+            return kept
+    both = np.concatenate([kept, new])
+    if both.size <= k:
+        return both
+    return np.partition(both, k - 1)[:k]
+
+
 def _merge_equal(values, counts):
-    """Merge jumps that are equal up to floating-point noise (relative 1e-12)."""
+    """Merge jumps that are equal up to floating-point noise (relative 1e-12 of the largest)."""
     if values.size == 0:
         return values, counts
-    scale = max(1.0, float(np.max(np.abs(values))))
+    scale = max(float(np.max(np.abs(values))), 1e-300)
     new_group = np.empty(values.size, dtype=bool)
     new_group[0] = True
     new_group[1:] = np.diff(values) > 1e-12 * scale
