@@ -13,12 +13,13 @@ from typing import Optional
 from ...errors import PlanError
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import fresh_seed
 from . import split
 from .layout import STATISTIC_NAMES, TESTS, Layout, prepare
 
-DEFAULT_DRAWS = 100_000
+
 EXACT_WORDS = ("dynamic programming over each half of the blocks, joined in the middle "
                "(every within-block arrangement counted)")
 MONTE_CARLO_WORDS = "Monte Carlo sampling of within-block arrangements"
