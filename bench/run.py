@@ -111,6 +111,7 @@ def cases():
     rows.extend(previous_cases())
     rows.extend(group_cases(rng))
     rows.extend(factor_cases(rng))
+    rows.extend(unit_cases(rng))
     rows.extend(association_cases(rng))
     rows.extend(counts_cases(rng))
     rows.extend(robustness_cases(rng))
@@ -248,6 +249,37 @@ def factor_cases(rng):
     _RAN[id(out[0])] = (out[0], statement, {"d": frame})
     rows.append(("two groups adjusted for a baseline, 12 + 12, exact with its interval", t, 2.0,
                  out[0], "no counterpart (statsmodels: the ANCOVA t only)"))
+    return rows
+
+
+def unit_cases(rng):
+    import pandas as pd
+
+    rows = []
+    # 3 doses x 5 litters x 4 pups: whole litters moved, exact
+    litter = np.repeat([f"L{i:02d}" for i in range(15)], 4)
+    dose = np.repeat(np.tile(["0", "10", "20"], 5), 4)
+    y = np.round(6 + np.repeat(rng.normal(0, 0.3, 15), 4) + rng.normal(0, 0.3, 60)
+                 - (dose == "20") * 0.3, 2)
+    frame = pd.DataFrame({"w": y, "dose": dose, "litter": litter})
+    statement = "compare w by dose units litter exact"
+    t, out = best(lambda: permq.run(statement, tables={"d": frame}), 3)
+    _RAN[id(out[0])] = (out[0], statement, {"d": frame})
+    rows.append(("3 doses x 5 litters x 4 pups, whole litters moved, exact", t, 2.0, out[0],
+                 "no counterpart (statsmodels: the nested ANOVA F only)"))
+    # 6 blocks x 4 levels, two plots missing: within-block permutation, exact
+    block, level = np.repeat(np.arange(6), 4), np.tile(["a", "b", "c", "d"], 6)
+    y = np.round(rng.normal(10, 1, 24) + block * 0.3 + (level == "c") * 0.8, 1)
+    keep = np.ones(24, bool)
+    keep[[5, 18]] = False
+    frame = pd.DataFrame({"y": y[keep], "trt": level[keep], "blk": block[keep]})
+    for word, name in (("means", "F within blocks"), ("ranks", "Skillings-Mack")):
+        statement = f"compare y by trt within blk using {word} exact"
+        t, out = best(lambda: permq.run(statement, tables={"d": frame}), 3)
+        _RAN[id(out[0])] = (out[0], statement, {"d": frame})
+        rows.append((f"{name}, 6 blocks x 4 levels, 2 plots missing, exact", t, 2.0, out[0],
+                     "scipy and statsmodels have no within-block permutation for incomplete "
+                     "blocks"))
     return rows
 
 

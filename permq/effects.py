@@ -244,6 +244,18 @@ def partial_eta_squared(design, result):
                  "plus error, additive model)", _partial_eta(v, g, b), "cohen-1988")
 
 
+def incomplete_partial_eta_squared(design, result):
+    """Partial eta-squared from the least-squares fit to the cells there are (the means
+    family within incomplete blocks; there is no agreed effect size for rankings there)."""
+    from .engine.incomplete import prepare
+
+    lay = prepare("within-block-f", design.values, design.groups, design.blocks,
+                  len(design.labels))
+    return [_size("partial_eta_squared", "partial eta-squared (treatments adjusted for blocks "
+                  "over that plus error, least squares)", lay.internal_obs / lay.scale,
+                  "cohen-1988")]
+
+
 def kendall_w(v, g, b, k) -> float:
     """W = 12 sum (R_j - mean R)^2 / (m^2 (k^3 - k) - m sum (t^3 - t)) for m complete blocks."""
     blocks = np.unique(b)

@@ -18,7 +18,18 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   compare yield by dose within block using ranks      complete blocks: Friedman; 'ordered': Page
   compare mass by recipe levels "A", "B" within bench  two levels, blocks of any size: stratified
   compare yield by variety and fertiliser             two crossed factors (help factors)
-  compare yield by fertiliser adjusting for nitrate   a covariate in the statistic (help factors)""",
+  compare yield by fertiliser adjusting for nitrate   a covariate in the statistic (help factors)
+  compare weight by dose units litter                 whole litters randomised (help units)
+  compare yield by variety within block in varieties  blocks lacking a level (help units)""",
+    "units": """the randomised unit, and blocks that lack a level (try them on the demo's litters, varieties)
+  compare weight by dose units litter                 litters randomised: whole litters moved, a litter's mean one value
+  compare weight by dose ordered units litter         a trend over doses; also levels "0", "10" and using ranks
+  relate weight to dose units litter                  association, whole units moved
+  count dead by dose units litter                     (your two-valued column) each unit's proportion of events
+  compare yield by variety within block in varieties  a lost plot: the F within blocks, levels permuted among those present
+  compare yield by variety within block using ranks in varieties   Skillings-Mack (using durbin: Durbin's test)
+a unit takes one level on all its rows (else the unit is named); the output gives units and rows;
+the reference set, estimate and interval are those of the units""",
     "factors": """two crossed factors, and groups adjusted for covariates (try them on the demo's beans)
   compare yield by variety and fertiliser             each main effect and the interaction, the two-way F beside each
       main effects: the values permuted within the levels of the other factor (exact by listing)
@@ -112,6 +123,7 @@ every line shows the permutation test, its normal-theory counterpart, and the sm
 TOPICS["set"] = TOPICS["session"]
 TOPICS["load"] = TOPICS["session"]
 TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
+TOPICS["litters"] = TOPICS["incomplete"] = TOPICS["units"]
 TOPICS["tables"] = TOPICS["count"]
 TOPICS["proportions"] = TOPICS["rates"] = TOPICS["strata"] = TOPICS["events"]
 TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]

@@ -65,6 +65,8 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     if result.summary_decimals is None:      # a family may set its own (proportions)
         result.summary_decimals = decimals.for_design(design)
     result.design = design            # kept for the report's pictures (not in the JSON)
+    if getattr(design, "units", None) is not None:     # the randomised unit (bind/units.py)
+        result.extra["units"] = design.units.to_dict()
     diagnostics.attach(design, result)
     effects.attach(design, result)
     smallest.attach(design, result)

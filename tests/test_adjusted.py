@@ -205,7 +205,7 @@ def test_robustness_check_runs_on_the_design():
                                      "for base datasets 200 seed 2")[0]
     d = out.to_dict()
     assert d["family"] == "robustness" and "adjusted for base" in d["analysis"]["design"]
-    assert len(d["laws"]) == 6
+    assert len(d["laws"]) == 7 and d["laws"][-1]["law"] == "clustered"    # six, and clusters
 
 
 @pytest.mark.parametrize("text, message", [

@@ -124,7 +124,7 @@ def test_k_sample_through_the_language_against_scipy():
     assert r.outcome.p_value == pytest.approx(exact.pvalue, rel=1e-9)
 
 
-def test_incomplete_blocks_get_a_clear_message():
+def test_a_level_twice_in_a_block_gets_a_clear_message():
     out = session().run("compare mass by recipe within bench in trays")
     assert isinstance(out[0], Failure)
-    assert "needs each level exactly once" in out[0].message and out[0].hint
+    assert "takes each level at most once in a block" in out[0].message and out[0].hint

@@ -284,7 +284,8 @@ def test_robustness_statement_end_to_end_and_reproducible():
     assert isinstance(first, RobustnessResult)
     assert [r.to_dict() for r in first.rows] == [r.to_dict() for r in second.rows]
     d = json.loads(json.dumps(first.to_dict()))
-    assert d["family"] == "robustness" and len(d["laws"]) == 6
+    assert d["family"] == "robustness" and len(d["laws"]) == 7     # six laws and clustered errors
+    assert d["laws"][-1]["law"] == "clustered"
     assert d["simulated_permutation_test"] == {
         "method": "exact", "arrangements": 12870,
         "description": "exact: all 12,870 arrangements, for every data set"}
@@ -349,17 +350,20 @@ def test_significance_sets_the_level():
 ])
 def test_every_design_kind_has_a_check(text, statistic, normal):
     """Blocked designs, Jonckheere-Terpstra, Kendall and the adjusted slope run end to end,
-    with their own statistic and normal-theory counterpart, six laws and valid JSON."""
+    with their own statistic and normal-theory counterpart, six laws (and clustered errors in
+    runs of rows where the layout is groups or x, not blocks or residuals) and valid JSON."""
     rr = permq.run(f"robustness {text} datasets 200 seed 3", tables=TABLES)[0]
     assert isinstance(rr, RobustnessResult), rr
     assert statistic in rr.statistic and normal in rr.normal_test
     d = json.loads(json.dumps(rr.to_dict(), allow_nan=False))
-    assert len(d["laws"]) == 6
+    clustered = "within" not in text and "adjusting" not in text
+    assert len(d["laws"]) == 6 + clustered
+    assert (d["laws"][-1]["law"] == "clustered") == clustered
     for law in d["laws"]:
         for side in ("normal_theory", "permutation"):
             assert 0 <= law[side]["rejection_rate"] <= 1 and 0 <= law[side]["power"] <= 1
     for row in rr.rows:        # which laws break exactness, and that the report says so
-        spread = row.key in ("unequal-spread", "spread-with-x")
+        spread = row.key in ("unequal-spread", "spread-with-x", "clustered")  # clusters unnamed
         assert bool(row.not_exact) == (spread or "adjusting" in text), (row.key, row.not_exact)
     again = permq.run(f"robustness {text} datasets 200 seed 3", tables=TABLES)[0]
     assert again.to_dict()["laws"] == d["laws"]
@@ -511,7 +515,7 @@ def test_explain_says_what_a_check_would_do_and_runs_nothing():
     s = permq.Session(tables=TABLES)
     note = s.run(f"explain robustness compare {inline(X8)} vs {inline(Y8)} datasets 500")[0]
     assert isinstance(note, permq.Note), note
-    assert "6 error laws x 500 data sets" in note.text and "12,870 arrangements (exact)" in note.text
+    assert "7 error laws x 500 data sets" in note.text and "12,870 arrangements (exact)" in note.text
     assert 0 < note.data["estimated_seconds"] < 30 and note.data["method"] == "exact"
     blocked = s.run("explain robustness compare y by g within b in blk using ranks")[0]
     assert "family 'friedman'" in blocked.data["plan"]

@@ -99,7 +99,7 @@ def _column_proportions(node, sub, opts, defaults, catalog):
     table = resolve_table(opts, catalog, sub.span)
     check_columns(table, [sub.rows, sub.columns])
     y, g, warnings = _two_columns(table, sub.rows, sub.columns)
-    outcomes, hits = _binary(y, sub.rows)
+    outcomes, hits = binary_events(y, sub.rows)
     levels = _group_levels(opts, g, sub.columns, table, two=True)
     s = _proportion_settings(node, opts, defaults, ("levels",))
     counts = []
@@ -129,7 +129,7 @@ def _two_columns(table, a_name, b_name, c_name=None):
     return (*out, warnings)
 
 
-def _binary(y, name):
+def binary_events(y, name):
     """((the event, the other) in words, 0/1 array): the second value in natural order is
     the event."""
     from .common import natural_key
@@ -180,7 +180,7 @@ def _strata(node, sub, opts, defaults, catalog):
     table = resolve_table(opts, catalog, sub.span)
     check_columns(table, [sub.rows, sub.columns, within])
     y, g, z, warnings = _two_columns(table, sub.rows, sub.columns, within)
-    outcomes, hits = _binary(y, sub.rows)
+    outcomes, hits = binary_events(y, sub.rows)
     levels = _group_levels(opts, g, sub.columns, table, two=False)
     ordered = "ordered" in opts
     if len(levels) > 2 and not ordered:
@@ -291,7 +291,7 @@ def bind_dose_response(node: n.Relate, catalog, defaults):
     keep = raw.notna() & x.notna()
     warnings = dropped_warning(int((~keep).sum()), names_of(node.response, node.predictor))
     y_text = raw[keep].map(level_text).reset_index(drop=True)
-    outcomes, y = _binary(y_text, node.response)
+    outcomes, y = binary_events(y_text, node.response)
     xv = x[keep].to_numpy(float)
     if np.ptp(xv) == 0:
         raise BindError(f"column '{node.predictor.text}' is constant here", node.predictor.span)

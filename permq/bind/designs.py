@@ -28,6 +28,33 @@ class Settings:
 
 
 @dataclass(frozen=True)
+class UnitsInfo:
+    """The randomised unit (`units COLUMN`): the design's values are one per unit, each the
+    mean of the unit's rows (bind/units.py says why), and arrangements move whole units."""
+
+    column: str              # the unit column, in the user's words
+    labels: tuple            # the units, in the order of the design's values
+    sizes: np.ndarray        # rows of each unit, in the same order
+    rows: int                # rows used in all
+    value: str = "mean of the unit's rows"   # what a unit's value is, in words
+
+    @property
+    def count(self) -> int:
+        return len(self.labels)
+
+    def to_dict(self) -> dict:
+        return {"column": self.column, "units": self.count, "rows": int(self.rows),
+                "rows_per_unit": {"min": int(self.sizes.min()), "max": int(self.sizes.max())},
+                "unit_value": f"{self.value} (each unit weighted equally)"}
+
+    def words(self) -> str:
+        low, high = int(self.sizes.min()), int(self.sizes.max())
+        per = f"{low}" if low == high else f"{low} to {high}"
+        return (f"{self.count} units of '{self.column}' ({self.rows} rows, {per} a unit): "
+                "each unit's mean is one value; arrangements move whole units")
+
+
+@dataclass(frozen=True)
 class TwoSampleDesign:
     x: np.ndarray
     y: np.ndarray
@@ -37,6 +64,7 @@ class TwoSampleDesign:
     settings: Settings
     warnings: tuple = ()
     kind: str = "two-sample"
+    units: Optional[UnitsInfo] = None    # x's units, then y's
 
 
 @dataclass(frozen=True)
@@ -65,6 +93,7 @@ class GroupsDesign:
     scores: Optional[np.ndarray] = None   # dose scores of the ordered levels
     warnings: tuple = ()
     kind: str = "k-sample"
+    units: Optional[UnitsInfo] = None
 
 
 @dataclass(frozen=True)
@@ -77,6 +106,7 @@ class AssociationDesign:
     covariate_names: tuple = ()
     warnings: tuple = ()
     kind: str = "association"
+    units: Optional[UnitsInfo] = None
 
 
 @dataclass(frozen=True)

@@ -15,11 +15,13 @@ import numpy as np
 
 from ..errors import BindError
 from .common import all_numbers as _all_numbers, listed_numbers as _listed
+from . import incomplete
 from .designs import GroupsDesign
 
 
 
-def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, table):
+def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, table,
+                units=None):
     from .common import settings_for, level_text
 
     ordered = "ordered" in opts
@@ -30,22 +32,6 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         if blocks is not None:
             blocks = blocks[keep]
     within = blocks is not None
-    if within:
-        form, kind = "blocked designs", "blocked"
-        registry_kind = ("stratified" if len(levels) == 2 else
-                         "ordered-blocked" if ordered else "blocked")
-    elif ordered:
-        form, kind = "ordered groups", "ordered"
-        registry_kind = kind
-    else:
-        form, kind = "three or more groups", "k-sample"
-        registry_kind = kind
-    allowed = ("levels", "within", "ordered", "scores")
-    s = settings_for(node, opts, defaults, registry_kind, form, allowed)
-    if not ordered and len(levels) > 2 and s.alternative != "two-sided":
-        raise BindError(f"a comparison of {len(levels)} groups has no direction",
-                        opts["alternative"].span if "alternative" in opts else node.span,
-                        hint="drop 'alternative', or add 'ordered' for a trend")
     if within and ordered and len(levels) == 2:
         # a rise along the order is the later level above the earlier one: the stratified
         # comparison of the later level minus the earlier ('higher' means a rise)
@@ -53,13 +39,36 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
                      f"{levels[1]} - {levels[0]} (a rise along {levels[0]} < {levels[1]})",)
         levels = levels[::-1]
     codes = np.array([levels.index(v) for v in g], dtype=np.int64)
-    block_codes, block_labels = None, ()
+    block_codes, block_labels, layout = None, (), "complete"
     if within:
         block_text = blocks.map(level_text)
         block_labels = tuple(sorted(block_text.unique(), key=_natural))
         block_codes = np.array([block_labels.index(b) for b in block_text], dtype=np.int64)
-    if within and len(levels) > 2:
-        _check_complete(codes, block_codes, levels, block_labels, opts["within"].value)
+        if len(levels) > 2:
+            layout = incomplete.pattern(codes, block_codes, len(levels))
+        if layout != "complete" and (ordered or layout == "repeated"):
+            _check_complete(codes, block_codes, levels, block_labels, opts["within"].value,
+                            ordered and layout == "incomplete")
+        if layout == "incomplete":
+            warnings += incomplete.check(codes, block_codes, levels, block_labels,
+                                         opts["within"].value)
+    if within:
+        form, kind = "blocked designs", "blocked"
+        registry_kind = ("stratified" if len(levels) == 2 else
+                         "ordered-blocked" if ordered else
+                         "incomplete-blocked" if layout == "incomplete" else "blocked")
+    elif ordered:
+        form, kind = "ordered groups", "ordered"
+        registry_kind = kind
+    else:
+        form, kind = "three or more groups", "k-sample"
+        registry_kind = kind
+    allowed = ("levels", "within", "ordered", "scores", "units")
+    s = settings_for(node, opts, defaults, registry_kind, form, allowed)
+    if not ordered and len(levels) > 2 and s.alternative != "two-sided":
+        raise BindError(f"a comparison of {len(levels)} groups has no direction",
+                        opts["alternative"].span if "alternative" in opts else node.span,
+                        hint="drop 'alternative', or add 'ordered' for a trend")
     scores = None
     if ordered:
         listed = bool(opts["ordered"].value) or "levels" in opts
@@ -71,8 +80,14 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         raise BindError("'scores' go with 'ordered'", opts["scores"].span, hint="add 'ordered'")
     if len(levels) == 2 and not within and ordered:
         warnings += ("two ordered levels: the trend test is the two-sample test",)
+    info = None
+    if units is not None:
+        from .units import one_row_units_warning
+
+        info = units.info(y.index)
+        warnings += one_row_units_warning(info)
     return GroupsDesign(y.to_numpy(float), codes, tuple(levels), subject.response.text, s,
-                        block_codes, block_labels, ordered, scores, warnings, kind)
+                        block_codes, block_labels, ordered, scores, warnings, kind, units=info)
 
 
 def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
@@ -101,8 +116,9 @@ def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
                         "ordered" if ordered else "k-sample")
 
 
-def _check_complete(codes, block_codes, levels, block_labels, within_name):
-    """Friedman, Page and the within-block F need each level exactly once in every block."""
+def _check_complete(codes, block_codes, levels, block_labels, within_name, ordered=False):
+    """Page's test needs each level exactly once in every block, and no analysis within
+    blocks takes a level twice in a block (bind/incomplete.py takes blocks lacking a level)."""
     k = len(levels)
     for b, label in enumerate(block_labels):
         counts = np.bincount(codes[block_codes == b], minlength=k)
@@ -115,10 +131,15 @@ def _check_complete(codes, block_codes, levels, block_labels, within_name):
             what.append("no " + ", ".join(f"'{m}'" for m in missing))
         if extra:
             what.append("more than one " + ", ".join(f"'{e}'" for e in extra))
+        test = f"Page's test of {k} ordered levels" if ordered else \
+            f"a comparison of {k} levels within blocks"
         raise BindError(f"block '{label}' of '{within_name.text}' has {' and '.join(what)}: "
-                        f"a comparison of {k} levels within blocks needs each level exactly once "
-                        "in every block (complete blocks)", within_name.span,
-                        hint="choose two levels (levels \"A\", \"B\") for a stratified comparison "
+                        f"{test} needs each level exactly once in every block (complete blocks)"
+                        if ordered else
+                        f"{test} takes each level at most once in a block", within_name.span,
+                        hint="drop 'ordered': blocks that lack a level take the F within blocks "
+                             "and Skillings-Mack" if ordered else
+                             "choose two levels (levels \"A\", \"B\") for a stratified comparison "
                              "that takes blocks of any size")
 
 

@@ -8,6 +8,7 @@ from ..errors import BindError
 from ..syntax import nodes as n
 from . import covariates as covariate_columns
 from .common import all_numbers as _all_numbers, listed_numbers as _listed
+from . import units as unit_rows
 from .designs import AssociationDesign, TableDesign
 
 MAX_TABLE_CELLS = 400
@@ -17,17 +18,30 @@ def bind_relate(node: n.Relate, catalog, defaults):
     from .common import check_columns, dropped_warning, numeric_column, resolve_table, settings_for
 
     opts = n.options_of(node)
-    s = settings_for(node, opts, defaults, "association", "an association", ())
+    s = settings_for(node, opts, defaults, "association", "an association", ("units",))
     table = resolve_table(opts, catalog, node.span)
     covs = list(opts["adjusting"].value) if "adjusting" in opts else []
-    check_columns(table, [node.response, node.predictor] + covs)
+    check_columns(table, [node.response, node.predictor] + covs +
+                  ([opts["units"].value] if "units" in opts else []))
     cols = [numeric_column(table, c) for c in [node.response, node.predictor]]
     cols += covariate_columns.columns(table, covs)     # text covariates become indicators below
     frame = pd.concat(cols, axis=1, keys=range(len(cols)))
     keep = frame.notna().all(axis=1)
     names = [node.response.text, node.predictor.text] + [c.text for c in covs]
+    unit = unit_rows.column(table, opts)
+    if unit is not None:
+        keep &= unit.notna()
+        names.append(opts["units"].value.text)
     warnings = dropped_warning(int((~keep).sum()), " or ".join(f"'{v}'" for v in names))
     frame = frame[keep]
+    units = None
+    if unit is not None:
+        carried = {names[i]: frame[i] for i in range(1, len(cols))}
+        unit_rows.check_constant(unit[keep], carried, opts["units"])
+        means, carried, units = unit_rows.collapse(frame[0], unit[keep], carried,
+                                                   opts["units"])
+        frame = pd.concat([means] + [carried[names[i]] for i in range(1, len(cols))], axis=1,
+                          keys=range(len(cols)))
     y, x = frame[0].to_numpy(float), frame[1].to_numpy(float)
     need = 3 + len(covs)
     if len(y) < need:
@@ -43,8 +57,12 @@ def bind_relate(node: n.Relate, catalog, defaults):
         need = 3 + z.shape[1]
         if len(y) < need:
             raise BindError(f"{len(y)} complete rows; this needs at least {need}", node.span)
+    info = None
+    if units is not None:
+        info = units.info(frame.index)
+        warnings += unit_rows.one_row_units_warning(info)
     return AssociationDesign(y, x, (node.response.text, node.predictor.text), s, z,
-                             tuple(c.text for c in covs), warnings)
+                             tuple(c.text for c in covs), warnings, units=info)
 
 
 def bind_count(node: n.Count, catalog, defaults):
@@ -52,6 +70,8 @@ def bind_count(node: n.Count, catalog, defaults):
     from .common import settings_for
 
     opts = n.options_of(node)
+    if "units" in opts and isinstance(node.subject, n.CountBy):
+        return unit_rows.bind_count_units(node, node.subject, opts, catalog, defaults)
     design = counts.bind_count(node, opts, catalog, defaults)
     if design is not None:
         return design

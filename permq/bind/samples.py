@@ -6,6 +6,7 @@ from ..engine.core.grid import exact_difference
 from ..errors import BindError
 from ..syntax import nodes as n
 from . import groups as grouped_forms
+from . import units as unit_rows
 from .common import (Catalog, Defaults, check_columns, chosen_levels, dropped_warning,
                      finite_array, level_text, names_of, natural_key, numeric_column, resolve_table,
                      settings_for)
@@ -31,7 +32,8 @@ def bind_compare(node: n.Compare, catalog: Catalog, defaults: Defaults):
 
 # ---------------------------------------------------------------- grouped: Y by G
 
-def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
+def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults, table=None):
+    """`table`: the rows to read instead of the statement's table (a count's events as 0/1)."""
     if "event" in opts:
         from .events import bind_events
 
@@ -44,9 +46,9 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
         from .adjusted import bind_adjusted
 
         return bind_adjusted(node, subject, opts, catalog, defaults)
-    table = resolve_table(opts, catalog, subject.span)
+    table = table or resolve_table(opts, catalog, subject.span)
     check_columns(table, [subject.response, subject.group] +
-                  ([opts["within"].value] if "within" in opts else []))
+                  [opts[k].value for k in ("within", "units") if k in opts])
     y = numeric_column(table, subject.response)
     g = table.frame[subject.group.text]
     keep = y.notna() & g.notna()
@@ -54,9 +56,17 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
     if "within" in opts:
         blocks = table.frame[opts["within"].value.text]
         keep &= blocks.notna()
+    unit = unit_rows.column(table, opts)
+    if unit is not None:
+        keep &= unit.notna()
     warnings = dropped_warning(int((~keep).sum()), names_of(subject.response, subject.group,
-                                                         opts.get("within")))
+                                                         opts.get("within"), opts.get("units")))
     y, g = y[keep], g[keep].map(level_text)
+    units = None
+    if unit is not None:
+        unit_rows.check_constant(unit[keep], {subject.group.text: g, **(
+            {opts["within"].value.text: blocks[keep]} if blocks is not None else {})},
+            opts["units"])
     present = sorted(g.unique(), key=natural_key)
     levels = present
     if "levels" in opts:
@@ -67,6 +77,10 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
             blocks = blocks[keep][chosen]
     elif blocks is not None:
         blocks = blocks[keep]
+    if unit is not None:
+        y, carried, units = unit_rows.collapse(y, unit[keep], {"g": g, "b": blocks},
+                                               opts["units"])
+        g, blocks = carried["g"], carried["b"]
     if len(levels) < 2:
         raise BindError(f"column '{subject.group.text}' has {len(levels)} level"
                         f"{'' if len(levels) == 1 else 's'} here; a comparison needs two or more",
@@ -78,16 +92,22 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
                             subject.group.span)
     if len(levels) > 2 or "within" in opts or "ordered" in opts:
         return grouped_forms.bind_groups(node, subject, opts, defaults, y, g, levels, blocks,
-                                         warnings, table)
+                                         warnings, table, units)
     s = settings_for(node, opts, defaults, "two-sample", "two groups",
-                     ("levels", "margin"))
+                     ("levels", "margin", "units"))
     a, b = levels
     x1 = y[g == a].to_numpy(float)
     x2 = y[g == b].to_numpy(float)
     if "levels" not in opts:
         warnings += (f"levels taken in sorted order ({a}, {b}); "
                      f"write levels \"{b}\", \"{a}\" for the other direction",)
-    return TwoSampleDesign(x1, x2, (a, b), subject.response.text, f"{a} - {b}", s, warnings)
+    effect, info = f"{a} - {b}", None
+    if units is not None:
+        info = units.info(list(y.index[g == a]) + list(y.index[g == b]))
+        effect = f"{a} - {b}, {units.name} means"
+        warnings += unit_rows.one_row_units_warning(info)
+    return TwoSampleDesign(x1, x2, (a, b), subject.response.text, effect, s, warnings,
+                           units=info)
 
 
 # ---------------------------------------------------------------- inline samples, two columns

@@ -65,6 +65,13 @@ def result_block(r: Result, color: bool = False) -> str:
     lines = [_c(fmt.heading(r.statement), BOLD, color)]
     lines.append(f"{r.family} · {o.statistic_name} · effect: {r.effect}")
     lines.extend(group_lines(r))
+    if "units" in r.extra:
+        u = r.extra["units"]
+        low, high = u["rows_per_unit"]["min"], u["rows_per_unit"]["max"]
+        per = f"{low}" if low == high else f"{low} to {high}"
+        lines.append(f"  {'units':<15}{u['units']} units of '{u['column']}', {u['rows']} rows "
+                     f"({per} a unit), arrangements move whole units")
+        lines.append(f"  {'':<15}a unit's value: the {u['unit_value']}")
     if "table" in r.extra:
         lines.extend(table_lines(r.extra["table"]))
     lines.extend(data_lines(r))

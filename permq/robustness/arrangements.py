@@ -39,7 +39,7 @@ class Reference:
 
 def _base_codes(problem: Problem) -> tuple[np.ndarray, np.ndarray]:
     """(code of each unit, value per code): what an arrangement moves around."""
-    if problem.form == "quadratic":
+    if problem.form in ("quadratic", "quadform"):
         return problem.codes, np.arange(len(problem.sizes), dtype=float)
     if problem.form == "residual":
         return np.arange(problem.n, dtype=np.int64), np.arange(problem.n, dtype=float)
@@ -78,7 +78,7 @@ def _within_strata(problem: Problem, codes: np.ndarray) -> np.ndarray:
 
 
 def _as_matrix(problem: Problem, arranged_codes: np.ndarray, values: np.ndarray) -> np.ndarray:
-    if problem.form == "quadratic":
+    if problem.form in ("quadratic", "quadform"):
         k = len(problem.sizes)
         onehot = arranged_codes[:, None, :] == np.arange(k)[None, :, None]
         return onehot.reshape(-1, problem.n).astype(float)

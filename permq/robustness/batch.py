@@ -59,6 +59,9 @@ def observed_statistic(problem: Problem, A: np.ndarray) -> np.ndarray:
         return residual_t(problem, A @ problem.basis, (A * A).sum(axis=1))
     k = len(problem.sizes)
     onehot = (problem.codes[:, None] == np.arange(k)).astype(float)
+    if problem.form == "quadform":
+        s = A @ onehot
+        return np.einsum("dg,gh,dh->d", s, problem.matrix, s)
     return ((A @ onehot) ** 2 / problem.sizes).sum(axis=1)
 
 
@@ -72,7 +75,7 @@ def residual_t(problem: Problem, proj: np.ndarray, ee: np.ndarray) -> np.ndarray
 
 
 def permutation_p(problem: Problem, A: np.ndarray, reference: Reference) -> np.ndarray:
-    if problem.form == "quadratic":
+    if problem.form in ("quadratic", "quadform"):
         b = _quadratic_exceedances(problem, A, reference)
     elif problem.form == "residual":
         b = _residual_exceedances(problem, A, reference)
@@ -99,8 +102,11 @@ def _quadratic_exceedances(problem, A, reference):
     t0 = observed_statistic(problem, A)
     k = len(problem.sizes)
     s = _products(reference.matrix, A).reshape(-1, k, A.shape[0])
-    s *= s
-    t = np.einsum("pgd,g->pd", s, 1.0 / problem.sizes)
+    if problem.form == "quadform":
+        t = np.einsum("pgd,gh,phd->pd", s, problem.matrix, s)
+    else:
+        s *= s
+        t = np.einsum("pgd,g->pd", s, 1.0 / problem.sizes)
     tol = RTOL * np.maximum(np.abs(t0), (A * A).sum(axis=1))
     return np.count_nonzero(t >= t0 - tol, axis=0)
 

@@ -10,12 +10,24 @@ deviations" means the same thing under each law and the errors differ only in sh
 - contaminated normal: 95% N(0, 1) and 5% from a normal five times as wide (a few outliers;
   the mixture model is common practice in robustness studies);
 
-and two laws that change the spread rather than the shape (normal errors, variance 1 on
+two laws that change the spread rather than the shape (normal errors, variance 1 on
 average over the units):
 
 - unequal spread between groups: the largest spread is three times the smallest, and it goes
   with the smallest group (ties: the later level), the case that hurts tests that pool;
-- spread growing with x (slopes): the error sd rises linearly from 1 to 3 across the range of x.
+- spread growing with x (slopes): the error sd rises linearly from 1 to 3 across the range of x;
+
+and one law that makes the errors dependent, for designs whose randomised unit may be a group
+of rows (groups and slopes):
+
+- clustered errors: normal errors, rows of a cluster sharing a normal effect, intraclass
+  correlation CLUSTER_ICC (variance CLUSTER_ICC shared, 1 - CLUSTER_ICC the row's own). With
+  `units COLUMN` the clusters are the named units, and each unit's mean is what is tested:
+  sqrt(rho) z + sqrt((1 - rho) / m) w for a unit of m rows, scaled to variance 1 on average;
+  whole units are permuted, so the test stays exact (for units of equal size). Without
+  `units`, the rows of each group (or the rows in order of x) are taken in clusters of
+  CLUSTER_ROWS, a litter or a tray the design does not know about: rows are then not
+  exchangeable, and permuting them is not exact (it rejects too often).
 
 For one sample against a value the errors are centred so that the parameter the family
 tests is zero: the mean (means), the pseudo-median, i.e. the median of (e1 + e2) / 2 (ranks),
@@ -90,6 +102,18 @@ GROWING = ErrorLaw("spread-with-x", "spread grows with x",
                    f"normal errors whose sd rises {SPREAD_RATIO:g}-fold across the range of x",
                    _normal, spread="x")
 
+CLUSTER_ICC = 0.3
+CLUSTER_ROWS = 4
+CLUSTERED = ErrorLaw("clustered", "clustered errors",
+                     f"normal errors shared by clusters of {CLUSTER_ROWS} rows of a group "
+                     f"(intraclass correlation {CLUSTER_ICC:g}), units the design does not name",
+                     _normal, spread="clusters")
+CLUSTERED_UNITS = ErrorLaw("clustered", "clustered errors",
+                           "normal errors shared by the rows of each unit (intraclass "
+                           f"correlation {CLUSTER_ICC:g}); each unit's mean is tested",
+                           _normal, spread="clusters")
+CLUSTER_KINDS = ("two-sample", "k-sample", "ordered", "slope")
+
 SHAPES = (NORMAL, T3, LOGNORMAL, EXPONENTIAL, CONTAMINATED)
 
 
@@ -99,9 +123,49 @@ def panel(kind: str) -> tuple:
 
 
 def panel_for(problem) -> tuple:
-    """The design kind's panel without the laws its family's check leaves out."""
+    """The design kind's panel, with clustered errors where the design has or may lack
+    units, without the laws its family's check leaves out."""
     left = dict(problem.check.leaves_out) if problem.check is not None else {}
-    return tuple(law for law in panel(problem.kind) if law.key not in left)
+    laws = panel(problem.kind)
+    if getattr(problem, "unit_sizes", None) is not None:
+        laws += (CLUSTERED_UNITS,)
+    elif getattr(problem, "clusters", None) is not None:
+        laws += (CLUSTERED,)
+    return tuple(law for law in laws if law.key not in left)
+
+
+# ---------------------------------------------------------------- clusters
+
+def row_clusters(codes: np.ndarray, x: Optional[np.ndarray] = None) -> np.ndarray:
+    """Cluster of each row for a design without units: runs of CLUSTER_ROWS rows within each
+    group (in their order), or, with x, runs of CLUSTER_ROWS rows in the order of x."""
+    n = len(codes)
+    order = np.argsort(x, kind="stable") if x is not None else np.argsort(codes, kind="stable")
+    key = np.zeros(n, dtype=np.int64) if x is not None else np.asarray(codes)[order]
+    out = np.empty(n, dtype=np.int64)
+    label, run, previous = -1, 0, None
+    for i, pos in enumerate(order):
+        if key[i] != previous or run == CLUSTER_ROWS:
+            label, run, previous = label + 1, 0, key[i]
+        out[pos] = label
+        run += 1
+    return out
+
+
+def clustered_errors(rng, size: int, clusters: Optional[np.ndarray],
+                     unit_sizes: Optional[np.ndarray]) -> np.ndarray:
+    """(size, N) clustered normal errors: per row with `clusters`, or per unit mean with
+    `unit_sizes` (rows a unit), variance 1 on average."""
+    rho = CLUSTER_ICC
+    if unit_sizes is not None:
+        m = np.asarray(unit_sizes, dtype=float)
+        shared = rng.standard_normal((size, len(m)))
+        own = rng.standard_normal((size, len(m)))
+        e = np.sqrt(rho) * shared + np.sqrt((1 - rho) / m) * own
+        return e / np.sqrt(np.mean(rho + (1 - rho) / m))
+    shared = rng.standard_normal((size, int(clusters.max()) + 1))
+    own = rng.standard_normal((size, len(clusters)))
+    return np.sqrt(rho) * shared[:, clusters] + np.sqrt(1 - rho) * own
 
 
 # ---------------------------------------------------------------- spreads
@@ -170,8 +234,17 @@ def centre(law_key: str, parameter: str) -> float:
 BY_KEY = {law.key: law for law in SHAPES + (UNEQUAL, GROWING)}
 
 
-def breaks_exactness(law: ErrorLaw, kind: str, centre: str, form: str = "") -> Optional[str]:
+def breaks_exactness(law: ErrorLaw, kind: str, centre: str, form: str = "",
+                     unit_sizes: Optional[np.ndarray] = None) -> Optional[str]:
     """Why the permutation test is not exact under this law for this design, or None."""
+    if law.spread == "clusters" and form != "residual":
+        if unit_sizes is None:
+            return ("rows of a cluster share an effect, so rows are not exchangeable; when whole "
+                    "units were randomised, name them (units COLUMN) and whole units are "
+                    "permuted")
+        if np.ptp(unit_sizes) > 0:
+            return "units of unequal size: their means have unequal spread under clustering"
+        return None
     if form == "residual":
         also = "; spread growing with x breaks it further" if law.spread == "x" else ""
         return ("permuting residuals of the reduced model (adjusted slope) is approximate "

@@ -81,9 +81,12 @@ def internal(problem: Problem, a: np.ndarray, matrix: np.ndarray) -> np.ndarray:
         cols = problem.basis.shape[1]
         with np.errstate(divide="ignore", invalid="ignore"):
             return residual_t(problem, t.reshape(-1, cols), float(a @ a))
-    if problem.form != "quadratic":
+    if problem.form not in ("quadratic", "quadform"):
         return t
     k = len(problem.sizes)
+    if problem.form == "quadform":
+        s = t.reshape(-1, k)
+        return np.einsum("pg,gh,ph->p", s, problem.matrix, s)
     return (t.reshape(-1, k) ** 2 / problem.sizes).sum(axis=1)
 
 

@@ -16,6 +16,7 @@ Permutation statistics (`form`):
 - "linear": T = sum_i w_pi(i) a_i, arrangements within `strata` when there are blocks;
 - "signs": T = sum_i s_i a_i over sign flips;
 - "quadratic": sum_g S_g^2 / n_g of the group score sums (within `strata` when blocked);
+- "quadform": S' M S of the group score sums, `matrix` M (incomplete blocks, within `strata`);
 - "pairs": Kendall's S between y and the fixed x (Kendall's tau; Jonckheere-Terpstra, with
   x the group order), T = sum_{i<j} sign(x_j - x_i) sign(y_j - y_i);
 - "residual": the t of the slope in the full model, recomputed on permuted residuals of the
@@ -31,6 +32,7 @@ import numpy as np
 
 from ..bind import designs
 from ..errors import PlanError
+from . import laws as L
 from .spec import Check, check_for
 
 
@@ -55,6 +57,10 @@ class Problem:
     basis: Optional[np.ndarray] = None     # "residual": Q of the reduced model, then x made
     residual_df: int = 0                   #   orthogonal to it; the full model's residual df
     check: Optional[Check] = None          # the family's check: scores, counterpart, reported
+    clusters: Optional[np.ndarray] = None  # clustered errors without units: cluster of each row
+    matrix: Optional[np.ndarray] = None    # "quadform": T = S' M S of the group score sums
+    unit_sizes: Optional[np.ndarray] = None    # with `units`: rows of each unit (the problem's
+                                               #   units are then the design's units)
 
     @property
     def n(self) -> int:
@@ -85,8 +91,24 @@ def problem_for(design) -> Problem:
     alternative = pb.alternative
     if check.reversed:
         alternative = {"higher": "lower", "lower": "higher"}.get(alternative, alternative)
+    pb = _with_clusters(pb, design)
+    if check.matrix is not None:
+        pb = replace(pb, matrix=np.asarray(check.matrix(design), dtype=float))
     return replace(pb, check=check, family=check.test or design.settings.family,
                    alternative=alternative)
+
+
+def _with_clusters(pb: Problem, design) -> Problem:
+    """The clusters of the clustered-errors law: the design's units, or runs of rows."""
+    units = getattr(design, "units", None)
+    if units is not None:
+        return replace(pb, unit_sizes=np.asarray(units.sizes, dtype=np.int64),
+                       design_words=f"{pb.design_words}; {units.count} units of "
+                                    f"'{units.column}' ({units.rows} rows), unit means")
+    if pb.kind in L.CLUSTER_KINDS and pb.form != "residual":
+        return replace(pb, clusters=L.row_clusters(pb.codes, pb.x if pb.kind == "slope"
+                                                   else None))
+    return pb
 
 
 def _several(design):

@@ -78,6 +78,8 @@ def factors(problem: Problem, law: L.ErrorLaw) -> np.ndarray:
 
 def errors(problem: Problem, law: L.ErrorLaw, rng, size: int, f: np.ndarray) -> np.ndarray:
     """(size, N) errors under the null for this design."""
+    if law.spread == "clusters":
+        return L.clustered_errors(rng, size, problem.clusters, problem.unit_sizes)
     if problem.kind == "paired":    # the two members of a pair: their difference is symmetric
         return (law.errors(rng, size, f) - law.errors(rng, size, f)) / np.sqrt(2.0)
     e = law.errors(rng, size, f)
@@ -108,7 +110,8 @@ def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float,
             rates_from_counts(c[:, i], c[:, 4], exact is None) for i in range(5, 9))
         out.append(LawRates(law, *rates,
                             not_exact=L.breaks_exactness(law, problem.kind, problem.check.centre,
-                                                            problem.form), misses=misses))
+                                                            problem.form, problem.unit_sizes),
+                            misses=misses))
     return Simulation(tuple(out), datasets, alpha, exact is not None,
                       exact.count if exact is not None else permutations, seed)
 

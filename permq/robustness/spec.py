@@ -6,6 +6,7 @@ and runs both tests on each. A `Check` says, for the family:
 
 - `form`: the permutation statistic's form on the layout: "linear" (T = sum w_pi(i) a_i,
   within blocks when there are blocks), "signs" (sign flips), "quadratic" (sum_g S_g^2 / n_g),
+  "quadform" (S' M S of the group score sums S, M from `matrix`: incomplete blocks),
   "pairs" (Kendall's S against a fixed order), "residual" (the t of the slope on permuted
   residuals of the reduced model);
 - `scores(problem, Y)`: each data set's scores (robustness/scoring);
@@ -16,6 +17,7 @@ and runs both tests on each. A `Check` says, for the family:
   layout's own;
 - `weights(design)`: the fixed weights of a linear or pairs form, or None for the layout's own
   (the group indicator, the dose scores, x);
+- `matrix(design)`: the matrix M of a "quadform" statistic;
 - `centre`: for one sample, the parameter the errors are centred on ("mean", "median",
   "pseudo-median"), so that it is zero under the null;
 - `reversed`: the family's `alternative higher` is the lower tail of its statistic (the
@@ -46,6 +48,7 @@ class Check:
     leaves_out: tuple = ()               # ((law key, reason), ...)
     inverts: bool = False                # the family's exact interval inverts this very test
                                          # (its coverage is read off the simulated tests)
+    matrix: Optional[Callable] = None    # "quadform": design -> M (groups x groups)
 
     def counterpart_name(self, problem) -> str:
         return self.counterpart(problem) if callable(self.counterpart) else self.counterpart

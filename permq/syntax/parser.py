@@ -382,6 +382,8 @@ class _ToNodes(Transformer):
         name = next(c for c in ch if isinstance(c, n.Name))
         marks = [c for c in ch if isinstance(c, _Lit) and c.span.start > name.span.start]
         return self._opt(meta, "event", (name, (marks[0].value, marks[0].span) if marks else None))
+    def units(self, meta, ch):
+        return self._opt(meta, "units", ch[0])
 
     def ordered(self, meta, ch):
         return self._opt(meta, "ordered", tuple((c.value, c.span) for c in ch))

@@ -91,3 +91,4 @@ def monte_carlo_p(b: int, m: int, level: float = 0.99) -> tuple[float, tuple]:
 
 def clip(p: float) -> float:
     return float(min(1.0, max(0.0, p)))
+

@@ -62,6 +62,7 @@ KEYWORDS = {
     "seed": "seed for Monte Carlo",
     "levels": "choose and order the levels",
     "within": "blocks or strata column",
+    "units": "the randomised unit: its rows move together",
     "ordered": "ordered alternative (trend)",
     "scores": "scores of the ordered levels",
     "paired": "paired columns",
