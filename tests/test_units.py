@@ -301,7 +301,8 @@ def test_count_moves_whole_units_ordered_doses_brute_force():
     every = [t(a) for a in set(itertools.permutations(doses))]
     assert len(every) == 2520
     p = _two_sided(every, t(doses))
-    r = permq.run("count dead by dose ordered units litter", tables={"t": frame})[0]
+    r = permq.run("count dead by dose ordered units litter scores 0, 5, 10, 20",
+                  tables={"t": frame})[0]
     assert r.outcome.arrangements == 2520
     assert r.outcome.p_value == pytest.approx(float(p), rel=1e-12)
 
