@@ -102,11 +102,20 @@ def brute_cochran_p(rows) -> Fraction:
         den = k * n - (r ** 2).sum()
         return (k - 1) * (k * (c ** 2).sum() - n ** 2) / den
     observed = q(rows)
-    perms = [list(itertools.permutations(row)) for row in rows]
+    # each row's distinct arrangements with the number of permutations giving each
+    perms = []
+    for row in rows:
+        counts = {}
+        for p in itertools.permutations(row):
+            counts[p] = counts.get(p, 0) + 1
+        perms.append(list(counts.items()))
     hits = total = 0
     for choice in itertools.product(*perms):
-        total += 1
-        hits += q(choice) >= observed - 1e-9
+        weight = 1
+        for _, c in choice:
+            weight *= c
+        total += weight
+        hits += weight * (q([a for a, _ in choice]) >= observed - 1e-9)
     return Fraction(hits, total)
 
 
