@@ -129,6 +129,7 @@ def _option_hint(key: str) -> Optional[str]:
         "levels": "'levels' goes with a group column: compare mass by recipe levels \"A\", \"B\"",
         "within": "'within' goes with a group column: compare mass by recipe within bench",
         "ordered": "'ordered' goes with a group column: compare mass by dose ordered",
+        "against": "'against' goes with a group column: compare weight by dose against \"0\"",
         "adjusting": "'adjusting for' goes with: relate Y to X using slope adjusting for Z",
         "datasets": "'datasets' goes with a robustness check: robustness compare ... datasets 5000",
         "shift": "'shift' goes with a robustness check: robustness compare ... shift 1 sd",

@@ -27,6 +27,10 @@ def bind_compare(node: n.Compare, catalog: Catalog, defaults: Defaults):
 # ---------------------------------------------------------------- grouped: Y by G
 
 def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
+    if "against" in opts:
+        from .control import bind_against
+
+        return bind_against(node, subject, opts, catalog, defaults)
     if isinstance(subject.response, n.Responses) or "for_each" in opts or "pairwise" in opts:
         from .many import bind_many
 

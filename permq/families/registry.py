@@ -21,7 +21,8 @@ from typing import Callable, Optional
 # The modules that declare families, in the order their words are offered. Adding a family is
 # adding its module here.
 MODULES = ("two_sample", "one_sample", "k_sample", "ordered", "blocked", "association",
-           "tables", "many")
+           "tables", "many", "control", "dose_finding",
+           "studentized")
 
 
 @dataclass(frozen=True)

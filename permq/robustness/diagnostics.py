@@ -41,7 +41,13 @@ def diagnostics(design, result, level: float = LEVEL) -> dict:
 
 
 def attach(design, result, level: float = LEVEL) -> None:
+    from .spread import note
+
     result.extra["diagnostics"] = diagnostics(design, result, level)
+    pointer = note(design.settings.kind, design.settings.family,
+                   result.extra["diagnostics"]["spread_ratio"])
+    if pointer:
+        result.warnings.append(pointer)
 
 
 def _ratio(sds) -> Optional[float]:

@@ -210,7 +210,8 @@ _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
                "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
                "top": ("compare",), "below": ("compare",), "levels": ("compare",),
                "within": ("compare",), "ordered": ("compare", "count"),
-               "paired": ("compare", "count")}
+               "paired": ("compare", "count"),
+               "against": ("compare",)}
 
 
 def _statement_words(text: str) -> set:
@@ -508,6 +509,10 @@ class _ToNodes(Transformer):
 
     def below(self, meta, ch):
         return self._opt(meta, "below", ch[0].value)
+
+    def against(self, meta, ch):
+        # (level, its span): the control level the other levels are compared with
+        return self._opt(meta, "against", (ch[0].value, ch[0].span))
 
 
 def one_line(statement: str) -> str:

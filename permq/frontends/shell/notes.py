@@ -55,6 +55,7 @@ KEYWORDS = {
     "paired": "paired columns",
     "in": "take the columns from a table",
     "adjusting": "covariates for a slope",
+    "against": "every other level against this control",
 }
 
 VALUES = {
