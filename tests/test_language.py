@@ -284,7 +284,7 @@ def test_family_that_does_not_fit_the_form(trays):
     assert_failure(failure_of("compare mass by recipe using signs", trays),
                    "'signs' is not a test family for two groups", 1, 24,
                    "compare mass by recipe using signs\n" + " " * 23 + "^" * 11,
-                   hint="choose one of means, ranks, normal-scores, medians")
+                   hint="choose one of means, ranks, normal-scores, medians, welch, brunner-munzel")
     f = failure_of("compare mass vs 12 using medians", trays)
     assert f.message == "'medians' is not a test family for one sample"
     assert f.hint == "choose one of means, ranks, signs"
