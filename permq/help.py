@@ -25,7 +25,9 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   count sprouted by dose in plots ordered             trend (linear-by-linear)
   count [[9, 1], [3, 7]]                              Fisher's exact test, conditional odds ratio
   count first vs second paired                        McNemar's exact test (your two yes/no columns)
-  count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval""",
+  count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval
+  count sprouted by dose in plots levels "40", "0"    choose the arms; the last named is the reference
+  count [[9, 1], [3, 7]] rows "treated", "control" columns "better", "same"   name an inline table""",
     "many": """several responses or comparisons at once, permuted together
   compare mass, light by recipe levels "A", "B" adjust max-t step-down
   compare every numeric except tray by recipe adjust max-t
@@ -58,6 +60,9 @@ every result also carries diagnostics: skewness, largest residual, spread ratio"
   set seed 11 | set confidence 90% | set alternative higher | set budget 5s | set format json
   explain STATEMENT              the plan and its cost; nothing is run
   save "file.pq"                 write what ran as a query file that replays
+  save report "report.html"      an HTML report: results, pictures, methods, data files, seeds
+  copy                           the last result's reporting sentence, ready to copy
+  set format sentences           one reporting sentence per result
   quit""",
 }
 TOPICS["set"] = TOPICS["session"]

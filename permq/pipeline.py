@@ -21,7 +21,7 @@ from .result import Failure, Note
 from .robustness import diagnostics, executor as robustness, pictures
 from .syntax import nodes as n
 from .syntax.parser import SourceStatement, parse_script
-from . import statements
+from . import effects, statements
 
 
 def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Progress):
@@ -33,7 +33,9 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
     result.extra["estimated_seconds"] = round(the_plan.chosen.seconds, 4)   # what explain said
+    result.design = design            # kept for the report's pictures (not in the JSON)
     diagnostics.attach(design, result)
+    effects.attach(design, result)
     if "picture" in n.options_of(node):
         pictures.attach(design, result)
     return result
@@ -61,10 +63,14 @@ class Session:
         self.base_dir = Path(base_dir) if base_dir else Path.cwd()
         self.progress = Progress(on_progress, should_stop)
         self.history: list[str] = []     # statements that ran, replayable (seeds pinned)
+        self.ran: list[tuple] = []       # (statement text, output) in order, for the report
+        self.files: list[dict] = []      # data files read (SHA-256, rows), for the report
         self.quit_requested = False
         for name, frame in (tables or {}).items():
+            frame = as_frame(name, frame)
             self.catalog.tables[name] = Table(name, frame, "(given)")
             self.catalog.current = self.catalog.current or name
+            self.files.append({"table": name, "frame": frame})   # hashed when a report is written
 
     def run(self, source: str) -> list:
         """Run a script; one output (Result, Note or Failure) per statement that prints."""
@@ -78,6 +84,19 @@ class Session:
         return outputs
 
     def run_statement(self, st: SourceStatement):
+        out = self._run_statement(st)
+        if out is not None and not (isinstance(out, Note) and out.data.get("kind") == "copy"):
+            self.ran.append((st.text, out))
+        return out
+
+    def last_result(self):
+        """The latest output that has a sentence (a result, several tests, a check)."""
+        for _, out in reversed(self.ran):
+            if hasattr(out, "sentence") and not isinstance(out, Failure):
+                return out
+        return None
+
+    def _run_statement(self, st: SourceStatement):
         if st.error is not None:
             return failure(st, st.error)
         try:
@@ -137,6 +156,23 @@ class Session:
         for s in sources:
             out.extend(self.run(s))
         return out
+
+
+def as_frame(name: str, value):
+    """A table handed over from Python: a DataFrame, or a dict of equal-length columns."""
+    import pandas as pd
+
+    if isinstance(value, pd.DataFrame):
+        return value
+    if isinstance(value, dict):
+        try:
+            return pd.DataFrame({str(k): list(v) if not hasattr(v, "__array__") else v
+                                 for k, v in value.items()})
+        except (TypeError, ValueError) as exc:
+            raise TypeError(f"tables['{name}']: a dict of columns needs one list or array per "
+                            f"column, all of the same length ({exc})") from None
+    raise TypeError(f"tables['{name}'] is a {type(value).__name__}; give a pandas DataFrame "
+                    "or a dict of columns, e.g. {'mass': [12.1, 11.8], 'recipe': ['A', 'B']}")
 
 
 def failure(st: SourceStatement, exc: PermqError) -> Failure:

@@ -69,6 +69,7 @@ class Result:
     line: Optional[int] = None
     extra: dict = field(default_factory=dict)     # family-specific additions (kept in JSON)
     also_normal: list = field(default_factory=list)  # further textbook tests (e.g. Welch ANOVA, HC3)
+    design: Optional[object] = field(default=None, repr=False, compare=False)  # the bound design
 
     def to_dict(self) -> dict:
         o = self.outcome
@@ -106,6 +107,22 @@ class Result:
         d.update(self.extra)
         return d
 
+    def sentence(self) -> str:
+        """The reporting sentence: estimate, interval, method, p-values, effect sizes."""
+        return _sentence(self)
+
+    def __str__(self) -> str:
+        return _text(self)
+
+    def __repr__(self) -> str:
+        o = self.outcome
+        how = f"{o.method}" + (f", {o.draws:,} draws" if o.method != "exact" else "")
+        return (f"<permq.Result {self.family}: {_short(self.statement)} -> p = "
+                f"{_p(o.p_value)} ({how})>")
+
+    def _repr_html_(self) -> str:
+        return _html(self)
+
 
 @dataclass
 class Failure:
@@ -118,6 +135,18 @@ class Failure:
     kind: str = "error"
     hint: Optional[str] = None
     caret: str = ""                # the statement line with a caret under the spot
+
+    def sentence(self) -> str:
+        return _sentence(self)
+
+    def __str__(self) -> str:
+        return _text(self)
+
+    def __repr__(self) -> str:
+        return f"<permq.Failure {self.kind}: {self.message}>"
+
+    def _repr_html_(self) -> str:
+        return _html(self)
 
     def to_dict(self) -> dict:
         msg = self.message + (f" ({self.hint})" if self.hint else "")
@@ -133,6 +162,49 @@ class Note:
     text: str
     data: dict = field(default_factory=dict)
     line: Optional[int] = None
+
+    def __str__(self) -> str:
+        return self.text
+
+    def __repr__(self) -> str:
+        return f"<permq.Note {_short(self.statement)}>"
+
+    def _repr_html_(self) -> str:
+        import html
+
+        return f"<pre>{html.escape(self.text)}</pre>"
+
+
+# ---------------------------------------------------------------- how results show themselves
+# (the renderers do the work; imported when asked, so that results stay plain data)
+
+def _sentence(output) -> str:
+    from .render.sentences import sentence
+
+    return sentence(output.to_dict())
+
+
+def _text(output) -> str:
+    from .render.text import render_one
+
+    return render_one(output)
+
+
+def _html(output) -> str:
+    from .render.html import output_html
+
+    return output_html(output)
+
+
+def _short(statement: str, width: int = 60) -> str:
+    text = " ".join(statement.split())
+    return text if len(text) <= width else text[:width - 3] + "..."
+
+
+def _p(v) -> str:
+    from .render.numbers import p
+
+    return p(v)
 
 
 def _num(v):

@@ -8,7 +8,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Optional
 
-from .result import _count, _num
+from .result import _count, _html, _num, _sentence, _short, _text
 
 
 @dataclass(frozen=True)
@@ -99,3 +99,16 @@ class ManyResult:
         d["rows"] = [r.to_dict() for r in self.rows]
         d["warnings"] = list(self.warnings)
         return d
+
+    def sentence(self) -> str:
+        return _sentence(self)
+
+    def __str__(self) -> str:
+        return _text(self)
+
+    def __repr__(self) -> str:
+        return (f"<permq.ManyResult {self.family}: {_short(self.statement)} -> "
+                f"{self.tested:,} tests, {self.adjustment}>")
+
+    def _repr_html_(self) -> str:
+        return _html(self)

@@ -7,11 +7,12 @@ from pathlib import Path
 from .data.tables import default_name, describe, load_table
 from .errors import BindError
 from .help import help_text
+from .report import file_record
 from .result import Note
 from .syntax import nodes as n
 from .syntax.parser import one_line
 
-FORMATS = ("text", "json", "csv", "markdown")
+FORMATS = ("text", "json", "csv", "markdown", "sentences")
 
 
 def run_session_statement(node, text: str, session):
@@ -28,7 +29,10 @@ def run_session_statement(node, text: str, session):
     if isinstance(node, n.Help):
         return Note(text, help_text(node.topic))
     if isinstance(node, n.Save):
-        return _save(node, text, session)
+        return _save_report(node, text, session) if node.what == "report" else \
+            _save(node, text, session)
+    if isinstance(node, n.Copy):
+        return _copy(text, session)
     if isinstance(node, n.Quit):
         session.quit_requested = True
         return None
@@ -43,6 +47,7 @@ def _load(node: n.Load, text, session):
     rows, cols = table.shape
     abs_path = table.source
     session.history.append(f'load "{abs_path}" as {_quote_name(name)}')
+    session.files.append(file_record(name, abs_path, rows, cols))
     return Note(text, f"loaded '{name}': {rows} rows, {cols} columns (now in use)",
                 {"table": name, "rows": rows, "columns": cols})
 
@@ -184,9 +189,7 @@ def _describe(node: n.Describe, text, session):
 
 
 def _save(node: n.Save, text, session):
-    path = Path(node.path).expanduser()
-    if not path.is_absolute():
-        path = session.base_dir / path
+    path = _target(node, session)
     body = "# saved permq session: replay with  permq run " + path.name + "\n"
     body += "\n".join(session.history) + "\n"
     try:
@@ -194,6 +197,36 @@ def _save(node: n.Save, text, session):
     except OSError as exc:
         raise BindError(f"cannot write '{node.path}': {exc.strerror}", node.span) from None
     return Note(text, f"saved {len(session.history)} statements to {path}")
+
+
+def _target(node, session) -> Path:
+    path = Path(node.path).expanduser()
+    return path if path.is_absolute() else session.base_dir / path
+
+
+def _save_report(node: n.Save, text, session):
+    """`save report "analysis.html"`: the HTML report of everything that ran so far."""
+    from .errors import PermqError
+    from .report import write
+
+    path = _target(node, session)
+    if path.suffix.lower() not in (".html", ".htm"):
+        raise BindError(f"a report is an HTML page: '{node.path}' does not end in .html",
+                        node.span, hint=f'write: save report "{path.stem}.html"')
+    try:
+        said = write(session, path)
+    except PermqError as exc:
+        raise BindError(exc.message, node.span) from None
+    return Note(text, said, {"report": str(path)})
+
+
+def _copy(text, session):
+    """`copy`: the last result's sentence, plain (the shell also puts it on its clipboard)."""
+    last = session.last_result()
+    if last is None:
+        raise BindError("nothing to copy yet: run a compare, relate or count statement first")
+    line = last.sentence()
+    return Note(text, line, {"kind": "copy", "sentence": line})
 
 
 def replayable(text: str, result) -> str:

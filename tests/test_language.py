@@ -15,7 +15,8 @@ from permq.errors import BindError, QuerySyntaxError, Span
 from permq.pipeline import caret_lines
 from permq.syntax import nodes as n
 from permq.syntax.grammar import build_parser
-from permq.syntax.parser import SourceStatement, parse_script, parse_statement, translate
+from permq.syntax.messages import translate
+from permq.syntax.parser import SourceStatement, parse_script, parse_statement
 
 
 def assert_failure(f, message, line, column, caret, hint=None, kind=None):
@@ -284,7 +285,8 @@ def test_family_that_does_not_fit_the_form(trays):
     assert_failure(failure_of("compare mass by recipe using signs", trays),
                    "'signs' is not a test family for two groups", 1, 24,
                    "compare mass by recipe using signs\n" + " " * 23 + "^" * 11,
-                   hint="choose one of means, ranks, normal-scores, medians, welch, brunner-munzel")
+                   hint="choose one of means, ranks, normal-scores, medians, ansari-bradley, "
+                        "welch, brunner-munzel")
     f = failure_of("compare mass vs 12 using medians", trays)
     assert f.message == "'medians' is not a test family for one sample"
     assert f.hint == "choose one of means, ranks, signs"
@@ -408,7 +410,7 @@ def test_expected_lists_name_only_options_the_statement_takes(text, absent, pres
     from lark.exceptions import UnexpectedToken
 
     from permq.syntax.grammar import parser
-    from permq.syntax.parser import expected_words, fitting
+    from permq.syntax.messages import expected_words, fitting
 
     with pytest.raises(UnexpectedToken) as info:
         parser().parse(text)

@@ -25,6 +25,13 @@ def test_wheel_contains_the_grammar(wheel):
     assert text == (ROOT / "grammar" / "permq.lark").read_text()
 
 
+def test_wheel_contains_the_results_schema(wheel):
+    name = "permq/contract/results.schema.json"
+    assert name in zipfile.ZipFile(wheel).namelist()
+    text = zipfile.ZipFile(wheel).read(name).decode()
+    assert text == (ROOT / "permq" / "contract" / "results.schema.json").read_text()
+
+
 def test_installed_wheel_parses_and_runs_outside_the_checkout(wheel, tmp_path):
     target = tmp_path / "site"
     subprocess.run([sys.executable, "-m", "pip", "install", "--no-deps", "-q", "--target",
@@ -39,3 +46,6 @@ def test_installed_wheel_parses_and_runs_outside_the_checkout(wheel, tmp_path):
     assert done.returncode == 0, done.stderr
     # 3 + 4 values, complete separation: the two-sided exact p is 2 / C(7, 3) = 2/35
     assert abs(float(done.stdout) - 2 / 35) < 1e-12
+    schema = subprocess.run([sys.executable, "-m", "permq", "schema"], cwd=tmp_path, env=env,
+                            capture_output=True, text=True)
+    assert schema.returncode == 0 and '"title": "permq results"' in schema.stdout

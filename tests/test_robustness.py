@@ -122,10 +122,10 @@ def test_laws_are_standardised_and_centred():
         e = law.draw(rng, 400_000)
         assert abs(e.mean()) < 0.02 and abs(e.var() - 1) < (0.2 if law is L.T3 else 0.03), law.key
     exp = L.EXPONENTIAL.draw(rng, 400_000)
-    m = L.centre("exponential", "signs")
+    m = L.centre("exponential", "median")
     assert m == pytest.approx(math.log(2) - 1, abs=1e-9)
     # pseudo-median of the centred exponential: (e1 + e2) / 2 has the median of Gamma(2, 1/2)
-    assert L.centre("exponential", "ranks") == pytest.approx(stats.gamma.median(2) / 2 - 1,
+    assert L.centre("exponential", "pseudo-median") == pytest.approx(stats.gamma.median(2) / 2 - 1,
                                                              abs=1e-7)
     assert np.mean(exp - m < 0) == pytest.approx(0.5, abs=0.003)
 
@@ -173,7 +173,7 @@ def test_permutation_test_never_exceeds_the_level_under_exchangeable_laws():
              ("relate y to x in t using kendall", True),                 # exact, 5,040
              (f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered using ranks",
               False),                                                    # Jonckheere-Terpstra
-             ("compare y by g within b in blk", True),                   # Friedman, 6^4
+             ("compare y by g within b in blk using ranks", True),                   # Friedman, 6^4
              ('compare y by g levels "a", "b" within b using ranks in str', True)]
     checked = 0
     for text, exact in cases:
@@ -254,7 +254,7 @@ def test_friedman_chi_square_at_few_blocks_errs_in_the_published_direction():
     rng = np.random.default_rng(41)       # the design only; the responses are simulated
     frame = pd.DataFrame({"y": rng.normal(0, 1, 20), "g": np.tile(["a", "b", "c", "d"], 5),
                           "b": np.repeat(np.arange(5), 4)})
-    pb = _problem("compare y by g within b in f", tables={"f": frame})
+    pb = _problem("compare y by g within b in f using ranks", tables={"f": frame})
     assert pb.family == "friedman"
     sim = simulate(pb, np.zeros(pb.n), 4000, 0.05, 43, panel=(L.NORMAL,))
     normal, perm = sim.rates[0].normal_null, sim.rates[0].permutation_null
@@ -342,7 +342,7 @@ def test_significance_sets_the_level():
     ("relate y to x in t using slope adjusting for z", "adjusted", "adjusted for covariates"),
     (f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered using ranks",
      "Jonckheere", "Jonckheere-Terpstra"),
-    ("compare y by g within b in blk", "Friedman", "Friedman"),
+    ("compare y by g within b in blk using ranks", "Friedman", "Friedman"),
     ("compare y by g within b using means in blk", "F for treatments", "F for treatments"),
     ('compare y by g ordered "lo" < "mid" < "hi" within b using ranks in blk', "Page", "Page"),
     ('compare y by g levels "a", "b" within b in str', "stratified", "additive model"),
@@ -453,7 +453,7 @@ def test_null_picture_from_monte_carlo_draws(tmp_path):
 @pytest.mark.parametrize("text", [
     "relate y to x in t using slope adjusting for z sampled 20000 seed 6",
     "compare y by g within b using means in blk sampled 20000 seed 6",
-    "compare y by g within b in blk sampled 20000 seed 6",
+    "compare y by g within b in blk using ranks sampled 20000 seed 6",
     f"compare {inline(A5)} vs {inline(B5)} vs {inline(C4)} ordered using ranks sampled 20000 "
     "seed 6",
 ])
@@ -513,7 +513,7 @@ def test_explain_says_what_a_check_would_do_and_runs_nothing():
     assert isinstance(note, permq.Note), note
     assert "6 error laws x 500 data sets" in note.text and "12,870 arrangements (exact)" in note.text
     assert 0 < note.data["estimated_seconds"] < 30 and note.data["method"] == "exact"
-    blocked = s.run("explain robustness compare y by g within b in blk")[0]
+    blocked = s.run("explain robustness compare y by g within b in blk using ranks")[0]
     assert "family 'friedman'" in blocked.data["plan"]
     assert "1,296 arrangements (exact)" in blocked.text
     table = s.run("explain robustness count [[9, 1], [3, 7]] shift 3")[0]

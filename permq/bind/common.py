@@ -93,11 +93,12 @@ def _not_a_family(opt, kind: str, form: str) -> BindError:
 
     word = opt.value
     allowed = [f.keyword for f in registry.for_kind(kind) if f.selectable]
+    # where the word fits this statement with one more option ('trend' once 'ordered' is added)
     elsewhere = [k for k in registry.kinds_of(word) if registry.kind(k).verb ==
-                 registry.kind(kind).verb]
+                 registry.kind(kind).verb and registry.kind(k).how.startswith("add ")]
     hint = "choose one of " + ", ".join(allowed) if allowed else (
         f"{form} has one test, {registry.default(kind).title}: drop 'using'")
-    if elsewhere and len(allowed) == 1:
+    if elsewhere:
         hint = f"'{word}' applies to {registry.kind(elsewhere[0]).words}: " \
                f"{registry.kind(elsewhere[0]).how}"
     return BindError(f"'{word}' is not a test family for {form}", opt.span, hint=hint)

@@ -60,11 +60,11 @@ def bind_count(node: n.Count, catalog, defaults):
     return _crosstab(node, sub, opts, defaults, catalog)
 
 
-def _table_settings(node, opts, defaults, ordered):
+def _table_settings(node, opts, defaults, ordered, extra=()):
     from .common import settings_for
 
     kind = "ordered-table" if ordered else "table"
-    return settings_for(node, opts, defaults, kind, "a table", ("ordered",))
+    return settings_for(node, opts, defaults, kind, "a table", ("ordered",) + extra)
 
 
 def _check_shape(t, span):
@@ -87,10 +87,26 @@ def _inline_table(node, sub, opts, defaults):
     t = t.astype(np.int64)
     _check_shape(t, sub.span)
     ordered = "ordered" in opts
-    s = _table_settings(node, opts, defaults, ordered)
+    s = _table_settings(node, opts, defaults, ordered, ("rows", "columns"))
     r, c = t.shape
-    return TableDesign(t, tuple(f"row {i + 1}" for i in range(r)),
-                       tuple(f"column {j + 1}" for j in range(c)), s, "table", ordered)
+    rows = _labels(opts.get("rows"), r, "row", "rows")
+    cols = _labels(opts.get("columns"), c, "column", "columns")
+    return TableDesign(t, rows, cols, s, "table", ordered)
+
+
+def _labels(opt, size: int, word: str, plural: str) -> tuple:
+    """`rows "treated", "control"` / `columns "yes", "no"`: names for an inline table's rows
+    or columns, one each, no repeats."""
+    if opt is None:
+        return tuple(f"{word} {i + 1}" for i in range(size))
+    names = [text for text, _ in opt.value]
+    if len(names) != size:
+        raise BindError(f"the table has {size} {plural}; '{opt.key}' names {len(names)}",
+                        opt.span, hint=f"give {size} names")
+    for i, (text, span) in enumerate(opt.value):
+        if text in names[:i]:
+            raise BindError(f"\"{text}\" names two {plural}", span)
+    return tuple(names)
 
 
 def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
@@ -102,13 +118,26 @@ def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
     keep = a.notna() & b.notna()
     warnings = dropped_warning(int((~keep).sum()), f"'{sub.rows.text}' or '{sub.columns.text}'")
     a, b = a[keep].map(level_text), b[keep].map(level_text)
-    ct = pd.crosstab(a, b)
     ordered = "ordered" in opts
+    s = _table_settings(node, opts, defaults, ordered, ("levels",))
+    if "levels" in opts:        # the arms: choose and order the `by` column's levels
+        from .common import chosen_levels as _chosen_levels
+
+        present = sorted(set(b), key=_natural)
+        chosen = _chosen_levels(opts["levels"], present, sub.columns.text)
+        inside = b.isin(chosen)
+        if (~inside).sum():
+            warnings += (f"left out {int((~inside).sum())} row"
+                         f"{'s' if (~inside).sum() != 1 else ''} at levels not named in "
+                         f"'levels'",)
+        a, b = a[inside], b[inside]
+    ct = pd.crosstab(a, b)
     if ordered:
         ct = ct.loc[sorted(ct.index, key=_natural), sorted(ct.columns, key=_natural)]
+    if "levels" in opts:
+        ct = ct[[c for c in chosen if c in ct.columns]]
     t = ct.to_numpy(np.int64)
     _check_shape(t, sub.span)
-    s = _table_settings(node, opts, defaults, ordered)
     return TableDesign(t, tuple(map(str, ct.index)), tuple(map(str, ct.columns)), s, "table",
                        ordered, names=(sub.rows.text, sub.columns.text), warnings=warnings)
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from math import comb
-from typing import Optional
+from typing import Callable, Optional
 
 import numpy as np
 
@@ -30,35 +30,39 @@ MAX_INTERVAL_DRAWS = 2_000_000
 
 
 @dataclass(frozen=True)
-class TwoSampleFamily:
+class ScoreRule:
+    """How a two-sample family scores the pooled values; its statistic is the first group's
+    score sum (or, for `mean_difference`, the difference in means, with the exact interval
+    for a shift). A family may bring its own rule (families/scale.py does)."""
+
     key: str
     statistic_name: str
+    scores: Callable[[np.ndarray], np.ndarray]   # pooled values (first group first) -> scores
+    mean_difference: bool = False
 
 
-FAMILIES = {
-    "means": TwoSampleFamily("means", "difference in means"),
-    "ranks": TwoSampleFamily("ranks", "rank sum of the first group (mid-ranks)"),
-    "normal-scores": TwoSampleFamily("normal-scores", "normal-scores sum of the first group"),
-    "medians": TwoSampleFamily("medians", "count of the first group above the pooled median"),
+RULES = {
+    "means": ScoreRule("means", "difference in means", lambda a: a, mean_difference=True),
+    "ranks": ScoreRule("ranks", "rank sum of the first group (mid-ranks)", midranks),
+    "normal-scores": ScoreRule("normal-scores", "normal-scores sum of the first group",
+                               normal_scores),
+    "medians": ScoreRule("medians", "count of the first group above the pooled median",
+                         median_scores),
 }
 
 
-def scores_for(family: str, x, y) -> np.ndarray:
-    pooled = np.concatenate([x, y]).astype(float)
-    if family == "means":
-        return pooled
-    if family == "ranks":
-        return midranks(pooled)
-    if family == "normal-scores":
-        return normal_scores(pooled)
-    if family == "medians":
-        return median_scores(pooled)
-    raise KeyError(family)
+def rule_of(rule) -> ScoreRule:
+    """A rule, or the name of one of this engine's rules."""
+    return RULES[rule] if isinstance(rule, str) else rule
 
 
-def statistic_from_sum(family: str, s, a, n1: int):
+def scores_for(rule, x, y) -> np.ndarray:
+    return rule_of(rule).scores(np.concatenate([x, y]).astype(float))
+
+
+def statistic_from_sum(rule, s, a, n1: int):
     """The reported statistic for group-1 score sum(s) s."""
-    if family == "means":
+    if rule_of(rule).mean_difference:
         n2 = len(a) - n1
         return np.asarray(s) / n1 - (a.sum() - np.asarray(s)) / n2
     return np.asarray(s, dtype=float)
@@ -66,8 +70,9 @@ def statistic_from_sum(family: str, s, a, n1: int):
 
 # ---------------------------------------------------------------- cost
 
-def candidates(family: str, x, y, draws: int) -> list[Candidate]:
-    a = scores_for(family, x, y)
+def candidates(rule, x, y, draws: int) -> list[Candidate]:
+    rule = rule_of(rule)
+    a = scores_for(rule, x, y)
     n1, N = len(x), len(a)
     total = float(comb(N, n1))
     out = []
@@ -76,10 +81,10 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
         width = float(np.sort(grid.integers)[::-1][:n1].sum()) + 1
         ops = N * (n1 + 1) * width / 2
         mem = layer_bytes(n1 + 1, width)
-        if family == "means":   # the exact interval counts each group on its own as well
+        if rule.mean_difference:   # the exact interval counts each group on its own as well
             ops *= 2
             mem *= 2
-        note = ("scores are integers" if family != "means"
+        note = ("scores are integers" if not rule.mean_difference
                 else f"data on a grid of {grid.step:g} ({grid.decimals} decimals)")
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
                              feasible=mem <= MAX_DP_BYTES, note=note, arrangements=total))
@@ -99,16 +104,16 @@ def candidates(family: str, x, y, draws: int) -> list[Candidate]:
 
 # ---------------------------------------------------------------- run
 
-def run(family: str, x, y, alternative: str, algorithm: str, level: float,
+def run(rule, x, y, alternative: str, algorithm: str, level: float,
         draws: Optional[int] = None, seed: Optional[int] = None,
         progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:
     """The permutation p-value, and for `means` the exact interval for the shift x - y."""
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
-    a = scores_for(family, x, y)
+    fam = rule_of(rule)
+    a = scores_for(fam, x, y)
     n1 = len(x)
-    fam = FAMILIES[family]
-    t_obs = float(statistic_from_sum(family, a[:n1].sum(), a, n1))
+    t_obs = float(statistic_from_sum(fam, a[:n1].sum(), a, n1))
     if algorithm == "dp-integer":
         return _run_dp(fam, x, y, a, alternative, level, t_obs, progress)
     if algorithm == "enumeration":
@@ -129,12 +134,12 @@ def _run_dp(fam, x, y, a, alternative, level, t_obs, progress):
     total = comb(N, n1)
     warn = () if total < EXACT_COUNT_LIMIT else (
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
-    stat_support = statistic_from_sum(fam.key, n1 * grid.origin + grid.step * support, a, n1)
+    stat_support = statistic_from_sum(fam, n1 * grid.origin + grid.step * support, a, n1)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact",
                         "dynamic programming on integer scores", arrangements=float(total),
                         null_support=stat_support, null_probs=counts / counts.sum(), warnings=warn)
     interval = None
-    if fam.key == "means":
+    if fam.mean_difference:
         interval = _shift_interval_dp(q[:n1], q[n1:], grid, level, alternative, total)
     return out, interval
 
@@ -182,7 +187,7 @@ def _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress):
     for idx in combinations_chunks(N, n1):
         s = a[idx].sum(axis=1)
         sums.append(s)
-        if fam.key == "means":
+        if fam.mean_difference:
             in2 = idx >= n1
             u = in2.sum(axis=1)
             g2_in = np.where(in2, a[idx], 0.0).sum(axis=1)
@@ -198,9 +203,9 @@ def _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress):
     uniq, cnt = _tally(sums)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact", "complete enumeration",
                         arrangements=float(total),
-                        null_support=statistic_from_sum(fam.key, uniq, a, n1), null_probs=cnt / total)
+                        null_support=statistic_from_sum(fam, uniq, a, n1), null_probs=cnt / total)
     interval = None
-    if fam.key == "means":
+    if fam.mean_difference:
         u = np.concatenate(us)
         w = np.concatenate(ws)
         moved = u > 0
@@ -226,7 +231,7 @@ def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progr
     s_obs = a[:n1].sum()
     center = n1 * a.mean()
     scale = max(abs(s_obs - center), float(np.abs(a).max()))
-    means = fam.key == "means"
+    means = fam.mean_difference
 
     def work(size, rng):
         s, u, g2_in = subset_sums(a, n1, random_u32(rng, size, n1), sums_only=not means)

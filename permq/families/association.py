@@ -48,7 +48,28 @@ def _median(v):
     return np.median(v)
 
 
-def _declare(keyword, title, summary, normal, estimate, robustness="linear", **more):
+def _spearman_weights(design):
+    from ..engine.core.scores import midranks
+
+    rx = midranks(design.x)
+    return rx - rx.mean()
+
+
+def _check(form, scores, counterpart, normal_p, reported, weights=None):
+    def check(design):
+        from ..robustness import counterparts, reported as rep, scoring
+        from ..robustness.spec import Check
+
+        if design.covariates is not None:     # the adjusted slope: residual permutation
+            return Check("residual", scoring.residuals,
+                         "least-squares t test of the slope adjusted for covariates",
+                         counterparts.adjusted_slope_t, rep.as_is)
+        return Check(form, getattr(scoring, scores), counterpart, getattr(counterparts, normal_p),
+                     getattr(rep, reported), weights=weights)
+    return check
+
+
+def _declare(keyword, title, summary, normal, estimate, robustness, **more):
     return Family(keyword, ("association",), title, summary, plan, execute, normal, estimate,
                   robustness=robustness, **more)
 
@@ -56,16 +77,22 @@ def _declare(keyword, title, summary, normal, estimate, robustness="linear", **m
 FAMILIES = [
     _declare("pearson", "permutation test of Pearson's correlation", "Pearson correlation",
              "t test of Pearson's r", "sample correlation (no permutation interval)",
+             _check("linear", "values", "t test of Pearson's r", "slope_t", "correlation"),
              default_in=("association",)),
     _declare("spearman", "permutation test of Spearman's rho (mid-ranks)",
              "Spearman rank correlation", "t approximation for Spearman's rho",
-             "sample rank correlation (no permutation interval)"),
+             "sample rank correlation (no permutation interval)",
+             _check("linear", "ranks", "t approximation for Spearman's rho", "slope_t",
+                    "correlation", weights=_spearman_weights)),
     _declare("kendall", "Kendall's tau (tau-b with ties), exact by counting inversions",
              "Kendall's tau", "normal approximation for Kendall's S",
-             "sample tau (no permutation interval)", robustness="pairs"),
+             "sample tau (no permutation interval)",
+             _check("pairs", "values", "normal approximation for Kendall's S", "kendall_z",
+                    "kendall_tau")),
     _declare("slope", "permutation test of the least-squares slope; with covariates, "
              "Freedman-Lane residual permutation", "least-squares slope",
              "least-squares t test of the slope (and its HC3 form)",
              "slope; exact interval by inverting the test (none when adjusted)",
+             _check("linear", "values", "least-squares t test of the slope", "slope_t", "slope"),
              options=("adjusting",)),
 ]

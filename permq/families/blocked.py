@@ -66,19 +66,41 @@ NORMAL = {
 }
 
 
+def _check(form, scores, counterpart, normal_p, reported="as_is"):
+    """The robustness check of a blocked family: units permuted within their block."""
+    def check(design):
+        from ..robustness import counterparts, reported as rep, scoring
+        from ..robustness.spec import Check
+
+        return Check(form, getattr(scoring, scores), counterpart, getattr(counterparts, normal_p),
+                     getattr(rep, reported), test=blocked_test(design))
+    return check
+
+
 FAMILIES = [
     Family("means", ("stratified",), "stratified permutation test of the difference in means",
            "", plan, execute, "t for the group effect in the additive model with blocks",
-           robustness="linear", default_in=("stratified",)),
+           robustness=_check("linear", "values",
+                             "t for the group effect, additive model with blocks", "blocked_t"),
+           default_in=("stratified",)),
     Family("ranks", ("stratified",), "stratified Wilcoxon rank-sum test (ranks within blocks)",
            "", plan, execute, "normal approximation to the stratified rank sum",
-           robustness="linear"),
+           robustness=_check("linear", "ranks_within",
+                             "normal approximation to the stratified rank sum",
+                             "stratified_rank_sum_z")),
     Family("means", ("blocked",), "permutation F within blocks", "", plan, execute,
-           "F for treatments in the additive two-way model", robustness="quadratic"),
-    Family("ranks", ("blocked",), "Friedman test (mid-ranks within blocks)", "", plan, execute,
-           "chi-square approximation to Friedman's statistic", robustness="quadratic",
+           "F for treatments in the additive two-way model",
+           robustness=_check("quadratic", "values", "F for treatments, additive two-way model",
+                             "additive_f", "within_block_f"),
            default_in=("blocked",)),
+    Family("ranks", ("blocked",), "Friedman test (mid-ranks within blocks)", "", plan, execute,
+           "chi-square approximation to Friedman's statistic",
+           robustness=_check("quadratic", "ranks_within",
+                             "chi-square approximation to Friedman's statistic",
+                             "friedman_chi_square", "friedman")),
     Family("ranks", ("ordered-blocked",), "Page's test for ordered treatments", "", plan,
-           execute, "normal approximation to Page's L", robustness="linear",
+           execute, "normal approximation to Page's L",
+           robustness=_check("linear", "ranks_within", "normal approximation to Page's L",
+                             "page_z"),
            default_in=("ordered-blocked",)),
 ]

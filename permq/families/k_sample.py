@@ -33,15 +33,32 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                   also_normal=also)
 
 
-def _declare(keyword, title, normal, default=False):
+def _check(keyword, scores, counterpart, normal_p):
+    """The robustness check of a k-sample family: sum_g S_g^2 / n_g of the group score sums."""
+    def check(design):
+        from ..robustness import counterparts, reported, scoring
+        from ..robustness.spec import Check
+
+        return Check("quadratic", getattr(scoring, scores), counterpart,
+                     getattr(counterparts, normal_p),
+                     reported.quadratic(ksample.FAMILIES[keyword]))
+    return check
+
+
+def _declare(keyword, title, normal, scores, counterpart, normal_p, default=False):
     return Family(keyword, ("k-sample",), title, "", plan, execute, normal, "",
-                  robustness="quadratic", default_in=("k-sample",) if default else ())
+                  robustness=_check(keyword, scores, counterpart, normal_p),
+                  default_in=("k-sample",) if default else ())
 
 
 FAMILIES = [
-    _declare("means", "permutation F test", "one-way ANOVA F (and Welch's ANOVA)", default=True),
-    _declare("ranks", "Kruskal-Wallis test (mid-ranks)", "Kruskal-Wallis chi-square approximation"),
+    _declare("means", "permutation F test", "one-way ANOVA F (and Welch's ANOVA)",
+             "values", "one-way ANOVA F", "anova_f", default=True),
+    _declare("ranks", "Kruskal-Wallis test (mid-ranks)", "Kruskal-Wallis chi-square approximation",
+             "ranks", "Kruskal-Wallis chi-square approximation", "chi_square_of_scores"),
     _declare("normal-scores", "van der Waerden k-sample test",
-             "chi-square approximation to the normal-scores statistic"),
-    _declare("medians", "Mood's median test for k groups", "median test chi-square approximation"),
+             "chi-square approximation to the normal-scores statistic", "normal_scores",
+             "van der Waerden chi-square approximation", "chi_square_of_scores"),
+    _declare("medians", "Mood's median test for k groups", "median test chi-square approximation",
+             "above_median", "median test chi-square approximation", "median_chi_square"),
 ]

@@ -77,20 +77,42 @@ def _sampled_words(method, draws, what):
     return f" (on the sampled {what})"
 
 
-def _declare(keyword, title, summary, normal, estimate, default=False):
+def _check(scores, counterpart, normal_p, reported, effect, centre):
+    """The robustness check of a sign-flip family (pieces named from robustness/)."""
+    def check(design):
+        from ..robustness import counterparts, effects, reported as rep, scoring
+        from ..robustness.spec import Check
+
+        return Check("signs", getattr(scoring, scores), counterpart,
+                     getattr(counterparts, normal_p), getattr(rep, reported),
+                     effect=getattr(effects, effect), centre=centre)
+    return check
+
+
+def _t_name(problem) -> str:
+    return "one-sample t on the differences" if problem.kind == "paired" else "one-sample t"
+
+
+def _declare(keyword, title, summary, normal, estimate, robustness, default=False):
     kinds = ("paired", "one-sample")
     return Family(keyword, kinds, title, summary, plan, execute, normal, estimate,
-                  robustness="signs", default_in=kinds if default else ())
+                  robustness=robustness, default_in=kinds if default else ())
 
 
 FAMILIES = [
     _declare("means", "sign-flip permutation test of the mean (Fisher)",
              "mean difference, by sign flips", "one-sample t",
-             "mean; exact interval by inverting the sign-flip test", default=True),
+             "mean; exact interval by inverting the sign-flip test",
+             _check("values", _t_name, "one_sample_t", "mean_of_flips", "mean", "mean"),
+             default=True),
     _declare("ranks", "Wilcoxon signed-rank test (mid-ranks, Pratt's rule for zeros)",
              "Wilcoxon signed ranks", "normal approximation to the signed-rank sum",
-             "Hodges-Lehmann pseudo-median; interval at the exact signed-rank quantiles"),
+             "Hodges-Lehmann pseudo-median; interval at the exact signed-rank quantiles",
+             _check("signed_ranks", "normal approximation to the signed-rank sum",
+                    "signed_rank_z", "positive_sum", "pseudo_median", "pseudo-median")),
     _declare("signs", "sign test", "sign test (paired, one sample)",
              "normal approximation to the sign count",
-             "median; interval at binomial quantiles"),
+             "median; interval at binomial quantiles",
+             _check("signs", "normal approximation to the sign count", "sign_z",
+                    "positive_sum", "median", "median")),
 ]

@@ -45,11 +45,27 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                   also_normal=also)
 
 
+def _trend_check(design):
+    from ..robustness import counterparts, reported, scoring
+    from ..robustness.spec import Check
+
+    return Check("linear", scoring.values, "linear trend t", counterparts.trend_t,
+                 reported.trend)
+
+
+def _jonckheere_check(design):
+    from ..robustness import counterparts, reported, scoring
+    from ..robustness.spec import Check
+
+    return Check("pairs", scoring.values, "Jonckheere-Terpstra normal approximation",
+                 counterparts.jonckheere_z, reported.jonckheere)
+
+
 FAMILIES = [
     Family("means", ("ordered",), "permutation test of the linear trend in dose scores",
            "", plan, execute, "linear trend t", "trend slope; exact interval by inversion",
-           robustness="linear", default_in=("ordered",)),
+           robustness=_trend_check, default_in=("ordered",)),
     Family("ranks", ("ordered",), "Jonckheere-Terpstra test", "", plan, execute,
            "Jonckheere-Terpstra normal approximation (and the linear trend t)",
-           "trend slope; exact interval by inversion", robustness="pairs"),
+           "trend slope; exact interval by inversion", robustness=_jonckheere_check),
 ]

@@ -21,7 +21,7 @@ from typing import Callable, Optional
 # The modules that declare families, in the order their words are offered. Adding a family is
 # adding its module here.
 MODULES = ("two_sample", "one_sample", "k_sample", "ordered", "blocked", "association",
-           "tables", "many", "control", "dose_finding",
+           "tables", "many", "scale", "control", "dose_finding",
            "studentized")
 
 
@@ -64,7 +64,7 @@ class Family:
     execute: Callable              # (design, plan, progress, statement) -> Result
     normal: str                    # the normal-theory counterpart, in words
     estimate: str = ""             # the estimate and its interval, in words ("" when none)
-    robustness: Optional[str] = None   # its form in the robustness check (robustness/problem)
+    robustness: Optional[Callable] = None   # design -> its robustness.spec.Check (or CountCheck)
     no_robustness: str = ""        # why there is no robustness form, when there is none
     default_in: tuple = ()         # kinds where it is the default family
     options: tuple = ()            # options only this family takes, e.g. ("adjusting",)

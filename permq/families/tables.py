@@ -75,6 +75,9 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
         estimate = tables_2x2.odds_ratio(t, s.level, s.alternative)
         effect = (f"odds ratio of '{design.col_labels[0]}' in '{design.row_labels[0]}' "
                   f"against '{design.row_labels[1]}'")
+        if design.names:        # from columns: the arms are the `by` column's levels
+            effect = (f"odds ratio of '{design.row_labels[0]}' in '{design.col_labels[0]}' "
+                      f"against '{design.col_labels[1]}'")
         rule = tables_2x2.TWO_SIDED_RULE
     else:
         out = tables.run(t, s.family, s.alternative, alg, draws, seed, progress)
@@ -95,28 +98,37 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
 
 TABLE_KINDS = ("table", "ordered-table")
 
+
+def _count_check(design):
+    """The count check: each simulated table gets the route and statistic this design's own
+    exact test takes."""
+    from ..robustness.spec import CountCheck
+
+    s = design.settings
+    return CountCheck(route_of(design), s.family, ordered=s.family == "trend")
+
 FAMILIES = [
     Family("fisher", TABLE_KINDS, "Fisher's exact test (Freeman-Halton for r x c)",
            "Fisher's exact test", plan, execute,
            "Pearson chi-square (and the likelihood ratio G2)",
            "2 x 2: conditional maximum-likelihood odds ratio with its exact interval",
-           robustness="table", default_in=("table",)),
+           robustness=_count_check, default_in=("table",)),
     Family("chi-square", TABLE_KINDS, "exact test of Pearson's chi-square",
            "Pearson chi-square, exact", plan, execute, "Pearson chi-square approximation",
-           robustness="table"),
+           robustness=_count_check),
     Family("likelihood-ratio", TABLE_KINDS, "exact test of the likelihood-ratio statistic G2",
            "likelihood-ratio statistic, exact", plan, execute,
-           "chi-square approximation to G2", robustness="table"),
+           "chi-square approximation to G2", robustness=_count_check),
     Family("trend", ("ordered-table",), "exact linear-by-linear association (trend) test",
            "linear-by-linear trend (ordered tables)", plan, execute,
-           "normal approximation to the linear-by-linear statistic", robustness="table",
+           "normal approximation to the linear-by-linear statistic", robustness=_count_check,
            default_in=("ordered-table",)),
     Family("fisher", ("paired-table",), "McNemar's exact test (binomial on discordant pairs)",
            "Fisher's exact test", plan, execute, "McNemar's chi-square",
            "conditional odds ratio of the discordant pairs with its exact interval",
-           robustness="paired-table", default_in=("paired-table",)),
+           robustness=_count_check, default_in=("paired-table",)),
     Family("binomial", ("proportion",), "exact binomial test", "exact binomial test", plan,
            execute, "normal approximation to the binomial (score test)",
-           "proportion with its Clopper-Pearson interval", robustness="proportion",
+           "proportion with its Clopper-Pearson interval", robustness=_count_check,
            default_in=("proportion",), selectable=False),
 ]

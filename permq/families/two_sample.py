@@ -70,23 +70,43 @@ def _sampled_words(method, draws, what):
     return f" (on the sampled {what})"
 
 
-def _declare(keyword, title, summary, normal, estimate, default=False, help=""):
+def _check(scores, counterpart, normal_p, reported, effect):
+    """The robustness check of a two-sample family (pieces named from robustness/)."""
+    def check(design):
+        from ..robustness import counterparts, effects, reported as rep, scoring
+        from ..robustness.spec import Check
+
+        return Check("linear", getattr(scoring, scores), counterpart,
+                     getattr(counterparts, normal_p), getattr(rep, reported),
+                     effect=getattr(effects, effect))
+    return check
+
+
+def _declare(keyword, title, summary, normal, estimate, robustness, default=False, help=""):
     return Family(keyword, ("two-sample",), title, summary, plan, execute, normal, estimate,
-                  robustness="linear", default_in=("two-sample",) if default else (), help=help)
+                  robustness=robustness, default_in=("two-sample",) if default else (),
+                  help=help)
 
 
 FAMILIES = [
     _declare("means", "permutation test of the difference in means (Pitman)",
              "difference in means, by permutation", "Welch t (unequal variances)",
              "difference in means; exact interval by inverting the test under a shift",
+             _check("values", "Welch t", "welch_t", "mean_difference", "mean_difference"),
              default=True),
     _declare("ranks", "Wilcoxon rank-sum test (mid-ranks)", "Wilcoxon ranks with mid-ranks",
              "normal approximation to the rank sum (tie-corrected)",
-             "Hodges-Lehmann shift; interval at the exact rank-sum quantiles"),
+             "Hodges-Lehmann shift; interval at the exact rank-sum quantiles",
+             _check("ranks", "normal approximation to the rank sum", "score_sum_z", "as_is",
+                    "hodges_lehmann_shift")),
     _declare("normal-scores", "van der Waerden normal-scores test",
              "van der Waerden normal scores",
-             "normal approximation to the normal-scores sum", "Hodges-Lehmann shift"),
+             "normal approximation to the normal-scores sum", "Hodges-Lehmann shift",
+             _check("normal_scores", "normal approximation to the normal-scores sum",
+                    "score_sum_z", "as_is", "hodges_lehmann_shift")),
     _declare("medians", "Mood's median test", "Mood's median test",
              "normal approximation to the count above the median",
-             "difference in medians (no exact interval)"),
+             "difference in medians (no exact interval)",
+             _check("above_median", "normal approximation to the count above the median",
+                    "score_sum_z", "as_is", "median_difference")),
 ]

@@ -1,4 +1,9 @@
-"""The `permq` command: `permq run FILE`, `permq shell`, and `permq` alone."""
+"""The `permq` command: `permq run FILE`, `permq shell`, `permq schema`, and `permq` alone.
+
+Exit status of `permq run`: 0 when every statement ran, 1 when a statement failed (its error
+is printed in its place; the others still run), 2 for a usage error (unknown option, no such
+query file).
+"""
 from __future__ import annotations
 
 import argparse
@@ -11,16 +16,22 @@ from ..result import Failure
 from ..syntax.parser import parse_script
 from .progress import ProgressLine
 
-FORMATS = ("text", "json", "csv", "markdown")
+FORMATS = ("text", "json", "csv", "markdown", "sentences")
+EXIT_CODES = ("exit status: 0 when every statement ran, 1 when a statement failed (its error "
+              "is printed in its place; the others still run), 2 for a usage error")
 
 
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="permq", description="Exact permutation and rank tests "
-                                "beside their normal-theory counterparts.")
+                                "beside their normal-theory counterparts.", epilog=EXIT_CODES)
     sub = p.add_subparsers(dest="command")
-    r = sub.add_parser("run", help="run a query file ('-' for standard input)")
+    r = sub.add_parser("run", help="run a query file ('-' for standard input)",
+                       epilog=EXIT_CODES)
     r.add_argument("file")
-    r.add_argument("--format", choices=FORMATS, default="text")
+    r.add_argument("--format", choices=FORMATS, default="text",
+                   help="text (default), json, csv, markdown, or one sentence per result")
+    r.add_argument("--report", metavar="FILE.html", default=None,
+                   help="also write a self-contained HTML report of the run")
     r.add_argument("--color", choices=("auto", "always", "never"), default="auto")
     r.add_argument("--cluster", metavar="ADDRESS", default=None,
                    help="run several-response statements on this Dask scheduler "
@@ -29,13 +40,20 @@ def build_parser() -> argparse.ArgumentParser:
                    help="local workers for several-response statements (default: every core)")
     s = sub.add_parser("shell", help="the interactive shell")
     s.add_argument("files", nargs="*", help="tables (.csv, ...) to load or query files to run")
+    sub.add_parser("schema", help="print the JSON Schema of --format json output")
     return p
 
 
 def main(argv=None) -> int:
     args = build_parser().parse_args(argv)
     if args.command == "run":
-        return run_file(args.file, args.format, args.color, args.cluster, args.workers)
+        return run_file(args.file, args.format, args.color, args.cluster, args.workers,
+                        args.report)
+    if args.command == "schema":
+        from ..contract import schema_text
+
+        sys.stdout.write(schema_text())
+        return 0
     files = getattr(args, "files", [])
     if not sys.stdin.isatty():
         return run_file("-", "text", "never")
@@ -45,7 +63,7 @@ def main(argv=None) -> int:
 
 
 def run_file(path: str, fmt: str = "text", color: str = "auto", cluster=None,
-             workers=None) -> int:
+             workers=None, report=None) -> int:
     if path == "-":
         source, base = sys.stdin.read(), Path.cwd()
     else:
@@ -83,7 +101,21 @@ def run_file(path: str, fmt: str = "text", color: str = "auto", cluster=None,
             break
     if fmt != "text":
         sys.stdout.write(render(outputs, fmt))
+    if report:
+        failed |= not _write_report(session, report)
     return 1 if failed else 0
+
+
+def _write_report(session, target: str) -> bool:
+    from ..errors import PermqError
+    from ..report import write
+
+    try:
+        print(f"permq: {write(session, Path(target))}", file=sys.stderr)
+        return True
+    except PermqError as exc:
+        print(f"permq: {exc.message}", file=sys.stderr)
+        return False
 
 
 if __name__ == "__main__":

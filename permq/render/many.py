@@ -48,8 +48,7 @@ def _cells(r, row) -> list:
 def _titles(r) -> list:
     first = {"pairwise": "pair", "for each": "feature", "many-to-one": "comparison",
              "lowest effective dose": "doses tested"}.get(r.family, "response")
-    n = ("n " + "/".join(r.labels) if r.family not in ("pairwise", "many-to-one",
-                                                       "lowest effective dose") else "n")
+    n = "n" if first in ("pair", "comparison", "doses tested") else "n " + "/".join(r.labels)
     if len(n) > 16:
         n = "n"
     stat = r.statistic_name.split(":")[0]

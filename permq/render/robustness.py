@@ -23,7 +23,7 @@ def _rate(v, se, digits=3) -> str:
 
 def column_words(rr) -> dict:
     """Column words: counts are tried under sampling schemes, against the exact test."""
-    if rr.family == "table":
+    if rr.counts:
         return {"law": "scheme", "perm": "exact test", "power": "power at the effect",
                 "shift": "effect"}
     return {"law": "law", "perm": "permutation", "power": "power at the shift", "shift": "shift"}

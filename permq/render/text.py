@@ -81,6 +81,7 @@ def result_block(r: Result, color: bool = False) -> str:
             normal_iv += f"  {fmt.interval(robust[0].interval)} {robust[0].interval_method}"
         lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
         lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
+    lines.extend(effect_size_lines(r))
     if diagnostics_line(r):
         lines.append(diagnostics_line(r))
     if o.method == "exact":
@@ -95,6 +96,23 @@ def result_block(r: Result, color: bool = False) -> str:
     for w in list(r.warnings) + list(o.warnings):
         lines.append(_c(f"  {'note':<15}{w}", DIM, color))
     return "\n".join(lines) + "\n"
+
+
+def effect_size_lines(r: Result) -> list:
+    """One line per effect size (its interval where there is one), then each arm's proportions."""
+    out = []
+    for i, s in enumerate(r.extra.get("effect_sizes") or []):
+        label = "effect size" if i == 0 else ""
+        iv = ""
+        if s.get("interval") is not None:
+            lo, hi = (float(v) for v in s["interval"])
+            iv = f"  {s['level'] * 100:g}% interval {fmt.interval((lo, hi))}"
+        out.append(f"  {label:<15}{s['name']} = {fmt.num(s['value'])}{iv}")
+    for i, arm in enumerate(r.extra.get("arm_proportions") or []):
+        label = "proportions" if i == 0 else ""
+        shares = ", ".join(f"{k} {v:.3f}" for k, v in arm["proportions"].items())
+        out.append(f"  {label:<15}{arm['arm']} (n {arm['n']}): {shares}")
+    return out
 
 
 def table_lines(tab) -> list:

@@ -92,7 +92,7 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
     observed = _observed(design, text, progress, check)
     sim = simulate(problem, pattern, check.datasets, check.alpha, int(seed), progress)
     picture = null_picture(design, observed.outcome, int(seed))
-    warnings = list(design.warnings)
+    warnings = list(design.warnings) + [why for _, why in problem.check.leaves_out]
     if problem.kind == "paired":
         warnings.append("pairs are simulated as two values from the law, so their differences "
                         "are symmetric under the null, as random order within a pair makes them")
@@ -120,7 +120,7 @@ def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
     else:
         problem = problem_for(design)
         pattern, _, _ = pattern_for(problem, check.shift)
-        panel = laws.panel(problem.kind)
+        panel = laws.panel_for(problem)
         size = reference_size(problem)
         ref = (f"all {size:,} arrangements (exact)" if size <= EXACT_LIMIT else
                f"{PERMUTATIONS:,} Monte Carlo arrangements")

@@ -98,6 +98,12 @@ def panel(kind: str) -> tuple:
     return SHAPES + ((GROWING,) if kind == "slope" else (UNEQUAL,))
 
 
+def panel_for(problem) -> tuple:
+    """The design kind's panel without the laws its family's check leaves out."""
+    left = dict(problem.check.leaves_out) if problem.check is not None else {}
+    return tuple(law for law in panel(problem.kind) if law.key not in left)
+
+
 # ---------------------------------------------------------------- spreads
 
 def _normalised(f: np.ndarray) -> np.ndarray:
@@ -142,13 +148,14 @@ def _pdf_cdf(law: ErrorLaw):
 
 
 @lru_cache(maxsize=None)
-def centre(law_key: str, family: str) -> float:
-    """The value to subtract so that the family's parameter is zero under this law."""
+def centre(law_key: str, parameter: str) -> float:
+    """The value to subtract so that the parameter a one-sample test is about ("mean",
+    "median" or "pseudo-median": its check's `centre`) is zero under this law."""
     law = BY_KEY[law_key]
-    if law.symmetric or family == "means":
+    if law.symmetric or parameter == "mean":
         return 0.0
     d = _pdf_cdf(law)
-    if family == "signs":
+    if parameter == "median":
         return float(d.median())
     lo, hi = d.support()
 
@@ -163,7 +170,7 @@ def centre(law_key: str, family: str) -> float:
 BY_KEY = {law.key: law for law in SHAPES + (UNEQUAL, GROWING)}
 
 
-def breaks_exactness(law: ErrorLaw, kind: str, family: str, form: str = "") -> Optional[str]:
+def breaks_exactness(law: ErrorLaw, kind: str, centre: str, form: str = "") -> Optional[str]:
     """Why the permutation test is not exact under this law for this design, or None."""
     if form == "residual":
         also = "; spread growing with x breaks it further" if law.spread == "x" else ""
@@ -175,6 +182,6 @@ def breaks_exactness(law: ErrorLaw, kind: str, family: str, form: str = "") -> O
         return "unequal spread breaks exchangeability between groups"
     if law.spread == "x":
         return "spread growing with x breaks exchangeability of y against x"
-    if kind == "one-sample" and not law.symmetric and family != "signs":
+    if kind == "one-sample" and not law.symmetric and centre != "median":
         return "a skewed law is not symmetric about the tested value, as sign flips need"
     return None

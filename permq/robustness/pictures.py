@@ -87,58 +87,9 @@ def internal(problem: Problem, a: np.ndarray, matrix: np.ndarray) -> np.ndarray:
 
 
 def reported(problem: Problem, a: np.ndarray, t: np.ndarray) -> np.ndarray:
-    """The statistic as the result reports it, from the simulation's statistic."""
-    fam, kind, total = problem.family, problem.kind, a.sum()
-    if kind == "two-sample":
-        if fam != "means":
-            return t
-        n1 = int(problem.sizes[0])
-        return t / n1 - (total - t) / (problem.n - n1)
-    if kind in ("paired", "one-sample"):
-        if fam == "means":
-            return t / problem.n
-        return (t + np.abs(a).sum()) / 2
-    if kind == "k-sample":
-        from ..engine.ksample import FAMILIES
-
-        ssb = np.maximum(t - total ** 2 / problem.n, 0.0)
-        sst = float(((a - a.mean()) ** 2).sum())
-        return FAMILIES[fam].statistic_of(ssb, sst, problem.n, len(problem.sizes))
-    if kind == "ordered":
-        if fam != "means":    # Jonckheere-Terpstra J = (pairs in different groups + S) / 2
-            between = (problem.n ** 2 - float((problem.sizes ** 2).sum())) / 2
-            return (between + t) / 2
-        return t + problem.x.mean() * total
-    if kind == "blocked":
-        return _blocked_reported(problem, a, t)
-    if problem.form == "residual":
-        return t
-    if fam == "kendall":
-        from ..engine.association.pairings import tied_pairs
-
-        n0 = problem.n * (problem.n - 1) / 2
-        return t / np.sqrt((n0 - tied_pairs(problem.x)) * (n0 - tied_pairs(a)))
-    w = problem.weights
-    if fam == "slope":
-        return t / (w * w).sum()
-    return t / np.sqrt((w * w).sum() * ((a - a.mean()) ** 2).sum())
-
-
-def _blocked_reported(problem: Problem, a: np.ndarray, t: np.ndarray) -> np.ndarray:
-    """Friedman's Q and the within-block F from sum_j S_j^2 / b; the stratified sums and
-    Page's L are the simulation's statistic as they are."""
-    k = len(problem.sizes)
-    b = problem.n // k
-    if problem.family == "friedman":
-        d = float(((a - (k + 1) / 2) ** 2).sum())
-        return (k - 1) * (b * t - (b * k * (k + 1) / 2) ** 2 / k) / d if d > 0 else 0 * t
-    if problem.family == "within-block-f":
-        means = np.array([a[problem.strata == s].mean() for s in problem.strata])
-        resid_total = float(((a - means) ** 2).sum())
-        sst = t - a.sum() ** 2 / problem.n
-        with np.errstate(divide="ignore", invalid="ignore"):
-            return (sst / (k - 1)) / ((resid_total - sst) / ((k - 1) * (b - 1)))
-    return t
+    """The statistic as the result reports it, from the simulation's statistic (the family's
+    check: robustness/reported)."""
+    return problem.check.reported(problem, a, t)
 
 
 def attach(design, result) -> None:

@@ -24,22 +24,22 @@ Permutation statistics (`form`):
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Optional
 
 import numpy as np
 
 from ..bind import designs
 from ..errors import PlanError
-from ..families.blocked import blocked_test
+from .spec import Check, check_for
 
 
 @dataclass(frozen=True)
 class Problem:
     kind: str                  # two-sample, paired, one-sample, k-sample, ordered, slope
-    family: str                # the design's family (means, ranks, ..., slope, pearson, spearman)
+    family: str                # the test, in the family's words (means, ranks, friedman, ...)
     alternative: str
-    form: str                  # "linear", "signs" or "quadratic" permutation statistic
+    form: str                  # the permutation statistic's form (spec.Check.form)
     codes: np.ndarray          # group code of each unit (zeros without groups)
     weights: Optional[np.ndarray]   # linear statistics: T = sum_i w_pi(i) a_i
     x: Optional[np.ndarray]    # the predictor (slopes) or the dose score of each unit (ordered)
@@ -54,6 +54,7 @@ class Problem:
     strata: Optional[np.ndarray] = None    # block code of each unit: arrangements stay within
     basis: Optional[np.ndarray] = None     # "residual": Q of the reduced model, then x made
     residual_df: int = 0                   #   orthogonal to it; the full model's residual df
+    check: Optional[Check] = None          # the family's check: scores, counterpart, reported
 
     @property
     def n(self) -> int:
@@ -65,26 +66,38 @@ class Problem:
 
 
 def problem_for(design) -> Problem:
-    if isinstance(design, designs.TwoSampleDesign):
-        return _two_sample(design)
-    if isinstance(design, designs.OneSampleDesign):
-        return _one_sample(design)
-    if isinstance(design, designs.GroupsDesign):
-        return _groups(design)
-    if isinstance(design, designs.AssociationDesign):
-        return _slope(design)
     if isinstance(design, designs.ManyDesign):
-        if design.pairwise:
-            raise PlanError("robustness checks one comparison at a time, not every pair",
-                            hint=f'name two levels: robustness compare {design.response} by '
-                                 f'{design.group} levels "{design.labels[0]}", '
-                                 f'"{design.labels[1]}"')
-        raise PlanError("robustness checks one response at a time",
-                        hint=f"name one response: robustness compare {design.names[0]} by "
-                             f"{design.group}" if design.names and design.group else
-                             "name one response")
-    raise PlanError(f"robustness is not available for {design.kind} analyses",
-                    hint="it covers comparisons, relations and tables")
+        _several(design)
+    check = check_for(design)
+    if isinstance(design, designs.TwoSampleDesign):
+        pb = _two_sample(design, check)
+    elif isinstance(design, designs.OneSampleDesign):
+        pb = _one_sample(design, check)
+    elif isinstance(design, designs.GroupsDesign):
+        pb = _groups(design, check)
+    elif isinstance(design, designs.AssociationDesign):
+        pb = _slope(design, check)
+    else:
+        raise PlanError(f"robustness is not available for {design.kind} analyses",
+                        hint="it covers comparisons, relations and tables")
+    alternative = pb.alternative
+    if check.reversed:
+        alternative = {"higher": "lower", "lower": "higher"}.get(alternative, alternative)
+    return replace(pb, check=check, family=check.test or design.settings.family,
+                   alternative=alternative)
+
+
+def _several(design):
+    """Several tests at once: the check takes one response or one pair at a time."""
+    if design.pairwise:
+        raise PlanError("robustness checks one comparison at a time, not every pair",
+                        hint=f'name two levels: robustness compare {design.response} by '
+                             f'{design.group} levels "{design.labels[0]}", '
+                             f'"{design.labels[1]}"')
+    raise PlanError("robustness checks one response at a time",
+                    hint=f"name one response: robustness compare {design.names[0]} by "
+                         f"{design.group}" if design.names and design.group else
+                         "name one response")
 
 
 def pattern_for(problem: Problem, shift) -> tuple[np.ndarray, float, float]:
@@ -102,55 +115,40 @@ def pattern_for(problem: Problem, shift) -> tuple[np.ndarray, float, float]:
     return size / problem.per_sd * problem.unit_pattern, size, size / problem.per_sd
 
 
-def _two_sample(d) -> Problem:
+def _two_sample(d, check: Check) -> Problem:
     x, y = d.x, d.y
     n1, n2 = len(x), len(y)
     if n1 < 2 or n2 < 2:
         raise PlanError("robustness needs at least two values in each group")
-    fam = d.settings.family
     ss = ((x - x.mean()) ** 2).sum() + ((y - y.mean()) ** 2).sum()
     sd = float(np.sqrt(ss / (n1 + n2 - 2)))
-    if fam == "means":
-        effect, words = float(x.mean() - y.mean()), f"difference in means {d.effect}"
-    elif fam in ("ranks", "normal-scores"):
-        effect = float(np.median(np.subtract.outer(x, y)))
-        words = f"Hodges-Lehmann shift {d.effect}"
-    else:
-        effect, words = float(np.median(x) - np.median(y)), f"difference in medians {d.effect}"
+    effect, words = check.effect(d)
     codes = np.r_[np.zeros(n1, np.int64), np.ones(n2, np.int64)]
     unit = (codes == 0).astype(float)
-    return Problem("two-sample", fam, d.settings.alternative, "linear", codes, unit, None,
+    weights = unit if check.weights is None else check.weights(d)
+    return Problem("two-sample", "", d.settings.alternative, check.form, codes, weights, None,
                    sd, "pooled within-group sd", effect, words,
                    unit * effect / _safe(sd), unit,
                    f"two samples of {n1} and {n2} ({d.labels[0]}, {d.labels[1]})", sd)
 
 
-def _one_sample(d) -> Problem:
+def _one_sample(d, check: Check) -> Problem:
     v = d.d
     if len(v) < 2:
         raise PlanError("robustness needs at least two values")
-    fam = d.settings.family
     sd = float(v.std(ddof=1))
-    if fam == "means":
-        effect, words = float(v.mean()), f"mean of {d.effect}"
-    elif fam == "ranks":
-        i, j = np.triu_indices(len(v))
-        effect = float(np.median((v[i] + v[j]) / 2))
-        words = f"Hodges-Lehmann pseudo-median of {d.effect}"
-    else:
-        effect, words = float(np.median(v)), f"median of {d.effect}"
+    effect, words = check.effect(d)
     n = len(v)
     what = f"{n} pairs" if d.kind == "paired" else f"one sample of {n}"
     ones = np.ones(n)
-    return Problem(d.kind, fam, d.settings.alternative, "signs", np.zeros(n, np.int64), None,
+    return Problem(d.kind, "", d.settings.alternative, check.form, np.zeros(n, np.int64), None,
                    None, sd, "sd of the differences" if d.kind == "paired" else "sd",
                    effect, words, ones * effect / _safe(sd), ones, what, sd)
 
 
-def _groups(d) -> Problem:
-    fam = d.settings.family
+def _groups(d, check: Check) -> Problem:
     if d.kind == "blocked":
-        return _blocked(d)
+        return _blocked(d, check)
     v, g = d.values, d.groups
     sizes = np.bincount(g)
     k, N = len(sizes), len(v)
@@ -164,23 +162,23 @@ def _groups(d) -> Problem:
         sc = s - s.mean()
         slope = float((sc * v).sum() / (sc * sc).sum())
         unit = sc / np.ptp(d.scores)
-        form, weights = ("linear", sc) if fam == "means" else ("pairs", pair_weights(g))
-        return Problem("ordered", fam, d.settings.alternative, form, g.copy(), weights, s, sd,
+        form = check.form
+        weights = pair_weights(g) if form == "pairs" else sc
+        return Problem("ordered", "", d.settings.alternative, form, g.copy(), weights, s, sd,
                        "pooled within-group sd", slope,
                        "trend slope (per unit of dose score)", slope * sc / _safe(sd), unit,
                        f"{k} ordered groups of {shape}", sd / float(np.ptp(d.scores)))
     dev = (means - v.mean())[g]
     unit = (np.arange(k) / (k - 1) - 0.5)[g]
-    return Problem("k-sample", fam, d.settings.alternative, "quadratic", g.copy(), None, None,
+    return Problem("k-sample", "", d.settings.alternative, check.form, g.copy(), None, None,
                    sd, "pooled within-group sd", float(np.ptp(means)),
                    "range of the group means", dev / _safe(sd), unit,
                    f"{k} groups of {shape}", sd)
 
 
-def _blocked(d) -> Problem:
+def _blocked(d, check: Check) -> Problem:
     """Treatments within blocks: the additive fit y = block + treatment gives the observed
     treatment effects and the residual sd; arrangements permute treatments within blocks."""
-    test = blocked_test(d)
     v, g = d.values, d.groups
     _, b = np.unique(d.blocks, return_inverse=True)
     k, nb, N = int(g.max()) + 1, int(b.max()) + 1, len(v)
@@ -202,15 +200,12 @@ def _blocked(d) -> Problem:
     else:
         effect, words = float(np.ptp(effects)), "range of the treatment effects adjusted for blocks"
         unit = (np.arange(k) / (k - 1) - 0.5)[g]
-    if test in ("stratified-means", "stratified-ranks"):
-        form, weights = "linear", (g == 0).astype(float)
-    elif test == "page":
-        form, weights = "linear", (g + 1).astype(float)
-    else:
-        form, weights = "quadratic", None
-    what = (f"{k} treatments in {nb} blocks" if test in ("friedman", "within-block-f", "page")
+    form, weights = check.form, None
+    if form == "linear":     # two groups: the first group's sum; ordered treatments: Page's
+        weights = (g == 0).astype(float) if k == 2 else (g + 1).astype(float)
+    what = (f"{k} treatments in {nb} blocks" if k > 2
             else f"2 groups ({d.labels[0]}, {d.labels[1]}) within {nb} blocks")
-    return Problem("blocked", test, d.settings.alternative, form, g.copy(), weights, None, sd,
+    return Problem("blocked", "", d.settings.alternative, form, g.copy(), weights, None, sd,
                    "residual sd of the additive fit (blocks + treatments)", effect, words,
                    pattern / _safe(sd), unit, what, sd, strata=b.astype(np.int64))
 
@@ -222,8 +217,7 @@ def pair_weights(x) -> np.ndarray:
     return np.sign(x[j] - x[i])
 
 
-def _slope(d) -> Problem:
-    fam = d.settings.family
+def _slope(d, check: Check) -> Problem:
     y, x = d.y, d.x
     n = len(y)
     if n < 4:
@@ -234,18 +228,15 @@ def _slope(d) -> Problem:
     b = float((xc * y).sum() / (xc * xc).sum())
     resid = y - y.mean() - b * xc
     sd = float(np.sqrt((resid ** 2).sum() / (n - 2)))
-    form = "linear"
-    if fam == "spearman":
-        from scipy.stats import rankdata
-
-        rx = rankdata(x)
-        w = rx - rx.mean()
-    elif fam == "kendall":
-        form, w = "pairs", pair_weights(x)
+    form = check.form
+    if check.weights is not None:
+        w = check.weights(d)
+    elif form == "pairs":
+        w = pair_weights(x)
     else:
         w = xc
     unit = xc / x.std(ddof=1)
-    return Problem("slope", fam, d.settings.alternative, form, np.zeros(n, np.int64), w,
+    return Problem("slope", "", d.settings.alternative, form, np.zeros(n, np.int64), w,
                    x.copy(), sd, "residual sd about the line", b,
                    f"slope of {d.names[0]} on {d.names[1]}", b * xc / _safe(sd), unit,
                    f"{n} pairs of {d.names[0]} and {d.names[1]}", sd / float(x.std(ddof=1)))
@@ -266,7 +257,7 @@ def _adjusted_slope(d) -> Problem:
     sd = float(np.sqrt(max(rm.ee - b * b * rm.sxx, 0.0) / rm.df))
     sxt = float(np.sqrt(rm.sxx / (n - 1)))
     names = ", ".join(d.covariate_names)
-    return Problem("slope", "slope", d.settings.alternative, "residual", np.zeros(n, np.int64),
+    return Problem("slope", "", d.settings.alternative, "residual", np.zeros(n, np.int64),
                    xt, x.copy(), sd, "residual sd of the full model", b,
                    f"slope of {d.names[0]} on {d.names[1]} adjusted for {names}",
                    b * xt / _safe(sd), xt / sxt,

@@ -4,7 +4,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Optional
 
-from ..result import _num
+from ..result import _html, _num, _sentence, _short, _text
 
 
 @dataclass(frozen=True)
@@ -83,6 +83,7 @@ class RobustnessResult:
     picture: Optional[NullPicture] = None
     warnings: list = field(default_factory=list)
     line: Optional[int] = None
+    counts: bool = False         # a check of counts: sampling schemes, not error laws
 
     def to_dict(self) -> dict:
         obs = self.observed
@@ -111,3 +112,15 @@ class RobustnessResult:
             "null_picture": self.picture.to_dict() if self.picture else None,
             "warnings": list(self.warnings),
         }
+
+    def sentence(self) -> str:
+        return _sentence(self)
+
+    def __str__(self) -> str:
+        return _text(self)
+
+    def __repr__(self) -> str:
+        return f"<permq.RobustnessResult {self.family}: {_short(self.statement)}>"
+
+    def _repr_html_(self) -> str:
+        return _html(self)

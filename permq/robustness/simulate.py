@@ -79,14 +79,14 @@ def errors(problem: Problem, law: L.ErrorLaw, rng, size: int, f: np.ndarray) -> 
         return (law.errors(rng, size, f) - law.errors(rng, size, f)) / np.sqrt(2.0)
     e = law.errors(rng, size, f)
     if problem.kind == "one-sample":
-        e = e - L.centre(law.key, problem.family) * f
+        e = e - L.centre(law.key, problem.check.centre) * f
     return e
 
 
 def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float, seed: int,
              progress=NO_PROGRESS, permutations: int = PERMUTATIONS,
              panel: Optional[tuple] = None, workers: Optional[int] = None) -> Simulation:
-    panel = panel or L.panel(problem.kind)
+    panel = panel or L.panel_for(problem)
     exact = exact_reference(problem)
     tracker = Tracker(len(panel) * datasets)
 
@@ -100,7 +100,7 @@ def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float,
     for law, c in zip(panel, counts):
         rates = [rates_from_counts(c[:, i], c[:, 4], exact is None) for i in range(4)]
         out.append(LawRates(law, *rates,
-                            not_exact=L.breaks_exactness(law, problem.kind, problem.family,
+                            not_exact=L.breaks_exactness(law, problem.kind, problem.check.centre,
                                                             problem.form)))
     return Simulation(tuple(out), datasets, alpha, exact is not None,
                       exact.count if exact is not None else permutations, seed)

@@ -178,6 +178,14 @@ class Help:
 class Save:
     span: Span
     path: str
+    what: str = "session"        # "session" (a query file) or "report" (an HTML page)
+
+
+@dataclass(frozen=True)
+class Copy:
+    """`copy`: the last result's sentence, plain, and on the clipboard where there is one."""
+
+    span: Span
 
 
 @dataclass(frozen=True)
@@ -186,7 +194,7 @@ class Quit:
 
 
 Statement = Union[Load, Use, Compare, Relate, Count, Explain, Robustness, SetStatement, Show, Describe,
-                  Help, Save, Quit]
+                  Help, Save, Copy, Quit]
 
 
 def options_of(node) -> dict:

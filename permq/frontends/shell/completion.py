@@ -171,6 +171,10 @@ class _Context:
             return self.paths(TABLE_FILES)
         if prev == "SAVE":
             return self.paths((".pq",)) or [('"session.pq"', "query file to write")]
+        if prev == "REPORT":
+            return self.paths((".html",)) or [('"report.html"', "report page to write")]
+        if prev in ("ROWS", "COLUMNS"):
+            return []
         if prev in ("LEVELS", "ORDERED", "COMMA", "LESSTHAN", "AGAINST"):
             return self.levels()
         if prev == "SETTING":

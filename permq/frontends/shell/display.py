@@ -38,3 +38,9 @@ def caret_under_prompt(f: Failure, typed: str, prompt_width: int, color: bool = 
 def cancelled_text(f: Failure, color: bool = False) -> str:
     text = f"{f.message}; the session is as it was"
     return (f"{YELLOW}{text}{RESET}" if color else text) + "\n\n"
+
+
+def copied_text(sentence: str, where: str) -> str:
+    """The sentence alone on its lines, uncoloured, ready to select; then where it was put."""
+    tail = f"(copied to {where})" if where else "(select it above to copy it)"
+    return f"{sentence}\n{tail}\n\n"

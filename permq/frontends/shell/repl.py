@@ -12,7 +12,7 @@ from pathlib import Path
 from typing import Callable, Optional
 
 from ...data.tables import READERS
-from ...result import Failure
+from ...result import Failure, Note
 from ...syntax.parser import parse_script
 from . import display
 from .running import StopFlag, run_stoppable
@@ -32,6 +32,7 @@ class Shell:
         self.write = write or _stdout_write
         self.color = color
         self.progress = progress    # a ProgressLine (start/clear), or None
+        self.clipboard = None       # the prompt's clipboard (set by loop); `copy` fills it
 
     # -- running what was typed --------------------------------------------------------------
     def handle(self, typed: str) -> bool:
@@ -74,7 +75,28 @@ class Shell:
             under = display.caret_under_prompt(out, typed, len(PROMPT), self.color) if first else None
             self.write((under or display.output_text(out, color=self.color)) + "\n")
             return
+        if isinstance(out, Note) and out.data.get("kind") == "copy":
+            self.write(display.copied_text(out.data["sentence"], self.copy(out.data["sentence"])))
+            return
         self.write(display.output_text(out, self.session.defaults.format, self.color) + "\n")
+
+    def copy(self, text: str) -> str:
+        """Put text on the prompt's clipboard (Ctrl-Y pastes it) and, where the pyperclip
+        package is installed, on the system clipboard; say where it went."""
+        places = []
+        if self.clipboard is not None:
+            from prompt_toolkit.clipboard import ClipboardData
+
+            self.clipboard.set_data(ClipboardData(text))
+            places.append("the shell's clipboard (Ctrl-Y pastes it at the prompt)")
+        try:
+            import pyperclip
+
+            pyperclip.copy(text)
+            places.append("the system clipboard")
+        except Exception:  # noqa: BLE001 - no pyperclip, or no clipboard on this machine
+            pass
+        return " and ".join(places)
 
     # -- files named on the command line -----------------------------------------------------
     def open_file(self, name: str) -> None:
@@ -98,6 +120,7 @@ class Shell:
 
     # -- the loop ----------------------------------------------------------------------------
     def loop(self, prompt_session) -> int:
+        self.clipboard = getattr(prompt_session, "clipboard", None)
         while not self.session.quit_requested:
             try:
                 typed = prompt_session.prompt()

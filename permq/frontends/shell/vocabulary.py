@@ -16,7 +16,7 @@ from typing import Optional
 from lark.exceptions import LarkError
 
 from ...syntax.grammar import RunTogether, alternatives_of, keyword_of, parser
-from ...syntax.parser import fitting
+from ...syntax.messages import fitting
 
 
 def accepted(prefix: str) -> Optional[tuple[list, set]]:

@@ -37,8 +37,7 @@ from ...engine.core.pvalues import clip, tolerance
 from ...engine.tables.rxc import NETWORK_CELLS, orient, reduce_table
 from ...engine.tables.network import count_tables, dense_size, forward, make_layout
 from ...engine.tables.stats import prepare
-from ...families.tables import route_of
-from ..batch import z_tails
+from ..counterparts import z_tails
 
 DRAWS = 999
 # Choosing between the two ways for r x c (seconds on this class of machine, measured): one
@@ -152,10 +151,12 @@ class CountTests:
     """The design's exact test and its normal-theory counterpart, for stacks of tables."""
 
     def __init__(self, design, draws: int = DRAWS):
-        self.route = route_of(design)
+        from ..spec import check_for
+
+        count_check = check_for(design)
+        self.route = count_check.route
         self.design = design
-        s = design.settings
-        self.family, self.alternative = s.family, s.alternative
+        self.statistic, self.alternative = count_check.statistic, design.settings.alternative
         self.draws = draws
         self._cache: dict = {}
         self._dists: dict = {}
@@ -223,9 +224,9 @@ class CountTests:
             return mcnemar_p(tables, self.alternative)
         if self.route == "2x2":
             return log_odds_ratio_p(tables, self.alternative)
-        if self.family == "trend":
+        if self.statistic == "trend":
             return trend_p(tables, self.alternative)
-        if self.family == "likelihood-ratio":
+        if self.statistic == "likelihood-ratio":
             return likelihood_ratio_p(tables)
         return pearson_p(tables)
 
@@ -302,7 +303,7 @@ class CountTests:
         if min(t.shape) < 2:
             return None
         t, u, v = orient(t, u, v)
-        return t, u, v, prepare(t, self.family, self.alternative, u, v, stages=t.size)
+        return t, u, v, prepare(t, self.statistic, self.alternative, u, v, stages=t.size)
 
     def _rxc_one(self, table) -> float:
         got = self._prepared(table)
@@ -326,7 +327,7 @@ class CountTests:
         if hit is not None:
             return hit
         quantum = prep.quantum
-        if self.family in ("chi-square", "likelihood-ratio"):     # the finest grid any table uses
+        if self.statistic in ("chi-square", "likelihood-ratio"):     # the finest grid any table uses
             quantum = tolerance(0.0) / prep.scale / (20.0 * t.size)
         res = forward(make_layout(t.sum(axis=1), t.sum(axis=0)), prep.cell, None, quantum)
         order = np.argsort(res.support, kind="stable")

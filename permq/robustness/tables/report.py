@@ -54,7 +54,9 @@ def design_words(design) -> str:
         return (f"{int(t.sum())} pairs, {int(t[0, 1] + t[1, 0])} discordant "
                 f"(b = {int(t[0, 1])}, c = {int(t[1, 0])})")
     rows = ", ".join(str(int(v)) for v in t.sum(axis=1))
-    order = ", ordered" if design.settings.family == "trend" else ""
+    from ..spec import check_for
+
+    order = ", ordered" if check_for(design).ordered else ""
     return f"{t.shape[0]} x {t.shape[1]} table{order}, row totals {rows}, N = {int(t.sum())}"
 
 
@@ -168,4 +170,4 @@ def build(statement, design, observed, sim, tests, effect, picture, warnings) ->
         tests.reference_words(), sim.exact, sim.arrangements, sim.seed,
         effect.value, nan, effect.words, nan,
         "counts have no standard-deviation unit: the effect is the one in shift, and sd "
-        "fields are empty", table, lines, observed, picture, list(warnings))
+        "fields are empty", table, lines, observed, picture, list(warnings), counts=True)

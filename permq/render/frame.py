@@ -1,0 +1,76 @@
+"""Results as table rows: one row per test, the JSON contract's fields as columns.
+
+`rows(records)` flattens each record (nested objects to dotted names: `statistic.value`,
+`normal_theory.p_value`, `estimate.interval`; lists stay whole in their cell). A several-tests
+record gives one row per test: its own fields, and the row's fields under the names a single
+result uses (`statistic.value`, `p_value`, `estimate.value`, `estimate.interval`) beside
+`p_adjusted`, `row.name`, `row.n` and `row.note`. Every row has `record` (its place in the
+run) and `kind`. `record_of(row)` turns a row back into the fields it came from.
+"""
+from __future__ import annotations
+
+import math
+
+ROW_FIELDS = {"name": "row.name", "n": "row.n", "statistic": "statistic.value",
+              "p_value": "p_value", "p_adjusted": "p_adjusted", "estimate": "estimate.value",
+              "interval": "estimate.interval", "note": "row.note"}
+SEVERAL = ("several responses", "for each", "pairwise")
+
+
+def rows(records) -> list:
+    out = []
+    for i, r in enumerate(records):
+        if "plan" in r:
+            continue
+        base = {"record": i, "kind": _kind(r)}
+        if r.get("family") in SEVERAL:
+            head = flatten({k: v for k, v in r.items() if k != "rows"})
+            for row in r["rows"]:
+                line = dict(base, **head)
+                line.update({ROW_FIELDS[k]: v for k, v in row.items()})
+                out.append(line)
+        else:
+            out.append(dict(base, **flatten(r)))
+    return out
+
+
+def _kind(r) -> str:
+    if "error" in r:
+        return "failure"
+    if r.get("family") in SEVERAL:
+        return "several"
+    return "robustness" if r.get("family") == "robustness" else "result"
+
+
+def flatten(d: dict, prefix: str = "") -> dict:
+    out = {}
+    for k, v in d.items():
+        name = f"{prefix}{k}"
+        if isinstance(v, dict) and v:
+            out.update(flatten(v, name + "."))
+        else:
+            out[name] = v
+    return out
+
+
+def record_of(row: dict) -> dict:
+    """The nested fields of one row (missing cells left out; `record` and `kind` dropped)."""
+    back = {v: k for k, v in ROW_FIELDS.items()}
+    several = row.get("kind") == "several"
+    out: dict = {}
+    for name, value in row.items():
+        if name in ("record", "kind") or _missing(value):
+            continue
+        if several and name in back:
+            out.setdefault("row", {})[back[name]] = value
+            continue
+        node = out
+        parts = name.split(".")
+        for p in parts[:-1]:
+            node = node.setdefault(p, {})
+        node[parts[-1]] = value
+    return out
+
+
+def _missing(v) -> bool:
+    return v is None or (isinstance(v, float) and math.isnan(v))

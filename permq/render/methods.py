@@ -1,0 +1,289 @@
+"""Which published method a result is, in words, with its sources (for sentences and reports).
+
+`method_of(record)` reads a result's JSON object (the contract: family and statistic name)
+and gives a `Method`: the test's name as a report writes it, and the keys of its sources in
+SOURCES. `sources_for(records)` collects every source a list of records needs (tests,
+normal-theory counterparts, intervals, effect sizes, adjustments, Monte Carlo p-values).
+Nothing here computes.
+
+The Kerby (2014) and Tomczak and Tomczak (2014) entries were checked against the articles' first
+pages; the other entries are the standard citations, given from memory.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+SOURCES = {
+    "pitman-1937": "Pitman, E. J. G. (1937). Significance tests which may be applied to samples "
+                   "from any populations. Supplement to the Journal of the Royal Statistical "
+                   "Society 4, 119-130.",
+    "pitman-1937b": "Pitman, E. J. G. (1937). Significance tests which may be applied to "
+                    "samples from any populations. II. The correlation coefficient test. "
+                    "Supplement to the Journal of the Royal Statistical Society 4, 225-232.",
+    "pitman-1938": "Pitman, E. J. G. (1938). Significance tests which may be applied to "
+                   "samples from any populations. III. The analysis of variance test. "
+                   "Biometrika 29, 322-335.",
+    "fisher-1925": "Fisher, R. A. (1925). Statistical Methods for Research Workers. Edinburgh: "
+                   "Oliver and Boyd.",
+    "fisher-1935": "Fisher, R. A. (1935). The Design of Experiments. Edinburgh: Oliver and Boyd.",
+    "fisher-1935b": "Fisher, R. A. (1935). The logic of inductive inference. Journal of the "
+                    "Royal Statistical Society 98, 39-82.",
+    "wilcoxon-1945": "Wilcoxon, F. (1945). Individual comparisons by ranking methods. "
+                     "Biometrics Bulletin 1, 80-83.",
+    "mann-whitney-1947": "Mann, H. B. and Whitney, D. R. (1947). On a test of whether one of "
+                         "two random variables is stochastically larger than the other. "
+                         "Annals of Mathematical Statistics 18, 50-60.",
+    "pratt-1959": "Pratt, J. W. (1959). Remarks on zeros and ties in the Wilcoxon signed rank "
+                  "procedures. Journal of the American Statistical Association 54, 655-667.",
+    "hodges-lehmann-1963": "Hodges, J. L. and Lehmann, E. L. (1963). Estimates of location "
+                           "based on rank tests. Annals of Mathematical Statistics 34, 598-611.",
+    "lehmann-1975": "Lehmann, E. L. (1975). Nonparametrics: Statistical Methods Based on "
+                    "Ranks. San Francisco: Holden-Day.",
+    "van-der-waerden-1952": "van der Waerden, B. L. (1952). Order tests for the two-sample "
+                            "problem and their power. Indagationes Mathematicae 14, 453-458.",
+    "mood-1950": "Mood, A. M. (1950). Introduction to the Theory of Statistics. New York: "
+                 "McGraw-Hill.",
+    "dixon-mood-1946": "Dixon, W. J. and Mood, A. M. (1946). The statistical sign test. "
+                       "Journal of the American Statistical Association 41, 557-566.",
+    "student-1908": "Student (1908). The probable error of a mean. Biometrika 6, 1-25.",
+    "welch-1947": "Welch, B. L. (1947). The generalization of 'Student's' problem when several "
+                  "different population variances are involved. Biometrika 34, 28-35.",
+    "welch-1951": "Welch, B. L. (1951). On the comparison of several mean values: an "
+                  "alternative approach. Biometrika 38, 330-336.",
+    "kruskal-wallis-1952": "Kruskal, W. H. and Wallis, W. A. (1952). Use of ranks in "
+                           "one-criterion variance analysis. Journal of the American "
+                           "Statistical Association 47, 583-621.",
+    "jonckheere-1954": "Jonckheere, A. R. (1954). A distribution-free k-sample test against "
+                       "ordered alternatives. Biometrika 41, 133-145.",
+    "terpstra-1952": "Terpstra, T. J. (1952). The asymptotic normality and consistency of "
+                     "Kendall's test against trend, when ties are present in one ranking. "
+                     "Indagationes Mathematicae 14, 327-333.",
+    "friedman-1937": "Friedman, M. (1937). The use of ranks to avoid the assumption of "
+                     "normality implicit in the analysis of variance. Journal of the American "
+                     "Statistical Association 32, 675-701.",
+    "page-1963": "Page, E. B. (1963). Ordered hypotheses for multiple treatments: a "
+                 "significance test for linear ranks. Journal of the American Statistical "
+                 "Association 58, 216-230.",
+    "kendall-1938": "Kendall, M. G. (1938). A new measure of rank correlation. Biometrika 30, "
+                    "81-93.",
+    "spearman-1904": "Spearman, C. (1904). The proof and measurement of association between "
+                     "two things. American Journal of Psychology 15, 72-101.",
+    "freedman-lane-1983": "Freedman, D. and Lane, D. (1983). A nonstochastic interpretation of "
+                          "reported significance levels. Journal of Business and Economic "
+                          "Statistics 1, 292-298.",
+    "freeman-halton-1951": "Freeman, G. H. and Halton, J. H. (1951). Note on an exact "
+                           "treatment of contingency, goodness of fit and other problems of "
+                           "significance. Biometrika 38, 141-149.",
+    "mehta-patel-1983": "Mehta, C. R. and Patel, N. R. (1983). A network algorithm for "
+                        "performing Fisher's exact test in r x c contingency tables. Journal "
+                        "of the American Statistical Association 78, 427-434.",
+    "cochran-1954": "Cochran, W. G. (1954). Some methods for strengthening the common "
+                    "chi-square tests. Biometrics 10, 417-451.",
+    "armitage-1955": "Armitage, P. (1955). Tests for linear trends in proportions and "
+                     "frequencies. Biometrics 11, 375-386.",
+    "mcnemar-1947": "McNemar, Q. (1947). Note on the sampling error of the difference between "
+                    "correlated proportions or percentages. Psychometrika 12, 153-157.",
+    "clopper-pearson-1934": "Clopper, C. J. and Pearson, E. S. (1934). The use of confidence "
+                            "or fiducial limits illustrated in the case of the binomial. "
+                            "Biometrika 26, 404-413.",
+    "wilson-1927": "Wilson, E. B. (1927). Probable inference, the law of succession, and "
+                   "statistical inference. Journal of the American Statistical Association "
+                   "22, 209-212.",
+    "woolf-1955": "Woolf, B. (1955). On estimating the relation between blood group and "
+                  "disease. Annals of Human Genetics 19, 251-253.",
+    "pearson-1900": "Pearson, K. (1900). On the criterion that a given system of deviations "
+                    "from the probable in the case of a correlated system of variables is such "
+                    "that it can be reasonably supposed to have arisen from random sampling. "
+                    "Philosophical Magazine 50, 157-175.",
+    "wilks-1938": "Wilks, S. S. (1938). The large-sample distribution of the likelihood ratio "
+                  "for testing composite hypotheses. Annals of Mathematical Statistics 9, 60-62.",
+    "fisher-1915": "Fisher, R. A. (1915). Frequency distribution of the values of the "
+                   "correlation coefficient in samples from an indefinitely large population. "
+                   "Biometrika 10, 507-521.",
+    "mackinnon-white-1985": "MacKinnon, J. G. and White, H. (1985). Some "
+                            "heteroskedasticity-consistent covariance matrix estimators with "
+                            "improved finite sample properties. Journal of Econometrics 29, "
+                            "305-325.",
+    "westfall-young-1993": "Westfall, P. H. and Young, S. S. (1993). Resampling-Based "
+                           "Multiple Testing. New York: Wiley.",
+    "holm-1979": "Holm, S. (1979). A simple sequentially rejective multiple test procedure. "
+                 "Scandinavian Journal of Statistics 6, 65-70.",
+    "benjamini-hochberg-1995": "Benjamini, Y. and Hochberg, Y. (1995). Controlling the false "
+                               "discovery rate: a practical and powerful approach to multiple "
+                               "testing. Journal of the Royal Statistical Society B 57, 289-300.",
+    "phipson-smyth-2010": "Phipson, B. and Smyth, G. K. (2010). Permutation p-values should "
+                          "never be zero: calculating exact p-values when permutations are "
+                          "randomly drawn. Statistical Applications in Genetics and Molecular "
+                          "Biology 9, article 39.",
+    "joanes-gill-1998": "Joanes, D. N. and Gill, C. A. (1998). Comparing measures of sample "
+                        "skewness and kurtosis. Journal of the Royal Statistical Society D 47, "
+                        "183-189.",
+    "cohen-1988": "Cohen, J. (1988). Statistical Power Analysis for the Behavioral Sciences, "
+                  "2nd edition. Hillsdale, NJ: Lawrence Erlbaum.",
+    "vargha-2000": "Vargha, A. and Delaney, H. D. (2000). A critique and improvement of the CL "
+                   "common language effect size statistics of McGraw and Wong. Journal of "
+                   "Educational and Behavioral Statistics 25, 101-132.",
+    "kerby-2014": "Kerby, D. S. (2014). The simple difference formula: an approach to teaching "
+                  "nonparametric correlation. Comprehensive Psychology 3, article 1.",
+    "tomczak-2014": "Tomczak, M. and Tomczak, E. (2014). The need to report effect size "
+                    "estimates revisited. Trends in Sport Sciences 21, 19-25.",
+    "kendall-1939": "Kendall, M. G. and Babington Smith, B. (1939). The problem of m rankings. "
+                    "Annals of Mathematical Statistics 10, 275-287.",
+    "cramer-1946": "Cramer, H. (1946). Mathematical Methods of Statistics. Princeton: "
+                   "Princeton University Press.",
+    "common-practice": "",     # a fact of the trade with no single source
+}
+
+
+@dataclass(frozen=True)
+class Method:
+    name: str                  # the test as a report names it
+    sources: tuple             # keys of SOURCES
+    what: str = ""             # one clause on what it tests, for the methods paragraph
+
+
+# (family, start of the statistic's name) -> Method; the first match wins
+_TESTS = [
+    (("two-sample",), "difference in means",
+     Method("permutation test of the difference in means (Pitman)", ("pitman-1937",))),
+    (("two-sample",), "rank sum",
+     Method("Wilcoxon rank-sum test", ("wilcoxon-1945", "mann-whitney-1947"))),
+    (("two-sample",), "normal-scores",
+     Method("van der Waerden normal-scores test", ("van-der-waerden-1952",))),
+    (("two-sample",), "count of the first group above",
+     Method("Mood's median test", ("mood-1950",))),
+    (("paired", "one-sample"), "mean difference",
+     Method("sign-flip permutation test of the mean (Fisher)", ("fisher-1935",))),
+    (("paired", "one-sample"), "signed-rank",
+     Method("Wilcoxon signed-rank test (zeros by Pratt's rule)",
+            ("wilcoxon-1945", "pratt-1959"))),
+    (("paired", "one-sample"), "number of positive",
+     Method("sign test", ("dixon-mood-1946",))),
+    (("k-sample",), "F", Method("permutation F test (Pitman)", ("pitman-1938",))),
+    (("k-sample",), "Kruskal-Wallis",
+     Method("Kruskal-Wallis test", ("kruskal-wallis-1952",))),
+    (("k-sample",), "van der Waerden",
+     Method("van der Waerden normal-scores k-sample test", ("van-der-waerden-1952",))),
+    (("k-sample",), "median test", Method("k-sample median test", ("mood-1950",))),
+    (("ordered",), "Jonckheere",
+     Method("Jonckheere-Terpstra test", ("jonckheere-1954", "terpstra-1952"))),
+    (("ordered",), "linear trend",
+     Method("permutation test of a linear trend in the dose scores", ("pitman-1938",))),
+    (("blocked",), "Friedman", Method("Friedman test", ("friedman-1937",))),
+    (("blocked",), "Page", Method("Page's test for ordered treatments", ("page-1963",))),
+    (("blocked",), "F for treatments",
+     Method("permutation F test within blocks", ("pitman-1938",))),
+    (("blocked",), "stratified sum",
+     Method("stratified permutation test of the difference in means (within-block "
+            "permutation)", ("pitman-1937",))),
+    (("blocked",), "stratified rank sum",
+     Method("stratified Wilcoxon rank-sum test (ranks within blocks)",
+            ("wilcoxon-1945", "lehmann-1975"))),
+    (("association",), "Pearson",
+     Method("permutation test of Pearson's correlation", ("pitman-1937b",))),
+    (("association",), "Spearman",
+     Method("permutation test of Spearman's rank correlation", ("spearman-1904",))),
+    (("association",), "Kendall",
+     Method("permutation test of Kendall's tau", ("kendall-1938",))),
+    (("association",), "least-squares slope",
+     Method("permutation test of the least-squares slope", ("pitman-1937b",))),
+    (("association",), "t of the slope",
+     Method("Freedman-Lane permutation test of the adjusted slope", ("freedman-lane-1983",))),
+    (("table",), "top-left count", Method("Fisher's exact test", ("fisher-1935b",))),
+    (("table",), "table probability",
+     Method("Fisher-Freeman-Halton exact test", ("freeman-halton-1951",))),
+    (("table",), "Pearson chi-square",
+     Method("exact test of Pearson's chi-square", ("pearson-1900",))),
+    (("table",), "likelihood-ratio",
+     Method("exact likelihood-ratio test", ("wilks-1938",))),
+    (("table",), "linear-by-linear",
+     Method("exact linear-by-linear trend test (Cochran-Armitage for 2 x k)",
+            ("cochran-1954", "armitage-1955"))),
+    (("table",), "discordant pairs", Method("McNemar's exact test", ("mcnemar-1947",))),
+    (("table",), "count of successes", Method("exact binomial test", ())),
+]
+
+# normal-theory counterparts and intervals: (start of the words) -> source keys
+_NORMAL = [("Welch one-way", ("welch-1951",)), ("Welch t", ("welch-1947",)),
+           ("one-sample t", ("student-1908",)), ("one-way ANOVA", ("fisher-1925",)),
+           ("Kruskal-Wallis", ("kruskal-wallis-1952",)),
+           ("chi-square approximation to Friedman", ("friedman-1937",)),
+           ("normal approximation to Page", ("page-1963",)),
+           ("Jonckheere", ("jonckheere-1954",)), ("Wald z for the log odds", ("woolf-1955",)),
+           ("Pearson chi-square", ("pearson-1900",)), ("likelihood-ratio", ("wilks-1938",)),
+           ("McNemar", ("mcnemar-1947",)), ("Wilson", ("wilson-1927",)),
+           ("Fisher's z", ("fisher-1915",)), ("Fisher z", ("fisher-1915",)),
+           ("HC3", ("mackinnon-white-1985",)), ("Clopper-Pearson", ("clopper-pearson-1934",)),
+           ("Hodges-Lehmann", ("hodges-lehmann-1963",)),
+           ("linear-by-linear", ("cochran-1954",))]
+
+_ADJUSTMENTS = [("max-t", ("westfall-young-1993",)), ("min-p", ("westfall-young-1993",)),
+                ("holm", ("holm-1979",)), ("bonferroni", ("holm-1979",)),
+                ("fdr", ("benjamini-hochberg-1995",)),
+                ("benjamini", ("benjamini-hochberg-1995",))]
+
+
+def method_of(record: dict) -> Method:
+    """The named test of a result record (its JSON object)."""
+    family = record.get("family", "")
+    if family in ("several responses", "for each", "pairwise"):
+        return Method(record.get("test", "several tests"),
+                      _match(_ADJUSTMENTS, record.get("adjustment", "").lower()))
+    if family == "robustness":
+        a = record.get("analysis", {})
+        inner = method_of({"family": a.get("family", ""),
+                           "statistic": {"name": a.get("statistic", "")}})
+        return Method(f"robustness check of the {inner.name}", inner.sources)
+    name = (record.get("statistic") or {}).get("name", "")
+    for families, start, method in _TESTS:
+        if family in families and name.startswith(start):
+            return method
+    return Method(f"permutation test of the {name}" if name else "permutation test", ())
+
+
+def normal_sources(words: str) -> tuple:
+    return _match(_NORMAL, words)
+
+
+def _match(table, words: str) -> tuple:
+    for start, keys in table:
+        if start.lower() in words.lower():
+            return keys
+    return ()
+
+
+def sources_for(records) -> list:
+    """Every source the records name, in order of first use, without repeats."""
+    keys = []
+    for r in records:
+        if "error" in r or "plan" in r:
+            continue
+        keys += method_of(r).sources
+        for nt in [r.get("normal_theory")] + list(r.get("normal_theory_also") or []):
+            if nt:
+                keys += normal_sources(nt.get("test", ""))
+        for part in (r.get("estimate") or {}, r.get("normal_interval") or {}):
+            keys += normal_sources(part.get("name", "") + " " + part.get("method", ""))
+        keys += [s["source"] for s in r.get("effect_sizes") or [] if s.get("source")]
+        if r.get("method") == "monte-carlo":
+            keys.append("phipson-smyth-2010")
+        if (r.get("diagnostics") or {}).get("skewness") is not None:
+            keys.append("joanes-gill-1998")
+    seen = []
+    for k in keys:
+        if k not in seen and SOURCES.get(k):
+            seen.append(k)
+    return seen
+
+
+def short_citation(key: str) -> str:
+    """"Mann and Whitney, 1947" from the source's entry."""
+    text = SOURCES.get(key, "")
+    if "(" not in text:
+        return ""
+    authors, rest = text.split(" (", 1)
+    year = rest.split(")", 1)[0] + ("b" if key[-1] == "b" and key[-2].isdigit() else "")
+    names = [a.strip().split(",")[0] for a in authors.replace(" and ", ", and ").split(", and ")]
+    names = [n for n in names if n]
+    who = names[0] + " et al." if len(names) > 2 else " and ".join(names)
+    return f"{who}, {year}"

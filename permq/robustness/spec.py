@@ -1,0 +1,72 @@
+"""What the robustness check needs of a family: its `Check`, declared in the family's module
+(`Family.robustness`, a function of the bound design that returns one).
+
+The check simulates data sets y = pattern + errors on the design's layout (robustness/problem)
+and runs both tests on each. A `Check` says, for the family:
+
+- `form`: the permutation statistic's form on the layout: "linear" (T = sum w_pi(i) a_i,
+  within blocks when there are blocks), "signs" (sign flips), "quadratic" (sum_g S_g^2 / n_g),
+  "pairs" (Kendall's S against a fixed order), "residual" (the t of the slope on permuted
+  residuals of the reduced model);
+- `scores(problem, Y)`: each data set's scores (robustness/scoring);
+- `counterpart` and `normal_p(problem, Y, A)`: the normal-theory test, its name and its p for
+  each data set (robustness/counterparts);
+- `reported(problem, a, t)`: the statistic as the result reports it (robustness/reported);
+- `effect(design)`: the observed effect and its words (robustness/effects), or None for the
+  layout's own;
+- `weights(design)`: the fixed weights of a linear or pairs form, or None for the layout's own
+  (the group indicator, the dose scores, x);
+- `centre`: for one sample, the parameter the errors are centred on ("mean", "median",
+  "pseudo-median"), so that it is zero under the null;
+- `reversed`: the family's `alternative higher` is the lower tail of its statistic (the
+  Ansari-Bradley AB is small when the first group is the more spread out);
+- `leaves_out`: laws of the panel the check leaves out, each with the reason (for a test of
+  spread, unequal spread is its alternative, not a breach of its null).
+
+A family whose check needs a new piece writes it in its own module with the same signature.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable, Optional, Union
+
+
+@dataclass(frozen=True)
+class Check:
+    form: str
+    scores: Callable
+    counterpart: Union[str, Callable]    # its name, or a function of the problem giving it
+    normal_p: Callable
+    reported: Callable
+    effect: Optional[Callable] = None
+    weights: Optional[Callable] = None
+    centre: str = "mean"
+    test: str = ""                       # the test's name in the problem (e.g. "friedman")
+    reversed: bool = False               # 'higher' is the statistic's lower tail
+    leaves_out: tuple = ()               # ((law key, reason), ...)
+
+    def counterpart_name(self, problem) -> str:
+        return self.counterpart(problem) if callable(self.counterpart) else self.counterpart
+
+
+@dataclass(frozen=True)
+class CountCheck:
+    """The count check of a family whose data are counts (robustness/tables): the route its
+    exact test takes on every simulated table ("rxc", "2x2", "paired", "proportion"; the
+    schemes follow the design's form), and for r x c the tables engine's statistic."""
+
+    route: str
+    statistic: str = ""
+    ordered: bool = False       # said in the design's words ("3 x 4 table, ordered")
+
+
+def check_for(design):
+    """The family's check for this design (a Check, or a CountCheck for counts), or a
+    PlanError saying why there is none."""
+    from ..errors import PlanError
+    from ..families.registry import family_for
+
+    family = family_for(design)
+    if family.robustness is None:
+        raise PlanError(f"robustness is not available here: {family.no_robustness or 'no check'}")
+    return family.robustness(design)
