@@ -90,6 +90,27 @@ def welch_rows(rows, v, n1, n2) -> np.ndarray:
     return _ratio(m1 - m2, v1 / n1 + v2 / n2)
 
 
+def welch_batch(rows, A) -> np.ndarray:
+    """Welch t of group 0 - group 1 for every data set (rows of A) and arrangement: (D, R)."""
+    A = np.asarray(A, dtype=float)
+    centre = A.mean(axis=1, keepdims=True)
+    scale = A.std(axis=1, keepdims=True)
+    scale[scale == 0] = 1.0
+    Z = (A - centre) / scale
+    first = (np.asarray(rows) == 0).astype(float)                 # (R, N)
+    n1 = float(first[0].sum())
+    n2 = A.shape[1] - n1
+    s1, q1 = Z @ first.T, (Z * Z) @ first.T                       # (D, R)
+    s2 = Z.sum(axis=1, keepdims=True) - s1
+    q2 = (Z * Z).sum(axis=1, keepdims=True) - q1
+    m1, m2 = s1 / n1, s2 / n2
+    v1 = np.maximum((q1 - s1 * m1) / (n1 - 1), 0.0)
+    v2 = np.maximum((q2 - s2 * m2) / (n2 - 1), 0.0)
+    v1[v1 < ZERO_VARIANCE] = 0.0
+    v2[v2 < ZERO_VARIANCE] = 0.0
+    return _ratio(m1 - m2, v1 / n1 + v2 / n2)
+
+
 def _ratio(num, se2) -> np.ndarray:
     with np.errstate(invalid="ignore", divide="ignore"):
         t = num / np.sqrt(se2)

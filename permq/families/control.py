@@ -111,6 +111,41 @@ def _rows(design, out, normal) -> list:
     return rows
 
 
+def global_test(design, many: ManyResult):
+    """The global test the robustness check simulates: does any level differ from the
+    control? Its p is the smallest single-step adjusted p (max-T), beside the smallest of the
+    counterpart's."""
+    from ..engine.core.pvalues import monte_carlo_p
+    from ..result import EngineOutcome, NormalTheory, Result
+
+    s = design.settings
+    from ..robustness.control import extreme
+
+    t = np.array([r.statistic for r in many.rows])
+    p = min(r.extra["p_single_step"] for r in many.rows)
+    extra = {}
+    if many.method == "monte-carlo":
+        b = int(round(p * (many.draws + 1))) - 1
+        extra = dict(draws=many.draws, seed=many.seed, p_interval=monte_carlo_p(b, many.draws)[1])
+    letter = "t" if s.family == "means" else "z"
+    which = {"two-sided": f"largest |{letter}|", "higher": f"largest {letter}",
+             "lower": f"smallest {letter}"}[s.alternative]
+    outcome = EngineOutcome(f"{which} over the levels (single-step max-T)",
+                            float(extreme(t, s.alternative)), p,
+                            many.method, many.algorithm, many.arrangements, **extra)
+    normal_p = [r.normal_p for r in many.rows if r.normal_p is not None]
+    normal = NormalTheory(many.normal_test.rsplit("; adjusted", 1)[0] + ": the smallest adjusted p",
+                          math.nan, None, min(normal_p) if normal_p else math.nan)
+    return Result(many.statement, "many-to-one", s.alternative, outcome, normal,
+                  effect=f"any level against {design.labels[0]}", warnings=list(many.warnings))
+
+
+def _robustness(design):
+    from ..robustness.control import control_check
+
+    return control_check(design)
+
+
 _HELP = """compare weight by dose against "0"                  every other dose against "0"
 compare weight by dose against "0" using ranks      rank sums, re-ranked for each pair
 compare weight by dose against "0" adjust max-t single-step   (the default: step-down)
@@ -121,14 +156,11 @@ FAMILIES = [
            "(Westfall-Young max-T)", "levels against a control, studentized per pair",
            plan, execute, "Dunnett's many-to-one t (pooled variance)",
            "difference in means per level, with simultaneous intervals",
-           no_robustness="several tests at once: the check takes one comparison at a time "
-                         "(levels \"dose\", \"control\")",
-           default_in=("control",), help=_HELP),
+           robustness=_robustness, default_in=("control",), help=_HELP,
+           extra={"global_test": global_test}),
     Family("ranks", ("control",), "many-to-one rank sums (re-ranked per pair), all units "
            "permuted together (Westfall-Young max-T)", "levels against a control, by ranks",
            plan, execute, "normal approximation to the pairwise-ranked sums",
            "Hodges-Lehmann shift per level, with simultaneous intervals",
-           no_robustness="several tests at once: the check takes one comparison at a time "
-                         "(levels \"dose\", \"control\")",
-           help=_HELP),
+           robustness=_robustness, help=_HELP, extra={"global_test": global_test}),
 ]

@@ -136,6 +136,35 @@ def _conclusion(labels, lowest, normal_lowest, alpha, short) -> str:
     return text + f"; {short}: {other}"
 
 
+def global_test(design, many: ManyResult):
+    """The first step, the trend over every dose: the step-down rejects anything only when it
+    does, so the robustness check simulates it (its rate under the null is the family-wise
+    error of the whole step-down)."""
+    from ..engine.core.pvalues import monte_carlo_p
+    from ..result import EngineOutcome, NormalTheory, Result
+
+    s = design.settings
+    top = many.rows[0]
+    extra = {}
+    if many.method == "monte-carlo":
+        b = int(round(top.p_value * (many.draws + 1))) - 1
+        extra = dict(draws=many.draws, seed=many.seed, p_interval=monte_carlo_p(b, many.draws)[1])
+    outcome = EngineOutcome("z of the trend over every dose", float(top.statistic),
+                            float(top.p_value), many.method, many.algorithm, many.arrangements,
+                            **extra)
+    normal = NormalTheory(many.normal_test.rsplit("; stepped", 1)[0], math.nan, None,
+                          math.nan if top.normal_p is None else float(top.normal_p))
+    return Result(many.statement, "lowest effective dose", s.alternative, outcome, normal,
+                  effect=f"a trend over {' < '.join(design.labels)}",
+                  warnings=list(many.warnings))
+
+
+def _robustness(design):
+    from ..robustness.control import dose_check
+
+    return dose_check(design)
+
+
 _HELP = """compare weight by dose ordered against "0"              the lowest effective dose
 compare weight by dose ordered against "0" alternative higher   a rise with dose
 compare weight by dose ordered "0" < "low" < "high" against "0" using ranks"""
@@ -145,13 +174,11 @@ FAMILIES = [
            "(Tukey-Ciminera-Heyse, by permutation)", "the lowest effective dose, by values",
            plan, execute, "Williams' test (isotonic means), stepped down",
            "difference in means, top dose of each step - control",
-           no_robustness="a sequence of tests: the check takes one trend at a time "
-                         "(compare Y by dose ordered)",
-           default_in=("dose-finding",), help=_HELP),
+           robustness=_robustness, default_in=("dose-finding",), help=_HELP,
+           extra={"global_test": global_test}),
     Family("ranks", ("dose-finding",), "step-down trend test on mid-ranks for the lowest "
            "effective dose (re-ranked at each step)", "the lowest effective dose, by ranks",
            plan, execute, "normal approximation to each step's rank trend, stepped down",
            "Hodges-Lehmann shift, top dose of each step - control",
-           no_robustness="a sequence of tests: the check takes one trend at a time "
-                         "(compare Y by dose ordered)", help=_HELP),
+           robustness=_robustness, help=_HELP, extra={"global_test": global_test}),
 ]

@@ -59,13 +59,18 @@ def _how(scale, c, s, null_value) -> str:
             f"the arrangements: {null_value} lies outside exactly when p <= {1 - s.level:g}")
 
 
+def _robustness(design):
+    from ..robustness.control import studentized_check
+
+    return studentized_check(design)
+
+
 FAMILIES = [
     Family("welch", ("two-sample",), "permutation test of the Welch t (studentized: valid "
            "under unequal spread as the groups grow)", "Welch t by permutation, for unequal "
            "spread", plan, execute, "Welch t (unequal variances)",
            "difference in means; interval from the permutation law of the Welch t",
-           no_robustness="the robustness check's forms are linear statistics; the Welch t is "
-                         "studentized", help="""compare weight by diet using welch
+           robustness=_robustness, help="""compare weight by diet using welch
   the Welch t recomputed for every split of the units: exact when the groups are
   exchangeable, and asymptotically valid for a difference in means when their spreads
   differ (Janssen 1997; Chung and Romano 2013)"""),
@@ -73,8 +78,7 @@ FAMILIES = [
            "Brunner-Munzel by permutation: P(A > B) + 1/2 P(A = B)", plan, execute,
            "Brunner-Munzel t (Satterthwaite df)",
            "P(A > B) + 1/2 P(A = B), with its interval from the permutation law",
-           no_robustness="the robustness check's forms are linear statistics; the "
-                         "Brunner-Munzel statistic is studentized",
+           robustness=_robustness,
            help="""compare weight by diet using brunner-munzel
   the rank counterpart of 'welch': tests P(A > B) + 1/2 P(A = B) = 1/2 without assuming
   equal spread (Neubert and Brunner 2007), and estimates it with an interval"""),

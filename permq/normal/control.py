@@ -4,9 +4,10 @@
   pooled within-group s on N - k df; the t_j share a multivariate t law whose correlations
   are lambda_j lambda_l, lambda_j = sqrt(n_j / (n_j + n_0)). That one-factor form lets the
   probability P(max_j |T_j| < c) be written as a double integral over the common factor W
-  and the scale S = sqrt(chi^2_df / df) (Dunnett's own route): Gauss-Legendre in W, adaptive
-  quadrature in S of the tail area itself, deterministic, to about 1e-9 relative. Adjusted p_j = 1 - P(max |T| < |t_j|) (one-sided:
-  max T); simultaneous intervals est +- c se with P(max |T| < c) = level.
+  and the scale S = sqrt(chi^2_df / df) (Dunnett's own route): Gauss-Legendre in W, and in S
+  on panels fitted to c, of the tail area itself, deterministic, to about 1e-7 relative.
+  Adjusted p_j = P(max |T| >= |t_j|) (one-sided: max T); simultaneous intervals est +- c se
+  with P(max |T| < c) = level.
 - The many-to-one rank sums by their normal approximation: the pair's Mann-Whitney count,
   tie-corrected within the pair, with the correlations of pairwise-ranked sums sharing a
   control, sqrt(n_j n_l / ((n_0 + n_j + 1)(n_0 + n_l + 1))) (Cov(U_j, U_l) = n_0 n_j n_l / 12

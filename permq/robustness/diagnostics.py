@@ -69,6 +69,8 @@ def _residuals(design):
         return d - d.mean(), len(d) - 1, None, None
     if isinstance(design, designs.GroupsDesign):
         return _group_residuals(design)
+    if isinstance(design, designs.ControlDesign):
+        return _group_residuals(design)
     if isinstance(design, designs.AssociationDesign):
         return _line_residuals(design)
     return None, 0, None, None
@@ -78,7 +80,7 @@ def _group_residuals(design):
     v, g = design.values, design.groups
     k = int(g.max()) + 1
     cols = [np.ones(len(v))] + [(g == i).astype(float) for i in range(1, k)]
-    if design.blocks is not None:
+    if getattr(design, "blocks", None) is not None:
         b = design.blocks
         cols += [(b == j).astype(float) for j in range(1, int(b.max()) + 1)]
     X = np.column_stack(cols)
@@ -87,7 +89,7 @@ def _group_residuals(design):
     df = len(v) - np.linalg.matrix_rank(X)
     sds = [np.std(r[g == i], ddof=1) if np.sum(g == i) > 1 else np.nan for i in range(k)]
     what = "group standard deviations, largest over smallest"
-    if design.blocks is not None:
+    if getattr(design, "blocks", None) is not None:
         what = "residual standard deviations of the groups (additive fit), largest over smallest"
     return r, df, _ratio(sds), what
 

@@ -93,6 +93,9 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
     sim = simulate(problem, pattern, check.datasets, check.alpha, int(seed), progress)
     picture = null_picture(design, observed.outcome, int(seed))
     warnings = list(design.warnings) + [why for _, why in problem.check.leaves_out]
+    from .control import spread_note
+
+    warnings += [note for note in (spread_note(problem, sim),) if note]
     if problem.kind == "paired":
         warnings.append("pairs are simulated as two values from the law, so their differences "
                         "are symmetric under the null, as random order within a pair makes them")
@@ -151,6 +154,8 @@ def _observed(design, text, progress, check):
     """The statement's own analysis of the data as they are, with its diagnostics."""
     handler = family_for(design)
     observed = handler.execute(design, handler.plan(design), progress, text)
+    if not hasattr(observed, "outcome"):   # several tests at once: the family's global test
+        observed = handler.extra["global_test"](design, observed)
     attach_diagnostics(design, observed, check.alpha)
     return observed
 
