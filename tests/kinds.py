@@ -41,9 +41,16 @@ KINDS = {
     "robustness counts": "robustness count [[9, 1], [3, 7]] datasets 100 seed 5",
     "several responses": 'compare mass, light by recipe levels "A", "B" in trays',
     "pairwise": "compare mass by recipe in trays pairwise sampled 2000 seed 4",
+    "many-to-one means": 'compare weight by dose against "0" in doses sampled 2000 seed 3',
+    "many-to-one ranks": 'compare weight by dose against "0" in doses using ranks sampled 2000 seed 3',
+    "lowest effective dose": 'compare weight by dose ordered against "0" in doses alternative higher seed 3',
+    "two-sample welch": 'compare weight by dose levels "40", "0" in doses using welch',
+    "two-sample brunner-munzel": 'compare weight by dose levels "40", "0" in doses using brunner-munzel',
+    "robustness many-to-one": 'robustness compare weight by dose against "0" in doses datasets 100 seed 5',
     "failure": "compare mass by recipy in trays",
 }
-LOADS = 'load "trays.csv" as trays\nload "seedlings.csv" as pots\nload "plots.csv" as plots\n'
+LOADS = ('load "trays.csv" as trays\nload "seedlings.csv" as pots\nload "plots.csv" as plots\n'
+         'load "doses.csv" as doses\n')
 # paired yes/no outcomes for the `count ... paired` form (made up for this contract test)
 PAIRS = pd.DataFrame({"first": ["yes", "yes", "no", "yes", "yes", "no", "yes", "yes"],
                       "second": ["yes", "no", "yes", "no", "no", "no", "no", "yes"]})

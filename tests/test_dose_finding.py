@@ -195,3 +195,16 @@ def test_williams_statistic_uses_the_isotonic_mean_of_the_doses():
     # doses 1..3 amalgamated upward: max over u of mean(doses u..3) = mean(3, 2, 2.5) = 2.5
     t = normal_control.williams_statistic(means, n, 1.0, 3, "higher")
     assert t == pytest.approx((2.5 - 1.0) / np.sqrt(0.5))
+
+
+def test_sentences_name_the_steps_and_the_conclusion():
+    from kinds import kinds
+
+    k = kinds()
+    text = k["lowest effective dose"].sentence()
+    assert text.startswith("step-down linear trend in dose scores") and "closed testing" in text
+    assert "lowest effective dose 10 at the 5% level" in text
+    many = k["many-to-one means"]
+    assert "4 comparisons tested, max-t step-down adjustment" in many.sentence()
+    rec = many.to_dict()
+    assert rec["family"] == "many-to-one" and rec["normal_theory"]["test"].startswith("Dunnett")

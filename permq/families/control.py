@@ -22,7 +22,8 @@ TESTS = {
     "means": ("Welch-type t of each level against the control (each pair studentized by its "
               "own two variances), all units permuted together",
               "t: (mean of the level - mean of the control) / sqrt(s^2/n of each, summed)"),
-    "ranks": ("rank sum of each level with the control alone (re-ranked for each pair), all "
+    "ranks": ("rank sum of each level with the control alone (re-ranked for each pair, as "
+              "Steel 1959), all "
               "units permuted together",
               "z: the pair's Mann-Whitney count (level above control, ties 1/2), centred, over "
               "its no-ties sd"),
@@ -79,7 +80,8 @@ def _num(v):
 def _interval_words(s, c, alpha) -> str:
     scale = ("its Welch standard error" if s.family == "means" else
              "the pair's rank statistic (order statistics of the differences)")
-    side = {"two-sided": "largest |t|", "higher": "largest t", "lower": "largest -t"}
+    z = "t" if s.family == "means" else "z"
+    side = {"two-sided": f"largest |{z}|", "higher": f"largest {z}", "lower": f"largest -{z}"}
     return (f"simultaneous, from {scale} and c = {c:.4g}, the {100 * (1 - alpha):g}% point of "
             f"the {side[s.alternative]} over the arrangements: 0 lies outside an interval "
             f"exactly when the single-step max-T adjusted p is at most {alpha:g}")

@@ -4,7 +4,7 @@
 `normal_theory.p_value`, `estimate.interval`; lists stay whole in their cell). A several-tests
 record gives one row per test: its own fields, and the row's fields under the names a single
 result uses (`statistic.value`, `p_value`, `estimate.value`, `estimate.interval`) beside
-`p_adjusted`, `row.name`, `row.n` and `row.note`. Every row has `record` (its place in the
+`p_adjusted`, `row.name`, `row.n` and `row.note` (a row's other fields as `row.<field>`). Every row has `record` (its place in the
 run) and `kind`. `record_of(row)` turns a row back into the fields it came from.
 """
 from __future__ import annotations
@@ -14,7 +14,7 @@ import math
 ROW_FIELDS = {"name": "row.name", "n": "row.n", "statistic": "statistic.value",
               "p_value": "p_value", "p_adjusted": "p_adjusted", "estimate": "estimate.value",
               "interval": "estimate.interval", "note": "row.note"}
-SEVERAL = ("several responses", "for each", "pairwise")
+SEVERAL = ("several responses", "for each", "pairwise", "many-to-one", "lowest effective dose")
 
 
 def rows(records) -> list:
@@ -27,7 +27,7 @@ def rows(records) -> list:
             head = flatten({k: v for k, v in r.items() if k != "rows"})
             for row in r["rows"]:
                 line = dict(base, **head)
-                line.update({ROW_FIELDS[k]: v for k, v in row.items()})
+                line.update({ROW_FIELDS.get(k, f"row.{k}"): v for k, v in row.items()})
                 out.append(line)
         else:
             out.append(dict(base, **flatten(r)))
