@@ -15,6 +15,14 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   compare mass by recipe ordered "B" < "A" < "C"      ordered: linear trend (means), Jonckheere-Terpstra (ranks)
   compare yield by dose within block using ranks      complete blocks: Friedman; 'ordered': Page
   compare mass by recipe levels "A", "B" within bench  two levels, blocks of any size: stratified""",
+    "control": """levels against a control, the lowest effective dose, unequal spread (try them on the demo's doses)
+  compare weight by dose against "0"                  every other dose against "0": max-T step-down
+  compare weight by dose against "0" using ranks      rank sums re-ranked for each pair
+  compare weight by dose against "0" adjust max-t single-step   simultaneous intervals agree with it
+  compare weight by dose ordered against "0"          step-down trend: the lowest effective dose
+  compare weight by dose levels "40", "0" using welch           the Welch t by permutation
+  compare weight by dose levels "40", "0" using brunner-munzel  P(40 > 0) + 1/2 P(40 = 0)
+beside them: Dunnett's many-to-one t, Williams' test, the Welch and Brunner-Munzel t""",
     "relate": """relate: association and slopes
   relate mass to light                                Pearson correlation by permutation
   relate mass to light using kendall                  Kendall's tau (spearman: Spearman's rho)
@@ -71,6 +79,7 @@ TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
 TOPICS["tables"] = TOPICS["count"]
 TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
+TOPICS["against"] = TOPICS["dose"] = TOPICS["control"]
 
 
 def topics() -> list[str]:

@@ -50,14 +50,15 @@ class StudentizedOutcome:
 def candidates(family, x, y, draws: int) -> list:
     n1, N = len(x), len(x) + len(y)
     total = float(math.comb(N, n1))
-    per_row = N * (8.0 if family == "welch" else 16.0)
+    per_row = N * (30.0 if family == "welch" else 40.0)
     feasible = total <= ENUMERATION_MAX
     return [Candidate("enumeration", "complete enumeration of the splits", True,
                       total * (per_row + n1), min(total, 100_000) * N * 40.0 + total * 16,
                       feasible=feasible, arrangements=total,
                       note="" if feasible else f"{total:.3g} splits are too many to list"),
             Candidate("monte-carlo", "Monte Carlo: random splits", False,
-                      (draws + 1) * (per_row + 3.0 * N), WINDOW_ROWS * N * 40.0 + draws * 8,
+                      (draws + 1) * (per_row + (10.0 if family == "welch" else 45.0) * N),
+                      WINDOW_ROWS * N * 40.0 + draws * 8,
                       arrangements=total, note=f"{draws} draws")]
 
 

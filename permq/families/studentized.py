@@ -70,7 +70,7 @@ FAMILIES = [
            "under unequal spread as the groups grow)", "Welch t by permutation, for unequal "
            "spread", plan, execute, "Welch t (unequal variances)",
            "difference in means; interval from the permutation law of the Welch t",
-           robustness=_robustness, help="""compare weight by diet using welch
+           robustness=_robustness, help="""compare weight by dose levels "40", "0" in doses using welch
   the Welch t recomputed for every split of the units: exact when the groups are
   exchangeable, and asymptotically valid for a difference in means when their spreads
   differ (Janssen 1997; Chung and Romano 2013)"""),
@@ -79,7 +79,7 @@ FAMILIES = [
            "Brunner-Munzel t (Satterthwaite df)",
            "P(A > B) + 1/2 P(A = B), with its interval from the permutation law",
            robustness=_robustness,
-           help="""compare weight by diet using brunner-munzel
+           help="""compare weight by dose levels "40", "0" in doses using brunner-munzel
   the rank counterpart of 'welch': tests P(A > B) + 1/2 P(A = B) = 1/2 without assuming
   equal spread (Neubert and Brunner 2007), and estimates it with an interval"""),
 ]

@@ -72,7 +72,7 @@ def candidates(sizes, draws: int, family: str) -> list:
                       memory(total, True), feasible=feasible, arrangements=total,
                       note=f"{total:.3g} arrangements" + ("" if feasible else
                                                          " (more than can be listed)")),
-            Candidate("monte-carlo", SAMPLED_WORDS, False, (draws + 1) * (per_row + 3.0 * N),
+            Candidate("monte-carlo", SAMPLED_WORDS, False, (draws + 1) * 1.5 * (per_row + 3.0 * N),
                       memory(draws + 1, False), arrangements=total, note=f"{draws} draws")]
 
 

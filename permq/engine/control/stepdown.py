@@ -65,7 +65,7 @@ def candidates(values, groups, scores, family: str, draws: int) -> list:
         x, g = _subset(values, groups, top, family)
         sizes = np.bincount(g, minlength=top + 1)
         total = max(total, float(trend.count(sizes)))
-        mc = monte_carlo_candidate(len(x), trend.count(sizes), draws)
+        mc = monte_carlo_candidate(len(x), trend.count(sizes), draws, per_item=11.0)
         mc_ops += mc.ops
         tg = trend.grid(x, g, scores[:top + 1])
         if tg is None:

@@ -24,7 +24,7 @@ from ..core.progress import NO_PROGRESS, Progress
 from ..core.scores import integer_grid
 
 MAX_CELLS = 1.5e8                 # states x statistic values held at once (two such arrays)
-OPS_PER_CELL = 0.6                # estimated work per (unit, state, value, class)
+OPS_PER_CELL = 0.08               # estimated work per (unit, state, value, class): measured
 
 
 @dataclass(frozen=True)
