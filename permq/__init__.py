@@ -12,8 +12,9 @@ from __future__ import annotations
 from .api import Results, StatementFailed, compare, count, relate, run
 from .pipeline import Session
 from .result import Failure, Note, Result
+from .result_factorial import FactorialResult
 from .result_many import ManyResult
 
 __version__ = "0.1.0"
 __all__ = ["run", "compare", "relate", "count", "Results", "StatementFailed", "Session",
-           "Result", "ManyResult", "Failure", "Note", "__version__"]
+           "Result", "ManyResult", "FactorialResult", "Failure", "Note", "__version__"]

@@ -32,6 +32,7 @@ import math
 import numpy as np
 
 from .bind import designs
+from .normal.degenerate import no_spread
 from .result import _num
 
 MEANS_INTERVAL = ("the exact permutation interval of the shift, divided by the same sd "
@@ -82,7 +83,7 @@ def _two_sample(design, result):
     if nx > 1 and ny > 1:
         sp = math.sqrt(((nx - 1) * np.var(x, ddof=1) + (ny - 1) * np.var(y, ddof=1))
                        / (nx + ny - 2))
-        if sp > 0:
+        if sp > 0 and not (no_spread(x) and no_spread(y)):     # zero spread: no d
             iv, lvl, how = _scaled_interval(result, sp, fam == "means")
             out.append(_size("d", f"standardised difference d ({design.effect}, pooled sd)",
                              (x.mean() - y.mean()) / sp, "cohen-1988", iv, lvl, how))
@@ -106,7 +107,7 @@ def _one_sample(design, result):
     out = []
     if len(d) > 1:
         sd = float(np.std(d, ddof=1))
-        if sd > 0:
+        if sd > 0 and not no_spread(d):           # equal as recorded: 1e-16 of noise is no sd
             iv, lvl, how = _scaled_interval(result, sd, fam == "means")
             out.append(_size("dz", f"standardised mean difference d_z ({design.effect}, "
                              "sd of the differences)", d.mean() / sd, "cohen-1988", iv, lvl,

@@ -14,7 +14,18 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
   compare mass by recipe                              k-sample (means: F; ranks: Kruskal-Wallis)
   compare mass by recipe ordered "B" < "A" < "C"      ordered: linear trend (means), Jonckheere-Terpstra (ranks)
   compare yield by dose within block using ranks      complete blocks: Friedman; 'ordered': Page
-  compare mass by recipe levels "A", "B" within bench  two levels, blocks of any size: stratified""",
+  compare mass by recipe levels "A", "B" within bench  two levels, blocks of any size: stratified
+  compare yield by variety and fertiliser             two crossed factors (help factors)
+  compare yield by fertiliser adjusting for nitrate   a covariate in the statistic (help factors)""",
+    "factors": """two crossed factors, and groups adjusted for covariates (try them on the demo's beans)
+  compare yield by variety and fertiliser             each main effect and the interaction, the two-way F beside each
+      main effects: the values permuted within the levels of the other factor (exact by listing)
+      interaction: residuals of the additive model permuted (Freedman-Lane, Monte Carlo)
+  compare yield by fertiliser adjusting for nitrate   groups permuted over the residuals of yield on nitrate:
+      exact (Rosenbaum 2002); the adjusted difference with its exact interval; ANCOVA beside it
+  compare yield by variety adjusting for nitrate      three or more groups: F of the residuals
+  ... using ranks                                     Wilcoxon / Kruskal-Wallis of the residuals
+text covariates (block, sex ...) enter as indicators, here and in relate ... adjusting for""",
     "control": """levels against a control, the lowest effective dose, unequal spread (try them on the demo's doses)
   compare weight by dose against "0"                  every other dose against "0": max-T step-down
   compare weight by dose against "0" using ranks      rank sums re-ranked for each pair
@@ -27,7 +38,8 @@ beside them: Dunnett's many-to-one t, Williams' test, the Welch and Brunner-Munz
   relate mass to light                                Pearson correlation by permutation
   relate mass to light using kendall                  Kendall's tau (spearman: Spearman's rho)
   relate mass to light using slope                    slope with its exact interval
-  relate mass to light using slope adjusting for tray  Freedman-Lane residual permutation""",
+  relate mass to light using slope adjusting for tray  Freedman-Lane residual permutation
+  relate mass to light using slope adjusting for bench  a text covariate: indicator columns""",
     "count": """count: tables, paired outcomes, one proportion
   count sprouted by dose in plots                     r x c exact test (fisher, chi-square, likelihood-ratio)
   count sprouted by dose in plots ordered             trend (linear-by-linear)
@@ -35,7 +47,18 @@ beside them: Dunnett's many-to-one t, Williams' test, the Welch and Brunner-Munz
   count first vs second paired                        McNemar's exact test (your two yes/no columns)
   count 7 of 20 vs 0.5                                exact binomial test, Clopper-Pearson interval
   count sprouted by dose in plots levels "40", "0"    choose the arms; the last named is the reference
-  count [[9, 1], [3, 7]] rows "treated", "control" columns "better", "same"   name an inline table""",
+  count [[9, 1], [3, 7]] rows "treated", "control" columns "better", "same"   name an inline table
+two proportions, strata, rates, a binary response: help events""",
+    "events": """counts and events (try them on the demo's sprays)
+  count 3 of 20 vs 9 of 21                    two proportions: Boschloo's test; risk difference and ratio
+  count 3 of 20 vs 9 of 21 using barnard      Barnard's test (score); using fisher: conditional on the total
+  count wilted by spray using boschloo        two proportions from two columns
+  count wilted by spray within bench          2 x 2 x K: common odds ratio (exact), Zelen's homogeneity beside
+  count wilted by dose within bench ordered   stratified trend; using homogeneity: Zelen's test alone
+  count 7 events in 120.5 vs 0.05             one rate: exact Poisson test, Garwood interval
+  count 7 events in 120.5 vs 2 events in 98   two rates: exact conditional test of the rate ratio
+  relate wilted to dose                       a two-valued response: exact conditional logistic slope
+the event is the response's second value in natural order (1 of 0 / 1, "yes" of "no")""",
     "many": """several responses or comparisons at once, permuted together
   compare mass, light by recipe levels "A", "B" adjust max-t step-down
   compare every numeric except tray by recipe adjust max-t
@@ -49,23 +72,28 @@ filters: top N, below 0.05; set workers 2, set cluster "tcp://host:8786" to scal
   confidence 90%                 level of the intervals
   exact                          insist on an exact method (refused past a hard ceiling)
   sampled 50000                  Monte Carlo with that many draws
-  seed 7                         seed for Monte Carlo
+  seed 7                         seed for Monte Carlo (default: from the statement's text)
+  seed fresh                     a new seed on this run (printed)
   in TABLE                       take the columns from TABLE""",
     "robustness": """robustness STATEMENT: does normality matter for this design? (by simulation)
   robustness compare mass by recipe levels "A", "B"        six error laws, 2,000 data sets each
   robustness compare yield by dose within block in plots   blocks kept; treatments within blocks
   robustness relate mass to light using slope shift 1 sd   power at a slope of 1 sd of error per sd of x
   robustness count [[9, 1], [3, 7]] shift 3                counts: sampling schemes, power at odds ratio 3
+  robustness count 7 events in 120.5 vs 2 events in 98     rates: Poisson counts, bursts, the total fixed
   compare mass by recipe picture "null.svg"                the null distribution, also as a file
   explain robustness compare mass by recipe                what the check would do, and its time
 options: datasets N (per law), significance 1%, shift X [sd], seed N, picture "panel.svg"
 every result also carries diagnostics: skewness, largest residual, spread ratio""",
     "session": """session statements
-  load "file.csv" as name        csv, tsv, parquet, xlsx
+  load "file.csv" as name        csv, txt, tsv, parquet, xlsx, xls
+  load "f.csv" delimiter ";" decimal ","   name them (else found from the file)
+  load "book.xlsx" sheet "data"  a workbook's sheet (else the first)
   use name                       the table the statements that follow use
   describe name                  columns, types, missing values, levels
   show tables | show settings
   set seed 11 | set confidence 90% | set alternative higher | set budget 5s | set format json
+  set seed fresh | set seed statement   a new seed each run | each statement's own (default)
   explain STATEMENT              the plan and its cost; nothing is run
   save "file.pq"                 write what ran as a query file that replays
   save report "report.html"      an HTML report: results, pictures, methods, data files, seeds
@@ -77,9 +105,11 @@ TOPICS["set"] = TOPICS["session"]
 TOPICS["load"] = TOPICS["session"]
 TOPICS["ordered"] = TOPICS["within"] = TOPICS["groups"]
 TOPICS["tables"] = TOPICS["count"]
+TOPICS["proportions"] = TOPICS["rates"] = TOPICS["strata"] = TOPICS["events"]
 TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
 TOPICS["against"] = TOPICS["dose"] = TOPICS["control"]
+TOPICS["adjusting"] = TOPICS["covariates"] = TOPICS["and"] = TOPICS["factors"]
 
 
 def topics() -> list[str]:

@@ -6,6 +6,7 @@ The shell, the file runner and the Python API are thin front ends over `Session`
 """
 from __future__ import annotations
 
+import dataclasses
 import warnings
 from pathlib import Path
 from typing import Callable, Iterable, Optional
@@ -14,35 +15,59 @@ import numpy as np
 
 from .bind.binder import bind
 from .bind.common import Catalog, Defaults
+from .data import decimals
 from .errors import Cancelled, PermqError
 from .families.registry import family_for
 from .engine.core.progress import Progress
+from .engine.montecarlo.sampling import using_workers
+from .plan import seeds
 from .result import Failure, Note
-from .robustness import diagnostics, executor as robustness, pictures
+from .robustness import diagnostics
 from .syntax import nodes as n
 from .syntax.parser import SourceStatement, parse_script
 from . import effects, statements
 
 
+def seed_for(node, text: str, defaults: Defaults) -> seeds.SeedChoice:
+    """The statement's Monte Carlo seed, decided here once and handed down (see plan/seeds.py)."""
+    inner = node.analysis if isinstance(node, (n.Explain, n.Robustness)) else node
+    if isinstance(inner, n.Robustness):
+        inner = inner.analysis
+    opt = n.options_of(inner).get("seed")
+    return seeds.choose(text, opt.value if opt is not None else None, defaults.seed)
+
+
+def bind_seeded(node, text: str, catalog: Catalog, defaults: Defaults):
+    """Bind the statement and give its settings the seed of `seed_for`."""
+    choice = seed_for(node, text, defaults)
+    design = bind(node, catalog, defaults)
+    settings = dataclasses.replace(design.settings, seed=choice.seed)
+    return dataclasses.replace(design, settings=settings), choice
+
+
 def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Progress):
     """One analysis statement, end to end."""
-    design = bind(node, catalog, defaults)
+    design, choice = bind_seeded(node, text, catalog, defaults)
     handler = family_for(design)
     the_plan = handler.plan(design)
     result = handler.execute(design, the_plan, progress, text)
+    result.seed_source = choice.source
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
     result.extra["estimated_seconds"] = round(the_plan.chosen.seconds, 4)   # what explain said
+    result.summary_decimals = decimals.for_design(design)
     result.design = design            # kept for the report's pictures (not in the JSON)
     diagnostics.attach(design, result)
     effects.attach(design, result)
     if "picture" in n.options_of(node):
+        from .robustness import pictures
+
         pictures.attach(design, result)
     return result
 
 
 def explain(node, text: str, catalog: Catalog, defaults: Defaults) -> Note:
-    design = bind(node, catalog, defaults)
+    design, _ = bind_seeded(node, text, catalog, defaults)
     the_plan = family_for(design).plan(design)
     return Note(text, str(the_plan), {"plan": str(the_plan), "method": the_plan.method,
                                       "algorithm": the_plan.chosen.description,
@@ -101,7 +126,8 @@ class Session:
             return failure(st, st.error)
         try:
             # overflow in a textbook formula shows as "-"; library warnings stay off the screen
-            with np.errstate(all="ignore"), warnings.catch_warnings():
+            with np.errstate(all="ignore"), warnings.catch_warnings(), \
+                    using_workers(self.defaults.workers):
                 warnings.simplefilter("ignore")
                 return self._dispatch(st)
         except Cancelled as exc:
@@ -126,14 +152,21 @@ class Session:
             self.history.append(statements.replayable(st.text, result))
             return result
         if isinstance(node, n.Robustness):
-            check = robustness.run(node, st.text, self.catalog, self.defaults, self.progress)
-            check.line = st.line
+            from .robustness import executor as robustness
+
+            choice = seed_for(node, st.text, self.defaults)
+            check = robustness.run(node, st.text, self.catalog, self.defaults, self.progress,
+                                   choice.seed)
+            check.line, check.seed_source = st.line, choice.source
             self._picture_file(node.analysis, check)
             self.history.append(robustness.replayable(st.text, check))
             return check
         if isinstance(node, n.Explain):
             if isinstance(node.analysis, n.Robustness):
-                note = robustness.explain(node.analysis, st.text, self.catalog, self.defaults)
+                from .robustness import executor as robustness
+
+                note = robustness.explain(node.analysis, st.text, self.catalog, self.defaults,
+                                          seed_for(node, st.text, self.defaults).seed)
             else:
                 note = explain(node.analysis, st.text, self.catalog, self.defaults)
             note.line = st.line

@@ -30,10 +30,15 @@ class NormalTheory:
     p_value: float
     interval: Optional[tuple] = None   # normal-theory interval for the same estimate
     interval_method: str = ""
+    undefined: str = ""            # why the test is not defined here ("zero spread"); then
+                                   # statistic and p-value are nan (normal/degenerate.py)
 
     def to_dict(self) -> dict:
-        return {"test": self.test, "statistic": _num(self.statistic),
-                "df": None if self.df is None else _num(self.df), "p_value": _num(self.p_value)}
+        d = {"test": self.test, "statistic": _num(self.statistic),
+             "df": None if self.df is None else _num(self.df), "p_value": _num(self.p_value)}
+        if self.undefined:
+            d["undefined"] = self.undefined
+        return d
 
 
 @dataclass(frozen=True)
@@ -67,6 +72,8 @@ class Result:
     two_sided_rule: str = ""
     warnings: list = field(default_factory=list)
     line: Optional[int] = None
+    seed_source: str = ""        # how the seed was had: given, statement, fresh (plan/seeds.py)
+    summary_decimals: Optional[list] = None   # decimals for each group's summaries (data/decimals.py)
     extra: dict = field(default_factory=dict)     # family-specific additions (kept in JSON)
     also_normal: list = field(default_factory=list)  # further textbook tests (e.g. Welch ANOVA, HC3)
     design: Optional[object] = field(default=None, repr=False, compare=False)  # the bound design

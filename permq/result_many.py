@@ -70,6 +70,7 @@ class ManyResult:
     normal_test: str = ""            # the counterpart whose p fills the rows' normal_p
     conclusion: str = ""             # a sentence the rows lead to (e.g. the lowest effective dose)
     extra: dict = field(default_factory=dict)     # kept in JSON as they are
+    seed_source: str = ""        # how the seed was had: given, statement, fresh (plan/seeds.py)
 
     def to_dict(self) -> dict:
         d = {"statement": self.statement, "family": self.family, "test": self.test,

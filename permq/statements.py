@@ -7,10 +7,11 @@ from pathlib import Path
 from .data.tables import default_name, describe, load_table
 from .errors import BindError
 from .help import help_text
+from .plan import seeds
+from .render.numbers import counted
 from .report import file_record
 from .result import Note
 from .syntax import nodes as n
-from .syntax.parser import one_line
 
 FORMATS = ("text", "json", "csv", "markdown", "sentences")
 
@@ -41,15 +42,17 @@ def run_session_statement(node, text: str, session):
 
 def _load(node: n.Load, text, session):
     name = node.alias.text if node.alias else default_name(node.path)
-    table = load_table(node.path, name, session.base_dir, node.span)
+    table = load_table(node.path, name, session.base_dir, node.span, node.options)
     session.catalog.tables[name] = table
     session.catalog.current = name
     rows, cols = table.shape
-    abs_path = table.source
-    session.history.append(f'load "{abs_path}" as {_quote_name(name)}')
-    session.files.append(file_record(name, abs_path, rows, cols))
-    return Note(text, f"loaded '{name}': {rows} rows, {cols} columns (now in use)",
-                {"table": name, "rows": rows, "columns": cols})
+    written = "".join(f' {o.key} "{o.value[0]}"' for o in node.options)
+    session.history.append(f'load "{table.source}" as {_quote_name(name)}{written}')
+    session.files.append(file_record(name, table.source, rows, cols))
+    how = f"; {table.read_as}" if table.read_as else ""
+    return Note(text, f"loaded '{name}': {counted(rows, 'row')}, {counted(cols, 'column')} "
+                      f"(now in use){how}",
+                {"table": name, "rows": rows, "columns": cols, "read_as": table.read_as})
 
 
 def _quote_name(name: str) -> str:
@@ -66,7 +69,7 @@ def _use(node: n.Use, text, session):
     session.catalog.current = name
     session.history.append(f"use {_quote_name(name)}")
     rows, cols = session.catalog.tables[name].shape
-    return Note(text, f"using '{name}': {rows} rows, {cols} columns")
+    return Note(text, f"using '{name}': {counted(rows, 'row')}, {counted(cols, 'column')}")
 
 
 def _set(node: n.SetStatement, text, session):
@@ -75,10 +78,7 @@ def _set(node: n.SetStatement, text, session):
     d = session.defaults
     key, value, span = node.key, node.value, node.value_span
     if key == "seed":
-        if not isinstance(value, float) or not value.is_integer() or value < 0:
-            raise BindError("a seed is a whole number, 0 or more", span)
-        d.seed = int(value)
-        shown = str(d.seed)
+        d.seed, shown = _seed(value, span)
     elif key == "confidence":
         d.confidence = confidence_value(value, span)
         shown = f"{d.confidence:.4g}"
@@ -106,6 +106,19 @@ def _set(node: n.SetStatement, text, session):
         shown = value
     session.history.append(text)
     return Note(text, f"{key} set to {shown}")
+
+
+def _seed(value, span):
+    """`set seed 11`; `set seed fresh` for a new seed each run; `set seed statement` for the
+    default, a seed derived from each statement's text (plan/seeds.py)."""
+    if value == seeds.FRESH:
+        return seeds.FRESH, "fresh (a new seed on every run)"
+    if value == "statement":
+        return seeds.FROM_STATEMENT, "each statement's own, derived from its text (the default)"
+    if not isinstance(value, float) or not value.is_integer() or value < 0:
+        raise BindError("a seed is a whole number, 0 or more", span,
+                        hint="or 'fresh' (a new seed each run), or 'statement' (the default)")
+    return int(value), str(int(value))
 
 
 def _workers(value, span):
@@ -154,7 +167,7 @@ def _show(node: n.Show, text, session):
     if node.what == "settings":
         d = session.defaults
         body = (f"confidence {d.confidence:.4g}, alternative {d.alternative}, "
-                f"seed {d.seed if d.seed is not None else 'fresh each run'}, "
+                f"seed {seeds.setting_words(d.seed)}, "
                 f"budget {d.budget_seconds:g} s, memory {d.memory_bytes / 1e9:g} GB, "
                 f"format {d.format}, workers {d.workers or 'all cores'}, "
                 f"cluster {d.cluster if d.cluster is not None else 'none'}")
@@ -166,7 +179,8 @@ def _show(node: n.Show, text, session):
     for name, t in tables.items():
         mark = "*" if name == session.catalog.current else " "
         rows, cols = t.shape
-        lines.append(f"{mark} {name:<16} {rows:>6} rows {cols:>4} columns  {t.source}")
+        lines.append(f"{mark} {name:<16} {counted(rows, 'row'):>11} {counted(cols, 'column'):>12}  "
+                     f"{t.source}")
     return Note(text, "\n".join(lines), {"tables": list(tables)})
 
 
@@ -230,8 +244,7 @@ def _copy(text, session):
 
 
 def replayable(text: str, result) -> str:
-    """The statement as it ran, with the Monte Carlo seed pinned so a replay matches."""
+    """The statement as it ran, with the Monte Carlo seed pinned so a replay matches
+    (`seed fresh` becomes the seed it drew)."""
     o = getattr(result, "outcome", result)     # several-test results carry method and seed
-    if o.method == "monte-carlo" and not re.search(r"\bseed\s+\d+", text):
-        return f"{one_line(text)} seed {o.seed}"
-    return text
+    return seeds.pinned(text, o.seed) if o.method == "monte-carlo" else text

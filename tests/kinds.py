@@ -39,6 +39,12 @@ KINDS = {
     "proportion": "count 7 of 20 vs 0.5",
     "robustness": 'robustness compare mass by recipe levels "A", "B" in trays datasets 100 seed 5',
     "robustness counts": "robustness count [[9, 1], [3, 7]] datasets 100 seed 5",
+    "two proportions": "count 3 of 20 vs 9 of 21",
+    "strata": "count wilted by spray within bench in sprays",
+    "stratified trend": "count wilted by dose within bench ordered in sprays",
+    "two rates": "count 7 events in 120.5 vs 2 events in 98",
+    "one rate": "count 7 events in 120.5 vs 0.02",
+    "dose response": "relate wilted to dose in sprays",
     "several responses": 'compare mass, light by recipe levels "A", "B" in trays',
     "pairwise": "compare mass by recipe in trays pairwise sampled 2000 seed 4",
     "many-to-one means": 'compare weight by dose against "0" in doses sampled 2000 seed 3',
@@ -47,10 +53,14 @@ KINDS = {
     "two-sample welch": 'compare weight by dose levels "40", "0" in doses using welch',
     "two-sample brunner-munzel": 'compare weight by dose levels "40", "0" in doses using brunner-munzel',
     "robustness many-to-one": 'robustness compare weight by dose against "0" in doses datasets 100 seed 5',
+    "two factors": "compare yield by variety and fertiliser in beans sampled 2000 seed 6",
+    "adjusted": "compare yield by fertiliser adjusting for nitrate, variety in beans sampled 5000 seed 6",
     "failure": "compare mass by recipy in trays",
 }
 LOADS = ('load "trays.csv" as trays\nload "seedlings.csv" as pots\nload "plots.csv" as plots\n'
          'load "doses.csv" as doses\n')
+BEANS = 'load "beans.csv" as beans\n'      # the field trial of two factors and a covariate
+SPRAYS = 'load "sprays.csv" as sprays\n'      # the count forms' demo table
 # paired yes/no outcomes for the `count ... paired` form (made up for this contract test)
 PAIRS = pd.DataFrame({"first": ["yes", "yes", "no", "yes", "yes", "no", "yes", "yes"],
                       "second": ["yes", "no", "yes", "no", "no", "no", "no", "yes"]})
@@ -59,11 +69,11 @@ PAIRS = pd.DataFrame({"first": ["yes", "yes", "no", "yes", "yes", "no", "yes", "
 @lru_cache(maxsize=1)
 def kinds() -> dict:
     """name -> output, all from one session."""
-    out = permq.run(LOADS + "\n".join(KINDS.values()), tables={"pairs": PAIRS}, base_dir=DEMO)
+    out = permq.run(LOADS + SPRAYS + BEANS + "\n".join(KINDS.values()), tables={"pairs": PAIRS}, base_dir=DEMO)
     outputs = [o for o in out if not isinstance(o, permq.Note)]
     assert len(outputs) == len(KINDS), outputs
     return dict(zip(KINDS, outputs))
 
 
 def session_results() -> permq.Results:
-    return permq.run(LOADS + "\n".join(KINDS.values()), tables={"pairs": PAIRS}, base_dir=DEMO)
+    return permq.run(LOADS + SPRAYS + BEANS + "\n".join(KINDS.values()), tables={"pairs": PAIRS}, base_dir=DEMO)

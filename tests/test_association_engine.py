@@ -321,7 +321,7 @@ def test_monte_carlo_slope_interval_uses_the_same_draws_for_every_beta():
     eps = 1e-7
     assert p_direct(lo - eps, "higher") <= 0.025 < p_direct(lo + eps, "higher")
     assert p_direct(hi + eps, "lower") <= 0.025 < p_direct(hi - eps, "lower")
-    assert "seed 9" in est.method and "same 4000" in est.method
+    assert "seed 9" in est.method and "same 4,000" in est.method
     exact = A.estimate("slope", y, x, "two-sided", "enumeration").interval
     assert lo == pytest.approx(exact[0], abs=0.5) and hi == pytest.approx(exact[1], abs=0.5)
 

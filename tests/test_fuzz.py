@@ -35,13 +35,17 @@ def trays():
 
 
 def _check_outputs(outputs):
+    from permq.result_factorial import FactorialResult
     from permq.result_many import ManyResult
     from permq.robustness.result import RobustnessResult
 
     for o in outputs:
-        assert isinstance(o, (Result, Failure, Note, ManyResult, RobustnessResult)), type(o)
-        if isinstance(o, (ManyResult, RobustnessResult)):
+        assert isinstance(o, (Result, Failure, Note, ManyResult, RobustnessResult,
+                              FactorialResult)), type(o)
+        if isinstance(o, (ManyResult, RobustnessResult, FactorialResult)):
             json.dumps(o.to_dict(), allow_nan=False)
+        if isinstance(o, FactorialResult):
+            assert all(0.0 <= t.outcome.p_value <= 1.0 for t in o.terms)
         if isinstance(o, Failure):
             assert "internal error" not in o.message, o.message
             assert o.line is not None and o.line >= 1 and o.column is not None and o.column >= 1
@@ -111,6 +115,8 @@ STATEMENTS = [
     "compare v by g exact", "compare v by g sampled 500 seed 3", "relate v to w",
     "relate v to w using kendall", "relate v to w using slope", "count g by h",
     "compare v by g within h", "compare v by g ordered using ranks",
+    "compare v by g and h", "compare v by g adjusting for w", "compare v by g adjusting for h",
+    "relate v to w using slope adjusting for h",
 ]
 
 

@@ -361,7 +361,7 @@ def test_unknown_file_type(tmp_path):
     (tmp_path / "data.json").write_text("{}")
     f = permq.run('load "data.json"', base_dir=tmp_path)[0]
     assert f.message == "cannot read 'data.json': unknown file type '.json'"
-    assert f.hint == "use .csv, .tsv, .parquet or .xlsx"
+    assert f.hint == "use .csv, .txt, .tsv, .parquet, .xlsx or .xls"
 
 
 def test_use_of_an_unknown_table(trays):
@@ -400,8 +400,8 @@ def test_parse_script_keeps_every_statement():
     ("relate a to b 5", {"'datasets'", "'adjust'", "'by'", "'for'", "'top'", "','"},
      {"'adjusting'", "'alternative'"}),
     ("count [[1, 2], [3, 4]] 5", {"'adjust'", "'adjusting'", "'datasets'"}, {"'alternative'"}),
-    ("robustness compare [1, 2] vs [3, 4] 5", {"'adjusting'"},
-     {"'datasets'", "'shift'", "'significance'"}),
+    ("robustness compare [1, 2] vs [3, 4] 5", {"'rows'", "'columns'"},
+     {"'datasets'", "'shift'", "'significance'", "'adjusting'"}),   # compare Y by G adjusting
 ])
 def test_expected_lists_name_only_options_the_statement_takes(text, absent, present):
     """The grammar shares one option rule; an error lists only the options this kind of
@@ -433,7 +433,7 @@ def test_help_examples_bind_on_the_demo():
     from conftest import ROOT
 
     session = permq.Session(base_dir=ROOT / "demo")
-    names = ("trays", "plots", "seedlings")
+    names = ("trays", "plots", "seedlings", "sprays", "beans")
     for name in names:
         assert isinstance(session.run(f'load "{name}.csv"')[0], permq.Note)
     seen = 0

@@ -39,7 +39,7 @@ def test_to_frame_round_trips_the_json_fields():
     results = session_results()
     frame = results.to_frame()
     recs = results.records()
-    assert len(frame) == sum(len(r["rows"]) if "rows" in r else 1 for r in recs)
+    assert len(frame) == sum(len(r.get("rows", r.get("terms", [0]))) for r in recs)
     for _, row in frame.iterrows():
         back = record_of(row.to_dict())
         rec = recs[row["record"]]
@@ -47,6 +47,10 @@ def test_to_frame_round_trips_the_json_fields():
             match = [x for x in rec["rows"] if x["name"] == back["row"]["name"]][0]
             assert _without_nulls(match) == _without_nulls(back.pop("row"))
             rec = {k: v for k, v in rec.items() if k != "rows"}
+        if row["kind"] == "term":
+            match = [x for x in rec["terms"] if x["term"] == back["term"]["term"]][0]
+            assert _without_nulls(match) == _without_nulls(back.pop("term"))
+            rec = {k: v for k, v in rec.items() if k != "terms"}
         assert _without_nulls(back) == _without_nulls(rec), rec["statement"]
     single = frame[frame.kind == "result"]
     assert (single["p_value"] > 0).all() and "statistic.value" in frame

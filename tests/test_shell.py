@@ -121,7 +121,7 @@ def test_families_fit_the_verb():
     relate = set(words("relate mass to light using ", s))
     count = set(words("count recipe by bench using ", s))
     assert {"means", "ranks", "normal-scores", "medians"} <= compare
-    assert relate == {"pearson", "spearman", "kendall", "slope"}
+    assert relate == {"pearson", "spearman", "kendall", "slope", "logistic"}
     assert {"fisher", "chi-square"} <= count and "pearson" not in count
     assert compare | relate | count == set(vocab.value_sets()["FAMILY"])
 
@@ -246,7 +246,7 @@ def test_toolbar_shows_table_size_and_defaults():
     s = demo_session()
     text = toolbar_text(s)
     assert "trays" in text and "19 rows × 5 columns" in text
-    assert "confidence 95%" in text and "seed fresh" in text and "budget 5 s" in text
+    assert "confidence 95%" in text and "seed from statement" in text and "budget 5 s" in text
     s.run("set seed 11\nset confidence 90%\nset budget 30s")
     text = toolbar_text(s)
     assert "confidence 90%" in text and "seed 11" in text and "budget 30 s" in text
@@ -457,4 +457,5 @@ def test_completion_offers_only_the_options_a_statement_takes():
     compare = set(words("compare mass by recipe ", session))
     assert {"within", "levels", "adjust", "pairwise"} <= compare and "datasets" not in compare
     check = set(words("robustness compare mass by recipe ", session))
-    assert {"datasets", "shift", "significance"} <= check and "adjusting" not in check
+    assert {"datasets", "shift", "significance", "adjusting"} <= check and "rows" not in check
+    assert "adjusting" in compare and "datasets" not in compare

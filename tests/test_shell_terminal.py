@@ -95,7 +95,7 @@ def test_the_shell_in_a_terminal(tmp_path):
         # a Monte Carlo run with no seed: the saved file must pin the one it used
         term.type('compare mass by recipe levels "A", "C" sampled 5000')
         term.key("Enter")
-        term.wait_for(r"Monte Carlo: 5,000 draws, seed \d+")
+        term.wait_for(r"Monte Carlo: 5,000 draws, [0-9,]+ as extreme as the observed; seed \d+")
 
         # Ctrl-C stops a long run; the prompt works again with the session intact
         term.type('compare mass by recipe levels "A","B" sampled 200000000')

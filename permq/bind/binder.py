@@ -10,14 +10,17 @@ once), non-numeric responses, wrong numbers of levels, empty samples, missing va
     samples.py     compare: two groups, inline samples, paired, one sample
     groups.py      compare: three or more groups, ordered groups, blocks
     many.py        compare: several responses, for each, pairwise
+    factorial.py   compare: two crossed factors (by A and B)
+    adjusted.py    compare: groups adjusted for covariates (covariates.py: text as indicators)
     other_forms.py relate and count
+    counts.py      count: two proportions, strata, rates; relate with a two-valued response
     designs.py     the designs handed on to the planner
 """
 from __future__ import annotations
 
 from ..errors import BindError
 from ..syntax import nodes as n
-from . import other_forms, samples
+from . import counts, other_forms, samples
 from .common import Catalog, Defaults
 
 
@@ -26,6 +29,8 @@ def bind(node, catalog: Catalog, defaults: Defaults):
     if isinstance(node, n.Compare):
         return samples.bind_compare(node, catalog, defaults)
     if isinstance(node, n.Relate):
+        if counts.binary_response(node, catalog):
+            return counts.bind_dose_response(node, catalog, defaults)
         return other_forms.bind_relate(node, catalog, defaults)
     if isinstance(node, n.Count):
         return other_forms.bind_count(node, catalog, defaults)

@@ -8,8 +8,9 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
+from ..data.order import natural_key  # noqa: F401 - the binders' level order, from one place
 from ..errors import BindError, MultipleErrors, Span
 from ..syntax import nodes as n
 from .designs import Settings
@@ -21,7 +22,7 @@ class Defaults:
     """Session-wide defaults that `set` changes."""
 
     confidence: float = 0.95
-    seed: Optional[int] = None
+    seed: object = None                # an int, "fresh", or None: from each statement (plan/seeds.py)
     alternative: str = "two-sided"
     budget_seconds: float = 5.0
     memory_bytes: float = 2.0e9
@@ -50,7 +51,7 @@ def settings_for(node, opts: dict, defaults: Defaults, kind: str, form: str,
                 "using", "alternative", "confidence", "exact", "sampled", "seed", "in",
                 "picture"):
             raise BindError(f"'{key}' does not apply to {form}", opt.span,
-                            hint=_option_hint(key))
+                            hint=_option_hint(key, form))
     if "picture" in opts:
         check_picture(opts["picture"])
     chosen = registry.default(kind)
@@ -78,6 +79,7 @@ def settings_for(node, opts: dict, defaults: Defaults, kind: str, form: str,
         if sampled > 1_000_000_000:
             raise BindError("'sampled' is limited to 1,000,000,000 draws", opts["sampled"].span)
     seed = opts["seed"].value if "seed" in opts else defaults.seed
+    seed = seed if isinstance(seed, int) else None     # the pipeline decides the rest (plan/seeds.py)
     alternative = opts["alternative"].value if "alternative" in opts else defaults.alternative
     return Settings(family=family, kind=kind, alternative=alternative, level=level,
                     exact="exact" in opts, sampled=sampled, seed=seed,
@@ -124,14 +126,36 @@ def check_picture(opt) -> None:
                         hint='for example: picture "null.png"')
 
 
-def _option_hint(key: str) -> Optional[str]:
+# forms that already have a group column: "goes with a group column" would not help there
+_WITH_GROUPS = {
+    "several responses": {
+        "within": "'within' takes one response at a time: compare mass by recipe within bench",
+        "ordered": "'ordered' takes one response at a time: compare mass by dose ordered"},
+    "pairwise comparisons": {
+        "within": "'pairwise' and 'within' do not combine; for two levels within blocks: "
+                  "compare mass by recipe levels \"A\", \"B\" within bench",
+        "ordered": "'pairwise' and 'ordered' do not combine; drop one of them"},
+    "'for each'": {
+        "within": "'for each' and 'within' do not combine; drop one of them",
+        "ordered": "'for each' and 'ordered' do not combine; drop one of them"},
+    "a table": {
+        "within": "'within' goes with a numeric response: compare mass by recipe within bench",
+        "levels": "a table keeps every level of both columns; to leave some out, filter the "
+                  "table before loading it"},
+}
+
+
+def _option_hint(key: str, form: str = "") -> Optional[str]:
+    if key in _WITH_GROUPS.get(form, {}):
+        return _WITH_GROUPS[form][key]
     return {
         "paired": "'paired' goes with two columns: compare after vs before paired",
         "levels": "'levels' goes with a group column: compare mass by recipe levels \"A\", \"B\"",
         "within": "'within' goes with a group column: compare mass by recipe within bench",
         "ordered": "'ordered' goes with a group column: compare mass by dose ordered",
         "against": "'against' goes with a group column: compare weight by dose against \"0\"",
-        "adjusting": "'adjusting for' goes with: relate Y to X using slope adjusting for Z",
+        "adjusting": "'adjusting for' goes with a group column or a slope: compare Y by G "
+                     "adjusting for Z, relate Y to X using slope adjusting for Z",
         "datasets": "'datasets' goes with a robustness check: robustness compare ... datasets 5000",
         "shift": "'shift' goes with a robustness check: robustness compare ... shift 1 sd",
         "significance": "'significance' goes with a robustness check: "
@@ -239,11 +263,6 @@ def names_of(*items) -> str:
     return " or ".join(names)
 
 
-def natural_key(text: str):
-    try:
-        return (0, float(text), text)
-    except ValueError:
-        return (1, 0.0, text)
 
 
 def chosen_levels(opt: n.Option, present: list, column: str) -> list:

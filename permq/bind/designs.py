@@ -92,6 +92,59 @@ class TableDesign:
 
 
 @dataclass(frozen=True)
+class TwoProportionsDesign:
+    """Two independent binomial samples: x1 of n1 against x2 of n2."""
+
+    counts: tuple            # (x1, n1, x2, n2)
+    labels: tuple            # (first, second) in the user's words
+    outcomes: tuple          # (what is counted, the other): ("successes", "failures"),
+    settings: Settings       #   ("dead = 1", "dead = 0")
+    names: tuple = ()        # (response, group) when from two columns
+    warnings: tuple = ()
+    kind: str = "two-proportions"
+
+
+@dataclass(frozen=True)
+class StrataDesign:
+    """A binary response in two or more groups within strata (2 x k x K)."""
+
+    tables: np.ndarray       # (strata, groups, 2): events and non-events
+    group_labels: tuple
+    stratum_labels: tuple
+    outcomes: tuple          # (the event, the other), e.g. ("dead = 1", "dead = 0")
+    settings: Settings
+    scores: tuple = ()       # the groups' dose scores (ordered strata)
+    names: tuple = ()        # (response, group, stratum)
+    warnings: tuple = ()
+    kind: str = "strata"     # "strata" (2 x 2 x K) or "ordered-strata" (2 x k x K)
+
+
+@dataclass(frozen=True)
+class RatesDesign:
+    """Event counts over exposures: one rate against a reference, or two rates."""
+
+    counts: tuple
+    exposures: tuple
+    settings: Settings
+    reference: float = 1.0   # one rate: the reference rate; two rates: the rate ratio tested
+    warnings: tuple = ()
+    kind: str = "rate"       # "rate" or "two-rates"
+
+
+@dataclass(frozen=True)
+class DoseResponseDesign:
+    """A binary response against a numeric predictor (dose)."""
+
+    y: np.ndarray            # 0 / 1
+    x: np.ndarray
+    names: tuple             # (response, predictor)
+    outcomes: tuple          # (the event, the other), e.g. ("dead = 1", "dead = 0")
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "dose-response"
+
+
+@dataclass(frozen=True)
 class ManyDesign:
     """Several responses (or every pair of levels) across the same groups, permuted together."""
 
@@ -130,3 +183,34 @@ class ControlDesign:
     scores: Optional[np.ndarray] = None   # dose scores (ordered against): one per level
     warnings: tuple = ()
     kind: str = "control"            # "control" or "dose-finding"
+
+
+@dataclass(frozen=True)
+class FactorialDesign:
+    """One response across two crossed factors (`compare Y by A and B`), every cell filled."""
+
+    values: np.ndarray
+    first: np.ndarray        # level codes of the first factor, 0..a-1 in level order
+    second: np.ndarray       # level codes of the second factor
+    first_labels: tuple
+    second_labels: tuple
+    names: tuple             # (response, first factor, second factor)
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "two-factor"
+
+
+@dataclass(frozen=True)
+class AdjustedDesign:
+    """Groups compared with covariates in the statistic (`compare Y by G adjusting for Z`)."""
+
+    values: np.ndarray
+    groups: np.ndarray       # codes 0..k-1 in level order
+    labels: tuple
+    response: str
+    group: str
+    covariates: np.ndarray   # rows x columns (text covariates as indicator columns)
+    covariate_names: tuple   # the columns named, in the user's words
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "adjusted"

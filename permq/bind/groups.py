@@ -131,7 +131,6 @@ def _dose_scores(levels) -> np.ndarray:
 
 
 def _natural(text):
-    try:
-        return (0, float(text), text)
-    except ValueError:
-        return (1, 0.0, text)
+    from ..data.order import natural_key
+
+    return natural_key(text)

@@ -10,7 +10,7 @@ dropped without a word.
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import BindError
 from ..syntax import nodes as n

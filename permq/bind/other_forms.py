@@ -2,10 +2,11 @@
 from __future__ import annotations
 
 import numpy as np
-import pandas as pd
+from ..lazy import pandas as pd
 
 from ..errors import BindError
 from ..syntax import nodes as n
+from . import covariates as covariate_columns
 from .designs import AssociationDesign, TableDesign
 
 MAX_TABLE_CELLS = 400
@@ -19,7 +20,8 @@ def bind_relate(node: n.Relate, catalog, defaults):
     table = resolve_table(opts, catalog, node.span)
     covs = list(opts["adjusting"].value) if "adjusting" in opts else []
     check_columns(table, [node.response, node.predictor] + covs)
-    cols = [numeric_column(table, c) for c in [node.response, node.predictor] + covs]
+    cols = [numeric_column(table, c) for c in [node.response, node.predictor]]
+    cols += covariate_columns.columns(table, covs)     # text covariates become indicators below
     frame = pd.concat(cols, axis=1, keys=range(len(cols)))
     keep = frame.notna().all(axis=1)
     names = [node.response.text, node.predictor.text] + [c.text for c in covs]
@@ -33,15 +35,25 @@ def bind_relate(node: n.Relate, catalog, defaults):
         raise BindError(f"column '{node.predictor.text}' is constant here", node.predictor.span)
     if np.ptp(y) == 0:
         raise BindError(f"column '{node.response.text}' is constant here", node.response.span)
-    z = frame[list(range(2, len(cols)))].to_numpy(float) if covs else None
+    z = None
+    if covs:
+        z, notes = covariate_columns.matrix([frame[i] for i in range(2, len(cols))], covs)
+        warnings += notes
+        need = 3 + z.shape[1]
+        if len(y) < need:
+            raise BindError(f"{len(y)} complete rows; this needs at least {need}", node.span)
     return AssociationDesign(y, x, (node.response.text, node.predictor.text), s, z,
                              tuple(c.text for c in covs), warnings)
 
 
 def bind_count(node: n.Count, catalog, defaults):
+    from . import counts
     from .common import settings_for
 
     opts = n.options_of(node)
+    design = counts.bind_count(node, opts, catalog, defaults)
+    if design is not None:
+        return design
     sub = node.subject
     if isinstance(sub, n.CountProportion):
         s = settings_for(node, opts, defaults, "proportion", "one proportion", ())
@@ -132,8 +144,7 @@ def _crosstab(node, sub: n.CountBy, opts, defaults, catalog):
                          f"'levels'",)
         a, b = a[inside], b[inside]
     ct = pd.crosstab(a, b)
-    if ordered:
-        ct = ct.loc[sorted(ct.index, key=_natural), sorted(ct.columns, key=_natural)]
+    ct = ct.loc[sorted(ct.index, key=_natural), sorted(ct.columns, key=_natural)]
     if "levels" in opts:
         ct = ct[[c for c in chosen if c in ct.columns]]
     t = ct.to_numpy(np.int64)
@@ -169,7 +180,6 @@ def _paired_binary(node, sub: n.CountVersus, opts, defaults, catalog):
 
 
 def _natural(text):
-    try:
-        return (0, float(text), text)
-    except ValueError:
-        return (1, 0.0, text)
+    from ..data.order import natural_key
+
+    return natural_key(text)

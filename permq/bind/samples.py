@@ -15,6 +15,10 @@ def bind_compare(node: n.Compare, catalog: Catalog, defaults: Defaults):
     subject = node.subject
     if isinstance(subject, n.Grouped):
         return bind_grouped(node, subject, opts, catalog, defaults)
+    if isinstance(subject, n.Crossed):
+        from .factorial import bind_crossed
+
+        return bind_crossed(node, subject, opts, catalog, defaults)
     operands = subject.operands
     kinds = {type(o) for o in operands}
     if n.ValueOperand in kinds:
@@ -35,6 +39,10 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults):
         from .many import bind_many
 
         return bind_many(node, subject, opts, catalog, defaults)
+    if "adjusting" in opts:
+        from .adjusted import bind_adjusted
+
+        return bind_adjusted(node, subject, opts, catalog, defaults)
     table = resolve_table(opts, catalog, subject.span)
     check_columns(table, [subject.response, subject.group] +
                   ([opts["within"].value] if "within" in opts else []))

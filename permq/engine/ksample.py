@@ -37,13 +37,14 @@ from functools import lru_cache, reduce
 from typing import Callable, Iterator, Optional
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .core import pvalues
 from .montecarlo import sampling
+from .montecarlo.draws import group_sums, random_u32
 from .core.progress import NO_PROGRESS, Progress
 
 DEFAULT_DRAWS = 100_000          # Monte Carlo draws when the caller names none (and cost basis)
@@ -185,15 +186,13 @@ def sample_group_sums(scores, sizes, seed: int, draws: int,
                       progress: Progress = NO_PROGRESS) -> Iterator[np.ndarray]:
     """Yield group sums of `draws` random assignments, one seeded block at a time: (b, k, p)."""
     a = np.asarray(scores, dtype=float).reshape(len(scores), -1)
-    starts = np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64)
+    sizes = np.asarray(sizes, dtype=np.int64)
+    steps = max(1, a.shape[0] - int(sizes[-1]))    # the last group takes what is left
 
     def work(size, rng):
-        if a.shape[1] == 1:          # shuffling the scores is shuffling positions: same draws
-            shuffled = rng.permuted(np.tile(a[:, 0], (size, 1)), axis=1)
-            return np.add.reduceat(shuffled, starts, axis=1)[:, :, None]
-        order = rng.permuted(np.tile(np.arange(a.shape[0]), (size, 1)), axis=1)
-        return np.stack([np.add.reduceat(a[:, j][order], starts, axis=1)
-                         for j in range(a.shape[1])], axis=2)
+        # one shuffle a draw (compiled; the numpy path gives the same sums), every column on it
+        r = random_u32(rng, size, steps)
+        return np.stack([group_sums(a[:, j], sizes, r) for j in range(a.shape[1])], axis=2)
 
     # blocks on all cores, in order; a bounded window keeps memory flat
     yield from sampling.iter_blocks(seed, draws, work, progress, "sampling assignments")
@@ -476,7 +475,7 @@ class QuadraticFamily:
 
     def _sample(self, x, sizes, a, sst, ssb_obs, draws, seed, progress, **_):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         hits = 0
         for chunk in sample_group_sums(a, sizes, seed, draws, progress):
             ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)
@@ -548,7 +547,7 @@ def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
 def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
                           description: str = "Monte Carlo: random assignments to groups") -> Candidate:
     return Candidate("monte-carlo", description, False, float(draws) * N * per_item,
-                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws} draws",
+                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws:,} draws",
                      arrangements=float(arr))
 
 

@@ -21,6 +21,7 @@ from .core import pvalues
 from .core.counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size, layer_bytes
 from .core.enumeration import sign_patterns_chunks
 from .core.jumps import collect_sampled, interval_from_jumps
+from .montecarlo.draws import flip_sums, random_bits
 from .montecarlo.sampling import BLOCK, iter_blocks
 from .core.progress import NO_PROGRESS, Progress
 from .core.scores import integer_grid, midranks
@@ -95,7 +96,7 @@ def candidates(family: str, d, draws: int) -> list[Candidate]:
                          feasible=n <= 30, note=f"{total:.3g} sign patterns"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of sign patterns", False,
                          draws * n * 6.0, min(draws, BLOCK) * n * 8 * 3, arrangements=total,
-                         note=f"{draws} draws"))
+                         note=f"{draws:,} draws"))
     return out
 
 
@@ -199,21 +200,21 @@ def _mean_interval_enumerate(d, level, alternative):
 
 
 def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed, progress):
-    """One random sign for every difference in every draw (zeros included, so the mean's
-    interval can use the same draws); the test flips the non-zero ones."""
+    """One random sign for every difference in every draw (one bit of the generator's output
+    each; zeros included, so the mean's interval can use the same draws); the test flips the
+    non-zero ones. Compiled, with a numpy path that gives the same numbers (draws.flip_sums)."""
     d = np.asarray(d, dtype=float)
     nonzero = d != 0
     p_obs = r[pos].sum()
     means = family == "means"
+    scores = np.zeros(len(d))            # the test's scores in place; zeros carry none
+    scores[nonzero] = r
 
     def work(size, rng):
-        flips = rng.random((size, len(d))) < 0.5
-        s = flips[:, nonzero].astype(float) @ r
+        s, sf, k = flip_sums(scores, random_bits(rng, size, len(d)), d if means else None)
         b = _tail(s, p_obs, r.sum(), alternative)
         if not means:
             return b, None, 0
-        k = flips.sum(axis=1)
-        sf = flips.astype(float) @ d
         keep = k > 0
         return b, sf[keep] / k[keep], int((~keep).sum())
 

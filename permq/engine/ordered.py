@@ -170,7 +170,7 @@ class JonckheereTerpstra:
 
     def _sample(self, x, sizes, j_obs, center, alternative, draws, seed, progress, common):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         sx = np.sort(x)
         starts, k = _block_starts(sx), len(sizes)
         labels = np.repeat(np.arange(k), sizes)
@@ -321,7 +321,7 @@ class LinearTrend:
 
     def _sample(self, st: TrendSetup, alternative, draws, seed, progress, common):
         draws = int(draws or DEFAULT_DRAWS)
-        seed = sampling.fresh_seed() if seed is None else int(seed)
+        seed = sampling.require_seed(seed)
         hits = 0
         for chunk in sample_group_sums(st.x, st.sizes, seed, draws, progress):
             t = chunk[:, :, 0] @ st.d
@@ -360,7 +360,7 @@ def slope_estimate(values, groups, scores=None, level: float = 0.95, alternative
     arr = multinomial(st.sizes)
     if arr > max_arrangements:
         return Estimate(name, b, None, level, "least squares; no exact interval: "
-                        f"{arr} assignments are too many to list")
+                        f"{arr:,.0f} assignments are too many to list")
     ratios, fixed = _slope_ratios(st, d_item, progress)
     lo, hi = _invert(ratios, fixed, arr, level, alternative)
     method = ("least squares; exact interval by inverting the permutation test of the slope "

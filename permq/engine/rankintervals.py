@@ -10,7 +10,8 @@ these intervals slightly conservative (common practice).
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
+from ..normal.tails import normal_isf
 
 from .core.counting import counts_all_subsets, counts_by_size
 
@@ -117,5 +118,5 @@ def median_interval_normal(d, level, alternative):
 
 
 def _normal_critical(mean, sd, side):
-    z = stats.norm.isf(side)
+    z = normal_isf(side)
     return int(np.floor(mean - z * sd))

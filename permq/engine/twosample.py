@@ -98,7 +98,7 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
                          note=f"{total:.3g} arrangements"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
                          draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=total,
-                         note=f"{draws} draws"))
+                         note=f"{draws:,} draws"))
     return out
 
 
@@ -234,12 +234,14 @@ def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progr
     means = fam.mean_difference
 
     def work(size, rng):
-        s, u, g2_in = subset_sums(a, n1, random_u32(rng, size, n1), sums_only=not means)
+        s, u = subset_sums(a, n1, random_u32(rng, size, n1), sums_only=not means)
         b = pvalues.exceedances(s, s_obs, alternative, center=center, scale=scale)
         if not means:
             return b, None, 0
-        moved = u > 0   # jump of each arrangement: (group-1 sum moved out - group-2 sum in) / u
-        jumps = (s_obs - (s - g2_in) - g2_in)[moved] / u[moved]
+        # jump of each arrangement: (group-1 sum moved out - group-2 sum moved in) / u, which
+        # is (observed group-1 sum - this arrangement's) / u
+        moved = u > 0
+        jumps = (s_obs - s)[moved] / u[moved]
         return b, jumps, int((~moved).sum())
 
     b, vals, identity, used = collect_sampled(iter_blocks(seed, draws, work, progress), means,

@@ -1,12 +1,14 @@
 """Association and slopes: permutation tests of correlation and regression slopes."""
 from __future__ import annotations
 
-from ..engine import association
+from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
-from ..normal.association import normal_theory
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
 from .registry import Family
+
+association = module("permq.engine.association")  # loaded when a statement first runs
+normal_association = module("permq.normal.association")
 
 WORDS = {"pearson": "Pearson correlation", "spearman": "Spearman correlation (mid-ranks)",
          "kendall": "Kendall's tau", "slope": "slope"}
@@ -25,8 +27,8 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     out, est = association.run_with_estimate(
         s.family, design.y, design.x, s.alternative, the_plan.chosen.algorithm, s.level,
         the_plan.draws, the_plan.seed, progress, design.covariates)
-    normals = normal_theory(s.family, design.y, design.x, s.alternative, s.level,
-                            design.covariates)
+    normals = normal_association.normal_theory(s.family, design.y, design.x, s.alternative,
+                                               s.level, design.covariates)
     adjusted = f", adjusted for {', '.join(design.covariate_names)}" if design.covariate_names else ""
     effect = f"{WORDS[s.family]} of {y_name} with {x_name}{adjusted}"
     if s.family == "slope":

@@ -2,13 +2,15 @@
 (Friedman, the F within blocks) and ordered treatments within blocks (Page)."""
 from __future__ import annotations
 
-from ..engine import blocks as blocks_engine
+from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC
-from ..normal import blocks as normal_blocks
-from ..normal import ksample as normal_k
 from ..plan.planner import make_plan
 from ..result import Result
 from .registry import Family
+
+blocks_engine = module("permq.engine.blocks")      # loaded when a statement first runs
+normal_blocks = module("permq.normal.blocks")
+normal_k = module("permq.normal.ksample")
 
 # the blocked engine's test for each (kind, family)
 TESTS = {("stratified", "ranks"): "stratified-ranks", ("stratified", "means"): "stratified-means",

@@ -1,16 +1,19 @@
 """Three or more groups: permutation F, Kruskal-Wallis, normal scores and the median test."""
 from __future__ import annotations
 
-from ..engine import ksample
+from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_QUADRATIC
-from ..normal import ksample as normal_k
 from ..plan.planner import make_plan
 from ..result import Result
 from .registry import Family
 
-NORMAL = {"means": normal_k.one_way_anova, "ranks": normal_k.kruskal_chi_square,
-          "normal-scores": normal_k.normal_scores_chi_square,
-          "medians": normal_k.median_chi_square}
+ksample = module("permq.engine.ksample")           # loaded when a statement first runs
+normal_k = module("permq.normal.ksample")
+
+# the counterpart of each family, by name in normal/ksample.py
+NORMAL = {"means": "one_way_anova", "ranks": "kruskal_chi_square",
+          "normal-scores": "normal_scores_chi_square",
+          "medians": "median_chi_square"}
 
 
 def plan(design):
@@ -26,7 +29,8 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     out = ksample.FAMILIES[s.family].run(v, g, s.alternative, the_plan.chosen.algorithm,
                                          the_plan.draws, the_plan.seed, progress)
     also = [normal_k.welch_anova(v, g)] if s.family == "means" else []
-    return Result(statement, design.kind, s.alternative, out, NORMAL[s.family](v, g), None,
+    normal = getattr(normal_k, NORMAL[s.family])(v, g)
+    return Result(statement, design.kind, s.alternative, out, normal, None,
                   effect=f"differences among {', '.join(design.labels)}",
                   groups=normal_k.group_summaries(v, g, design.labels),
                   two_sided_rule=TWO_SIDED_QUADRATIC, warnings=list(design.warnings),

@@ -8,16 +8,19 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
-from ..engine.many import joint as many, estimates as many_estimates
-from ..engine import rankintervals
-from ..engine.many.workers import pool_for
+from ..lazy import module
 from ..errors import PlanError
 from ..normal.theory import two_sample as normal_two_sample
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
 from .registry import Family
+
+# loaded when a statement first runs
+many, many_estimates = module("permq.engine.many.joint"), module("permq.engine.many.estimates")
+rankintervals = module("permq.engine.rankintervals")
+many_workers = module("permq.engine.many.workers")
 
 RULES = {
     ("max-t", "step-down"): "Westfall-Young max-T, step-down, from the joint permutation "
@@ -67,7 +70,7 @@ def execute(design, the_plan, progress, statement: str = "") -> ManyResult:
         rows, names = _pair_rows(design, out), _pair_names(s.family)
         where = "this machine"
     else:
-        pool = pool_for(design.workers, design.cluster)
+        pool = many_workers.pool_for(design.workers, design.cluster)
         out = many.run_family(design.values, design.groups, s.family, s.alternative,
                               design.adjustment, design.step, alg, draws, seed, progress, pool)
         rows, names = _response_rows(design, out), _response_names(design)

@@ -1,12 +1,14 @@
 """Ordered groups: the linear trend in dose scores (means) and Jonckheere-Terpstra (ranks)."""
 from __future__ import annotations
 
-from ..engine import ordered
+from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
-from ..normal import ksample as normal_k
 from ..plan.planner import make_plan
 from ..result import Result
 from .registry import Family
+
+ordered = module("permq.engine.ordered")           # loaded when a statement first runs
+normal_k = module("permq.normal.ksample")
 
 # the exact trend-slope interval lists every assignment: at most this many (about 0.3 s)
 SLOPE_INTERVAL_LISTING = 200_000

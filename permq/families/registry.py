@@ -21,8 +21,9 @@ from typing import Callable, Optional
 # The modules that declare families, in the order their words are offered. Adding a family is
 # adding its module here.
 MODULES = ("two_sample", "one_sample", "k_sample", "ordered", "blocked", "association",
-           "tables", "many", "scale", "control", "dose_finding",
-           "studentized")
+           "tables", "two_proportions", "strata", "rates", "dose_response", "many", "scale",
+           "factorial", "adjusted", "control",
+           "dose_finding", "studentized")
 
 
 @dataclass(frozen=True)

@@ -78,17 +78,17 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
 def normal_ab(x, y, alternative) -> NormalTheory:
     """z = (AB - E0 AB) / sd0 with the permutation variance of the mid-scores; `higher` (the
     first group more spread) is the lower tail of AB."""
+    from ..normal.degenerate import ALL_TIED, undefined
     from ..normal.tails import p_from_z
 
     a = ab_scores(np.concatenate([x, y]))
     n1, N = len(x), len(a)
     var = n1 * (N - n1) / (N * (N - 1)) * float(((a - a.mean()) ** 2).sum())
+    name = "normal approximation to the Ansari-Bradley statistic (tie-corrected)"
     if var <= 0:
-        return NormalTheory("normal approximation to AB: not available (all values tie)",
-                            float("nan"), None, float("nan"))
+        return undefined(name, ALL_TIED)
     z = (n1 * a.mean() - a[:n1].sum()) / np.sqrt(var)     # positive: first group more spread
-    return NormalTheory("normal approximation to the Ansari-Bradley statistic (tie-corrected)",
-                        float(z), None, p_from_z(z, alternative))
+    return NormalTheory(name, float(z), None, p_from_z(z, alternative))
 
 
 def _iqr(v) -> float:

@@ -3,19 +3,22 @@ from __future__ import annotations
 
 import dataclasses
 
-from ..engine.tables import (
-    rxc as tables, twobytwo as tables_2x2, paired as tables_paired,
-    proportion as tables_proportion)
-from ..engine.tables.stats import RULES
 from ..errors import BindError
-from ..normal import tables as normal_tables
+from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
 from .registry import Family
 
-RC_NORMAL = {"fisher": normal_tables.pearson_chi_square,
-             "chi-square": normal_tables.pearson_chi_square,
-             "likelihood-ratio": normal_tables.likelihood_ratio}
+# loaded when a statement first runs
+tables, tables_2x2 = module("permq.engine.tables.rxc"), module("permq.engine.tables.twobytwo")
+tables_paired = module("permq.engine.tables.paired")
+tables_proportion = module("permq.engine.tables.proportion")
+table_stats = module("permq.engine.tables.stats")
+normal_tables = module("permq.normal.tables")
+
+# the counterpart of each r x c family, by name in normal/tables.py
+RC_NORMAL = {"fisher": "pearson_chi_square", "chi-square": "pearson_chi_square",
+             "likelihood-ratio": "likelihood_ratio"}
 
 
 def route_of(design) -> str:
@@ -85,11 +88,11 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
             normal = normal_tables.trend(t, alternative=s.alternative)
             effect = "a rise of the column order with the row order"
         else:
-            normal = RC_NORMAL[s.family](t)
+            normal = getattr(normal_tables, RC_NORMAL[s.family])(t)
             if s.family == "fisher":
                 also.append(normal_tables.likelihood_ratio(t))
             effect = "association of rows and columns"
-        rule = RULES[s.family]
+        rule = table_stats.RULES[s.family]
     summary = normal_tables.table_summary(t, design.row_labels, design.col_labels)
     return Result(statement, "table", s.alternative, out, normal, estimate, effect=effect,
                   two_sided_rule=rule, warnings=list(design.warnings), also_normal=also,

@@ -17,16 +17,22 @@ from __future__ import annotations
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..errors import DataError
 from ..result import NormalTheory
+from .degenerate import ALL_TIED, LEVERAGE_ONE, NO_RESIDUAL, no_residual, undefined
 from .tails import p_from_t as _p_from_t, p_from_z as _p_from_z, t_interval
 
 
-def _t_of_r(r, df) -> float:
-    with np.errstate(divide="ignore"):
-        return float(r * np.sqrt(df / (1 - r * r))) if abs(r) < 1 else float(np.sign(r) * np.inf)
+def _t_of_r(name, r, df, alternative) -> NormalTheory:
+    """t = r sqrt(df / (1 - r^2)); undefined at r = +-1, where nothing is left about the line."""
+    if not df > 0:
+        return undefined(name, "too few pairs for the t test", df)
+    if no_residual(1.0 - r * r, 1.0):
+        return undefined(name, NO_RESIDUAL + ": the points lie on a line", df)
+    t = float(r * np.sqrt(df / (1 - r * r)))
+    return NormalTheory(name, t, float(df), _p_from_t(t, df, alternative))
 
 
 # ---------------------------------------------------------------- correlations
@@ -36,10 +42,12 @@ def pearson(y, x, alternative: str, level: float = 0.95) -> NormalTheory:
     n = len(y)
     r = float(np.corrcoef(x, y)[0, 1])
     r = max(-1.0, min(1.0, r))
-    t = _t_of_r(r, n - 2)
+    test = _t_of_r("t test of Pearson's r", r, n - 2, alternative)
+    if test.undefined:
+        return test
     interval = fisher_interval(r, n, level, alternative) if n > 3 else None
-    return NormalTheory("t test of Pearson's r", t, float(n - 2), _p_from_t(t, n - 2, alternative),
-                        interval, "Fisher's z transformation, tanh(atanh(r) -+ z / sqrt(n - 3))")
+    return NormalTheory(test.test, test.statistic, test.df, test.p_value, interval,
+                        "Fisher's z transformation, tanh(atanh(r) -+ z / sqrt(n - 3))")
 
 
 def fisher_interval(r: float, n: int, level: float, alternative: str) -> tuple:
@@ -56,9 +64,10 @@ def fisher_interval(r: float, n: int, level: float, alternative: str) -> tuple:
 def spearman(y, x, alternative: str) -> NormalTheory:
     n = len(y)
     rho = float(np.corrcoef(stats.rankdata(x), stats.rankdata(y))[0, 1])
-    t = _t_of_r(max(-1.0, min(1.0, rho)), n - 2)
-    return NormalTheory("t approximation for Spearman's rho (mid-ranks)", t, float(n - 2),
-                        _p_from_t(t, n - 2, alternative))
+    name = "t approximation for Spearman's rho (mid-ranks)"
+    if no_residual(1.0 - rho * rho, 1.0):
+        return undefined(name, "the ranks agree perfectly", n - 2)
+    return _t_of_r(name, max(-1.0, min(1.0, rho)), n - 2, alternative)
 
 
 def kendall_variance(y, x) -> float:
@@ -76,9 +85,12 @@ def kendall_variance(y, x) -> float:
 def kendall(y, x, alternative: str) -> NormalTheory:
     y, x = np.asarray(y, float), np.asarray(x, float)
     s = float(np.sum(np.sign(x[:, None] - x[None, :]) * np.sign(y[:, None] - y[None, :])) / 2)
-    z = s / np.sqrt(kendall_variance(y, x))
-    return NormalTheory("normal approximation for Kendall's S (tie-corrected variance)",
-                        float(z), None, _p_from_z(z, alternative))
+    var = kendall_variance(y, x)
+    name = "normal approximation for Kendall's S (tie-corrected variance)"
+    if not var > 0:
+        return undefined(name, ALL_TIED)
+    z = s / np.sqrt(var)
+    return NormalTheory(name, float(z), None, _p_from_z(z, alternative))
 
 
 # ---------------------------------------------------------------- slopes
@@ -99,23 +111,29 @@ def _ols_last(design: np.ndarray, y: np.ndarray):
     with np.errstate(divide="ignore", invalid="ignore"):
         w = e * e / (1 - h) ** 2
     row = xtx_inv[-1] @ design.T                      # the last coefficient's weights on y
-    se_hc3 = float(np.sqrt(np.sum(row * row * w))) if np.all(h < 1 - 1e-10) else float("nan")
-    return float(coef[-1]), se, se_hc3, df
+    # a point of leverage 1 has residual 0 whatever y is: e / (1 - h), its deleted residual,
+    # is 0 / 0 (without the point the coefficient is not estimable), so HC3 is undefined
+    se_hc3 = float(np.sqrt(np.sum(row * row * w))) if np.all(h < 1 - 1e-10) else None
+    perfect = no_residual(float(e @ e), float(np.sum((y - y.mean()) ** 2)))
+    return float(coef[-1]), se, se_hc3, df, perfect
 
 
-def _t_result(name, est, se, df, level, alternative, how) -> NormalTheory:
-    with np.errstate(divide="ignore", invalid="ignore"):
-        t = est / se if se > 0 else float(np.sign(est) * np.inf)
+def _t_result(name, est, se, df, level, alternative, how, why="") -> NormalTheory:
+    if why:
+        return undefined(name, why, df)
+    t = est / se
     return NormalTheory(name, float(t), float(df), _p_from_t(t, df, alternative),
                         t_interval(est, se, df, level, alternative), how)
 
 
 def _slope_pair(design, y, alternative, level, what):
-    est, se, se3, df = _ols_last(design, y)
+    est, se, se3, df, perfect = _ols_last(design, y)
+    fit = NO_RESIDUAL + ": the points lie on the fitted line" if perfect else ""
     ols = _t_result(f"least-squares t test of the {what}", est, se, df, level, alternative,
-                    f"t interval on {df} df")
+                    f"t interval on {df} df", fit)
     hc3 = _t_result(f"least-squares t test of the {what}, HC3 robust standard error",
-                    est, se3, df, level, alternative, f"t interval on {df} df, HC3 standard error")
+                    est, se3, df, level, alternative, f"t interval on {df} df, HC3 standard error",
+                    fit or (LEVERAGE_ONE if se3 is None else ""))
     return ols, hc3
 
 

@@ -10,13 +10,14 @@ from __future__ import annotations
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..engine.blocks.complete import block_matrix, friedman_from_ranks
 from ..engine.blocks.shared import design_arrays, midranks
 from ..engine.blocks.stratified import prepare_stratified
 from ..errors import BindError
 from ..result import NormalTheory
+from .degenerate import ALL_TIED, NO_RESIDUAL, no_residual, undefined
 from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval
 
 
@@ -45,13 +46,11 @@ def additive_f(values, groups, blocks) -> NormalTheory:
     if df1 < 1 or df2 < 1:
         raise BindError("the additive two-way model leaves no degrees of freedom for the F test")
     gain = max(rss_r - rss_f, 0.0)
-    if rss_f <= 1e-12 * max(rss_r, 1e-300):
-        f, p = (float("inf"), 0.0) if gain > 0 else (float("nan"), 1.0)
-    else:
-        f = (gain / df1) / (rss_f / df2)
-        p = float(stats.f.sf(f, df1, df2))
-    return NormalTheory(f"F for treatments on {df1} and {df2} df, additive two-way model "
-                        "(normal errors)", float(f), float(df1), p)
+    name = f"F for treatments on {df1} and {df2} df, additive two-way model (normal errors)"
+    if no_residual(rss_f, float(np.sum((v - v.mean()) ** 2))):
+        return undefined(name, NO_RESIDUAL, df1)
+    f = (gain / df1) / (rss_f / df2)
+    return NormalTheory(name, float(f), float(df1), float(stats.f.sf(f, df1, df2)))
 
 
 def friedman_chi_square(values, groups, blocks, n_groups: Optional[int] = None) -> NormalTheory:
@@ -60,9 +59,10 @@ def friedman_chi_square(values, groups, blocks, n_groups: Optional[int] = None) 
     ranks = np.vstack([midranks(row) for row in y])
     q, d = friedman_from_ranks(ranks)
     k = y.shape[1]
-    p = float(stats.chi2.sf(q, k - 1)) if d > 0 else 1.0
-    return NormalTheory("chi-square approximation to Friedman's statistic (tie-corrected)",
-                        float(q), float(k - 1), p)
+    name = "chi-square approximation to Friedman's statistic (tie-corrected)"
+    if not d > 0:
+        return undefined(name, ALL_TIED + " within every block", k - 1)
+    return NormalTheory(name, float(q), float(k - 1), float(stats.chi2.sf(q, k - 1)))
 
 
 def page_normal(values, groups, blocks, alternative,
@@ -76,9 +76,11 @@ def page_normal(values, groups, blocks, alternative,
     mean = float(c.sum() * ranks.mean(axis=1).sum())
     spread = ((ranks - ranks.mean(axis=1, keepdims=True)) ** 2).sum(axis=1)
     var = float(((c - c.mean()) ** 2).sum() * spread.sum() / (k - 1))
-    z = (l_obs - mean) / np.sqrt(var) if var > 0 else 0.0
-    return NormalTheory("normal approximation to Page's L (tie-corrected variance, no continuity"
-                        " correction)", float(z), None, _p_from_z(z, alternative))
+    name = "normal approximation to Page's L (tie-corrected variance, no continuity correction)"
+    if not var > 0:
+        return undefined(name, ALL_TIED + " within every block")
+    z = (l_obs - mean) / np.sqrt(var)
+    return NormalTheory(name, float(z), None, _p_from_z(z, alternative))
 
 
 # ---------------------------------------------------------------- stratified two groups
@@ -91,9 +93,12 @@ def stratified_rank_sum_normal(values, groups, blocks, alternative) -> NormalThe
         r = b.scores
         mean += b.m * r.mean()
         var += b.m * (b.n - b.m) / (b.n * (b.n - 1)) * float(((r - r.mean()) ** 2).sum())
-    z = (prep.t_obs - mean) / np.sqrt(var) if var > 0 else 0.0
-    return NormalTheory("normal approximation to the stratified rank sum (tie-corrected, no "
-                        "continuity correction)", float(z), None, _p_from_z(z, alternative))
+    name = ("normal approximation to the stratified rank sum (tie-corrected, no continuity "
+            "correction)")
+    if not var > 0:
+        return undefined(name, ALL_TIED + " within every block")
+    z = (prep.t_obs - mean) / np.sqrt(var)
+    return NormalTheory(name, float(z), None, _p_from_z(z, alternative))
 
 
 def stratified_mean_t(values, groups, blocks, alternative, level: float = 0.95) -> NormalTheory:
@@ -109,10 +114,12 @@ def stratified_mean_t(values, groups, blocks, alternative, level: float = 0.95) 
     if df < 1:
         raise BindError("the additive model leaves no degrees of freedom for the t test")
     est = float(beta[-1])
+    name = "t for the group effect, additive model with blocks (normal errors)"
+    if no_residual(rss, float(np.sum((v - v.mean()) ** 2))):
+        return undefined(name, NO_RESIDUAL, df)
     se = float(np.sqrt(rss / df * inv[-1, -1]))
-    t = est / se if se > 0 else (0.0 if est == 0 else np.sign(est) * np.inf)
-    return NormalTheory("t for the group effect, additive model with blocks (normal errors)",
-                        float(t), float(df), _p_from_t(t, df, alternative),
+    t = est / se
+    return NormalTheory(name, float(t), float(df), _p_from_t(t, df, alternative),
                         tuple(float(x) for x in _t_interval(est, se, df, level, alternative)),
-                        "t interval for the group-0 minus group-1 effect adjusted for blocks")
+                        "t interval for the first minus the second group, adjusted for blocks")
 

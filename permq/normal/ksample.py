@@ -9,11 +9,12 @@ import math
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ..lazy import stats
 
 from ..engine.ksample import above_median, design, midranks, normal_scores
 from ..engine.ordered import dose_scores, jt_doubled, least_squares_slope
 from ..result import NormalTheory
+from .degenerate import ALL_TIED, NO_RESIDUAL, ZERO_SPREAD, no_residual, no_spread, undefined
 from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval
 
 
@@ -32,14 +33,13 @@ def one_way_anova(values, groups) -> NormalTheory:
     N, k = len(x), len(sizes)
     ssb = float(np.sum(sizes * (means - x.mean()) ** 2))
     df1, df2 = k - 1, N - k
-    if df2 < 1 or ssw <= 1e-12 * max(ssb + ssw, 1e-300):
-        f = math.inf if ssb > 0 else math.nan
-        p = 0.0 if ssb > 0 else 1.0
-    else:
-        f = (ssb / df1) / (ssw / df2)
-        p = float(stats.f.sf(f, df1, df2))
-    return NormalTheory(f"one-way ANOVA F on {df1} and {df2} df (equal variances, normal errors)",
-                        float(f), float(df1), p)
+    name = f"one-way ANOVA F on {df1} and {df2} df (equal variances, normal errors)"
+    if df2 < 1:
+        return undefined(name, "one value a group leaves no within-group df", df1)
+    if no_residual(ssw, ssb + ssw):
+        return undefined(name, ZERO_SPREAD + " within the groups", df1)
+    f = (ssb / df1) / (ssw / df2)
+    return NormalTheory(name, float(f), float(df1), float(stats.f.sf(f, df1, df2)))
 
 
 def welch_anova(values, groups) -> NormalTheory:
@@ -47,9 +47,11 @@ def welch_anova(values, groups) -> NormalTheory:
     x, g, sizes, means, _ = _group_stats(values, groups)
     k = len(sizes)
     var = np.array([np.var(x[g == i], ddof=1) if sizes[i] > 1 else np.nan for i in range(k)])
-    if np.any(~np.isfinite(var)) or np.any(var <= 0):
-        return NormalTheory("Welch one-way ANOVA (unequal variances): not defined, a group has "
-                            "fewer than two values or no spread", math.nan, None, math.nan)
+    name = "Welch one-way ANOVA F (unequal variances)"
+    if np.any(sizes < 2):
+        return undefined(name, "a group has a single value")
+    if any(no_spread(x[g == i]) for i in range(k)):
+        return undefined(name, ZERO_SPREAD + " in a group")
     w = sizes / var
     mw = float(np.sum(w * means) / np.sum(w))
     a = float(np.sum(w * (means - mw) ** 2) / (k - 1))
@@ -66,7 +68,7 @@ def _quadratic_chi_square(score, values, groups, factor):
     a = a - a.mean()
     sst = float(np.sum(a * a))
     if sst <= 0:
-        return math.nan, 1.0, len(sizes) - 1
+        return None, None, len(sizes) - 1
     ssb = float(np.sum(np.bincount(g, weights=a) ** 2 / sizes))
     stat = factor(len(x)) * ssb / sst
     return stat, float(stats.chi2.sf(stat, len(sizes) - 1)), len(sizes) - 1
@@ -74,20 +76,25 @@ def _quadratic_chi_square(score, values, groups, factor):
 
 def kruskal_chi_square(values, groups) -> NormalTheory:
     """Kruskal-Wallis H (mid-ranks, divided by the tie correction) against chi-square, k-1 df."""
-    h, p, df = _quadratic_chi_square(midranks, values, groups, lambda N: N - 1)
-    return NormalTheory("Kruskal-Wallis H, chi-square approximation (tie-corrected)", h, float(df), p)
+    return _chi_square_test("Kruskal-Wallis H, chi-square approximation (tie-corrected)",
+                            midranks, values, groups, lambda N: N - 1)
 
 
 def normal_scores_chi_square(values, groups) -> NormalTheory:
-    s, p, df = _quadratic_chi_square(normal_scores, values, groups, lambda N: N - 1)
-    return NormalTheory("van der Waerden normal-scores statistic, chi-square approximation",
-                        s, float(df), p)
+    return _chi_square_test("van der Waerden normal-scores statistic, chi-square approximation",
+                            normal_scores, values, groups, lambda N: N - 1)
 
 
 def median_chi_square(values, groups) -> NormalTheory:
-    s, p, df = _quadratic_chi_square(above_median, values, groups, lambda N: N)
-    return NormalTheory("median test, Pearson chi-square approximation (no continuity correction)",
-                        s, float(df), p)
+    return _chi_square_test("median test, Pearson chi-square approximation (no continuity "
+                            "correction)", above_median, values, groups, lambda N: N)
+
+
+def _chi_square_test(name, score, values, groups, factor) -> NormalTheory:
+    stat, p, df = _quadratic_chi_square(score, values, groups, factor)
+    if stat is None:
+        return undefined(name, ALL_TIED, df)
+    return NormalTheory(name, stat, float(df), p)
 
 
 # ---------------------------------------------------------------- ordered groups
@@ -122,9 +129,11 @@ def jonckheere_normal(values, groups, alternative: str) -> NormalTheory:
     j = jt_doubled(x, g, len(sizes)) / 2.0
     mean = (len(x) ** 2 - float(np.sum(sizes ** 2))) / 4.0
     var = jonckheere_variance(x, g)
-    z = (j - mean) / math.sqrt(var) if var > 0 else 0.0
-    return NormalTheory("Jonckheere-Terpstra normal approximation (tie-corrected variance)",
-                        float(z), None, _p_from_z(z, alternative))
+    name = "Jonckheere-Terpstra normal approximation (tie-corrected variance)"
+    if not var > 0:
+        return undefined(name, ALL_TIED)
+    z = (j - mean) / math.sqrt(var)
+    return NormalTheory(name, float(z), None, _p_from_z(z, alternative))
 
 
 def linear_trend_t(values, groups, scores=None, alternative: str = "two-sided",
@@ -139,8 +148,7 @@ def linear_trend_t(values, groups, scores=None, alternative: str = "two-sided",
     d_item = d[g]
     sxx = float(np.sum((d_item - d_item.mean()) ** 2))
     if sxx <= 0:
-        return NormalTheory("linear trend t: not defined, all dose scores are equal",
-                            math.nan, None, math.nan)
+        return undefined("linear trend t", "all dose scores are equal")
     b = least_squares_slope(x, d_item)
     N, k = len(x), len(sizes)
     if N > k:
@@ -148,12 +156,17 @@ def linear_trend_t(values, groups, scores=None, alternative: str = "two-sided",
     else:
         resid = x - x.mean() - b * (d_item - d_item.mean())
         df, mse, how = N - 2, float(np.sum(resid ** 2)) / max(N - 2, 1), "residual about the line"
-    se = math.sqrt(mse / sxx) if df > 0 else math.nan
-    t = b / se if se > 0 else (math.copysign(math.inf, b) if b else math.nan)
-    p = _p_from_t(t, df, alternative) if df > 0 and np.isfinite(se) else math.nan
-    interval = _t_interval(b, se, df, level, alternative) if df > 0 and se > 0 else None
-    return NormalTheory(f"linear trend t on {df} df ({how}; F = t^2)", float(t), float(df), p,
-                        interval, f"t interval for the slope ({how})")
+    name = f"linear trend t on {df} df ({how}; F = t^2)"
+    if df < 1:
+        return undefined(name, "no df left for the error")
+    total = float(np.sum((x - x.mean()) ** 2))
+    if no_residual(mse * df, total):
+        return undefined(name, ZERO_SPREAD if N > k else NO_RESIDUAL, df)
+    se = math.sqrt(mse / sxx)
+    t = b / se
+    return NormalTheory(name, float(t), float(df), _p_from_t(t, df, alternative),
+                        _t_interval(b, se, df, level, alternative),
+                        f"t interval for the slope ({how})")
 
 
 # ---------------------------------------------------------------- summaries

@@ -16,11 +16,15 @@
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
-from scipy.special import xlogy
+from ..lazy import stats
+from ..lazy import xlogy
 
 from ..result import NormalTheory
+from .degenerate import undefined
 from .tails import p_from_z as _p_from_z
+
+
+ONE_LINE = "a single row or column of counts"
 
 
 def _quantile(level, alternative) -> float:
@@ -48,7 +52,7 @@ def pearson_chi_square(table) -> NormalTheory:
     t = _nonempty(table)
     df = (t.shape[0] - 1) * (t.shape[1] - 1)
     if df == 0:
-        return NormalTheory("Pearson chi-square (no continuity correction)", 0.0, 0.0, 1.0)
+        return undefined("Pearson chi-square (no continuity correction)", ONE_LINE, 0)
     e = _expected(t)
     x2 = float(((t - e) ** 2 / e).sum())
     return NormalTheory("Pearson chi-square (no continuity correction)", x2, float(df),
@@ -59,7 +63,7 @@ def likelihood_ratio(table) -> NormalTheory:
     t = _nonempty(table)
     df = (t.shape[0] - 1) * (t.shape[1] - 1)
     if df == 0:
-        return NormalTheory("likelihood-ratio G^2", 0.0, 0.0, 1.0)
+        return undefined("likelihood-ratio G^2", ONE_LINE, 0)
     g2 = float(2.0 * (xlogy(t, t) - xlogy(t, _expected(t))).sum())
     g2 = max(g2, 0.0)
     return NormalTheory("likelihood-ratio G^2", g2, float(df), float(stats.chi2.sf(g2, df)))
@@ -75,7 +79,7 @@ def trend(table, row_scores=None, col_scores=None, alternative: str = "two-sided
     du, dv = u - rows @ u / n, v - cols @ v / n
     suu, svv, suv = rows @ du ** 2, cols @ dv ** 2, du @ t @ dv
     if suu == 0 or svv == 0:
-        return NormalTheory("linear-by-linear association M^2 = (N - 1) r^2", 0.0, 1.0, 1.0)
+        return undefined("linear-by-linear association M^2 = (N - 1) r^2", ONE_LINE, 1)
     r = suv / np.sqrt(suu * svv)
     m2 = float((n - 1.0) * r * r)
     if alternative == "two-sided":
@@ -93,7 +97,7 @@ def mcnemar(table, level: float = 0.95, alternative: str = "two-sided",
     b, c = t[0, 1], t[1, 0]
     name = "McNemar chi-square" + (" (continuity corrected)" if correction else "")
     if b + c == 0:
-        return NormalTheory(name, 0.0, 1.0, 1.0)
+        return undefined(name, "no discordant pairs", 1)
     d = max(abs(b - c) - 1.0, 0.0) if correction else abs(b - c)
     x2 = float(d * d / (b + c))
     if alternative == "two-sided":
@@ -141,6 +145,8 @@ def one_proportion(successes: int, trials: int, p0: float = 0.5, level: float = 
         centre = (phat + q * q / (2 * n)) / (1 + q * q / n)
         half = q / (1 + q * q / n) * np.sqrt(phat * (1 - phat) / n + q * q / (4 * n * n))
         lo, hi, how = centre - half, centre + half, "Wilson score interval"
+        # the exact limits at the edges (the formula leaves 1e-17 of rounding there)
+        lo, hi = (0.0 if k == 0 else lo), (1.0 if k == n else hi)
     else:
         raise ValueError(f"unknown proportion interval {interval!r}; choose wilson or wald")
     bounds = _ends(float(max(lo, 0.0)), float(min(hi, 1.0)), alternative, 0.0, 1.0)

@@ -12,11 +12,20 @@ from ..engine.rankintervals import (
     hodges_lehmann_one_sample_normal, hodges_lehmann_two_sample_normal, median_interval_normal)
 from ..engine.core.scores import median_scores, midranks, normal_scores
 from ..result import NormalTheory
+from .degenerate import ALL_TIED, ZERO_SPREAD, no_spread, undefined
+
+NO_NONZERO = "no nonzero differences"
 from .tails import p_from_z as _p_from_z, p_from_t as _p_from_t, t_interval as _t_interval
 
 
-def _z_score(s, mean, var):
-    return (s - mean) / np.sqrt(var) if var > 0 else 0.0
+def _z_test(name, s, mean, var, alternative, interval=None, how="",
+            why=ALL_TIED) -> NormalTheory:
+    """z = (s - mean) / sd; undefined when the null variance is 0 (tied scores take equal
+    values exactly, so the test is exact)."""
+    if not var > 0:
+        return undefined(name, why)
+    z = float((s - mean) / np.sqrt(var))
+    return NormalTheory(name, z, None, _p_from_z(z, alternative), interval, how)
 
 
 # ---------------------------------------------------------------- two samples
@@ -26,17 +35,17 @@ def two_sample(family, x, y, level, alternative) -> NormalTheory:
     n1, n2 = len(x), len(y)
     N = n1 + n2
     if family == "means":
+        name = "Welch t (unequal variances)"
         if n1 < 2 or n2 < 2:
-            return NormalTheory("Welch t: not available (a group has a single value)",
-                                float("nan"), None, float("nan"))
+            return undefined(name, "a group has a single value")
+        if no_spread(x) and no_spread(y):
+            return undefined(name, ZERO_SPREAD)
         v1, v2 = x.var(ddof=1) / n1, y.var(ddof=1) / n2
-        if v1 + v2 == 0:
-            return NormalTheory("Welch t: not available (no spread within the groups)",
-                                float("nan"), None, float("nan"))
+        v1, v2 = (0.0 if no_spread(x) else v1), (0.0 if no_spread(y) else v2)
         se = np.sqrt(v1 + v2)
-        df = (v1 + v2) ** 2 / (v1 ** 2 / (n1 - 1) + v2 ** 2 / (n2 - 1)) if se > 0 else float(N - 2)
+        df = (v1 + v2) ** 2 / (v1 ** 2 / (n1 - 1) + v2 ** 2 / (n2 - 1))
         est = x.mean() - y.mean()
-        t = est / se if se > 0 else 0.0
+        t = est / se
         return NormalTheory("Welch t (unequal variances)", t, df, _p_from_t(t, df, alternative),
                             _t_interval(est, se, df, level, alternative),
                             "Welch t interval")
@@ -53,12 +62,11 @@ def two_sample(family, x, y, level, alternative) -> NormalTheory:
     s = a[:n1].sum()
     mean = n1 * a.mean()
     var = n1 * n2 / (N * (N - 1)) * ((a - a.mean()) ** 2).sum()
-    z = _z_score(s, mean, var)
     interval, how = None, ""
     if family == "ranks":
         interval = hodges_lehmann_two_sample_normal(x, y, level, alternative)
         how = "order statistics of the pairwise differences at normal-approximation ranks"
-    return NormalTheory(name, z, None, _p_from_z(z, alternative), interval, how)
+    return _z_test(name, s, mean, var, alternative, interval, how)
 
 
 # ---------------------------------------------------------------- paired / one sample
@@ -67,29 +75,27 @@ def one_sample(family, d, level, alternative) -> NormalTheory:
     d = np.asarray(d, float)
     n = len(d)
     if family == "means":
-        se = d.std(ddof=1) / np.sqrt(n) if n > 1 else 0.0
-        if se == 0:
-            why = "a single difference" if n < 2 else "the differences have no spread"
-            return NormalTheory(f"one-sample t: not available ({why})", float("nan"), None,
-                                float("nan"))
+        name = "one-sample t on the differences"
+        if n < 2:
+            return undefined(name, "a single difference")
+        if no_spread(d):
+            return undefined(name, ZERO_SPREAD, n - 1)
+        se = d.std(ddof=1) / np.sqrt(n)
         est = d.mean()
-        t = est / se if se > 0 else 0.0
-        return NormalTheory("one-sample t on the differences", t, n - 1,
-                            _p_from_t(t, n - 1, alternative),
-                            _t_interval(est, se, n - 1, level, alternative) if se > 0 else None,
-                            "t interval")
+        t = est / se
+        return NormalTheory(name, t, n - 1, _p_from_t(t, n - 1, alternative),
+                            _t_interval(est, se, n - 1, level, alternative), "t interval")
     nz = d[d != 0]
     if family == "ranks":
         r = midranks(np.abs(d))[d != 0]
         tplus = r[nz > 0].sum()
-        z = _z_score(tplus, r.sum() / 2, (r ** 2).sum() / 4)
-        return NormalTheory("normal approximation to the signed-rank sum (tie- and zero-corrected,"
-                            " no continuity correction)", z, None, _p_from_z(z, alternative),
-                            hodges_lehmann_one_sample_normal(d, level, alternative),
-                            "order statistics of the Walsh averages at normal-approximation ranks")
+        return _z_test("normal approximation to the signed-rank sum (tie- and zero-corrected,"
+                       " no continuity correction)", tplus, r.sum() / 2, (r ** 2).sum() / 4,
+                       alternative, hodges_lehmann_one_sample_normal(d, level, alternative),
+                       "order statistics of the Walsh averages at normal-approximation ranks",
+                       NO_NONZERO)
     m = len(nz)
-    z = _z_score((nz > 0).sum(), m / 2, m / 4)
-    return NormalTheory("normal approximation to the sign count (no continuity correction)", z,
-                        None, _p_from_z(z, alternative),
-                        median_interval_normal(d, level, alternative),
-                        "order statistics at normal-approximation ranks")
+    return _z_test("normal approximation to the sign count (no continuity correction)",
+                   (nz > 0).sum(), m / 2, m / 4, alternative,
+                   median_interval_normal(d, level, alternative),
+                   "order statistics at normal-approximation ranks", NO_NONZERO)

@@ -11,10 +11,9 @@ It asks the design's engine for its candidate algorithms with their estimated co
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable
+from typing import Callable, Optional
 
 from ..errors import PlanError
-from ..engine.montecarlo.sampling import fresh_seed
 from .cost import Candidate, calibrated
 
 DEFAULT_DRAWS = 100_000
@@ -28,7 +27,7 @@ class Plan:
     chosen: Candidate
     candidates: tuple
     draws: int
-    seed: int
+    seed: Optional[int]         # None only outside the pipeline (nothing sampled yet)
     reason: str
     budget_seconds: float
 
@@ -60,7 +59,7 @@ class Plan:
 def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int], list]) -> Plan:
     draws = settings.sampled or DEFAULT_DRAWS
     cands = tuple(calibrated(engine, c) for c in candidates_for(draws))
-    seed = settings.seed if settings.seed is not None else fresh_seed()
+    seed = settings.seed          # decided once by the pipeline (plan/seeds.py)
     mc = next((c for c in cands if not c.exact), None)
     exact = sorted((c for c in cands if c.exact and c.feasible), key=lambda c: c.ops)
     budget = settings.budget_seconds

@@ -5,14 +5,16 @@ records for notebooks and report files.
 """
 from __future__ import annotations
 
-from . import csvout, jsonout, markdown, sentences, text
+from importlib import import_module
 
-RENDERERS = {"text": text.render, "json": jsonout.render, "csv": csvout.render,
-             "markdown": markdown.render, "sentences": sentences.render}
+# format -> module with render(outputs); imported when a run first asks for that format
+RENDERERS = {"text": "text", "json": "jsonout", "csv": "csvout", "markdown": "markdown",
+             "sentences": "sentences"}
 FORMATS = tuple(RENDERERS)
 
 
 def render(outputs, fmt: str = "text", color: bool = False) -> str:
+    module = import_module(f"{__name__}.{RENDERERS[fmt]}")
     if fmt == "text":
-        return text.render(outputs, color=color)
-    return RENDERERS[fmt](outputs)
+        return module.render(outputs, color=color)
+    return module.render(outputs)

@@ -4,7 +4,7 @@ from __future__ import annotations
 import csv
 import io
 
-from . import many
+from . import factorial, many
 from .jsonout import records
 from .robustness import csv_row
 
@@ -56,6 +56,10 @@ def render(outputs) -> str:
     w = csv.DictWriter(buf, fieldnames=COLUMNS, lineterminator="\n")
     w.writeheader()
     for d in records(outputs):
-        for row in (many.csv_rows(d, COLUMNS) if "rows" in d else [flatten(d)]):
+        if d.get("family") == factorial.FAMILY:
+            rows = factorial.csv_rows(d, COLUMNS)
+        else:
+            rows = many.csv_rows(d, COLUMNS) if "rows" in d else [flatten(d)]
+        for row in rows:
             w.writerow(row)
     return buf.getvalue()

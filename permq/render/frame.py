@@ -4,7 +4,9 @@
 `normal_theory.p_value`, `estimate.interval`; lists stay whole in their cell). A several-tests
 record gives one row per test: its own fields, and the row's fields under the names a single
 result uses (`statistic.value`, `p_value`, `estimate.value`, `estimate.interval`) beside
-`p_adjusted`, `row.name`, `row.n` and `row.note` (a row's other fields as `row.<field>`). Every row has `record` (its place in the
+`p_adjusted`, `row.name`, `row.n` and `row.note` (a row's other fields as `row.<field>`). A two-factor record gives one row per term
+(kind "term"): the term's fields under `term.`, its `p_value` and `statistic.value` beside
+them. Every row has `record` (its place in the
 run) and `kind`. `record_of(row)` turns a row back into the fields it came from.
 """
 from __future__ import annotations
@@ -15,6 +17,7 @@ ROW_FIELDS = {"name": "row.name", "n": "row.n", "statistic": "statistic.value",
               "p_value": "p_value", "p_adjusted": "p_adjusted", "estimate": "estimate.value",
               "interval": "estimate.interval", "note": "row.note"}
 SEVERAL = ("several responses", "for each", "pairwise", "many-to-one", "lowest effective dose")
+TERMS = "two factors"        # one row per term: its fields under `term.`, p_value beside them
 
 
 def rows(records) -> list:
@@ -28,6 +31,14 @@ def rows(records) -> list:
             for row in r["rows"]:
                 line = dict(base, **head)
                 line.update({ROW_FIELDS.get(k, f"row.{k}"): v for k, v in row.items()})
+                out.append(line)
+        elif r.get("family") == TERMS:
+            head = flatten({k: v for k, v in r.items() if k != "terms"})
+            for term in r["terms"]:
+                line = dict(base, **head, kind="term")
+                line.update(flatten(term, "term."))
+                line.update({"p_value": term["p_value"],
+                             "statistic.value": term["statistic"]["value"]})
                 out.append(line)
         else:
             out.append(dict(base, **flatten(r)))
@@ -61,6 +72,8 @@ def record_of(row: dict) -> dict:
     for name, value in row.items():
         if name in ("record", "kind") or _missing(value):
             continue
+        if row.get("kind") == "term" and name in ("p_value", "statistic.value"):
+            continue                         # copies of the term's own fields
         if several and name in back:
             out.setdefault("row", {})[back[name]] = value
             continue

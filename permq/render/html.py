@@ -43,6 +43,10 @@ def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
                 f"{escape(e['message'])}{where}</p></div>")
     if record.get("family") in SEVERAL:
         body = several_table(record)
+    elif record.get("family") == "two factors":
+        from .factorial import html_table
+
+        body = html_table(record)
     elif record.get("family") == "robustness":
         body = robustness_table(record)
         if pictures:
@@ -55,7 +59,7 @@ def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
         from .svg import null_distribution
 
         body += null_distribution(record["null_picture"])
-    elif pictures and record.get("family") not in SEVERAL + ("robustness",):
+    elif pictures and record.get("family") not in SEVERAL + ("robustness", "two factors"):
         body += ('<p class="note">no picture: the null distribution is not kept for this '
                  'method</p>')
 
@@ -95,10 +99,14 @@ def result_table(r: dict) -> str:
     nt = r.get("normal_theory")
     if nt:
         df = f"df {fmt.df(nt['df'])}" if nt.get("df") is not None else ""
-        rows.append(_row("", "normal theory", fmt.p(nt["p_value"]),
-                         f"{nt['test']}: {fmt.num(nt['statistic'])} {df}".strip()))
+        shown = (f"undefined ({nt['undefined']})" if nt.get("undefined")
+                 else f"{fmt.num(nt['statistic'])} {df}".strip())
+        rows.append(_row("", "normal theory", "undefined" if nt.get("undefined")
+                         else fmt.p(nt["p_value"]), f"{nt['test']}: {shown}"))
     for extra in r.get("normal_theory_also") or []:
-        rows.append(_row("", "also", fmt.p(extra["p_value"]), extra["test"]))
+        p_shown = f"undefined ({extra['undefined']})" if extra.get("undefined") else \
+            fmt.p(extra["p_value"])
+        rows.append(_row("", "also", p_shown, extra["test"]))
     est = r.get("estimate")
     if est:
         iv = fmt.interval(_floats(est["interval"])) if est.get("interval") else "none"

@@ -8,11 +8,12 @@ from ..robustness.result import RobustnessResult
 
 
 def records(outputs) -> list[dict]:
+    from ..result_factorial import FactorialResult
     from ..result_many import ManyResult
 
     out = []
     for o in outputs:
-        if isinstance(o, ManyResult):
+        if isinstance(o, (ManyResult, FactorialResult)):
             out.append(o.to_dict())
             continue
         if isinstance(o, (Result, Failure, RobustnessResult)):

@@ -15,7 +15,7 @@ def _head(r) -> list:
     if r.method == "exact":
         how = f"exact: {r.algorithm}, {fmt.count(r.arrangements)} arrangements"
     else:
-        how = (f"Monte Carlo: {r.draws:,} joint draws, seed {r.seed}; "
+        how = (f"Monte Carlo: {r.draws:,} joint draws, {fmt.seed(r.seed, r.seed_source)}; "
                f"p = (b + 1) / ({r.draws:,} + 1), the smallest possible is "
                f"{fmt.p(1 / (r.draws + 1))}")
     unit = {"pairwise": "pairs", "for each": "features", "many-to-one": "comparisons",

@@ -7,6 +7,8 @@ from . import numbers as fmt
 from .robustness import markdown_section
 from ..result_many import ManyResult
 from .many import markdown_section as many_section
+from ..result_factorial import FactorialResult
+from .factorial import markdown_section as factorial_section
 
 
 def render(outputs) -> str:
@@ -18,6 +20,9 @@ def render(outputs) -> str:
         if isinstance(o, ManyResult):
             families.append(many_section(o))
             continue
+        if isinstance(o, FactorialResult):
+            families.append(factorial_section(o.to_dict()))
+            continue
         if isinstance(o, RobustnessResult):
             checks.append(markdown_section(o))
             continue
@@ -28,9 +33,10 @@ def render(outputs) -> str:
             continue
         oc, nt, est = o.outcome, o.normal, o.estimate
         method = (f"exact, {fmt.count(oc.arrangements)} arrangements" if oc.method == "exact"
-                  else f"Monte Carlo, {oc.draws:,} draws, seed {oc.seed}")
+                  else f"Monte Carlo, {oc.draws:,} draws, {fmt.seed(oc.seed, o.seed_source)}")
         cells = [f"`{o.statement}`", o.family, f"{oc.statistic_name} = {fmt.num(oc.statistic)}",
-                 fmt.p(oc.p_value), method, fmt.p(nt.p_value) if nt else "-",
+                 fmt.p(oc.p_value) if oc.method == "exact"
+                 else fmt.sampled_p(oc.p_value, oc.p_interval), method, fmt.normal_p(nt),
                  f"{est.name} = {fmt.num(est.value)}" if est else "-",
                  fmt.interval(est.interval) if est and est.interval else "-",
                  fmt.interval(nt.interval) if nt and nt.interval else "-"]

@@ -7,13 +7,51 @@ normal-theory counterparts, intervals, effect sizes, adjustments, Monte Carlo p-
 Nothing here computes.
 
 The Kerby (2014) and Tomczak and Tomczak (2014) entries were checked against the articles' first
-pages; the other entries are the standard citations, given from memory.
+pages, the Anderson and ter Braak (2003) and Rosenbaum (2002) entries against their
+bibliographic records; the other entries are the standard citations, given from memory.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass
 
 SOURCES = {
+    "barnard-1945": "Barnard, G. A. (1945). A new test for 2 x 2 tables. Nature 156, 177.",
+    "boschloo-1970": "Boschloo, R. D. (1970). Raised conditional level of significance for the "
+                     "2 x 2-table when testing the equality of two probabilities. Statistica "
+                     "Neerlandica 24, 1-35.",
+    "chan-zhang-1999": "Chan, I. S. F. and Zhang, Z. (1999). Test-based exact confidence "
+                       "intervals for the difference of two binomial proportions. Biometrics "
+                       "55, 1202-1209.",
+    "santner-snell-1980": "Santner, T. J. and Snell, M. K. (1980). Small-sample confidence "
+                          "intervals for p1 - p2 and p1/p2 in 2 x 2 contingency tables. Journal "
+                          "of the American Statistical Association 75, 386-394.",
+    "newcombe-1998": "Newcombe, R. G. (1998). Interval estimation for the difference between "
+                     "independent proportions: comparison of eleven methods. Statistics in "
+                     "Medicine 17, 873-890.",
+    "miettinen-nurminen-1985": "Miettinen, O. and Nurminen, M. (1985). Comparative analysis of "
+                               "two rates. Statistics in Medicine 4, 213-226.",
+    "birch-1964": "Birch, M. W. (1964). The detection of partial association, I: the 2 x 2 "
+                  "case. Journal of the Royal Statistical Society B 26, 313-324.",
+    "mehta-patel-gray-1985": "Mehta, C. R., Patel, N. R. and Gray, R. (1985). Computing an "
+                             "exact confidence interval for the common odds ratio in several "
+                             "2 x 2 contingency tables. Journal of the American Statistical "
+                             "Association 80, 969-973.",
+    "zelen-1971": "Zelen, M. (1971). The analysis of several 2 x 2 contingency tables. "
+                  "Biometrika 58, 129-137.",
+    "mantel-haenszel-1959": "Mantel, N. and Haenszel, W. (1959). Statistical aspects of the "
+                            "analysis of data from retrospective studies of disease. Journal of "
+                            "the National Cancer Institute 22, 719-748.",
+    "breslow-day-1980": "Breslow, N. E. and Day, N. E. (1980). Statistical Methods in Cancer "
+                        "Research, Vol. I: The Analysis of Case-Control Studies. Lyon: IARC.",
+    "mantel-1963": "Mantel, N. (1963). Chi-square tests with one degree of freedom; extensions "
+                   "of the Mantel-Haenszel procedure. Journal of the American Statistical "
+                   "Association 58, 690-700.",
+    "garwood-1936": "Garwood, F. (1936). Fiducial limits for the Poisson distribution. "
+                    "Biometrika 28, 437-442.",
+    "cox-1970": "Cox, D. R. (1970). The Analysis of Binary Data. London: Methuen.",
+    "hirji-mehta-patel-1987": "Hirji, K. F., Mehta, C. R. and Patel, N. R. (1987). Computing "
+                              "distributions for exact logistic regression. Journal of the "
+                              "American Statistical Association 82, 1110-1117.",
     "pitman-1937": "Pitman, E. J. G. (1937). Significance tests which may be applied to samples "
                    "from any populations. Supplement to the Journal of the Royal Statistical "
                    "Society 4, 119-130.",
@@ -90,6 +128,11 @@ SOURCES = {
                     "81-93.",
     "spearman-1904": "Spearman, C. (1904). The proof and measurement of association between "
                      "two things. American Journal of Psychology 15, 72-101.",
+    "anderson-ter-braak-2003": "Anderson, M. J. and ter Braak, C. J. F. (2003). Permutation "
+                               "tests for multi-factorial analysis of variance. Journal of "
+                               "Statistical Computation and Simulation 73, 85-113.",
+    "rosenbaum-2002": "Rosenbaum, P. R. (2002). Covariance adjustment in randomized experiments "
+                      "and observational studies. Statistical Science 17, 286-327.",
     "freedman-lane-1983": "Freedman, D. and Lane, D. (1983). A nonstochastic interpretation of "
                           "reported significance levels. Journal of Business and Economic "
                           "Statistics 1, 292-298.",
@@ -217,6 +260,17 @@ _TESTS = [
      Method("permutation test of the least-squares slope", ("pitman-1937b",))),
     (("association",), "t of the slope",
      Method("Freedman-Lane permutation test of the adjusted slope", ("freedman-lane-1983",))),
+    (("adjusted",), "difference in mean covariate-adjusted",
+     Method("covariate-adjusted randomisation test of the difference in means (Rosenbaum)",
+            ("rosenbaum-2002", "pitman-1937"))),
+    (("adjusted",), "rank sum", Method("Wilcoxon rank-sum test of covariate-adjusted residuals "
+                                       "(Rosenbaum)", ("rosenbaum-2002", "wilcoxon-1945"))),
+    (("adjusted",), "F of the covariate-adjusted",
+     Method("covariate-adjusted randomisation F test (Rosenbaum)",
+            ("rosenbaum-2002", "pitman-1938"))),
+    (("adjusted",), "Kruskal-Wallis",
+     Method("Kruskal-Wallis test of covariate-adjusted residuals (Rosenbaum)",
+            ("rosenbaum-2002", "kruskal-wallis-1952"))),
     (("table",), "top-left count", Method("Fisher's exact test", ("fisher-1935b",))),
     (("table",), "table probability",
      Method("Fisher-Freeman-Halton exact test", ("freeman-halton-1951",))),
@@ -229,6 +283,24 @@ _TESTS = [
             ("cochran-1954", "armitage-1955"))),
     (("table",), "discordant pairs", Method("McNemar's exact test", ("mcnemar-1947",))),
     (("table",), "count of successes", Method("exact binomial test", ())),
+    (("two-proportions",), "Fisher's exact p-value",
+     Method("Boschloo's exact unconditional test", ("boschloo-1970",))),
+    (("two-proportions",), "score z", Method("Barnard's exact unconditional test",
+                                             ("barnard-1945",))),
+    (("two-proportions",), "top-left count", Method("Fisher's exact test", ("fisher-1935b",))),
+    (("strata",), "sum over strata",
+     Method("exact conditional test of a common odds ratio", ("birch-1964",
+                                                               "mehta-patel-gray-1985"))),
+    (("strata",), "probability of the strata",
+     Method("Zelen's exact test of homogeneous odds ratios", ("zelen-1971",))),
+    (("strata",), "sum of the dose scores",
+     Method("exact conditional trend test within strata", ("cochran-1954", "armitage-1955",
+                                                           "mantel-1963"))),
+    (("rates",), "first group's events",
+     Method("exact conditional test of the rate ratio", ())),
+    (("rates",), "count of events", Method("exact Poisson test", ())),
+    (("dose-response",), "sum of",
+     Method("exact conditional logistic (score) test", ("cox-1970", "hirji-mehta-patel-1987"))),
 ]
 
 # normal-theory counterparts and intervals: (start of the words) -> source keys
@@ -236,6 +308,7 @@ _NORMAL = [("Dunnett", ("dunnett-1955",)), ("Williams", ("williams-1971",)),
            ("Brunner-Munzel", ("brunner-munzel-2000",)),
            ("Welch one-way", ("welch-1951",)), ("Welch t", ("welch-1947",)),
            ("one-sample t", ("student-1908",)), ("one-way ANOVA", ("fisher-1925",)),
+           ("two-way ANOVA", ("fisher-1925",)), ("ANCOVA", ("fisher-1925",)),
            ("Kruskal-Wallis", ("kruskal-wallis-1952",)),
            ("chi-square approximation to Friedman", ("friedman-1937",)),
            ("normal approximation to Page", ("page-1963",)),
@@ -245,7 +318,11 @@ _NORMAL = [("Dunnett", ("dunnett-1955",)), ("Williams", ("williams-1971",)),
            ("Fisher's z", ("fisher-1915",)), ("Fisher z", ("fisher-1915",)),
            ("HC3", ("mackinnon-white-1985",)), ("Clopper-Pearson", ("clopper-pearson-1934",)),
            ("Hodges-Lehmann", ("hodges-lehmann-1963",)),
-           ("linear-by-linear", ("cochran-1954",))]
+           ("linear-by-linear", ("cochran-1954",)),
+           ("Mantel-Haenszel", ("mantel-haenszel-1959",)), ("Breslow-Day", ("breslow-day-1980",)),
+           ("Newcombe", ("newcombe-1998",)), ("Miettinen-Nurminen", ("miettinen-nurminen-1985",)),
+           ("Chan & Zhang", ("chan-zhang-1999", "santner-snell-1980")),
+           ("Garwood", ("garwood-1936",)), ("Cochran-Armitage", ("armitage-1955",))]
 
 _ADJUSTMENTS = [("max-t", ("westfall-young-1993",)), ("min-p", ("westfall-young-1993",)),
                 ("holm", ("holm-1979",)), ("bonferroni", ("holm-1979",)),
@@ -263,6 +340,10 @@ def method_of(record: dict) -> Method:
     if family == "lowest effective dose":
         return Method(record.get("test", "step-down trend test"),
                       ("tukey-ciminera-heyse-1985",))
+    if family == "two factors":
+        return Method("two-way permutation ANOVA (restricted permutation for the main effects, "
+                      "Freedman-Lane residual permutation for the interaction)",
+                      ("anderson-ter-braak-2003", "freedman-lane-1983"))
     if family == "robustness":
         a = record.get("analysis", {})
         inner = method_of({"family": a.get("family", ""),
@@ -293,7 +374,8 @@ def sources_for(records) -> list:
         if "error" in r or "plan" in r:
             continue
         keys += method_of(r).sources
-        for nt in [r.get("normal_theory")] + list(r.get("normal_theory_also") or []):
+        terms = [t.get("normal_theory") for t in r.get("terms") or []]   # two factors
+        for nt in [r.get("normal_theory")] + list(r.get("normal_theory_also") or []) + terms:
             if nt:
                 keys += normal_sources(nt.get("test", ""))
         for part in (r.get("estimate") or {}, r.get("normal_interval") or {}):

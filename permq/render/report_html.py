@@ -88,7 +88,8 @@ def methods_paragraph(records) -> str:
         item = m.name + _cite(m.sources)
         if item not in tests:
             tests.append(item)
-        for nt in [r.get("normal_theory")] + list(r.get("normal_theory_also") or []):
+        terms = [t.get("normal_theory") for t in r.get("terms") or []]     # two factors
+        for nt in [r.get("normal_theory")] + list(r.get("normal_theory_also") or []) + terms[:1]:
             if nt:
                 item = nt["test"] + _cite(normal_sources(nt["test"]))
                 if item not in normals:

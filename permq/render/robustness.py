@@ -42,7 +42,8 @@ def robustness_block(rr, color: bool = False) -> str:
                      f"{fmt.p(obs.outcome.p_value)} "
                      f"({'exact' if obs.outcome.method == 'exact' else 'Monte Carlo'}){normal}")
     lines.append(f"  {'significance':<15}{_pct(rr.significance)} ({rr.alternative}); "
-                 f"{rr.datasets:,} data sets a {column_words(rr)['law']}; seed {rr.seed}")
+                 f"{rr.datasets:,} data sets a {column_words(rr)['law']}; "
+                 f"{fmt.seed(rr.seed, rr.seed_source)}")
     lines.append(f"  {column_words(rr)['shift']:<15}{rr.shift_words}")
     lines.append(f"  {'simulated test':<15}{rr.reference}")
     lines.extend(_table(rr, color))

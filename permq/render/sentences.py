@@ -46,6 +46,10 @@ def sentence(record: dict) -> str:
         return ""
     if record.get("family") in SEVERAL:
         return _several(record)
+    if record.get("family") == "two factors":
+        from .factorial import sentence as factorial_sentence
+
+        return factorial_sentence(record)
     if record.get("family") == "robustness":
         return _robustness(record)
     return _single(record)
@@ -111,7 +115,9 @@ def _single(r: dict) -> str:
         parts.append(_estimate_clause(est, r.get("effect", "")))
     parts.append(_test_clause(r, lead=est is None))
     nt = r.get("normal_theory")
-    if nt:
+    if nt and nt.get("undefined"):
+        parts.append(f"{nt['test']} is undefined here ({nt['undefined']})")
+    elif nt:
         parts.append(f"{nt['test']} gives p = {fmt.p(nt['p_value'])}")
     effects = _effects_clause(r)
     if effects:
@@ -159,7 +165,30 @@ def _reference_words(r: dict) -> str:
         if name.startswith("discordant pairs"):
             return f"from the binomial law of the {n - 1:,} discordant pairs"
         return f"over {fmt.count(n)} tables with the observed margins"
-    return f"over {fmt.count(n)} arrangements"
+    words = _event_reference(r["family"], name, n)
+    return words if words else f"over {fmt.count(n)} arrangements"
+
+
+def _event_reference(family: str, name: str, n) -> str:
+    """How the count forms' exact tests reach their p-values, in words."""
+    if family == "two-proportions":
+        if name.startswith("top-left count"):
+            return f"over {fmt.count(n)} tables with the observed margins"
+        return (f"over the {fmt.count(n)} outcomes of the two samples, the largest over the "
+                "common proportion")
+    if family == "strata":
+        if name.startswith("probability of the strata"):
+            return f"over the {fmt.count(n)} configurations with the observed total"
+        if name.startswith("sum of the dose scores"):
+            return f"over {fmt.count(n)} choices of the event units within the strata"
+        return f"over {fmt.count(n)} values of the statistic given every stratum's margins"
+    if family == "rates":
+        if name.startswith("first"):
+            return f"over the {fmt.count(n)} splits of the total (binomial)"
+        return f"from the Poisson law at the reference rate ({fmt.count(n)} counts, from 0)"
+    if family == "dose-response":
+        return f"over {fmt.count(n)} choices of the event units given their number"
+    return ""
 
 
 def _effects_clause(r: dict) -> str:

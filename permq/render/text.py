@@ -3,10 +3,12 @@ from __future__ import annotations
 
 import re
 
+from ..result_factorial import FactorialResult
 from ..result_many import ManyResult
 from ..result import Failure, Note, Result
 from ..robustness.result import RobustnessResult
 from . import numbers as fmt
+from .counts import count_lines, data_lines
 from .robustness import diagnostics_line, null_picture_block, robustness_block
 
 BOLD, DIM, RED, RESET = "\x1b[1m", "\x1b[2m", "\x1b[31m", "\x1b[0m"
@@ -20,6 +22,13 @@ def _df(nt) -> str:
     return f", df {fmt.df(nt.df)}"
 
 
+def _statistic(nt) -> str:
+    """'3.817, df 9.54', or 'undefined (zero spread)' where the test is not defined."""
+    if nt.undefined:
+        return f"undefined ({nt.undefined})"
+    return f"{fmt.num(nt.statistic)}{_df(nt)}"
+
+
 def render(outputs, color: bool = False) -> str:
     return "\n".join(render_one(o, color) for o in outputs)
 
@@ -29,6 +38,10 @@ def render_one(o, color: bool = False) -> str:
         from .many import text_block
 
         return text_block(o, color, BOLD, DIM, RESET)
+    if isinstance(o, FactorialResult):
+        from .factorial import text_block as factorial_block
+
+        return factorial_block(o, color, BOLD, DIM, RESET)
     if isinstance(o, Result):
         return result_block(o, color) + "".join(ln + "\n" for ln in null_picture_block(o))
     if isinstance(o, RobustnessResult):
@@ -48,54 +61,82 @@ def result_block(r: Result, color: bool = False) -> str:
     o, nt, est = r.outcome, r.normal, r.estimate
     lines = [_c(fmt.heading(r.statement), BOLD, color)]
     lines.append(f"{r.family} · {o.statistic_name} · effect: {r.effect}")
-    if r.groups:
-        for i, g in enumerate(r.groups):
-            label = "groups" if i == 0 else ""
-            sd = f"  sd {fmt.num(g['sd'])}" if g.get("sd") is not None else ""
-            lines.append(f"  {label:<15}{g['name']:<16} n {g['n']:<4} mean {fmt.num(g['mean']):<9}"
-                         f" median {fmt.num(g['median'])}{sd}")
+    lines.extend(group_lines(r))
     if "table" in r.extra:
         lines.extend(table_lines(r.extra["table"]))
+    lines.extend(data_lines(r))
     lines.append(f"  {'statistic':<15}{fmt.num(o.statistic, 6)}")
     method_word = "exact" if o.method == "exact" else "Monte Carlo"
     lines.append(f"  {'':<15}{'permutation (' + method_word + ')':<28}normal theory")
     p_label = f"p ({r.alternative})"
-    normal_p = fmt.p(nt.p_value) if nt else "-"
-    exact_p = fmt.p(o.p_value)
-    if o.method != "exact" and o.p_interval:
-        exact_p += f" ±{fmt.p(max(o.p_value - o.p_interval[0], o.p_interval[1] - o.p_value))}"
+    normal_p = fmt.normal_p(nt)
+    exact_p = fmt.p(o.p_value) if o.method == "exact" else fmt.sampled_p(o.p_value, o.p_interval)
     lines.append(_c(f"  {p_label:<15}{exact_p:<28}{normal_p}", BOLD, color))
+    if o.method != "exact" and o.draws and fmt.as_extreme(o.p_value, o.draws) == 0:
+        lines.append(f"  {'':<15}no draw as extreme as the observed: p = 1 / ({o.draws:,} + 1)")
     if nt:
-        lines.append(f"  {'':<15}normal theory: {nt.test}: {fmt.num(nt.statistic)}{_df(nt)}")
+        lines.append(f"  {'':<15}normal theory: {nt.test}: {_statistic(nt)}")
     for extra in r.also_normal:
-        df = _df(extra)
-        lines.append(f"  {'also':<15}p {fmt.p(extra.p_value)} from {extra.test}: "
-                     f"{fmt.num(extra.statistic)}{df}")
+        if extra.undefined:
+            lines.append(f"  {'also':<15}{extra.test}: {_statistic(extra)}")
+        else:
+            lines.append(f"  {'also':<15}p {fmt.p(extra.p_value)} from {extra.test}: "
+                         f"{_statistic(extra)}")
     if est is not None:
         lines.append(f"  {'estimate':<15}{est.name} = {fmt.num(est.value)}")
         lvl = f"{est.level * 100:g}% interval"
         exact_iv = fmt.interval(est.interval) if est.interval is not None else "none"
         normal_iv = fmt.interval(nt.interval) if nt and nt.interval is not None else "-"
-        robust = [x for x in r.also_normal if x.interval is not None]
-        if robust:
-            normal_iv += f"  {fmt.interval(robust[0].interval)} {robust[0].interval_method}"
         lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
         lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
+        for x in r.also_normal:          # further textbook intervals, one line each
+            if x.interval is not None:
+                lines.append(f"  {'also':<15}{lvl} {fmt.interval(x.interval)}: "
+                             f"{x.interval_method}")
+    lines.extend(count_lines(r))
     lines.extend(effect_size_lines(r))
     if diagnostics_line(r):
         lines.append(diagnostics_line(r))
-    if o.method == "exact":
+    if o.method == "exact" and (o.arrangements is None or o.arrangements == float("inf")):
+        how = f"exact: {o.algorithm}"
+    elif o.method == "exact":
         how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
     else:
-        lo, hi = o.p_interval
-        how = (f"Monte Carlo: {o.draws:,} draws, seed {o.seed}; "
-               f"99% interval for p [{fmt.p(lo)}, {fmt.p(hi)}]")
+        b = fmt.as_extreme(o.p_value, o.draws)
+        how = (f"Monte Carlo: {o.draws:,} draws, {f'{b:,}' if b else 'none'} as extreme as the "
+               f"observed; {fmt.seed(o.seed, r.seed_source)}")
     lines.append(f"  {'method':<15}{how}")
+    if o.method != "exact":
+        lines.append(_c(f"  {'':<15}p = (b + 1) / (m + 1) for b of m draws as extreme; in "
+                        "brackets its 99% interval for the exact p", DIM, color))
     if r.alternative == "two-sided" and r.two_sided_rule:
         lines.append(_c(f"  {'':<15}{r.two_sided_rule}", DIM, color))
     for w in list(r.warnings) + list(o.warnings):
         lines.append(_c(f"  {'note':<15}{w}", DIM, color))
     return "\n".join(lines) + "\n"
+
+
+def group_lines(r: Result) -> list:
+    """n, mean, median and sd of each group, aligned; the numbers of one response share one
+    format: the data's own decimals plus one (`Result.summary_decimals`)."""
+    if not r.groups:
+        return []
+    places = r.summary_decimals or [None] * len(r.groups)
+
+    def show(v, d):
+        return fmt.fixed(v, d) if d is not None else fmt.num(v)
+
+    rows = [[g["name"], str(g["n"]), show(g["mean"], d), show(g["median"], d),
+             show(g["sd"], d) if g.get("sd") is not None else ""]
+            for g, d in zip(r.groups, places)]
+    w = [max(len(row[i]) for row in rows) for i in range(5)]
+    out = []
+    for i, row in enumerate(rows):
+        label = "groups" if i == 0 else ""
+        sd = f"  sd {row[4]:>{w[4]}}" if row[4] else ""
+        out.append(f"  {label:<15}{row[0]:<{max(w[0], 15)}}  n {row[1]:>{w[1]}}  mean "
+                   f"{row[2]:>{w[2]}}  median {row[3]:>{w[3]}}{sd}")
+    return out
 
 
 def effect_size_lines(r: Result) -> list:

@@ -19,13 +19,13 @@ permutations, so the p-value is unchanged) when there are at most EXACT_LIMIT of
 """
 from __future__ import annotations
 
-import itertools
 from dataclasses import dataclass
 from math import comb
 from typing import Optional
 
 import numpy as np
 
+from ..engine.core.enumeration import distinct_arrangements  # noqa: F401  (used and re-exported)
 from .problem import Problem
 
 EXACT_LIMIT = 20_000
@@ -74,24 +74,6 @@ def reference_size(problem: Problem) -> int:
     for units in _strata(problem):
         out *= _multinomial(codes[units])
     return out
-
-
-def distinct_arrangements(codes: np.ndarray) -> np.ndarray:
-    """Every distinct arrangement of the multiset `codes`, one row each."""
-    codes = np.asarray(codes, dtype=np.int64)
-    n = len(codes)
-    values, counts = np.unique(codes, return_counts=True)
-    rows = np.full((1, n), -1, dtype=np.int64)
-    for v, c in zip(values[:-1], counts[:-1]):
-        free = np.nonzero(rows == -1)[1].reshape(len(rows), -1)
-        combos = np.array(list(itertools.combinations(range(free.shape[1]), int(c))),
-                          dtype=np.int64)
-        reps = np.repeat(rows, len(combos), axis=0)
-        where = free[:, combos].reshape(len(reps), int(c))
-        reps[np.arange(len(reps))[:, None], where] = v
-        rows = reps
-    rows[rows == -1] = values[-1]
-    return rows
 
 
 def _within_strata(problem: Problem, codes: np.ndarray) -> np.ndarray:

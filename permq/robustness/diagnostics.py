@@ -3,8 +3,9 @@
 `diagnostics(design, result, level)` gives, as plain data for `Result.extra["diagnostics"]`:
 
 - skewness: the adjusted Fisher-Pearson skewness G1 of the residuals (values minus their
-  group mean; differences minus their mean; residuals about the least-squares line or the
-  additive fit of blocks and treatments), None with fewer than three;
+  group mean; differences minus their mean; residuals about the least-squares line, the
+  additive fit of blocks and treatments, or the analysis of covariance), None with fewer
+  than three;
 - largest_residual_sd: the largest |residual| divided by the residual standard deviation
   (residual sum of squares over its degrees of freedom);
 - spread_ratio: the largest group standard deviation over the smallest (for slopes: the
@@ -18,7 +19,6 @@ import math
 from typing import Optional
 
 import numpy as np
-from scipy import stats
 
 from ..bind import designs
 
@@ -32,12 +32,25 @@ def diagnostics(design, result, level: float = LEVEL) -> dict:
     if resid is not None and len(resid) >= 3 and df > 0:
         sd = math.sqrt(float(resid @ resid) / df)
         if sd > 1e-12 * max(1.0, float(np.abs(resid).max())):
-            out["skewness"] = float(stats.skew(resid, bias=False))
+            out["skewness"] = skewness(resid)
             out["largest_residual_sd"] = float(np.abs(resid).max() / sd)
     p, q = result.outcome.p_value, result.normal.p_value if result.normal else None
     if q is not None and np.isfinite(q) and np.isfinite(p):
         out["disagree"] = bool((p <= level) != (q <= level))
     return out
+
+
+def skewness(r) -> Optional[float]:
+    """The adjusted Fisher-Pearson skewness G1, as scipy.stats.skew(r, bias=False) computes it
+    (the same steps, so the same number; here so that no statement waits for scipy.stats)."""
+    r = np.asarray(r, dtype=float)
+    n = r.size
+    d = r - r.mean()
+    m2 = np.mean(d ** 2)
+    m3 = np.mean(d ** 2 * d)
+    if n < 3 or m2 <= (np.finfo(float).resolution * 10 * r.mean()) ** 2:
+        return None if n < 3 else float("nan")
+    return float(np.sqrt((n - 1.0) * n) / (n - 2.0) * m3 / m2 ** 1.5)
 
 
 def attach(design, result, level: float = LEVEL) -> None:
@@ -73,6 +86,8 @@ def _residuals(design):
         return _group_residuals(design)
     if isinstance(design, designs.AssociationDesign):
         return _line_residuals(design)
+    if isinstance(design, designs.AdjustedDesign):
+        return _adjusted_residuals(design)
     return None, 0, None, None
 
 
@@ -92,6 +107,20 @@ def _group_residuals(design):
     if getattr(design, "blocks", None) is not None:
         what = "residual standard deviations of the groups (additive fit), largest over smallest"
     return r, df, _ratio(sds), what
+
+
+def _adjusted_residuals(design):
+    """Residuals of the analysis of covariance (groups and covariates)."""
+    v, g = design.values, design.groups
+    k = int(g.max()) + 1
+    X = np.column_stack([np.ones(len(v)), design.covariates] +
+                        [(g == i).astype(float) for i in range(1, k)])
+    coef, *_ = np.linalg.lstsq(X, v, rcond=None)
+    r = v - X @ coef
+    sds = [np.std(r[g == i], ddof=1) if np.sum(g == i) > 1 else np.nan for i in range(k)]
+    return (r, len(v) - np.linalg.matrix_rank(X), _ratio(sds),
+            "residual standard deviations of the groups (analysis of covariance), largest "
+            "over smallest")
 
 
 def _line_residuals(design):

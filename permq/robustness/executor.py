@@ -8,20 +8,18 @@ panel as a picture file; the session writes it.
 from __future__ import annotations
 
 import dataclasses
-import re
 import time
 from typing import Optional
 
 from ..bind import designs
 from ..bind.binder import bind
-from ..engine.montecarlo import sampling
 from ..errors import BindError
 from ..families.registry import family_for
 from ..result import Note
 from ..syntax import nodes as n
-from ..syntax.parser import one_line
 from . import laws, report
 from .tables import check as table_check
+from .tables import events as event_check
 from .arrangements import EXACT_LIMIT, reference_size
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
@@ -74,19 +72,22 @@ def without_check_options(node):
                                                    if o.key not in OPTIONS))
 
 
-def run(node: n.Robustness, text: str, catalog, defaults, progress):
+def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
+    """`seed` is the statement's, decided by the pipeline (`pipeline.seed_for`)."""
     inner = node.analysis
     check = check_settings(n.options_of(inner))
     design = bind(without_check_options(inner), catalog, defaults)
-    seed = design.settings.seed if design.settings.seed is not None else sampling.fresh_seed()
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
-    if isinstance(design, designs.TableDesign):
-        effect = _table_effect(design, check, inner)    # before the analysis runs
+    counts = event_check.view(design)       # the event forms, seen as tables of counts
+    if counts is not None or isinstance(design, designs.TableDesign):
+        target = design if counts is None else counts
+        effect = _table_effect(target, check, inner)    # before the analysis runs
         observed = _observed(design, text, progress, check)
-        return table_check.check_table(text, design, observed, check, int(seed), progress,
+        tests = None if counts is None else event_check.tests_for(counts, (check.alpha,))
+        return table_check.check_table(text, target, observed, check, int(seed), progress,
                                        null_picture(design, observed.outcome, int(seed)),
-                                       list(design.warnings), effect)
+                                       list(design.warnings), effect, tests)
     problem = problem_for(design)
     pattern, shift, shift_sd = pattern_for(problem, check.shift)
     observed = _observed(design, text, progress, check)
@@ -106,17 +107,19 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress):
                         _shift_words(problem, check.shift, shift, shift_sd), picture, warnings)
 
 
-def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
+def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note:
     """`explain robustness STATEMENT`: the analysis's plan and what the check would do, with
     its time estimated from a pilot of one block of data sets under one law (continuous
     responses; for counts the time depends on how many sets of margins the schemes give)."""
     inner = node.analysis
     check = check_settings(n.options_of(inner))
     design = bind(without_check_options(inner), catalog, defaults)
+    design = dataclasses.replace(design, settings=dataclasses.replace(design.settings, seed=seed))
     the_plan = family_for(design).plan(design)
     seconds = None
-    if isinstance(design, designs.TableDesign):
-        _table_effect(design, check, inner)
+    counts = event_check.view(design)
+    if counts is not None or isinstance(design, designs.TableDesign):
+        _table_effect(design if counts is None else counts, check, inner)
         what = (f"the check: {check.datasets:,} simulated tables a sampling scheme, under the "
                 "null and at the effect, each given the exact test; its time depends on how "
                 "many sets of margins the schemes give, so it is not estimated")
@@ -132,7 +135,7 @@ def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
         seconds = (time.perf_counter() - started) * len(panel) * check.datasets / BLOCK
         what = (f"the check: {len(panel)} error laws x {check.datasets:,} data sets, under the "
                 f"null and at the shift, each tested against {ref}; about {seconds:.2g} s "
-                f"(timed on a pilot of {BLOCK} data sets)")
+                f"(timed on a pilot of {BLOCK:,} data sets)")
     return Note(text, f"{the_plan}\n{what}",
                 {"plan": str(the_plan), "method": the_plan.method,
                  "algorithm": the_plan.chosen.description, "check": what,
@@ -142,6 +145,8 @@ def explain(node: n.Robustness, text: str, catalog, defaults) -> Note:
 def _table_effect(design, check, inner):
     """The effect of a count design's check; a `shift` that does not fit is marked."""
     try:
+        if event_check.is_view(design):
+            return event_check.effect_for(design, check.shift)
         return table_check.effect_for(design, check.shift)
     except BindError as err:
         shift = n.options_of(inner).get("shift")
@@ -176,6 +181,6 @@ def _g(v: float) -> str:
 
 def replayable(text: str, result) -> str:
     """The statement with its seed pinned, so that a replay gives the same numbers."""
-    if re.search(r"\bseed\s+\d+", text):
-        return text
-    return one_line(text) + f" seed {result.seed}"
+    from ..plan.seeds import pinned
+
+    return pinned(text, result.seed)

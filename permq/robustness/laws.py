@@ -28,7 +28,7 @@ from functools import lru_cache
 from typing import Callable, Optional
 
 import numpy as np
-from scipy import integrate, optimize, stats
+from ..lazy import integrate, optimize, stats
 
 SPREAD_RATIO = 3.0
 CONTAMINATION = 0.05

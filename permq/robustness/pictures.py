@@ -34,7 +34,7 @@ def null_picture(design, outcome, seed: Optional[int] = None, bins: int = BINS,
             problem = problem_for(design)
         except PermqError:
             return None
-        seed = seed if seed is not None else (outcome.seed or sampling.fresh_seed())
+        seed = sampling.require_seed(seed if seed is not None else outcome.seed)
         support = sampled_statistics(problem, data_row(design), seed, draws)
         probs = np.full(len(support), 1.0 / len(support))
         source = f"Monte Carlo, {draws:,} random arrangements (seed {seed})"
@@ -97,7 +97,7 @@ def reported(problem: Problem, a: np.ndarray, t: np.ndarray) -> np.ndarray:
 
 def attach(design, result) -> None:
     """Put the null-distribution picture into `result.extra` (a statement with `picture`)."""
-    pic = null_picture(design, result.outcome)
+    pic = null_picture(design, result.outcome, design.settings.seed)
     if pic is None:
         result.warnings.append("no picture: the null distribution is not kept for this method")
     else:

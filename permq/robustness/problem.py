@@ -81,6 +81,8 @@ def problem_for(design) -> Problem:
         from .control import control_problem
 
         pb = control_problem(design, check)
+    elif isinstance(design, designs.AdjustedDesign):
+        pb = _adjusted(design, check)
     else:
         raise PlanError(f"robustness is not available for {design.kind} analyses",
                         hint="it covers comparisons, relations and tables")
@@ -269,6 +271,39 @@ def _adjusted_slope(d) -> Problem:
                    basis=rm.basis, residual_df=rm.df)
 
 
+def _adjusted(d, check: Check) -> Problem:
+    """Groups adjusted for covariates: the groups' layout, `basis` the orthonormal columns of
+    [1, Z]. Simulated without covariate effects: the residuals on [1, Z] and the analysis of
+    covariance are unchanged by adding any combination of the covariates to y."""
+    v, g = d.values, d.groups
+    n, k = len(v), len(d.labels)
+    u, s, _ = np.linalg.svd(np.column_stack([np.ones(n), d.covariates]), full_matrices=False)
+    q = u[:, s > 1e-10 * s[0]]
+    dummies = (g[:, None] == np.arange(k)[None, :]).astype(float)
+    X = np.column_stack([q, dummies[:, 1:]])
+    coef, *_ = np.linalg.lstsq(X, v, rcond=None)
+    df = n - int(np.linalg.matrix_rank(X))
+    if df < 1:
+        raise PlanError("robustness needs residual degrees of freedom in the analysis of "
+                        "covariance")
+    resid = v - X @ coef
+    sd = float(np.sqrt(resid @ resid / df))
+    effects = np.r_[0.0, coef[q.shape[1]:]]            # group effects against the first
+    names = ", ".join(d.covariate_names)
+    shape = " + ".join(str(c) for c in np.bincount(g))
+    if k == 2:
+        effect, unit = float(-effects[1]), (g == 0).astype(float)
+        words = f"difference {d.labels[0]} - {d.labels[1]} adjusted for {names}"
+        kind, weights = "two-sample", unit
+    else:
+        effect, unit = float(np.ptp(effects)), (np.arange(k) / (k - 1) - 0.5)[g]
+        words, kind, weights = f"range of the group effects adjusted for {names}", "k-sample", None
+    return Problem(kind, "", d.settings.alternative, check.form, g.copy(), weights, None, sd,
+                   "residual sd of the analysis of covariance", effect, words,
+                   (effects[g] - effects[g].mean()) / _safe(sd), unit,
+                   f"{k} groups of {shape} adjusted for {names}", sd, basis=q)
+
+
 def _safe(sd: float) -> float:
     return sd if sd > 0 and np.isfinite(sd) else np.nan
 
@@ -279,6 +314,6 @@ def data_row(design) -> np.ndarray:
         return np.r_[design.x, design.y]
     if isinstance(design, designs.OneSampleDesign):
         return np.asarray(design.d, dtype=float)
-    if isinstance(design, (designs.GroupsDesign, designs.ControlDesign)):
+    if isinstance(design, (designs.GroupsDesign, designs.ControlDesign, designs.AdjustedDesign)):
         return np.asarray(design.values, dtype=float)
     return np.asarray(design.y, dtype=float)

@@ -84,6 +84,7 @@ class RobustnessResult:
     warnings: list = field(default_factory=list)
     line: Optional[int] = None
     counts: bool = False         # a check of counts: sampling schemes, not error laws
+    seed_source: str = ""        # how the seed was had: given, statement, fresh (plan/seeds.py)
 
     def to_dict(self) -> dict:
         obs = self.observed

@@ -19,7 +19,9 @@ FAMILY_PLACEHOLDER = '"<families from the registry>"'
 
 def grammar_file_text() -> str:
     """The grammar as shipped (with the placeholder for the family words)."""
-    packaged = resources.files("permq").joinpath("_grammar").joinpath(GRAMMAR_FILE)
+    packaged = Path(__file__).resolve().parents[1] / "_grammar" / GRAMMAR_FILE   # in a wheel
+    if not packaged.is_file() and not Path(__file__).is_file():   # a zipped install
+        packaged = resources.files("permq").joinpath("_grammar").joinpath(GRAMMAR_FILE)
     if packaged.is_file():
         return packaged.read_text(encoding="utf-8")
     checkout = Path(__file__).resolve().parents[2] / "grammar" / GRAMMAR_FILE

@@ -73,11 +73,11 @@ def _candidate_words(expected) -> list[str]:
 # Options the grammar accepts after every analysis but only some statements take (the binder
 # refuses them elsewhere): left out of "expected ..." lists where they cannot apply.
 _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
-               "significance": ("robustness",), "adjusting": ("relate",),
+               "significance": ("robustness",), "adjusting": ("relate", "compare"),
                "adjust": ("compare",), "pairwise": ("compare",), "for": ("compare",),
                "top": ("compare",), "below": ("compare",), "levels": ("compare", "count"),
                "rows": ("count",), "columns": ("count",),
-               "within": ("compare",), "ordered": ("compare", "count"),
+               "within": ("compare", "count"), "ordered": ("compare", "count"),
                "paired": ("compare", "count"), "against": ("compare",)}
 
 

@@ -65,6 +65,16 @@ class Grouped:
 
 
 @dataclass(frozen=True)
+class Crossed:
+    """`compare Y by A and B`: one response, two crossed factors."""
+
+    span: Span
+    response: object             # Name (Responses is refused by the binder)
+    first: Name
+    second: Name
+
+
+@dataclass(frozen=True)
 class Versus:
     span: Span
     operands: tuple
@@ -73,7 +83,7 @@ class Versus:
 @dataclass(frozen=True)
 class Compare:
     span: Span
-    subject: Union[Grouped, Versus]
+    subject: Union[Grouped, Crossed, Versus]
     options: tuple = ()
 
 
@@ -114,9 +124,29 @@ class CountProportion:
 
 
 @dataclass(frozen=True)
+class CountTwoProportions:
+    """`count 3 of 20 vs 9 of 21`."""
+
+    span: Span
+    first: tuple             # (successes, trials)
+    second: tuple
+
+
+@dataclass(frozen=True)
+class CountRates:
+    """`count 7 events in 120.5 vs 0.05` (one rate) or `... vs 2 events in 98` (two)."""
+
+    span: Span
+    counts: tuple            # one or two event counts
+    exposures: tuple
+    reference: Optional[float] = None   # one rate: the reference rate
+
+
+@dataclass(frozen=True)
 class Count:
     span: Span
-    subject: Union[CountBy, CountVersus, CountInline, CountProportion]
+    subject: Union[CountBy, CountVersus, CountInline, CountProportion, CountTwoProportions,
+                   CountRates]
     options: tuple = ()
 
 
@@ -140,6 +170,7 @@ class Load:
     span: Span
     path: str
     alias: Optional[Name] = None
+    options: tuple = ()          # Option: delimiter, decimal, sheet (each a string)
 
 
 @dataclass(frozen=True)

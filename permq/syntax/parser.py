@@ -192,6 +192,9 @@ class _ToNodes(Transformer):
     def INT(self, tok):
         return _Lit(_tspan(tok), int(tok))
 
+    def DECIMAL(self, tok):
+        return _Lit(_tspan(tok), float(tok))
+
     def PERCENT(self, tok):
         return _Lit(_tspan(tok), n.Percent(float(str(tok)[:-1])))
 
@@ -200,7 +203,18 @@ class _ToNodes(Transformer):
         return children[0]
 
     def load(self, meta, ch):
-        return n.Load(_span(meta), ch[0].value, ch[1] if len(ch) > 1 else None)
+        alias = next((c for c in ch[1:] if isinstance(c, n.Name)), None)
+        options = tuple(c for c in ch[1:] if isinstance(c, n.Option))
+        return n.Load(_span(meta), ch[0].value, alias, options)
+
+    def delimiter(self, meta, ch):
+        return self._opt(meta, "delimiter", (ch[0].value, ch[0].span))
+
+    def decimal(self, meta, ch):
+        return self._opt(meta, "decimal", (ch[0].value, ch[0].span))
+
+    def sheet(self, meta, ch):
+        return self._opt(meta, "sheet", (ch[0].value, ch[0].span))
 
     def use(self, meta, ch):
         return n.Use(_span(meta), ch[0])
@@ -247,6 +261,9 @@ class _ToNodes(Transformer):
     def grouped(self, meta, ch):
         return n.Grouped(_span(meta), ch[0], ch[1])
 
+    def crossed(self, meta, ch):
+        return n.Crossed(_span(meta), ch[0], ch[1], ch[2])
+
     def response_list(self, meta, ch):
         return n.Responses(_span(meta), tuple(ch))
 
@@ -289,8 +306,22 @@ class _ToNodes(Transformer):
         return _Lit(_span(meta), tuple(c.value for c in ch))
 
     def count_proportion(self, meta, ch):
-        value = ch[2].value if len(ch) > 2 else None
+        value = float(ch[2].value) if len(ch) > 2 else None
         return n.CountProportion(_span(meta), ch[0].value, ch[1].value, value)
+
+    def count_two_proportions(self, meta, ch):
+        return n.CountTwoProportions(_span(meta), (ch[0].value, ch[1].value),
+                                     (ch[2].value, ch[3].value))
+
+    def count_rate(self, meta, ch):
+        ch = [c for c in ch if not isinstance(c.value, str)]      # the word 'events'
+        reference = float(ch[2].value) if len(ch) > 2 else None
+        return n.CountRates(_span(meta), (ch[0].value,), (float(ch[1].value),), reference)
+
+    def count_two_rates(self, meta, ch):
+        ch = [c for c in ch if not isinstance(c.value, str)]
+        return n.CountRates(_span(meta), (ch[0].value, ch[2].value),
+                            (float(ch[1].value), float(ch[3].value)))
 
     # options -----------------------------------------------------------------
     def _opt(self, meta, key, value=True):
@@ -313,6 +344,9 @@ class _ToNodes(Transformer):
 
     def seed(self, meta, ch):
         return self._opt(meta, "seed", ch[0].value)
+
+    def seed_fresh(self, meta, ch):
+        return self._opt(meta, "seed", "fresh")
 
     def levels(self, meta, ch):
         return self._opt(meta, "levels", tuple((c.value, c.span) for c in ch))

@@ -8,14 +8,15 @@ from math import comb, factorial, prod
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...errors import DataError
 from ...result import EngineOutcome
 from ..core import pvalues
 from ..core.progress import Progress
-from ..montecarlo.draws import random_u32, shuffled_dots
-from ..montecarlo.sampling import blocks, iter_blocks
+from ..montecarlo.draws import KendallPairs, random_u32, shuffled_dots
+from ..montecarlo.draws import kendall_s as shuffled_kendall_s
+from ..montecarlo.sampling import iter_blocks
 
 STATISTICS = ("pearson", "spearman", "kendall", "slope")
 ALTERNATIVES = ("higher", "lower", "two-sided")
@@ -298,21 +299,15 @@ class Shuffler:
 
 
 def _run_monte_carlo(pb: Problem, alternative, draws, seed, progress) -> EngineOutcome:
-    if pb.statistic == "kendall":
-        b, done = 0, 0
-        shuffler = Shuffler(pb.moving)
-        for _, size, rng in blocks(seed, draws):
-            for blk in shuffler.draws(rng, size):
-                b += pvalues.exceedances(evaluate(pb, blk), pb.t_obs, alternative, 0.0, pb.scale)
-            done += size
-            progress.step(done / draws, "sampling")
-    else:   # linear statistics: compiled full shuffles, blocks on all cores
-        def work(size, rng):
-            r = random_u32(rng, size, max(1, len(pb.moving) - 1))
-            t = shuffled_dots(pb.moving, pb.fixed, r)
-            return pvalues.exceedances(t, pb.t_obs, alternative, 0.0, pb.scale)
+    # compiled full shuffles, blocks on all cores; Kendall's S in O(n log n) a draw
+    pairs = KendallPairs(pb.fixed, pb.moving) if pb.statistic == "kendall" else None
 
-        b = sum(iter_blocks(seed, draws, work, progress))
+    def work(size, rng):
+        r = random_u32(rng, size, max(1, len(pb.moving) - 1))
+        t = shuffled_kendall_s(pairs, r) if pairs else shuffled_dots(pb.moving, pb.fixed, r)
+        return pvalues.exceedances(t, pb.t_obs, alternative, 0.0, pb.scale)
+
+    b = sum(iter_blocks(seed, draws, work, progress))
     p, p_int = pvalues.monte_carlo_p(b, draws)
     return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), p, "monte-carlo",
                          DESCRIPTIONS["monte-carlo"], arrangements=_big(arrangements(pb.moving)),

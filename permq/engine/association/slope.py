@@ -119,9 +119,9 @@ def slope_estimate(sp: SlopePass, level: float, alternative: str) -> Estimate:
     lo, hi = interval_from_jumps(up, down, identity, sp.total, level, alternative)
     tails = "equal-tailed, " if alternative == "two-sided" else ""
     if sp.exact:
-        how = f"all {int(sp.total)} arrangements (exact)"
+        how = f"all {int(sp.total):,} arrangements (exact)"
     else:
-        how = f"the same {sp.draws} Monte Carlo arrangements for every slope (seed {sp.seed})"
+        how = f"the same {sp.draws:,} Monte Carlo arrangements for every slope (seed {sp.seed})"
     method = (f"inverting the permutation test of y - beta x against x ({tails}"
               f"read off exactly at the jumps), over {how}")
     return Estimate("slope of y on x", float(sp.pb.coefficient(sp.pb.t_obs)), (lo, hi),

@@ -28,7 +28,7 @@ from ...errors import BindError, PlanError
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
 from ..core.progress import NO_PROGRESS, Progress
-from ..montecarlo.sampling import fresh_seed
+from ..montecarlo.sampling import require_seed
 from .complete import (_complete_candidates, _complete_monte_carlo, _f_enumeration, _page_dp,
                        _quadratic_dp, prepare_complete)
 from .shared import COMPLETE, DEFAULT_DRAWS, STATISTIC_NAMES, STRATIFIED, TESTS, _check_alternative
@@ -81,7 +81,7 @@ def run(test, values, groups, blocks, alternative, algorithm, draws: Optional[in
     _require_feasible(prep, algorithm)
     if algorithm == "monte-carlo":
         draws = int(draws) if draws is not None else DEFAULT_DRAWS
-        seed = int(seed) if seed is not None else fresh_seed()
+        seed = require_seed(seed)
         if test in STRATIFIED:
             return _stratified_monte_carlo(prep, alternative, draws, seed, progress)
         return _complete_monte_carlo(prep, alternative, draws, seed, progress)

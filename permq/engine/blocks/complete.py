@@ -232,7 +232,7 @@ def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
     n = prep.b * prep.k
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
                          min(draws, 8192) * prep.k * 8 * 4, arrangements=total,
-                         note=f"{draws} draws"))
+                         note=f"{draws:,} draws"))
     return out
 
 

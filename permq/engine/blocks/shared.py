@@ -7,7 +7,7 @@ from math import ceil, floor
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...errors import BindError
 from ...result import EngineOutcome
@@ -27,8 +27,8 @@ COMPLETE = ("friedman", "within-block-f", "page")
 TESTS = STRATIFIED + COMPLETE
 
 STATISTIC_NAMES = {
-    "stratified-ranks": "stratified rank sum of group 0 (mid-ranks within blocks)",
-    "stratified-means": "stratified sum of group-0 values (within-block permutation)",
+    "stratified-ranks": "stratified rank sum of the first group (mid-ranks within blocks)",
+    "stratified-means": "stratified sum of the first group's values (within-block permutation)",
     "friedman": "Friedman chi-square (mid-ranks within blocks, tie-corrected)",
     "within-block-f": "F for treatments (additive two-way model, permuted within blocks)",
     "page": "Page's L (mid-ranks within blocks)",

@@ -134,7 +134,7 @@ def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
     n = sum(b.n for b in prep.blocks)
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
                          min(draws, 8192) * max(b.n for b in prep.blocks) * 8 * 4,
-                         arrangements=total, note=f"{draws} draws"))
+                         arrangements=total, note=f"{draws:,} draws"))
     return out
 
 

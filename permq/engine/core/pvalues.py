@@ -11,7 +11,7 @@
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ...normal.tails import beta_ppf
 
 RTOL = 1e-9
 
@@ -54,8 +54,8 @@ def monte_carlo_p(b: int, m: int, level: float = 0.99) -> tuple[float, tuple]:
     """(b + 1) / (m + 1) and a Clopper-Pearson interval for the underlying exact p."""
     p = (b + 1) / (m + 1)
     alpha = 1 - level
-    lo = 0.0 if b == 0 else float(stats.beta.ppf(alpha / 2, b, m - b + 1))
-    hi = 1.0 if b == m else float(stats.beta.ppf(1 - alpha / 2, b + 1, m - b))
+    lo = 0.0 if b == 0 else beta_ppf(alpha / 2, b, m - b + 1)
+    hi = 1.0 if b == m else beta_ppf(1 - alpha / 2, b + 1, m - b)
     return clip(p), (lo, hi)
 
 

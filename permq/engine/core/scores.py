@@ -7,18 +7,27 @@ data as recorded.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from math import gcd
-from functools import reduce
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 MAX_DECIMALS = 6
 
 
 def midranks(x) -> np.ndarray:
-    return stats.rankdata(np.asarray(x, dtype=float), method="average")
+    """Ranks 1..n, tied values sharing the mean of their ranks (as scipy.stats.rankdata's
+    'average'; computed here so that a rank test does not wait for scipy.stats to load)."""
+    x = np.asarray(x, dtype=float)
+    if not np.all(np.isfinite(x)):
+        return stats.rankdata(x, method="average")
+    order = np.argsort(x, kind="mergesort")
+    xs = x[order]
+    starts = np.flatnonzero(np.r_[True, xs[1:] != xs[:-1]])
+    ends = np.r_[starts[1:], x.size]
+    ranks = np.empty(x.size)
+    ranks[order] = np.repeat((starts + ends + 1) / 2.0, ends - starts)   # mean of start+1..end
+    return ranks
 
 
 def normal_scores(x) -> np.ndarray:
@@ -77,6 +86,6 @@ def integer_grid(scores, max_decimals: int = MAX_DECIMALS) -> Optional[Grid]:
             ints = rounded.astype(np.int64)
             low = int(ints.min())
             shifted = ints - low
-            g = reduce(gcd, (int(v) for v in np.unique(shifted) if v), 0) or 1
+            g = int(np.gcd.reduce(shifted)) or 1      # gcd of the non-zero steps
             return Grid(shifted // g, low / 10.0 ** d, g / 10.0 ** d, d)
     return None

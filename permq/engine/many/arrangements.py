@@ -9,7 +9,7 @@ same rows, so their joint distribution is kept.
   ones from the seeded blocks of `sampling`. With two groups the draws are the ones the
   two-sample engine takes (a partial Fisher-Yates shuffle of the units, first group first, by
   the multiply-shift map of `fastmc`); with three or more, the ones the k-sample engine takes
-  (a full shuffle of the units laid out group after group). So a response's Monte Carlo p-value
+  (a partial shuffle of the units laid out group after group, all but the last group's places). So a response's Monte Carlo p-value
   matches the one-response statement with the same seed and draws.
 """
 from __future__ import annotations
@@ -20,7 +20,7 @@ from typing import Iterator
 
 import numpy as np
 
-from ..montecarlo.draws import random_u32
+from ..montecarlo.draws import fisher_yates, random_u32
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import blocks
 
@@ -100,8 +100,10 @@ def sampled_windows(codes, seed: int, draws: int, window: int,
             first = _partial_shuffle(N, n1, random_u32(rng, size, n1))   # layout positions
             block[:] = 1
             block[np.arange(size)[:, None], order[first]] = 0
-        else:
-            perm = rng.permuted(np.tile(np.arange(N), (size, 1)), axis=1)
+        else:   # the k-sample engine's partial shuffle: the last group takes what is left
+            last = int(np.count_nonzero(codes == k - 1))
+            r = random_u32(rng, size, max(1, N - last))
+            perm = fisher_yates(N, max(1, N - last), r).T      # (size, N) positions
             block[np.arange(size)[:, None], order[perm]] = by_position[None, :]
         parts.append(block)
         held += size

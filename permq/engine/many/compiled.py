@@ -7,11 +7,12 @@ of the numpy path in `many_kernels`, so both give the same numbers.
 """
 from __future__ import annotations
 
-import numba
 import numpy as np
 
+from ..montecarlo.jit import njit
 
-@numba.njit(cache=True, nogil=True)
+
+@njit
 def row_statistics(members, r, yt, ot, totals, sizes, starts, inv_se, w, masked, mode, sign,
                    acc, cnt, out):  # pragma: no cover - compiled
     """Statistics of one arrangement on one tile (yt, ot: the tile's columns)."""
@@ -70,7 +71,7 @@ def row_statistics(members, r, yt, ot, totals, sizes, starts, inv_se, w, masked,
         out[j] = abs(z) if mode == 0 else z
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def row_pass(members, y, observed, totals, sizes, starts, inv_se, thr, edges, masked_tiles,
              mode, sign, step_down, marg, sd, carry):  # pragma: no cover - compiled
     rows = members.shape[0]
@@ -113,7 +114,7 @@ def row_pass(members, y, observed, totals, sizes, starts, inv_se, thr, edges, ma
             sd[c0 + j] += sdc[j]
 
 
-@numba.njit(cache=True, nogil=True)
+@njit
 def tile(members, y, observed, totals, sizes, starts, inv_se, c0, w, masked, mode, sign,
          out):  # pragma: no cover - compiled
     k = sizes.shape[0]

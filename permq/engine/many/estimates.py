@@ -14,7 +14,7 @@ from __future__ import annotations
 from functools import lru_cache
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ..rankintervals import mann_whitney_cdf
 

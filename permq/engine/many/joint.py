@@ -23,7 +23,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...plan.cost import Candidate
 from . import arrangements, kernels as kernels, multiplicity
@@ -88,7 +88,7 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
                      arrangements=total),
            Candidate("monte-carlo", "Monte Carlo joint draws (one arrangement for every test)",
                      False, ops(draws + 1), memory(draws + 1, False), arrangements=total,
-                     note=f"{draws} draws")]
+                     note=f"{draws:,} draws")]
     return out
 
 

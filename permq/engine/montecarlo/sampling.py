@@ -7,6 +7,8 @@ size or the number of workers. Block boundaries are where a cancel request takes
 from __future__ import annotations
 
 import secrets
+from contextlib import contextmanager
+from contextvars import ContextVar
 from typing import Callable, Iterator, Optional
 
 import numpy as np
@@ -18,8 +20,16 @@ BLOCK = STREAM_UNIT  # default batch size (how many draws are handled at once)
 
 
 def fresh_seed() -> int:
-    """A seed for a run where the user named none (reported, so that the run can be repeated)."""
+    """A new seed, for `seed fresh` (reported, so that the run can be repeated). Only
+    plan/seeds.py calls it: a statement's seed is decided once, before it is planned."""
     return secrets.randbelow(2 ** 31 - 1) + 1
+
+
+def require_seed(seed) -> int:
+    """The seed an engine was handed; engines never draw one of their own."""
+    if seed is None:
+        raise ValueError("Monte Carlo needs a seed; the pipeline decides it (plan/seeds.py)")
+    return int(seed)
 
 
 def blocks(seed: int, draws: int, block: int = BLOCK) -> Iterator[tuple[int, int, np.random.Generator]]:
@@ -30,6 +40,7 @@ def blocks(seed: int, draws: int, block: int = BLOCK) -> Iterator[tuple[int, int
     unit into several batches that share its generator, in order, so an engine that takes the
     same amount of randomness for each draw gets the same draws whatever the batch size.
     """
+    seed = require_seed(seed)
     done = 0
     unit = 0
     block = max(1, int(block))
@@ -47,10 +58,27 @@ def blocks(seed: int, draws: int, block: int = BLOCK) -> Iterator[tuple[int, int
 
 
 
+# `set workers N` for the statement being run (None: every core, up to 8)
+_WORKERS: ContextVar = ContextVar("permq_workers", default=None)
+
+
 def default_workers() -> int:
+    chosen = _WORKERS.get()
+    if chosen:
+        return int(chosen)
     import os
 
     return max(1, min(8, os.cpu_count() or 1))
+
+
+@contextmanager
+def using_workers(workers: Optional[int]):
+    """Run the statements inside on `workers` threads (None: every core)."""
+    token = _WORKERS.set(workers)
+    try:
+        yield
+    finally:
+        _WORKERS.reset(token)
 
 
 def iter_blocks(seed: int, draws: int, work: Callable, progress: "Progress" = NO_PROGRESS,

@@ -23,7 +23,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 import numpy as np
-from scipy.special import gammaln
+from ...lazy import gammaln
 
 from ..core.progress import NO_PROGRESS, Progress
 

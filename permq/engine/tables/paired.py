@@ -15,7 +15,7 @@ Clopper-Pearson interval (lo, hi) of b / m through pi / (1 - pi).
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import Estimate, EngineOutcome

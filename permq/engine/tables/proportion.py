@@ -13,7 +13,7 @@ at alpha / 2 (one bound at alpha for a one-sided alternative).
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import Estimate, EngineOutcome

@@ -12,13 +12,13 @@ has one row or one column left is the only table with its margins: p = 1.
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
 from ..core.pvalues import clip, monte_carlo_p
 from ..core.progress import NO_PROGRESS, Progress
-from ..montecarlo.sampling import fresh_seed, iter_blocks
+from ..montecarlo.sampling import iter_blocks, require_seed
 from .join import Turn
 from .network import NetworkTooLarge, count_tables, dense_size, forward, make_layout
 from .stats import NAMES, Prepared, check_choice, prepare
@@ -169,7 +169,7 @@ def null_distribution(table, statistic: str = "trend", row_scores=None, col_scor
 
 
 def _sampled(t, prep: Prepared, draws, seed, progress, warnings) -> EngineOutcome:
-    seed = fresh_seed() if seed is None else int(seed)
+    seed = require_seed(seed)
     dist = stats.random_table(t.sum(axis=1), t.sum(axis=0))
     def work(size, gen):
         tables = dist.rvs(size=size, method="patefield", random_state=gen)

@@ -20,7 +20,7 @@ from dataclasses import dataclass
 from typing import Optional
 
 import numpy as np
-from scipy.special import gammaln, xlogy
+from ...lazy import gammaln, xlogy
 
 from ..core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC, tolerance
 

@@ -18,8 +18,8 @@ from __future__ import annotations
 from math import comb
 
 import numpy as np
-from scipy.optimize import brentq
-from scipy.special import gammaln, logsumexp
+from ...lazy import brentq
+from ...lazy import gammaln, logsumexp
 
 from ...plan.cost import Candidate
 from ...result import Estimate, EngineOutcome

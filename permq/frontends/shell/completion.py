@@ -17,6 +17,8 @@ from typing import Optional
 from prompt_toolkit.completion import Completer, Completion
 
 from ...data.tables import READERS
+from ...data.order import natural_key
+from ...render.numbers import counted
 from . import notes, vocabulary as vocab
 from .scan import current_word, scan  # noqa: F401 - current_word is part of the API
 
@@ -77,6 +79,12 @@ def _unique(items: list[Suggestion]) -> list[Suggestion]:
     return out
 
 
+def _exposure_in(tokens, i) -> bool:
+    """`in` before a number is a rate's exposure (7 events in 120.5), not the `in TABLE` option."""
+    return (tokens[i].type == "IN" and i + 1 < len(tokens)
+            and tokens[i + 1].type in ("INT", "DECIMAL"))
+
+
 class _Context:
     """What the tokens so far say about the spot being completed."""
 
@@ -102,7 +110,7 @@ class _Context:
     # -- keywords and keyword sets ----------------------------------------------------------
     def keywords(self) -> list[Suggestion]:
         out = []
-        used = {t.type for t in self.tokens}
+        used = {t.type for i, t in enumerate(self.tokens) if not _exposure_in(self.tokens, i)}
         for term in self.terminals:
             if term in vocab.value_sets():
                 words = self._filtered_values(term)
@@ -135,7 +143,7 @@ class _Context:
         for name, table in self.catalog.tables.items():
             rows, cols = table.shape
             mark = " (in use)" if name == self.catalog.current else ""
-            out.append((quote_name(name), f"table · {rows} rows × {cols} columns{mark}"))
+            out.append((quote_name(name), f"table · {counted(rows, 'row')} × {counted(cols, 'column')}{mark}"))
         return out
 
     def alias_for_load(self) -> list[Suggestion]:
@@ -197,7 +205,7 @@ class _Context:
         out = []
         for lev in sorted(counts.index, key=natural_key):
             if lev not in given:
-                out.append((_quote_text(lev), f"level of {group} · {counts[lev]} rows"))
+                out.append((_quote_text(lev), f"level of {group} · {counted(counts[lev], 'row')}"))
         return out
 
     def paths(self, suffixes: tuple) -> list[Suggestion]:
@@ -276,9 +284,6 @@ def _name_text(tok) -> str:
     return s[1:-1] if tok.type == "QUOTED_NAME" else s
 
 
-def natural_key(text: str):
-    return [(0, int(p), "") if p.isdigit() else (1, 0, p.lower())
-            for p in re.split(r"(\d+)", text) if p]
 
 
 class ShellCompleter(Completer):

@@ -58,8 +58,13 @@ KEYWORDS = {
     "ordered": "ordered alternative (trend)",
     "paired": "paired columns",
     "in": "take the columns from a table",
-    "adjusting": "covariates for a slope",
+    "adjusting": "covariates (groups or a slope)",
     "against": "every other level against this control",
+    "and": "a second factor, crossed with the first",
+    "fresh": "a new seed on this run",
+    "delimiter": "field separator of a text file",
+    "decimal": "decimal mark: \".\" or \",\"",
+    "sheet": "which sheet of a workbook",
 }
 
 VALUES = {
@@ -85,6 +90,7 @@ VALUES = {
     },
     "STEP": {"step-down": "step-down procedure", "single-step": "single-step procedure"},
     "SHOWABLE": {"tables": "the loaded tables", "settings": "the session defaults"},
+    "EVENTS": {"events": "events in an exposure (a rate)", "event": "one event in an exposure"},
 }
 
 EXAMPLES = {

@@ -9,12 +9,14 @@ def table_part(session) -> str:
     if cat.current is None or cat.current not in cat.tables:
         return 'no table in use (load "file.csv")'
     rows, cols = cat.tables[cat.current].shape
-    return f"{cat.current}  {rows} rows × {cols} columns"
+    from ...render.numbers import counted
+
+    return f"{cat.current}  {counted(rows, 'row')} × {counted(cols, 'column')}"
 
 
 def defaults_part(session) -> str:
     d = session.defaults
-    seed = d.seed if d.seed is not None else "fresh"
+    seed = {"fresh": "fresh", None: "from statement"}.get(d.seed, d.seed)
     parts = [f"confidence {d.confidence * 100:g}%", f"seed {seed}", f"budget {d.budget_seconds:g} s"]
     if d.alternative != "two-sided":
         parts.append(f"alternative {d.alternative}")

@@ -28,8 +28,8 @@ correction, and the z of one proportion.
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
-from scipy.special import xlogy
+from ...lazy import stats
+from ...lazy import xlogy
 
 from ...engine.tables import (
     twobytwo as tables_2x2, paired as tables_paired, proportion as tables_proportion)
@@ -87,14 +87,14 @@ def pearson_p(tables) -> np.ndarray:
     e, df = _margins(t)
     with np.errstate(divide="ignore", invalid="ignore"):
         x2 = np.where(e > 0, (t - e) ** 2 / e, 0.0).sum(axis=(1, 2))
-    return np.where(df > 0, stats.chi2.sf(x2, np.maximum(df, 1)), 1.0)
+    return np.where(df > 0, stats.chi2.sf(x2, np.maximum(df, 1)), np.nan)   # undefined: no rejection
 
 
 def likelihood_ratio_p(tables) -> np.ndarray:
     t = np.asarray(tables, float)
     e, df = _margins(t)
     g2 = np.maximum(2.0 * (xlogy(t, t) - xlogy(t, e)).sum(axis=(1, 2)), 0.0)
-    return np.where(df > 0, stats.chi2.sf(g2, np.maximum(df, 1)), 1.0)
+    return np.where(df > 0, stats.chi2.sf(g2, np.maximum(df, 1)), np.nan)
 
 
 def trend_p(tables, alternative) -> np.ndarray:
@@ -115,7 +115,7 @@ def trend_p(tables, alternative) -> np.ndarray:
         p = stats.chi2.sf(m2, 1)
     else:
         p = z_tails(np.sign(r) * np.sqrt(m2), alternative)
-    return np.where(ok, p, 1.0)
+    return np.where(ok, p, np.nan)
 
 
 def log_odds_ratio_p(tables, alternative) -> np.ndarray:
@@ -135,7 +135,7 @@ def mcnemar_p(tables, alternative) -> np.ndarray:
         p = stats.chi2.sf(x2, 1)
     else:
         p = z_tails(np.sign(b - c) * np.sqrt(x2), alternative)
-    return np.where(m > 0, p, 1.0)
+    return np.where(m > 0, p, np.nan)
 
 
 def one_proportion_p(tables, p0, alternative) -> np.ndarray:

@@ -43,9 +43,10 @@ class Effect:
     null_effect: bool         # the effect is no effect at all (power = the rate under the null)
 
 
-def check_table(text, design, observed, check, seed, progress, picture, warnings, effect=None):
+def check_table(text, design, observed, check, seed, progress, picture, warnings, effect=None,
+                tests=None):
     effect = effect if effect is not None else effect_for(design, check.shift)
-    tests = CountTests(design)
+    tests = tests if tests is not None else CountTests(design)
     warnings = list(warnings)
     if effect.panel[0] is None and design.form == "table":
         warnings.append("both margins fixed: left out, the design has too many tables to "

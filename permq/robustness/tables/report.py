@@ -22,9 +22,23 @@ WHY_EXACT = {
     "paired": "given the discordant count, each discordant pair goes either way with chance "
               "1/2 there, the law the test conditions on",
     "proportion": "the count is binomial at the null value there, the law the test uses",
+    "rates": "the counts are Poisson there (and, given their total, binomial), the laws the "
+             "test uses",
+    "two-proportions": "the units are independent there: the samples' counts are binomial "
+                       "with a common chance, whose worst case the unconditional test takes "
+                       "(and, given both margins, the table is hypergeometric, as Fisher's "
+                       "test assumes)",
+    "dose-response": "the units are independent there, so given the margins the events fall "
+                     "on the units as a random choice, the law the conditional test uses",
+    "strata": "the units are independent there, so given its margins every stratum's table is "
+              "hypergeometric, the law the test conditions on",
+    "ordered-strata": "the units are independent there, so given its margins every stratum's "
+                      "events fall on its units as a random choice, the law the test uses",
 }
 MAIN_SCHEME = {"table": "rows-fixed", "paired": "independent-pairs",
-               "proportion": "independent-trials"}
+               "proportion": "independent-trials", "rates": "poisson",
+               "two-proportions": "rows-fixed", "dose-response": "rows-fixed",
+               "strata": "rows-fixed", "ordered-strata": "rows-fixed"}
 
 
 def _pct(alpha: float) -> str:
@@ -39,6 +53,14 @@ def counts_words(design) -> str:
         return f"expected successes {n * p0:.3g} and failures {n * (1 - p0):.3g} under the null"
     if design.form == "paired":
         return f"{int(t[0, 1] + t[1, 0])} discordant pairs"
+    if design.form == "rates":
+        return "events " + ", ".join(str(int(v)) for v in t.ravel())
+    if design.form in ("strata", "ordered-strata"):
+        small = []
+        for s in t.reshape(-1, design.groups, 2):
+            if s.sum() > 0:
+                small.append((np.outer(s.sum(axis=1), s.sum(axis=0)) / s.sum()).min())
+        return f"smallest expected count within a stratum {min(small):.3g}"
     keep = t[t.sum(axis=1) > 0][:, t.sum(axis=0) > 0]
     e = np.outer(keep.sum(axis=1), keep.sum(axis=0)) / keep.sum()
     small = int((e < 5).sum())
@@ -53,6 +75,15 @@ def design_words(design) -> str:
     if design.form == "paired":
         return (f"{int(t.sum())} pairs, {int(t[0, 1] + t[1, 0])} discordant "
                 f"(b = {int(t[0, 1])}, c = {int(t[1, 0])})")
+    if design.form in ("strata", "ordered-strata"):
+        k = design.groups
+        return (f"{t.shape[0] // k} strata of {k} groups"
+                + (", ordered" if design.form == "ordered-strata" else "")
+                + f", N = {int(t.sum())}")
+    if design.form == "rates":
+        what = " against ".join(design.col_labels)
+        return what + ("" if len(design.col_labels) > 1 else f", reference rate "
+                                                                f"{design.reference:g}")
     rows = ", ".join(str(int(v)) for v in t.sum(axis=1))
     from ..spec import check_for
 

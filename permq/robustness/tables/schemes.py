@@ -48,9 +48,9 @@ from dataclasses import dataclass
 from typing import Callable, Optional
 
 import numpy as np
-from scipy import stats
-from scipy.optimize import brentq
-from scipy.special import gammaln
+from ...lazy import stats
+from ...lazy import brentq
+from ...lazy import gammaln
 
 from ...engine.tables.network import dense_size, make_layout, moves
 
