@@ -4,8 +4,10 @@ test beside it.
 Oracles: a brute-force listing of every assignment of each step's units (itertools, in this
 file) with the trend recomputed in exact rational arithmetic (values, or mid-ranks re-ranked
 among the step's groups) and the closed-testing rule written out; the ordered-groups engine's
-exact trend law (its own dynamic programming over tie blocks) for the counting; the pooled t
-test (scipy) for Williams' statistic with one dose, where it reduces to the one-sided t.
+exact trend law (its own dynamic programming over tie blocks) for the counting;
+scipy.stats.permutation_test listing every partition of each step's units with the trend
+statistic; the pooled t test (scipy) for Williams' statistic with one dose, where it reduces to
+the one-sided t.
 """
 from __future__ import annotations
 
@@ -208,3 +210,31 @@ def test_sentences_name_the_steps_and_the_conclusion():
     assert "4 comparisons tested, max-t step-down adjustment" in many.sentence()
     rec = many.to_dict()
     assert rec["family"] == "many-to-one" and rec["normal_theory"]["test"].startswith("Dunnett")
+
+
+@pytest.mark.parametrize("alternative", ["greater", "less", "two-sided"])
+def test_each_step_against_scipy_permutation_test(alternative):
+    """Each step's exact p against scipy.stats.permutation_test listing every partition of the
+    step's units (permutation_type 'independent', n_resamples inf) with the trend statistic."""
+    scores = np.array([0.0, 5.0, 10.0, 20.0])
+    values = np.array([v for g in DATA for v in g])
+    codes = np.repeat(np.arange(4), [len(g) for g in DATA])
+    ours = {"greater": "higher", "less": "lower", "two-sided": "two-sided"}[alternative]
+    steps = stepdown.run(values, codes, scores, "means", ours, "dp-steps", 0, 0)
+    for st in steps:
+        samples = DATA[:st.top + 1]
+        d = scores[:st.top + 1]
+
+        def trend_sum(*groups, axis):
+            return sum(s * np.sum(g, axis=axis) for s, g in zip(d, groups))
+
+        ref = stats.permutation_test(samples, trend_sum, permutation_type="independent",
+                                     n_resamples=np.inf, alternative=alternative,
+                                     vectorized=True)
+        if alternative == "two-sided":      # scipy doubles the smaller tail; we compare |T - E0 T|
+            T, centre, _ = stepdown.trend_parts(values[codes <= st.top], codes[codes <= st.top], d)
+            null = ref.null_distribution
+            ref_p = np.mean(np.abs(null - centre) >= abs(T - centre) * (1 - 1e-12))
+        else:
+            ref_p = ref.pvalue
+        assert st.p_value == pytest.approx(ref_p, rel=1e-9), (st.top, alternative)
