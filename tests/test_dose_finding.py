@@ -212,17 +212,23 @@ def test_sentences_name_the_steps_and_the_conclusion():
     assert rec["family"] == "many-to-one" and rec["normal_theory"]["test"].startswith("Dunnett")
 
 
+@pytest.mark.parametrize("family", ["means", "ranks"])
 @pytest.mark.parametrize("alternative", ["greater", "less", "two-sided"])
-def test_each_step_against_scipy_permutation_test(alternative):
+def test_each_step_against_scipy_permutation_test(family, alternative):
     """Each step's exact p against scipy.stats.permutation_test listing every partition of the
-    step's units (permutation_type 'independent', n_resamples inf) with the trend statistic."""
+    step's units (permutation_type 'independent', n_resamples inf) with the trend statistic
+    (ranks: scipy's rankdata of the step's units, re-ranked at each step)."""
     scores = np.array([0.0, 5.0, 10.0, 20.0])
-    values = np.array([v for g in DATA for v in g])
-    codes = np.repeat(np.arange(4), [len(g) for g in DATA])
+    groups = TIED if family == "ranks" else DATA
+    values = np.array([v for g in groups for v in g])
+    codes = np.repeat(np.arange(4), [len(g) for g in groups])
     ours = {"greater": "higher", "less": "lower", "two-sided": "two-sided"}[alternative]
-    steps = stepdown.run(values, codes, scores, "means", ours, "dp-steps", 0, 0)
+    steps = stepdown.run(values, codes, scores, family, ours, "dp-steps", 0, 0)
     for st in steps:
-        samples = DATA[:st.top + 1]
+        kept = values[codes <= st.top]
+        if family == "ranks":
+            kept = stats.rankdata(kept)
+        samples = np.split(kept, np.cumsum([len(g) for g in groups[:st.top]]))
         d = scores[:st.top + 1]
 
         def trend_sum(*groups, axis):
@@ -232,7 +238,7 @@ def test_each_step_against_scipy_permutation_test(alternative):
                                      n_resamples=np.inf, alternative=alternative,
                                      vectorized=True)
         if alternative == "two-sided":      # scipy doubles the smaller tail; we compare |T - E0 T|
-            T, centre, _ = stepdown.trend_parts(values[codes <= st.top], codes[codes <= st.top], d)
+            T, centre, _ = stepdown.trend_parts(kept, codes[codes <= st.top], d)
             null = ref.null_distribution
             ref_p = np.mean(np.abs(null - centre) >= abs(T - centre) * (1 - 1e-12))
         else:
