@@ -354,3 +354,14 @@ def test_completion_offers_the_control_levels_after_against():
     assert ("against", "every other level against this control") in suggest(
         "compare w by dose ag", catalog)
     assert [t for t, _ in suggest('compare w by dose against "m', catalog)] == ['"mid"']
+
+
+def test_unequal_spread_is_noted_and_equal_spread_is_not():
+    wide = frame_of(([10.0, 10.2, 9.9, 10.1], [8.0, 12.5, 9.0, 13.0], [11.0, 11.3, 10.8, 11.1],
+                     [10.4, 10.6, 10.5, 10.7]))
+    out = many_of('compare w by dose against "ctl"', {"t": wide})
+    assert any("spreads differ" in w and "robustness" in w for w in out.warnings)
+    even = frame_of(([10.0, 10.4, 9.6, 10.2], [10.5, 10.9, 10.1, 10.6], [11.0, 11.5, 10.8, 11.1],
+                     [10.4, 10.8, 10.0, 10.7]))
+    out = many_of('compare w by dose against "ctl"', {"t": even})
+    assert not any("spreads differ" in w for w in out.warnings)
