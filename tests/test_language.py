@@ -433,7 +433,7 @@ def test_help_examples_bind_on_the_demo():
     from conftest import ROOT
 
     session = permq.Session(base_dir=ROOT / "demo")
-    names = ("trays", "plots", "seedlings", "sprays", "beans")
+    names = ("trays", "plots", "seedlings", "sprays", "beans", "doses")
     for name in names:
         assert isinstance(session.run(f'load "{name}.csv"')[0], permq.Note)
     seen = 0
