@@ -132,13 +132,9 @@ def rank_biserial(d) -> float:
 
 
 def _midranks(v) -> np.ndarray:
-    v = np.asarray(v, float)
-    order = np.argsort(v, kind="mergesort")
-    ranks = np.empty(len(v))
-    ranks[order] = np.arange(1, len(v) + 1)
-    _, inverse, counts = np.unique(v, return_inverse=True, return_counts=True)
-    sums = np.bincount(inverse, weights=ranks)
-    return sums[inverse] / counts[inverse]
+    from .engine.core.scores import midranks       # the one definition
+
+    return midranks(np.asarray(v, float))
 
 
 # ---------------------------------------------------------------- groups, order, blocks

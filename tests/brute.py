@@ -188,3 +188,145 @@ def critical_count(counts: list, side: float) -> int:
         else:
             break
     return c
+
+
+# ---------------------------------------------------------------- groups, orders, blocks, pairs
+
+def assignments(labels) -> list:
+    """Every distinct arrangement of a multiset of group labels (each once)."""
+    return sorted(set(itertools.permutations(labels)))
+
+
+def share_at_least(values: list, t) -> Fraction:
+    return Fraction(sum(1 for v in values if v >= t), len(values))
+
+
+def k_sample_p(family: str, values, groups) -> Fraction:
+    """P(SSB >= ssb) over every assignment to groups of the observed sizes: means on the
+    values, ranks on mid-ranks, medians on the above-the-median scores (F, Kruskal-Wallis and
+    the median chi-square are increasing in SSB)."""
+    x = [frac(v) for v in values]
+    scores = {"means": x, "ranks": midranks(x), "medians": median_scores(x)}[family]
+    labels = list(groups)
+
+    def ssb(lab):
+        out = Fraction(0)
+        for g in set(lab):
+            members = [s for s, h in zip(scores, lab) if h == g]
+            out += sum(members) ** 2 / len(members)
+        return out
+
+    vals = [ssb(a) for a in assignments(labels)]
+    return share_at_least(vals, ssb(labels))
+
+
+def linear_p(values: list, t_obs, alternative: str) -> Fraction:
+    """tail_share for exact values (no tolerance)."""
+    return tail_share(values, t_obs, alternative)
+
+
+def trend_p(values, groups, doses, alternative: str) -> Fraction:
+    """T = sum_i dose_g(i) x_i over every assignment."""
+    x = [frac(v) for v in values]
+    d = [frac(v) for v in doses]
+
+    def t(lab):
+        return sum(d[g] * v for g, v in zip(lab, x))
+
+    return tail_share([t(a) for a in assignments(list(groups))], t(list(groups)), alternative)
+
+
+def jonckheere_p(values, groups, alternative: str) -> Fraction:
+    """J = sum over g < h of #{x in g < y in h} + half the ties, over every assignment."""
+    x = [frac(v) for v in values]
+
+    def j(lab):
+        out = Fraction(0)
+        for a in range(len(x)):
+            for b in range(len(x)):
+                if lab[a] < lab[b]:
+                    out += 1 if x[a] < x[b] else (Fraction(1, 2) if x[a] == x[b] else 0)
+        return out
+
+    return tail_share([j(a) for a in assignments(list(groups))], j(list(groups)), alternative)
+
+
+def _within_blocks(groups, blocks):
+    """Every arrangement of the group labels within each block (the labels' distinct orders)."""
+    units = {}
+    for i, b in enumerate(blocks):
+        units.setdefault(b, []).append(i)
+    per_block = [(idx, assignments([groups[i] for i in idx])) for idx in units.values()]
+    for combo in itertools.product(*[orders for _, orders in per_block]):
+        lab = [None] * len(groups)
+        for (idx, _), order in zip(per_block, combo):
+            for i, g in zip(idx, order):
+                lab[i] = g
+        yield lab
+
+
+def _block_ranks(x, blocks):
+    r = [None] * len(x)
+    for b in set(blocks):
+        idx = [i for i, c in enumerate(blocks) if c == b]
+        for i, v in zip(idx, midranks([x[i] for i in idx])):
+            r[i] = v
+    return r
+
+
+def stratified_p(family: str, values, groups, blocks, first, alternative: str) -> Fraction:
+    """Sum over blocks of the `first` group's scores (values, or mid-ranks within blocks)."""
+    x = [frac(v) for v in values]
+    s = x if family == "means" else _block_ranks(x, blocks)
+
+    def t(lab):
+        return sum(v for v, g in zip(s, lab) if g == first)
+
+    vals = [t(lab) for lab in _within_blocks(list(groups), list(blocks))]
+    return tail_share(vals, t(list(groups)), alternative)
+
+
+def complete_blocks_p(test: str, values, groups, blocks, alternative: str = "higher") -> Fraction:
+    """Friedman (sum of squared rank totals), F within blocks (sum of squared treatment totals)
+    and Page's L = sum_j j R_j (treatments 0..k-1 weighted 1..k), over every within-block order."""
+    x = [frac(v) for v in values]
+    s = x if test == "within-block-f" else _block_ranks(x, blocks)
+    k = max(groups) + 1
+
+    def totals(lab):
+        out = [Fraction(0)] * k
+        for v, g in zip(s, lab):
+            out[g] += v
+        return out
+
+    def stat(lab):
+        tot = totals(lab)
+        if test == "page":
+            return sum((j + 1) * r for j, r in enumerate(tot))
+        return sum(r * r for r in tot)
+
+    vals = [stat(lab) for lab in _within_blocks(list(groups), list(blocks))]
+    if test == "page":
+        return tail_share(vals, stat(list(groups)), alternative)
+    return share_at_least(vals, stat(list(groups)))
+
+
+def association_p(statistic: str, y, x, alternative: str) -> Fraction:
+    """Every permutation of y against x: T = sum x_i y_pi(i) (pearson, slope), the same on
+    mid-ranks (spearman), Kendall's S = sum_{i<j} sign(x_i - x_j) sign(y_i - y_j)."""
+    xs, ys = [frac(v) for v in x], [frac(v) for v in y]
+    if statistic == "spearman":
+        xs, ys = midranks(xs), midranks(ys)
+
+    def sign(v):
+        return (v > 0) - (v < 0)
+
+    def t(yp):
+        if statistic == "kendall":
+            n = len(xs)
+            return sum(sign(xs[i] - xs[j]) * sign(yp[i] - yp[j])
+                       for i in range(n) for j in range(i + 1, n))
+        return sum(a * b for a, b in zip(xs, yp))
+
+    vals = [t(list(p)) for p in itertools.permutations(ys)]
+    return tail_share(vals, t(ys), alternative)

@@ -1,8 +1,11 @@
 """Exact intervals: each is the set of shifts that the test does not reject.
 
-Checked by brute force: at points just inside and just outside each endpoint the data are
-shifted (in exact rational arithmetic) and the brute-force test is run again, at alpha/2 per
-side for a two-sided interval (alpha on the one side for a one-sided bound). The rank and
+Checked by brute force: at each endpoint itself, and at points just inside and just outside
+it, the data are shifted (in exact rational arithmetic) and the brute-force test is run
+again, at alpha/2 per side for a two-sided interval (alpha on the one side for a one-sided
+bound), with alpha as the decimal written (1 - 0.9 is 1/10, not 0.0999...98). The rule (README,
+p-value rules; `engine/core/confidence.py`): a value is kept when its one-sided p-values are
+all above alpha_side; at a jump the tie counts as extreme, so ends are closed. The rank and
 sign intervals are also computed independently from the order statistics and the null laws
 listed by brute force.
 """
@@ -17,7 +20,7 @@ from conftest import ALTERNATIVES, inline, result_of
 from permq.engine import onesample, rankintervals, twosample
 
 EPS = Fraction(1, 10 ** 6)   # far below the spacing of the jumps for data on a 0.01 grid
-LEVELS = (0.9, 0.95)
+LEVELS = (0.8, 0.9, 0.95)
 
 TWO_SAMPLES = [
     ([1.2, 3.4, 3.4, 0.5, 2.0], [3.4, 2.0, 5.1, 4.4, 2.0, 6.0, 0.5]),
@@ -46,8 +49,9 @@ def _keeps(p_higher, p_lower, level, alternative):
     return ok
 
 
-def _check_endpoints(interval, accepted):
-    """lo + eps and hi - eps are kept; lo - eps and hi + eps are rejected."""
+def _check_endpoints(interval, accepted, closed=True):
+    """lo + eps and hi - eps are kept; lo - eps and hi + eps are rejected; with `closed`, the
+    end itself (the rational the float stands for) is kept too."""
     lo, hi = interval
     assert lo <= hi
     for end, inward in ((lo, 1), (hi, -1)):
@@ -56,6 +60,8 @@ def _check_endpoints(interval, accepted):
         e = Fraction(end)
         assert accepted(e + inward * EPS), ("just inside rejected", end)
         assert not accepted(e - inward * EPS), ("just outside kept", end)
+        if closed:
+            assert accepted(e.limit_denominator(10 ** 6)), ("the end itself rejected", end)
 
 
 @lru_cache(maxsize=None)
@@ -97,6 +103,20 @@ def test_counting_and_enumeration_give_the_same_mean_interval():
         a = twosample.run("means", x, y, "two-sided", "dp-integer", 0.95)[1]
         b = twosample.run("means", x, y, "two-sided", "enumeration", 0.95)[1]
         assert a == pytest.approx(b, rel=1e-12)
+
+
+def test_an_end_at_exactly_alpha_over_two_is_left_out():
+    # C(6, 3) = 20 splits: at 90% alpha/2 = 1/20 exactly, the one-sided p of the shifts past
+    # the observed separation; those shifts are rejected (p <= alpha/2), so the set is [-5, -1]
+    # (brute force over the 20 splits in exact fractions; 1 - 0.9 is 0.0999...98 in floating
+    # point, which used to keep them and give the whole line)
+    for algorithm in ("dp-integer", "enumeration"):
+        _, interval = twosample.run("means", [1, 2, 3], [4, 5, 6], "two-sided", algorithm, 0.9)
+        assert interval == (-5.0, -1.0)
+        _check_endpoints(interval, lambda d: _two_sample_keeps("means", (1, 2, 3), (4, 5, 6), d,
+                                                               0.9, "two-sided"))
+    r = result_of("compare [1,2,3] vs [4,5,6] confidence 90%")
+    assert r.estimate.interval == (-5.0, -1.0)
 
 
 def test_too_few_arrangements_give_the_whole_line():
@@ -165,7 +185,8 @@ def test_hodges_lehmann_interval_inverts_the_rank_sum_test(x, y, alternative):
     """Without ties the interval is exactly the set of shifts the rank-sum test keeps."""
     _, interval, _ = rankintervals.hodges_lehmann_two_sample(x, y, 0.95, alternative)
     _check_endpoints(interval, lambda d: _two_sample_keeps("ranks", tuple(x), tuple(y), d, 0.95,
-                                                           alternative))
+                                                           alternative),
+                     closed=False)   # the end itself: order statistics, see above
 
 
 # ---------------------------------------------------------------- Hodges-Lehmann, one sample
@@ -205,7 +226,8 @@ def test_walsh_interval_from_the_listed_signed_rank_law(d, alternative):
 def test_walsh_interval_inverts_the_signed_rank_test(d, alternative):
     _, interval, _ = rankintervals.hodges_lehmann_one_sample(d, 0.9, alternative)
     _check_endpoints(interval, lambda delta: _one_sample_keeps("ranks", tuple(d), delta, 0.9,
-                                                               alternative))
+                                                               alternative),
+                     closed=False)   # the end itself: order statistics, see above
 
 
 # ---------------------------------------------------------------- sign-test interval
@@ -229,7 +251,8 @@ def test_median_interval_from_binomial_order_statistics(d, alternative, level):
 def test_median_interval_inverts_the_sign_test(d, alternative):
     _, interval = rankintervals.median_interval(d, 0.9, alternative)
     _check_endpoints(interval, lambda delta: _one_sample_keeps("signs", tuple(d), delta, 0.9,
-                                                               alternative))
+                                                               alternative),
+                     closed=False)   # the end itself: order statistics, see above
 
 
 def test_rank_and_sign_intervals_reach_the_result():
@@ -242,3 +265,47 @@ def test_rank_and_sign_intervals_reach_the_result():
     r = result_of(f"compare {inline(x)} vs {inline(y)} using ranks alternative lower")
     assert r.estimate.interval == \
         rankintervals.hodges_lehmann_two_sample(x, y, 0.95, "lower")[1]
+
+
+# ---------------------------------------------------------------- slopes: the same end rule
+
+def _slope_keeps(y, x, b0, level, alternative):
+    """Brute force over every pairing (exact fractions): is slope b0 kept?"""
+    r = [brute.frac(v) - b0 * brute.frac(u) for v, u in zip(y, x)]
+    return _keeps(brute.association_p("slope", r, x, "higher"),
+                  brute.association_p("slope", r, x, "lower"), level, alternative)
+
+
+def _trend_keeps(y, g, d, b0, level, alternative):
+    r = [brute.frac(v) - b0 * brute.frac(d[h]) for v, h in zip(y, g)]
+    dd = [brute.frac(v) for v in d]
+    return _keeps(brute.trend_p(r, g, dd, "higher"), brute.trend_p(r, g, dd, "lower"), level,
+                  alternative)
+
+
+@pytest.mark.parametrize("level", (0.8, 0.9))
+@pytest.mark.parametrize("alternative", ALTERNATIVES)
+def test_slope_interval_ends_follow_the_rule(level, alternative):
+    # 5 pairs, 120 pairings: at 90% alpha/2 = 6/120 exactly, where floating point would keep
+    # the shifts whose p is exactly alpha/2
+    from permq.engine import association
+
+    x = [1.0, 2.0, 3.0, 4.0, 5.0]
+    y = [1.1, 1.9, 3.2, 3.9, 5.3]
+    est = association.estimate("slope", y, x, alternative, "enumeration", level=level)
+    _check_endpoints(est.interval, lambda b: _slope_keeps(tuple(y), tuple(x), b, level,
+                                                          alternative))
+
+
+@pytest.mark.parametrize("level", (0.8, 0.9))
+@pytest.mark.parametrize("alternative", ALTERNATIVES)
+def test_trend_slope_interval_ends_follow_the_rule(level, alternative):
+    # two ordered groups of 3 with doses 0 and 1: 20 assignments, 1/20 = alpha/2 at 90%
+    from permq.engine import ordered
+
+    y = [1.2, 0.8, 2.1, 2.6, 1.9, 3.1]
+    g = [0, 0, 0, 1, 1, 1]
+    d = [0.0, 1.0]
+    est = ordered.slope_estimate(np.array(y), np.array(g), np.array(d), level, alternative)
+    _check_endpoints(est.interval, lambda b: _trend_keeps(tuple(y), tuple(g), tuple(d), b, level,
+                                                          alternative))

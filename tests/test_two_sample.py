@@ -207,12 +207,14 @@ def test_difference_in_means_matches_scipy_permutation_test(x, y):
 def test_rank_sum_with_ties_matches_scipy_permutation_test(x, y):
     n1 = len(x)
 
-    def rank_sum(a, b):
-        return stats.rankdata(np.concatenate([a, b]))[:n1].sum()
+    def rank_sum(a, b, axis=-1):          # vectorised: scipy passes batches along the last axis
+        pooled = np.concatenate([a, b], axis=axis)
+        return stats.rankdata(pooled, axis=axis)[..., :n1].sum(axis=axis)
 
     for alternative in ("higher", "lower"):
         ref = stats.permutation_test((x, y), rank_sum, permutation_type="independent",
-                                     n_resamples=np.inf, alternative=SCIPY_ALT[alternative])
+                                     n_resamples=np.inf, alternative=SCIPY_ALT[alternative],
+                                     vectorized=True)
         assert engine_p("ranks", x, y, alternative, "dp-integer").p_value == \
             pytest.approx(ref.pvalue, rel=1e-12)
     two = _two_sided_from_null(ref.null_distribution, ref.statistic)

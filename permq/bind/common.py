@@ -10,6 +10,7 @@ from typing import Optional
 import numpy as np
 from ..lazy import pandas as pd
 
+from ..engine.core.limits import DEFAULT_BUDGET_SECONDS, DEFAULT_MEMORY_BYTES
 from ..data.order import natural_key  # noqa: F401 - the binders' level order, from one place
 from ..errors import BindError, MultipleErrors, Span
 from ..syntax import nodes as n
@@ -24,8 +25,8 @@ class Defaults:
     confidence: float = 0.95
     seed: object = None                # an int, "fresh", or None: from each statement (plan/seeds.py)
     alternative: str = "two-sided"
-    budget_seconds: float = 5.0
-    memory_bytes: float = 2.0e9
+    budget_seconds: float = DEFAULT_BUDGET_SECONDS
+    memory_bytes: float = DEFAULT_MEMORY_BYTES
     format: str = "text"
     workers: Optional[int] = None      # local workers for several-response statements (None: all)
     cluster: object = None             # a Dask scheduler address (or Client) to run them on

@@ -10,6 +10,8 @@ from typing import Optional
 
 import numpy as np
 
+from ..engine.core.limits import DEFAULT_BUDGET_SECONDS, DEFAULT_MEMORY_BYTES
+
 
 @dataclass(frozen=True)
 class Settings:
@@ -20,8 +22,8 @@ class Settings:
     exact: bool = False
     sampled: Optional[int] = None
     seed: Optional[int] = None
-    budget_seconds: float = 5.0
-    memory_bytes: float = 2.0e9
+    budget_seconds: float = DEFAULT_BUDGET_SECONDS
+    memory_bytes: float = DEFAULT_MEMORY_BYTES
     explain: bool = False
 
 

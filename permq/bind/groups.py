@@ -45,6 +45,12 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         raise BindError(f"a comparison of {len(levels)} groups has no direction",
                         opts["alternative"].span if "alternative" in opts else node.span,
                         hint="drop 'alternative', or add 'ordered' for a trend")
+    if within and ordered and len(levels) == 2:
+        # a rise along the order is the later level above the earlier one: the stratified
+        # comparison of the later level minus the earlier ('higher' means a rise)
+        warnings += (f"two ordered levels within blocks: the stratified comparison of "
+                     f"{levels[1]} - {levels[0]} (a rise along {levels[0]} < {levels[1]})",)
+        levels = levels[::-1]
     codes = np.array([levels.index(v) for v in g], dtype=np.int64)
     block_codes, block_labels = None, ()
     if within:

@@ -2,6 +2,7 @@
 and one sample against a value."""
 from __future__ import annotations
 
+from ..engine.core.grid import exact_difference
 from ..errors import BindError
 from ..syntax import nodes as n
 from . import groups as grouped_forms
@@ -146,7 +147,7 @@ def bind_paired(node, operands, opts, catalog, defaults):
     else:
         raise BindError("'paired' needs two columns or two lists of the same kind",
                         node.subject.span)
-    d = first - second
+    d = exact_difference(first, second)      # on the data's decimal grid: ties stay ties
     if len(d) == 0:
         raise BindError("no complete pairs to compare", node.subject.span)
     return OneSampleDesign(d, f"{labels[0]} - {labels[1]}", s, "paired", 0.0, labels, warnings)
@@ -176,5 +177,5 @@ def bind_one_sample(node, operands, opts, catalog, defaults):
     if len(x) == 0:
         raise BindError("this sample has no values", first.span)
     ref = float(value.value)
-    return OneSampleDesign(x - ref, f"{label} - {level_text(ref)}", s, "one-sample", ref,
+    return OneSampleDesign(exact_difference(x, ref), f"{label} - {level_text(ref)}", s, "one-sample", ref,
                            (label,), warnings)

@@ -19,7 +19,7 @@ MOST = 8                 # never more decimals than this
 def written(values) -> Optional[int]:
     """The decimals the values were written with (0 for whole numbers), or None when they lie
     on no decimal grid of up to 6 decimals."""
-    from ..engine.core.scores import integer_grid
+    from ..engine.core.grid import integer_grid
 
     v = np.asarray(values, dtype=float)
     v = v[np.isfinite(v)]

@@ -34,13 +34,12 @@ from ..errors import DataError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .core import pvalues
+from .core.limits import INTERVAL_DRAWS
 from .core.enumeration import combinations_chunks
 from .core.progress import NO_PROGRESS, Progress
 from .montecarlo.draws import random_u32, subset_sums
 from .montecarlo.sampling import iter_blocks
 
-ENUMERATION_LIMIT = 5e7        # every assignment's (a, c) is kept for the interval
-MAX_INTERVAL_DRAWS = 2_000_000
 NAME = "difference in mean covariate-adjusted residuals"
 DESCRIPTIONS = {"enumeration": "complete enumeration",
                 "monte-carlo": "Monte Carlo sampling of arrangements"}
@@ -93,7 +92,6 @@ def candidates(red: Reduced, groups, draws: int) -> list[Candidate]:
     return [
         Candidate("enumeration", DESCRIPTIONS["enumeration"], True,
                   total * (10 + 2.5 * np.log2(max(total, 2.0))), total * 8 * 6,
-                  feasible=total <= ENUMERATION_LIMIT,
                   arrangements=total, note=f"{total:.3g} arrangements"),
         Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * N * 24.0,
                   min(draws, 8192) * N * 8 * 4, arrangements=total, note=f"{draws} draws"),
@@ -132,7 +130,7 @@ def run(red: Reduced, groups, alternative: str, algorithm: str, level: float,
         b, a, c, used = 0, [], [], 0
         for exceed, da, dc in iter_blocks(seed, draws, work, progress):
             b += exceed
-            if used < MAX_INTERVAL_DRAWS:
+            if used < INTERVAL_DRAWS:
                 a.append(da)
                 c.append(dc)
                 used += len(da)

@@ -37,22 +37,20 @@ from functools import lru_cache, reduce
 from typing import Callable, Iterator, Optional
 
 import numpy as np
-from ..lazy import stats
 
 from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .core import pvalues
+from .core.counting import multinomial, multinomial_weights
+from .core.grid import Grid, centred, integer_grid, is_constant
+from .core.limits import DEFAULT_DRAWS, NULL_KEEP_MAX
+from .core.scores import median_scores, midranks, normal_scores
 from .montecarlo import sampling
 from .montecarlo.draws import group_sums, random_u32
 from .core.progress import NO_PROGRESS, Progress
 
-DEFAULT_DRAWS = 100_000          # Monte Carlo draws when the caller names none (and cost basis)
-ENUMERATION_MAX = 5e8            # beyond this many arrangements, listing is not offered
-NULL_KEEP_MAX = 2_000_000        # keep the null distribution when it has at most this many points
-DP_MAX_STATES = 3e7              # estimated peak states beyond which counting is not offered
 _ROWS = 1 << 18                  # rows handled at once when listing or counting
-_MAX_DECIMALS = 6
 
 
 # ----------------------------------------------------------------------------- design
@@ -77,61 +75,9 @@ def design(values, groups) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return x, g, sizes
 
 
-def multinomial(sizes) -> int:
-    """N! / (n_1! ... n_k!): the number of assignments to groups of these sizes."""
-    total, out = 0, 1
-    for n in sizes:
-        total += int(n)
-        out *= math.comb(total, int(n))
-    return out
-
-
 def ordered_by_group(a: np.ndarray, groups: np.ndarray) -> np.ndarray:
     """Scores laid out group after group (stable), the layout the listing and sampling use."""
     return a[np.argsort(groups, kind="stable")]
-
-
-# ----------------------------------------------------------------------------- scores
-
-def midranks(x) -> np.ndarray:
-    return stats.rankdata(np.asarray(x, dtype=float), method="average")
-
-
-def normal_scores(x) -> np.ndarray:
-    """van der Waerden scores Phi^-1(r / (N + 1)) of the mid-ranks r."""
-    x = np.asarray(x, dtype=float)
-    return stats.norm.ppf(midranks(x) / (x.size + 1))
-
-
-def above_median(x) -> np.ndarray:
-    x = np.asarray(x, dtype=float)
-    return (x > np.median(x)).astype(float)
-
-
-@dataclass(frozen=True)
-class Grid:
-    """Scores written exactly as origin + step * z with non-negative integers z."""
-
-    z: np.ndarray
-    origin: float
-    step: float
-
-
-def integer_grid(a, max_decimals: int = _MAX_DECIMALS) -> Optional[Grid]:
-    """The coarsest grid the scores lie on (as recorded, to at most `max_decimals`), or None."""
-    a = np.asarray(a, dtype=float)
-    for d in range(max_decimals + 1):
-        scaled = a * 10.0 ** d
-        if np.max(np.abs(scaled), initial=0.0) > 2.0 ** 50:
-            return None
-        ints = np.round(scaled)
-        if np.all(np.abs(scaled - ints) <= 1e-7 * np.maximum(1.0, np.abs(scaled))):
-            ints = ints.astype(np.int64)
-            low = int(ints.min())
-            shifted = ints - low
-            step = reduce(math.gcd, (int(v) for v in np.unique(shifted)), 0) or 1
-            return Grid(shifted // step, low / 10.0 ** d, step / 10.0 ** d)
-    return None
 
 
 # ----------------------------------------------------------------------------- listing
@@ -212,11 +158,6 @@ def _compositions(m: int, caps: np.ndarray) -> np.ndarray:
     return np.array(rows, dtype=np.int64).reshape(-1, k)
 
 
-def _multinomial_weights(m: int, xs: np.ndarray) -> np.ndarray:
-    f = [math.factorial(v) for v in range(m + 1)]
-    return np.array([f[m] / math.prod(f[v] for v in x) for x in xs], dtype=float)
-
-
 @dataclass
 class _States:
     """Sparse DP states: per group counts and score sums, and the number of ways."""
@@ -254,7 +195,7 @@ def _merge(st: _States, sizes, smax, classes) -> _States:
 
 def _add_block(st: _States, value: int, m: int, sizes, smax, classes) -> _States:
     xs = _compositions(m, sizes)
-    weights = _multinomial_weights(m, xs)
+    weights = multinomial_weights(m, xs)
     done, parts, rows = None, [], 0
     for x, w in zip(xs, weights):
         ok = np.all(st.counts + x <= sizes, axis=1)
@@ -386,7 +327,22 @@ def _value_grid(x):
 
 
 def _rank_grid(x):
-    return integer_grid(np.round(2 * midranks(x)))
+    return integer_grid(midranks(x))
+
+
+def _exact_integers(raw, sizes) -> Optional[Grid]:
+    """The scores' grid when sums of squares of group totals fit exact integers, else None."""
+    grid = integer_grid(raw)
+    if grid is None or _radix(grid.integers, np.asarray(sizes, dtype=np.int64)) is None:
+        return None
+    return grid
+
+
+def _q_of(sums, sizes) -> np.ndarray:
+    """Q = sum_g Z_g^2 (L / n_g), L = lcm of the sizes, for rows of integer group sums."""
+    z = np.rint(np.asarray(sums, dtype=float)).astype(np.int64)
+    lcm = int(np.lcm.reduce(np.asarray(sizes, dtype=np.int64)))
+    return (z * z * (lcm // np.asarray(sizes, dtype=np.int64))).sum(axis=-1)
 
 
 @dataclass(frozen=True)
@@ -418,10 +374,11 @@ class QuadraticFamily:
         if grid is None:
             return Candidate(self.counting, self.counting_words, True, math.inf, math.inf,
                              feasible=False, note="scores are not on a grid", arrangements=float(arr))
-        states, ops, memory = dp_ops(grid.z, sizes)
-        fits = _radix(grid.z, sizes) is not None and states <= DP_MAX_STATES
+        states, ops, memory = dp_ops(grid.integers, sizes)
+        fits = _radix(grid.integers, sizes) is not None
         return Candidate(self.counting, self.counting_words, True, ops, memory, feasible=fits,
-                         note="" if fits else "too many counting states", arrangements=float(arr))
+                         note=f"about {states:.3g} counting states" if fits else
+                         "score sums too wide to index", arrangements=float(arr))
 
     def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
             seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
@@ -430,11 +387,12 @@ class QuadraticFamily:
         if self.key == "medians":
             notes.append("values equal to the pooled median are counted as not above it")
         raw = self.score(x)
-        a = raw - np.mean(raw)
-        sst = float(np.sum(a * a))
         N, k, arr = len(x), len(sizes), multinomial(sizes)
-        if sst <= 1e-12 * max(1.0, float(np.sum(raw ** 2))):
+        if is_constant(raw):
             return _all_equal(self, arr, notes)
+        a = centred(raw)
+        a = a - a.mean()
+        sst = float(np.sum(a * a))
         ssb_obs = float(np.sum(np.bincount(g, weights=a, minlength=k) ** 2 / sizes))
         if N == k:
             notes.append("each group has one value: every assignment gives the same statistic")
@@ -444,7 +402,7 @@ class QuadraticFamily:
             raise PlanError(f"the {self.key} family has no algorithm '{algorithm}'",
                             hint=f"use enumeration, {self.counting} or monte-carlo")
         parts = run(x=x, g=g, sizes=sizes, a=a, sst=sst, ssb_obs=ssb_obs, draws=draws, seed=seed,
-                    progress=progress)
+                    progress=progress, exact=_exact_integers(raw, sizes))
         stat = float(self.statistic_of(ssb_obs, sst, N, k))
         return EngineOutcome(statistic_name=self.statistic_name, statistic=stat,
                              arrangements=arr if parts["method"] == "exact" else None,
@@ -452,13 +410,21 @@ class QuadraticFamily:
 
     # -- the algorithms; each returns the EngineOutcome fields it decides
 
-    def _enumerate(self, x, sizes, a, sst, ssb_obs, progress, **_):
+    def _enumerate(self, x, g, sizes, a, sst, ssb_obs, progress, exact, **_):
         N, k = len(x), len(sizes)
         keep = multinomial(sizes) <= NULL_KEEP_MAX
+        scores = a if exact is None else exact.integers.astype(float)
+        q_obs = None if exact is None else int(_q_of(np.bincount(g, weights=scores, minlength=k),
+                                                     sizes))
         hits, seen, kept = 0, 0, []
-        for chunk in enumerate_group_sums(a, sizes, progress):
-            ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)
-            hits += pvalues.exceedances(ssb, ssb_obs, "higher", scale=sst)
+        for chunk in enumerate_group_sums(scores, sizes, progress):
+            if exact is None:
+                ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)
+                hits += pvalues.exceedances(ssb, ssb_obs, "higher", scale=sst)
+            else:
+                q = _q_of(chunk[:, :, 0], sizes)
+                hits += int(np.count_nonzero(q >= q_obs))
+                ssb = _ssb_from_q(q, exact, sizes)
             seen += len(ssb)
             if keep:
                 kept.append(ssb)
@@ -473,13 +439,20 @@ class QuadraticFamily:
                     algorithm="complete enumeration of every assignment to groups",
                     null_support=support, null_probs=probs)
 
-    def _sample(self, x, sizes, a, sst, ssb_obs, draws, seed, progress, **_):
+    def _sample(self, x, g, sizes, a, sst, ssb_obs, draws, seed, progress, exact, **_):
         draws = int(draws or DEFAULT_DRAWS)
         seed = sampling.require_seed(seed)
+        k = len(sizes)
+        scores = a if exact is None else exact.integers.astype(float)
+        q_obs = None if exact is None else int(_q_of(np.bincount(g, weights=scores, minlength=k),
+                                                     sizes))
         hits = 0
-        for chunk in sample_group_sums(a, sizes, seed, draws, progress):
-            ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)
-            hits += pvalues.exceedances(ssb, ssb_obs, "higher", scale=sst)
+        for chunk in sample_group_sums(scores, sizes, seed, draws, progress):
+            if exact is None:
+                ssb = np.sum(chunk[:, :, 0] ** 2 / sizes, axis=1)
+                hits += pvalues.exceedances(ssb, ssb_obs, "higher", scale=sst)
+            else:
+                hits += int(np.count_nonzero(_q_of(chunk[:, :, 0], sizes) >= q_obs))
         p, interval = pvalues.monte_carlo_p(hits, draws)
         return dict(p_value=p, method="monte-carlo", draws=draws, p_interval=interval, seed=seed,
                     algorithm="Monte Carlo: random assignments to groups")
@@ -488,7 +461,7 @@ class QuadraticFamily:
         grid = self.grid(x) if self.grid else None
         if grid is None:
             raise PlanError(f"exact counting needs {self.key} scores on a grid", hint="use enumeration")
-        z = grid.z
+        z = grid.integers
         support, ways = count_sum_squares(z, sizes, progress)
         lcm = int(np.lcm.reduce(sizes))
         zg = np.bincount(g, weights=z, minlength=len(sizes)).round().astype(np.int64)
@@ -508,7 +481,7 @@ class QuadraticFamily:
         return dict(null_support=np.asarray(support, dtype=float), null_probs=ways / ways.sum())
 
     def _count_medians(self, x, g, sizes, progress, **_):
-        above = above_median(x).astype(np.int64)
+        above = median_scores(x).astype(np.int64)
         support, ways = count_median_tables(sizes, int(above.sum()))
         progress.step(1.0, "counting tables")
         lcm = math.lcm(*(int(n) for n in sizes))
@@ -519,6 +492,13 @@ class QuadraticFamily:
         law = self._law(np.array(support, dtype=float) / lcm, np.array(ways, dtype=float),
                         above, sizes)
         return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words, **law)
+
+
+def _ssb_from_q(q, grid: Grid, sizes) -> np.ndarray:
+    """The between-group sum of squares of the scores from Q of their grid integers."""
+    z = grid.integers
+    lcm = int(np.lcm.reduce(np.asarray(sizes, dtype=np.int64)))
+    return np.maximum(grid.step ** 2 * (q / lcm - float(z.sum()) ** 2 / len(z)), 0.0)
 
 
 def _alternative_notes(name: str, alternative: str) -> list:
@@ -538,10 +518,9 @@ def _all_equal(family: QuadraticFamily, arr: int, notes: list) -> EngineOutcome:
 
 
 def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
-    fits = arr <= ENUMERATION_MAX
     return Candidate("enumeration", "complete enumeration of every assignment to groups", True,
-                     float(arr) * (N + 2 * k) * 2.0, float(_ROWS) * N * 8 * 4, feasible=fits,
-                     note="" if fits else "too many assignments to list", arrangements=float(arr))
+                     float(arr) * (N + 2 * k) * 2.0, float(_ROWS) * N * 8 * 4,
+                     arrangements=float(arr))
 
 
 def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
@@ -564,7 +543,7 @@ NORMAL_SCORES = QuadraticFamily(
     statistic_of=_scaled(lambda N: N - 1), grid=None,
     counting_words="dynamic programming over group score sums")
 MEDIANS = QuadraticFamily(
-    "medians", "median test chi-square", score=above_median, statistic_of=_scaled(lambda N: N),
+    "medians", "median test chi-square", score=median_scores, statistic_of=_scaled(lambda N: N),
     counting="dp-hypergeometric",
     counting_words="exact counting of tables of counts above the median "
                    "(multivariate hypergeometric, one group at a time)")

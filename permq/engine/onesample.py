@@ -18,17 +18,17 @@ import numpy as np
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .core import pvalues
-from .core.counting import EXACT_COUNT_LIMIT, counts_all_subsets, counts_by_size, layer_bytes
+from .core.counting import counts_all_subsets, counts_by_size, layer_bytes
 from .core.enumeration import sign_patterns_chunks
+from .core.grid import integer_grid
 from .core.jumps import collect_sampled, interval_from_jumps
+from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
 from .montecarlo.draws import flip_sums, random_bits
 from .montecarlo.sampling import BLOCK, iter_blocks
 from .core.progress import NO_PROGRESS, Progress
-from .core.scores import integer_grid, midranks
+from .core.scores import midranks
 
-MAX_DP_BYTES = 2.0e9
-# the Monte Carlo interval uses the first draws up to this many (memory stays bounded)
-MAX_INTERVAL_DRAWS = 2_000_000
+ENUMERATION_MAX_ITEMS = 62      # sign patterns are listed as the bits of one int64 code
 
 STATISTIC_NAMES = {
     "means": "mean difference",
@@ -60,9 +60,10 @@ def statistic_from_positive_sum(family: str, p_sum, r, n_all: int):
 
 
 def _anchored_grid(r):
-    """Integer scores with origin 0 (a sum over a variable number of items needs it)."""
+    """Integer scores with origin 0 (a sum over a variable number of items needs it), or None
+    off a grid or when their total would pass the exact integers of double precision."""
     grid = integer_grid(np.append(r, 0.0))
-    if grid is None or grid.origin != 0.0:
+    if grid is None or grid.origin != 0.0 or float(grid.integers.sum()) >= EXACT_COUNT_LIMIT:
         return None
     return grid.integers[:-1], grid.step
 
@@ -85,15 +86,14 @@ def candidates(family: str, d, draws: int) -> list[Candidate]:
             ops += len(d) * (len(d) + 1) * w2 / 2
             mem += layer_bytes(len(d) + 1, w2)
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
-                             feasible=mem <= MAX_DP_BYTES, arrangements=total,
-                             note="scores on an integer grid"))
+                             arrangements=total, note="scores on an integer grid"))
     else:
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True,
                              float("inf"), float("inf"), feasible=False, arrangements=total,
                              note="scores do not lie on a decimal grid"))
     out.append(Candidate("enumeration", "complete enumeration", True, total * n * 3,
                          (1 << min(n, 16)) * n * 8 * 2, arrangements=total,
-                         feasible=n <= 30, note=f"{total:.3g} sign patterns"))
+                         feasible=n <= ENUMERATION_MAX_ITEMS, note=f"{total:.3g} sign patterns"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of sign patterns", False,
                          draws * n * 6.0, min(draws, BLOCK) * n * 8 * 3, arrangements=total,
                          note=f"{draws:,} draws"))
@@ -129,12 +129,7 @@ def _p_dp(family, name, r, pos, n_all, t_obs, alternative, progress):
     counts = counts[support]
     p_obs = int(q[pos].sum())
     total_q = int(q.sum())
-    if alternative == "higher":
-        mask = support >= p_obs
-    elif alternative == "lower":
-        mask = support <= p_obs
-    else:
-        mask = np.abs(2 * support - total_q) >= abs(2 * p_obs - total_q)
+    mask = pvalues.integer_tail_mask(2 * support - total_q, 2 * p_obs - total_q, alternative)
     p = pvalues.clip(counts[mask].sum() / counts.sum())
     n = len(r)
     warn = () if 2.0 ** n < EXACT_COUNT_LIMIT else (
@@ -154,31 +149,40 @@ def _mean_interval_dp(d, level, alternative):
     for k in range(1, n + 1):
         row = table[k]
         nz = np.flatnonzero(row)
-        values.append(grid.origin + grid.step * nz / k)
+        values.append(grid.origin + grid.differences(nz) / k)
         counts.append(row[nz])
     return interval_from_jumps(np.concatenate(values), np.concatenate(counts), 1.0, 2.0 ** n,
                                level, alternative)
 
 
-def _tail(sampled_p, p_obs, total_r, alternative):
-    # statistic T = 2P - R is centred at zero; compare with the relative tolerance
-    t = 2 * sampled_p - total_r
-    return pvalues.exceedances(t, 2 * p_obs - total_r, alternative, center=0.0,
-                               scale=max(abs(2 * p_obs - total_r), total_r))
+def _tail(sampled_p, p_obs, total_r, alternative, exact: bool):
+    """Patterns at least as extreme, on T = 2P - R (centred at zero): exactly for integer
+    scores, else with the relative tolerance."""
+    t = 2 * np.asarray(sampled_p, dtype=float) - total_r
+    t_obs = 2 * p_obs - total_r
+    if exact:
+        return pvalues.integer_exceedances(t, t_obs, alternative)
+    return pvalues.exceedances(t, t_obs, alternative, center=0.0,
+                               scale=max(abs(t_obs), total_r))
+
+
+def _flip_scores_exact(r):
+    """The scores as exact integers when they lie on a grid (sums are then exact), else r."""
+    g = _anchored_grid(r)
+    return (g[0].astype(float), True) if g is not None else (np.asarray(r, float), False)
 
 
 def _enumerate(family, name, d, r, pos, t_obs, alternative, level, progress):
     n = len(r)
     total = 2 ** n
-    p_obs = r[pos].sum()
-    b, sums, done = 0, [], 0
+    w, exact = _flip_scores_exact(r)
+    p_obs = w[pos].sum()
+    b, done = 0, 0
     for signs in sign_patterns_chunks(n):
-        s = signs.astype(float) @ r
-        b += _tail(s, p_obs, r.sum(), alternative)
-        sums.append(s)
+        s = signs.astype(float) @ w
+        b += _tail(s, p_obs, w.sum(), alternative, exact)
         done += len(signs)
         progress.step(done / total, "enumerating")
-    sums = np.sort(np.concatenate(sums))
     out = EngineOutcome(name, t_obs, pvalues.clip(b / total), "exact", "complete enumeration",
                         arrangements=float(total))
     interval = None
@@ -205,21 +209,22 @@ def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed
     non-zero ones. Compiled, with a numpy path that gives the same numbers (draws.flip_sums)."""
     d = np.asarray(d, dtype=float)
     nonzero = d != 0
-    p_obs = r[pos].sum()
+    w, exact = _flip_scores_exact(r)
+    p_obs = w[pos].sum()
     means = family == "means"
     scores = np.zeros(len(d))            # the test's scores in place; zeros carry none
-    scores[nonzero] = r
+    scores[nonzero] = w
 
     def work(size, rng):
         s, sf, k = flip_sums(scores, random_bits(rng, size, len(d)), d if means else None)
-        b = _tail(s, p_obs, r.sum(), alternative)
+        b = _tail(s, p_obs, w.sum(), alternative, exact)
         if not means:
             return b, None, 0
         keep = k > 0
         return b, sf[keep] / k[keep], int((~keep).sum())
 
     b, v, identity, used = collect_sampled(iter_blocks(seed, draws, work, progress), means,
-                                              MAX_INTERVAL_DRAWS)
+                                              INTERVAL_DRAWS)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(name, t_obs, p, "monte-carlo", "Monte Carlo sampling of sign patterns",
                         arrangements=2.0 ** len(r), draws=draws, p_interval=p_int, seed=seed)

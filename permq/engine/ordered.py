@@ -29,16 +29,18 @@ from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome, Estimate
 from .core import pvalues
+from .core.confidence import alpha_side, rejected_up_to
+from .core.counting import multinomial, multinomial_weights
+from .core.grid import centred, integer_grid, is_constant
+from .core.limits import DEFAULT_DRAWS, EXACT_COUNT_LIMIT, NULL_KEEP_MAX, NO_LIMITS_GIVEN, Limits
 from .montecarlo import sampling
-from .ksample import (
-    DEFAULT_DRAWS, NULL_KEEP_MAX, _compositions, _multinomial_weights, design,
-    enumerate_group_sums, enumeration_candidate, integer_grid, monte_carlo_candidate,
-    multinomial, sample_group_sums)
+from .ksample import (_compositions, design, enumerate_group_sums, enumeration_candidate,
+                      monte_carlo_candidate, sample_group_sums)
 from .core.progress import NO_PROGRESS, Progress
 
-INTERVAL_ENUMERATION_MAX = 2_000_000   # list at most this many assignments for the slope interval
-COUNT_MAX_STATES = 2e7
 _CHUNK_ROWS = 1 << 21
+# listing one assignment for the slope interval costs about this many operations per item
+_SLOPE_OPS_PER_ITEM = 16.0
 
 
 # ----------------------------------------------------------------------------- counting
@@ -57,7 +59,7 @@ def count_linear(block_values, block_mults, sizes, increment, progress: Progress
     for i, (v, m) in enumerate(zip(block_values, block_mults)):
         xs = _compositions(int(m), sizes)
         parts = []
-        for x, w in zip(xs, _multinomial_weights(int(m), xs)):
+        for x, w in zip(xs, multinomial_weights(int(m), xs)):
             ok = np.all(counts + x <= sizes, axis=1)
             if ok.any():
                 c = counts[ok]
@@ -141,10 +143,9 @@ class JonckheereTerpstra:
         arr = multinomial(sizes)
         t_max = float(len(x) ** 2 - np.sum(sizes ** 2))          # largest 2J
         states, ops, memory = count_estimate(sizes, t_max, _blocks_of(x)[1])
-        fits = states <= COUNT_MAX_STATES
         words = "dynamic programming over tie blocks and group counts (doubled statistic, integers)"
-        return [Candidate("dp-counts", words, True, ops, memory, feasible=fits,
-                          note="" if fits else "too many counting states", arrangements=float(arr)),
+        return [Candidate("dp-counts", words, True, ops, memory,
+                          note=f"about {states:.3g} counting states", arrangements=float(arr)),
                 monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes))]
 
     def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
@@ -158,7 +159,9 @@ class JonckheereTerpstra:
         if algorithm == "dp-counts":
             vals, mult = _blocks_of(x)
             support, ways = count_linear(vals, mult, sizes, _jt_increment, progress)
-            p = pvalues.tail_probability(support / 2.0, ways, j_obs, alternative, center=center)
+            mask = pvalues.integer_tail_mask(support, int(round(2 * j_obs)), alternative,
+                                             N * N - int(np.sum(sizes ** 2)), 2)
+            p = pvalues.clip(ways[mask].sum() / ways.sum())
             return EngineOutcome(p_value=p, method="exact", arrangements=multinomial(sizes),
                                  algorithm="dynamic programming over tie blocks and group counts "
                                            "(doubled statistic, integers)",
@@ -174,14 +177,15 @@ class JonckheereTerpstra:
         sx = np.sort(x)
         starts, k = _block_starts(sx), len(sizes)
         labels = np.repeat(np.arange(k), sizes)
-        scale = float(np.sum(sizes) ** 2) / 2.0
+        num = int(np.sum(sizes)) ** 2 - int(np.sum(sizes ** 2))       # 2 E0 (2J) = num / 2
+
         def work(size, rng):
             rows = rng.permuted(np.broadcast_to(labels, (size, len(x))), axis=1)
             step = max(1, _CHUNK_ROWS // (len(x) * k))
             found = 0
             for lo in range(0, size, step):
-                j = _jt_doubled_rows(rows[lo:lo + step], starts, k) / 2.0
-                found += pvalues.exceedances(j, j_obs, alternative, center=center, scale=scale)
+                j2 = _jt_doubled_rows(rows[lo:lo + step], starts, k)
+                found += pvalues.integer_exceedances(j2, round(2 * j_obs), alternative, num, 2)
             return found
 
         # all cores, in fixed random streams: the same p for any number of workers
@@ -203,24 +207,66 @@ def dose_scores(scores, k: int) -> np.ndarray:
 
 @dataclass(frozen=True)
 class TrendSetup:
-    """The trend statistic's pieces for one data set."""
+    """The trend statistic's pieces for one data set.
+
+    T = sum_i d_g(i) x_i is reported; p-values compare W = sum_i e_g(i) w_i, an increasing
+    affine function of T over the assignments (T = t_obs + unit * (W - w_obs)): w and e are
+    the grid integers of the values and the dose scores when both lie on grids (W is then an
+    exact integer), else the values and scores centred on one of their own."""
 
     x: np.ndarray
     g: np.ndarray
     sizes: np.ndarray
     d: np.ndarray         # dose score per group
     t_obs: float
-    center: float         # E0 T
-    scale: float          # a bound on |T - E0 T|, for the tolerance
+    w: np.ndarray         # item scores for the comparisons
+    e: np.ndarray         # group scores for the comparisons
+    exact: bool           # W is an integer, compared exactly
+    x_unit: float         # values = offset + x_unit * w
+    d_unit: float         # dose scores = offset + d_unit * e
+    w_obs: float
+    center_num: float     # E0 W = center_num / N
+    scale: float          # a bound on |W - E0 W|, for the tolerance off a grid
+
+    @property
+    def unit(self) -> float:
+        """T - t_obs = unit * (W - w_obs)."""
+        return self.x_unit * self.d_unit
+
+    @property
+    def ratio_unit(self) -> float:
+        """A slope in the data's units per ratio of W-scale sums (values over doses)."""
+        return self.x_unit / self.d_unit
+
+    @property
+    def center(self) -> float:
+        return self.center_num / len(self.x)
+
+    def tail_count(self, t_w, alternative) -> int:
+        if self.exact:
+            return pvalues.integer_exceedances(t_w, self.w_obs, alternative,
+                                               int(self.center_num), len(self.x))
+        return pvalues.exceedances(t_w, self.w_obs, alternative, center=self.center,
+                                   scale=self.scale)
 
 
 def trend_setup(values, groups, scores=None) -> TrendSetup:
     x, g, sizes = design(values, groups)
     d = dose_scores(scores, len(sizes))
     t_obs = float(np.sum(d[g] * x))
-    center = float(np.mean(x) * np.sum(sizes * d))
-    scale = float(np.sum(np.abs(x - x.mean())) * np.max(np.abs(d - d.mean())))
-    return TrendSetup(x, g, sizes, d, t_obs, center, max(scale, 1e-300))
+    zg, dg = integer_grid(x), integer_grid(d)
+    exact = zg is not None and dg is not None
+    if exact:
+        w, e = zg.integers.astype(float), dg.integers.astype(float)
+        units = zg.step, dg.step
+        exact = float(w.sum()) * float(e.max(initial=0)) < EXACT_COUNT_LIMIT
+    if not exact:
+        w, e, units = centred(x), centred(d), (1.0, 1.0)
+    w_obs = float(np.sum(e[g] * w))
+    center_num = float(w.sum() * np.sum(sizes * e))
+    scale = float(np.sum(np.abs(w - w.mean())) * np.max(np.abs(e - e.mean())))
+    return TrendSetup(x, g, sizes, d, t_obs, w, e, exact, units[0], units[1], w_obs, center_num,
+                      max(scale, 1e-300))
 
 
 def _trend_grids(setup: TrendSetup):
@@ -228,7 +274,7 @@ def _trend_grids(setup: TrendSetup):
     zg, dg = integer_grid(setup.x), integer_grid(setup.d)
     if zg is None or dg is None:
         return None
-    e_values, cls = np.unique(dg.z, return_inverse=True)
+    e_values, cls = np.unique(dg.integers, return_inverse=True)
     class_sizes = np.bincount(cls.ravel(), weights=setup.sizes).astype(np.int64)
     return zg, dg, e_values.astype(np.int64), class_sizes
 
@@ -250,11 +296,10 @@ class LinearTrend:
                                  arrangements=float(arr)))
         else:
             zg, _, e, cls = grids
-            t_max = float(e.max() * zg.z.sum())
-            states, ops, memory = count_estimate(cls, t_max, _blocks_of(zg.z)[1])
-            fits = states <= COUNT_MAX_STATES
-            out.append(Candidate("dp-counts", words, True, ops, memory, feasible=fits,
-                                 note="" if fits else "too many counting states",
+            t_max = float(e.max() * zg.integers.sum())
+            states, ops, memory = count_estimate(cls, t_max, _blocks_of(zg.integers)[1])
+            out.append(Candidate("dp-counts", words, True, ops, memory,
+                                 note=f"about {states:.3g} counting states",
                                  arrangements=float(arr)))
         out.append(monte_carlo_candidate(N, arr, draws))
         return out
@@ -265,7 +310,7 @@ class LinearTrend:
         _check_alternative(alternative)
         st = trend_setup(values, groups, scores)
         common = dict(statistic_name=self.statistic_name, statistic=st.t_obs)
-        if np.ptp(st.d) == 0 or np.ptp(st.x) == 0:
+        if is_constant(st.d) or is_constant(st.x):
             return EngineOutcome(p_value=1.0, method="exact", arrangements=multinomial(st.sizes),
                                  algorithm="none needed: every assignment gives the same statistic",
                                  warnings=("all dose scores or all values are equal: no trend "
@@ -285,15 +330,17 @@ class LinearTrend:
             raise PlanError("exact counting needs values and dose scores on decimal grids",
                             hint="use enumeration or monte-carlo")
         zg, dg, e, cls = grids
-        vals, mult = _blocks_of(zg.z)
+        z = zg.integers
+        vals, mult = _blocks_of(z)
         support, ways = count_linear(vals, mult, cls, lambda c, x, v: int(v) * int(x @ e), progress)
         # T = sum_i d_g(i) x_i = const + dg.step * zg.step * T', T' = sum_i e_g(i) z_i
-        t_int = support.astype(float)
-        e_item = dg.z[st.g]
-        t_obs_int = float(np.sum(e_item * zg.z))
-        center_int = float(zg.z.mean() * np.sum(st.sizes * dg.z))
-        p = pvalues.tail_probability(t_int, ways, t_obs_int, alternative, center=center_int)
-        t_values = st.t_obs + dg.step * zg.step * (t_int - t_obs_int)
+        e_item = dg.integers[st.g]
+        t_obs_int = int(np.sum(e_item * z))
+        mask = pvalues.integer_tail_mask(support, t_obs_int, alternative,
+                                         int(z.sum()) * int(np.sum(st.sizes * dg.integers)),
+                                         len(z))
+        p = pvalues.clip(ways[mask].sum() / ways.sum())
+        t_values = st.t_obs + dg.step * zg.step * (support.astype(float) - t_obs_int)
         return EngineOutcome(p_value=p, method="exact", arrangements=multinomial(st.sizes),
                              algorithm="dynamic programming over tie blocks and group counts "
                                        "(values on a decimal grid)",
@@ -302,9 +349,9 @@ class LinearTrend:
     def _enumerate(self, st: TrendSetup, alternative, progress, common):
         hits, seen, kept = 0, 0, []
         keep = multinomial(st.sizes) <= NULL_KEEP_MAX
-        for chunk in enumerate_group_sums(st.x, st.sizes, progress):
-            t = chunk[:, :, 0] @ st.d
-            hits += pvalues.exceedances(t, st.t_obs, alternative, center=st.center, scale=st.scale)
+        for chunk in enumerate_group_sums(st.w, st.sizes, progress):
+            t = chunk[:, :, 0] @ st.e
+            hits += st.tail_count(t, alternative)
             seen += len(t)
             if keep:
                 kept.append(t)
@@ -313,7 +360,8 @@ class LinearTrend:
             t = np.concatenate(kept)
             keys, inverse = np.unique(np.round((t - st.center) / st.scale, 10), return_inverse=True)
             n = np.bincount(inverse.ravel())
-            law = dict(null_support=np.bincount(inverse.ravel(), weights=t) / n, null_probs=n / seen)
+            rep = np.bincount(inverse.ravel(), weights=t) / n
+            law = dict(null_support=st.t_obs + st.unit * (rep - st.w_obs), null_probs=n / seen)
         return EngineOutcome(p_value=pvalues.clip(hits / seen), method="exact",
                              arrangements=multinomial(st.sizes),
                              algorithm="complete enumeration of every assignment to groups",
@@ -323,9 +371,8 @@ class LinearTrend:
         draws = int(draws or DEFAULT_DRAWS)
         seed = sampling.require_seed(seed)
         hits = 0
-        for chunk in sample_group_sums(st.x, st.sizes, seed, draws, progress):
-            t = chunk[:, :, 0] @ st.d
-            hits += pvalues.exceedances(t, st.t_obs, alternative, center=st.center, scale=st.scale)
+        for chunk in sample_group_sums(st.w, st.sizes, seed, draws, progress):
+            hits += st.tail_count(chunk[:, :, 0] @ st.e, alternative)
         p, interval = pvalues.monte_carlo_p(hits, draws)
         return EngineOutcome(p_value=p, method="monte-carlo", draws=draws, p_interval=interval,
                              seed=seed, algorithm="Monte Carlo: random assignments to groups",
@@ -340,61 +387,72 @@ def least_squares_slope(x, d_item) -> float:
 
 
 def slope_estimate(values, groups, scores=None, level: float = 0.95, alternative: str = "two-sided",
-                   progress: Progress = NO_PROGRESS,
-                   max_arrangements: float = INTERVAL_ENUMERATION_MAX) -> Estimate:
+                   progress: Progress = NO_PROGRESS, limits: Limits = NO_LIMITS_GIVEN) -> Estimate:
     """Least-squares slope of the values on the dose scores, with an exact interval.
 
     The interval is the set of slopes b0 that the permutation test of "slope = b0" (statistic
     sum_i d_i (y_i - b0 d_i), residuals exchangeable) does not reject at 1 - level (split
-    equally between the tails when two-sided). For each assignment the test's comparison is
-    linear in b0, so the set's ends are order statistics of ratios, found by listing every
-    assignment; when there are too many to list, no interval is given.
+    equally between the tails when two-sided; ends by the rule of `confidence`). For each
+    assignment the test's comparison is linear in b0, so the set's ends are order statistics
+    of ratios, found by listing every assignment; when listing them would not fit the plan's
+    limits (`set budget`, `set memory`), no interval is given.
     """
     _check_alternative(alternative)
     st = trend_setup(values, groups, scores)
     d_item = st.d[st.g]
     name = "trend slope (change in mean response per unit of dose score)"
-    if np.ptp(st.d) == 0:
+    if is_constant(st.d):
         return Estimate(name, float("nan"), None, level, "no slope: all dose scores are equal")
     b = least_squares_slope(st.x, d_item)
     arr = multinomial(st.sizes)
-    if arr > max_arrangements:
+    if not limits.fits(float(arr) * len(st.x) * _SLOPE_OPS_PER_ITEM, float(arr) * 8.0 * 3):
         return Estimate(name, b, None, level, "least squares; no exact interval: "
-                        f"{arr:,.0f} assignments are too many to list")
-    ratios, fixed = _slope_ratios(st, d_item, progress)
+                        f"{arr:,.0f} assignments are too many to list within the budget")
+    ratios, fixed = _slope_ratios(st, progress)
     lo, hi = _invert(ratios, fixed, arr, level, alternative)
     method = ("least squares; exact interval by inverting the permutation test of the slope "
               "(complete enumeration" + (", equal tails)" if alternative == "two-sided" else ")"))
     return Estimate(name, b, (lo, hi), level, method)
 
 
-def _slope_ratios(st: TrendSetup, d_item, progress):
-    """Ratios A/B for every assignment with B < 0, and the number with B = 0.
+def _slope_ratios(st: TrendSetup, progress):
+    """Ratios A/B (in the data's units) for every assignment with B < 0, and the number with
+    B = 0.
 
-    A = T - t_obs (values) and B = the same for the doses themselves; the test of slope b0
-    counts an assignment in its upper tail when A - b0 B >= 0.
+    A = W - w_obs on the values and B the same on the dose scores themselves (their integers
+    on grids, else centred: A and B do not move with either's offset); the test of slope b0
+    counts an assignment in its upper tail when A - b0 B >= 0, ties included.
     """
-    both = np.column_stack([st.x, d_item])
-    t_obs, b_obs = st.t_obs, float(np.sum(d_item * d_item))
-    tol = 1e-12 * max(b_obs, 1e-300)
+    w, e, unit = st.w, st.e, st.ratio_unit
+    exact = st.exact and float(np.max(np.abs(e))) ** 2 * len(st.x) < EXACT_COUNT_LIMIT
+    if not exact:           # B's squares would pass the exact integers: centred instead
+        w, e, unit = centred(st.x), centred(st.d), 1.0
+    e_item = e[st.g]
+    w_obs = float(np.sum(e_item * w))
+    both = np.column_stack([w, e_item])
+    b_obs = float(np.sum(e_item * e_item))
+    tol = 0.0 if exact else pvalues.tolerance(b_obs)
     ratios, fixed = [], 0
     for chunk in enumerate_group_sums(both, st.sizes, progress):
-        a = chunk[:, :, 0] @ st.d - t_obs
-        bb = chunk[:, :, 1] @ st.d - b_obs
+        a = chunk[:, :, 0] @ e - w_obs
+        bb = chunk[:, :, 1] @ e - b_obs
         moved = bb < -tol
         fixed += int(np.count_nonzero(~moved))
         ratios.append(a[moved] / bb[moved])
-    return np.sort(np.concatenate(ratios)), fixed
+    return np.sort(np.concatenate(ratios)) * unit, fixed
 
 
 def _invert(ratios, fixed, arr, level, alternative):
-    """Ends of {b0 : p(b0) > alpha_tail} in each tail, from the sorted ratios."""
-    alpha = 1.0 - level
-    tail = alpha / 2.0 if alternative == "two-sided" else alpha
-    need = int(math.floor(arr * tail + 1e-9)) - fixed + 1      # ratios needed on each side
+    """Ends of {b0 : p(b0) > alpha_side} in each tail, from the sorted ratios: p_higher(b0) =
+    (fixed + #{ratios <= b0}) / arr, p_lower(b0) = (fixed + #{ratios >= b0}) / arr."""
+    need = rejected_up_to(alpha_side(level, alternative), arr) - fixed + 1
     m = len(ratios)
-    lo = -math.inf if need <= 0 else float(ratios[need - 1])
-    hi = math.inf if need <= 0 else float(ratios[m - need])
+    if need <= 0:
+        lo, hi = -math.inf, math.inf
+    elif need > m:
+        lo, hi = math.inf, -math.inf
+    else:
+        lo, hi = float(ratios[need - 1]), float(ratios[m - need])
     if alternative == "higher":
         hi = math.inf
     elif alternative == "lower":

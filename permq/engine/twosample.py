@@ -13,20 +13,19 @@ from typing import Callable, Optional
 
 import numpy as np
 
+from ..errors import PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .core import pvalues
-from .core.counting import EXACT_COUNT_LIMIT, convolve_counts, counts_by_size, layer_bytes
+from .core.counting import convolve_counts, counts_by_size, layer_bytes
 from .core.enumeration import combinations_chunks
+from .core.grid import Grid, integer_grid, reference_value
 from .core.jumps import collect_sampled, interval_from_jumps
+from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
 from .montecarlo.draws import random_u32, subset_sums
 from .core.progress import NO_PROGRESS, Progress
 from .montecarlo.sampling import iter_blocks
-from .core.scores import Grid, integer_grid, median_scores, midranks, normal_scores
-
-MAX_DP_BYTES = 2.0e9
-# the Monte Carlo interval uses the first draws up to this many (memory stays bounded)
-MAX_INTERVAL_DRAWS = 2_000_000
+from .core.scores import median_scores, midranks, normal_scores
 
 
 @dataclass(frozen=True)
@@ -60,14 +59,6 @@ def scores_for(rule, x, y) -> np.ndarray:
     return rule_of(rule).scores(np.concatenate([x, y]).astype(float))
 
 
-def statistic_from_sum(rule, s, a, n1: int):
-    """The reported statistic for group-1 score sum(s) s."""
-    if rule_of(rule).mean_difference:
-        n2 = len(a) - n1
-        return np.asarray(s) / n1 - (a.sum() - np.asarray(s)) / n2
-    return np.asarray(s, dtype=float)
-
-
 # ---------------------------------------------------------------- cost
 
 def candidates(rule, x, y, draws: int) -> list[Candidate]:
@@ -87,14 +78,16 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
         note = ("scores are integers" if not rule.mean_difference
                 else f"data on a grid of {grid.step:g} ({grid.decimals} decimals)")
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
-                             feasible=mem <= MAX_DP_BYTES, note=note, arrangements=total))
+                             note=note, arrangements=total))
     else:
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True,
                              float("inf"), float("inf"), feasible=False,
                              note="scores do not lie on a decimal grid", arrangements=total))
-    # listing runs at about 3 microseconds an arrangement (itertools, gathers, sums)
+    # listing runs at about 3 microseconds an arrangement (itertools, gathers, sums); every
+    # sum is kept (and for means the moved count and jump too)
     out.append(Candidate("enumeration", "complete enumeration", True, total * (n1 * 8 + 600),
-                         min(total, 2e5) * n1 * 8 * 3, arrangements=total,
+                         min(total, 1e5) * n1 * 8 * 3 + total * 8 * (3 if rule.mean_difference else 1),
+                         arrangements=total,
                          note=f"{total:.3g} arrangements"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
                          draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=total,
@@ -104,6 +97,39 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
 
 # ---------------------------------------------------------------- run
 
+@dataclass(frozen=True)
+class Scores:
+    """The pooled scores as base + unit * w: w the grid's integers (exact sums) when the scores
+    lie on a grid, else the scores centred on one of their values."""
+
+    a: np.ndarray
+    w: np.ndarray
+    base: float
+    unit: float
+    grid: Optional[Grid]
+
+    @property
+    def exact(self) -> bool:
+        return self.grid is not None
+
+
+def _scores(a) -> Scores:
+    grid = integer_grid(a)
+    if grid is not None and float(grid.integers.sum()) < EXACT_COUNT_LIMIT:
+        return Scores(a, grid.integers.astype(float), grid.origin, grid.step, grid)
+    ref = reference_value(a)
+    return Scores(a, a - ref, ref, 1.0, None)
+
+
+def _statistic(rule: ScoreRule, sc: Scores, s_w, n1: int):
+    """The reported statistic for a group-1 sum s_w of w (differences of means need no base)."""
+    s_w = np.asarray(s_w, dtype=float)
+    if rule.mean_difference:
+        n2 = len(sc.w) - n1
+        return sc.unit * (s_w / n1 - (sc.w.sum() - s_w) / n2)
+    return n1 * sc.base + sc.unit * s_w
+
+
 def run(rule, x, y, alternative: str, algorithm: str, level: float,
         draws: Optional[int] = None, seed: Optional[int] = None,
         progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:
@@ -111,30 +137,43 @@ def run(rule, x, y, alternative: str, algorithm: str, level: float,
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
     fam = rule_of(rule)
-    a = scores_for(fam, x, y)
+    sc = _scores(scores_for(fam, x, y))
     n1 = len(x)
-    t_obs = float(statistic_from_sum(fam, a[:n1].sum(), a, n1))
+    t_obs = float(_statistic(fam, sc, sc.w[:n1].sum(), n1))
     if algorithm == "dp-integer":
-        return _run_dp(fam, x, y, a, alternative, level, t_obs, progress)
+        return _run_dp(fam, x, y, sc, alternative, level, t_obs, progress)
     if algorithm == "enumeration":
-        return _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress)
-    return _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progress)
+        return _run_enumeration(fam, x, y, sc, alternative, level, t_obs, progress)
+    return _run_monte_carlo(fam, x, y, sc, alternative, level, t_obs, draws, seed, progress)
 
 
-def _run_dp(fam, x, y, a, alternative, level, t_obs, progress):
-    n1, N = len(x), len(a)
-    grid = integer_grid(a)
+def _tail_count(sc: Scores, sums, s_obs, n1, alternative) -> int:
+    """How many group-1 sums of w are at least as extreme as s_obs: exactly on a grid."""
+    N = len(sc.w)
+    if sc.exact:
+        return pvalues.integer_exceedances(sums, s_obs, alternative, int(sc.w.sum()) * n1, N)
+    center = n1 * sc.w.mean()
+    return pvalues.exceedances(sums, s_obs, alternative, center=center,
+                               scale=max(abs(s_obs - center), float(np.abs(sc.w).max())))
+
+
+def _run_dp(fam, x, y, sc, alternative, level, t_obs, progress):
+    n1, N = len(x), len(sc.w)
+    grid = sc.grid
+    if grid is None:
+        raise PlanError("the scores do not lie on a decimal grid; use enumeration or Monte Carlo")
     q = grid.integers
     table = counts_by_size(q, n1, progress)
     counts = table[n1]
     support = np.flatnonzero(counts)
     counts = counts[support]
     s_obs = int(q[:n1].sum())
-    p = _integer_tail(support, counts, s_obs, int(q.sum()) * n1, N, alternative)
+    mask = pvalues.integer_tail_mask(support, s_obs, alternative, int(q.sum()) * n1, N)
+    p = pvalues.clip(counts[mask].sum() / counts.sum())
     total = comb(N, n1)
     warn = () if total < EXACT_COUNT_LIMIT else (
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
-    stat_support = statistic_from_sum(fam, n1 * grid.origin + grid.step * support, a, n1)
+    stat_support = _statistic(fam, sc, support, n1)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact",
                         "dynamic programming on integer scores", arrangements=float(total),
                         null_support=stat_support, null_probs=counts / counts.sum(), warnings=warn)
@@ -142,18 +181,6 @@ def _run_dp(fam, x, y, a, alternative, level, t_obs, progress):
     if fam.mean_difference:
         interval = _shift_interval_dp(q[:n1], q[n1:], grid, level, alternative, total)
     return out, interval
-
-
-def _integer_tail(support, counts, s_obs, center_num, center_den, alternative) -> float:
-    """Exact integer comparisons: two-sided |den*s - num| >= |den*s_obs - num|."""
-    if alternative == "higher":
-        mask = support >= s_obs
-    elif alternative == "lower":
-        mask = support <= s_obs
-    else:
-        dev = np.abs(support.astype(np.int64) * center_den - center_num)
-        mask = dev >= abs(s_obs * center_den - center_num)
-    return pvalues.clip(counts[mask].sum() / counts.sum())
 
 
 def _shift_interval_dp(q1, q2, grid: Grid, level, alternative, total):
@@ -170,46 +197,43 @@ def _shift_interval_dp(q1, q2, grid: Grid, level, alternative, total):
         conv = convolve_counts(c1, c2[::-1])
         w = np.arange(len(conv)) - (len(c2) - 1)
         nz = conv > 0
-        values.append(grid.step * w[nz] / u)
+        values.append(grid.differences(w[nz]) / u)
         counts.append(conv[nz])
     return interval_from_jumps(np.concatenate(values), np.concatenate(counts), 1.0, float(total),
                                level, alternative)
 
 
-def _run_enumeration(fam, x, y, a, alternative, level, t_obs, progress):
-    n1, N = len(x), len(a)
+def _run_enumeration(fam, x, y, sc, alternative, level, t_obs, progress):
+    n1, N = len(x), len(sc.w)
     total = comb(N, n1)
-    center = n1 * a.mean()
-    s_obs = a[:n1].sum()
+    w = sc.w
+    s_obs = w[:n1].sum()
     sums, us, ws = [], [], []
-    x_sum = a[:n1].sum()
     done = 0
     for idx in combinations_chunks(N, n1):
-        s = a[idx].sum(axis=1)
+        s = w[idx].sum(axis=1)
         sums.append(s)
         if fam.mean_difference:
             in2 = idx >= n1
             u = in2.sum(axis=1)
-            g2_in = np.where(in2, a[idx], 0.0).sum(axis=1)
-            g1_out = x_sum - (s - g2_in)
+            g2_in = np.where(in2, w[idx], 0.0).sum(axis=1)
+            g1_out = s_obs - (s - g2_in)
             us.append(u)
             ws.append(g1_out - g2_in)
         done += len(idx)
         progress.step(done / total, "enumerating")
     sums = np.concatenate(sums)
-    b = pvalues.exceedances(sums, s_obs, alternative, center=center,
-                            scale=max(abs(s_obs - center), np.abs(a).max()))
-    p = pvalues.clip(b / total)
+    p = pvalues.clip(_tail_count(sc, sums, s_obs, n1, alternative) / total)
     uniq, cnt = _tally(sums)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact", "complete enumeration",
                         arrangements=float(total),
-                        null_support=statistic_from_sum(fam, uniq, a, n1), null_probs=cnt / total)
+                        null_support=_statistic(fam, sc, uniq, n1), null_probs=cnt / total)
     interval = None
     if fam.mean_difference:
         u = np.concatenate(us)
-        w = np.concatenate(ws)
+        jump = np.concatenate(ws)
         moved = u > 0
-        interval = interval_from_jumps(w[moved] / u[moved], np.ones(moved.sum()),
+        interval = interval_from_jumps(sc.unit * jump[moved] / u[moved], np.ones(moved.sum()),
                                        float((~moved).sum()), float(total), level, alternative)
     return out, interval
 
@@ -218,34 +242,33 @@ def _tally(values):
     v = np.sort(values)
     if v.size == 0:
         return v, v
-    scale = max(1.0, float(np.abs(v).max()))
+    scale = max(float(np.abs(v).max()), 1e-300)
     new = np.empty(v.size, dtype=bool)
     new[0] = True
-    new[1:] = np.diff(v) > 1e-9 * scale
+    new[1:] = np.diff(v) > pvalues.RTOL * scale
     starts = np.flatnonzero(new)
     return v[starts], np.diff(np.append(starts, v.size)).astype(float)
 
 
-def _run_monte_carlo(fam, x, y, a, alternative, level, t_obs, draws, seed, progress):
-    n1, N = len(x), len(a)
-    s_obs = a[:n1].sum()
-    center = n1 * a.mean()
-    scale = max(abs(s_obs - center), float(np.abs(a).max()))
+def _run_monte_carlo(fam, x, y, sc, alternative, level, t_obs, draws, seed, progress):
+    n1, N = len(x), len(sc.w)
+    w = sc.w
+    s_obs = w[:n1].sum()
     means = fam.mean_difference
 
     def work(size, rng):
-        s, u = subset_sums(a, n1, random_u32(rng, size, n1), sums_only=not means)
-        b = pvalues.exceedances(s, s_obs, alternative, center=center, scale=scale)
+        s, u = subset_sums(w, n1, random_u32(rng, size, n1), sums_only=not means)
+        b = _tail_count(sc, s, s_obs, n1, alternative)
         if not means:
             return b, None, 0
         # jump of each arrangement: (group-1 sum moved out - group-2 sum moved in) / u, which
         # is (observed group-1 sum - this arrangement's) / u
         moved = u > 0
-        jumps = (s_obs - s)[moved] / u[moved]
+        jumps = sc.unit * (s_obs - s)[moved] / u[moved]
         return b, jumps, int((~moved).sum())
 
     b, vals, identity, used = collect_sampled(iter_blocks(seed, draws, work, progress), means,
-                                              MAX_INTERVAL_DRAWS)
+                                              INTERVAL_DRAWS)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "monte-carlo",
                         "Monte Carlo sampling of arrangements", arrangements=float(comb(N, n1)),

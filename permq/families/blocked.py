@@ -39,7 +39,8 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     test = blocked_test(design)
     out = blocks_engine.run(test, v, g, design.blocks, s.alternative, the_plan.chosen.algorithm,
                             the_plan.draws, the_plan.seed, progress, n_groups=len(design.labels),
-                            block_names=design.block_labels, group_names=design.labels)
+                            block_names=design.block_labels, group_names=design.labels,
+                            limits=the_plan.limits)
     where = f"{len(design.block_labels)} blocks"
     labels = design.labels
     if s.kind == "stratified":

@@ -8,7 +8,7 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
-from ..lazy import stats
+from ..engine.core.scores import midranks
 
 from ..lazy import module
 from ..errors import PlanError
@@ -181,7 +181,7 @@ def _direction(design) -> np.ndarray:
     """+1 where the first level's mean score is the higher, else -1."""
     v = design.values
     if design.settings.family == "ranks":
-        v = stats.rankdata(v, axis=0, nan_policy="omit")
+        v = midranks(v, axis=0, nan_policy="omit")
     with np.errstate(invalid="ignore"):
         d = np.nanmean(v[design.groups == 0], axis=0) - np.nanmean(v[design.groups == 1], axis=0)
     return np.where(d < 0, -1.0, 1.0)
@@ -190,7 +190,7 @@ def _direction(design) -> np.ndarray:
 def _pair_rows(design, out) -> list:
     s = design.settings
     y = design.values[:, 0]
-    scores = y if s.family == "means" else stats.rankdata(y)
+    scores = y if s.family == "means" else midranks(y)
     rows = []
     for i, (a, b) in enumerate(out.pairs):
         xa, xb = y[design.groups == a], y[design.groups == b]

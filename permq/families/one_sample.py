@@ -6,7 +6,7 @@ import numpy as np
 from ..engine import onesample, rankintervals
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..normal.theory import one_sample as normal_one_sample
-from ..engine.onesample import MAX_INTERVAL_DRAWS
+from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
 from .registry import Family
@@ -72,8 +72,8 @@ def _estimate(design, interval, method, the_draws=0):
 def _sampled_words(method, draws, what):
     if method != "monte-carlo":
         return ""
-    if draws > MAX_INTERVAL_DRAWS:
-        return f" (on the first {MAX_INTERVAL_DRAWS:,} sampled {what})"
+    if draws > INTERVAL_DRAWS:
+        return f" (on the first {INTERVAL_DRAWS:,} sampled {what})"
     return f" (on the sampled {what})"
 
 

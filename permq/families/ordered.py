@@ -10,9 +10,6 @@ from .registry import Family
 ordered = module("permq.engine.ordered")           # loaded when a statement first runs
 normal_k = module("permq.normal.ksample")
 
-# the exact trend-slope interval lists every assignment: at most this many (about 0.3 s)
-SLOPE_INTERVAL_LISTING = 200_000
-
 
 def plan(design):
     s = design.settings
@@ -39,7 +36,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
         normal = normal_k.jonckheere_normal(v, g, s.alternative)
         also.append(normal_k.linear_trend_t(v, g, design.scores, s.alternative, s.level))
     estimate = ordered.slope_estimate(v, g, design.scores, s.level, s.alternative, progress,
-                                      max_arrangements=SLOPE_INTERVAL_LISTING)
+                                      limits=the_plan.limits)
     return Result(statement, design.kind, s.alternative, out, normal, estimate,
                   effect=f"a rise along {' < '.join(design.labels)}",
                   groups=normal_k.group_summaries(v, g, design.labels),

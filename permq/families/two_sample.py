@@ -6,7 +6,7 @@ import numpy as np
 from ..engine import rankintervals, twosample
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..normal.theory import two_sample as normal_two_sample
-from ..engine.twosample import MAX_INTERVAL_DRAWS
+from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
 from .registry import Family
@@ -65,8 +65,8 @@ def _summary(name, v):
 def _sampled_words(method, draws, what):
     if method != "monte-carlo":
         return ""
-    if draws > MAX_INTERVAL_DRAWS:
-        return f" (on the first {MAX_INTERVAL_DRAWS:,} sampled {what})"
+    if draws > INTERVAL_DRAWS:
+        return f" (on the first {INTERVAL_DRAWS:,} sampled {what})"
     return f" (on the sampled {what})"
 
 

@@ -19,6 +19,7 @@ from typing import Optional
 import numpy as np
 from ..lazy import stats
 
+from ..engine.core.scores import midranks
 from ..errors import DataError
 from ..result import NormalTheory
 from .degenerate import ALL_TIED, LEVERAGE_ONE, NO_RESIDUAL, no_residual, undefined
@@ -63,7 +64,7 @@ def fisher_interval(r: float, n: int, level: float, alternative: str) -> tuple:
 
 def spearman(y, x, alternative: str) -> NormalTheory:
     n = len(y)
-    rho = float(np.corrcoef(stats.rankdata(x), stats.rankdata(y))[0, 1])
+    rho = float(np.corrcoef(midranks(x), midranks(y))[0, 1])
     name = "t approximation for Spearman's rho (mid-ranks)"
     if no_residual(1.0 - rho * rho, 1.0):
         return undefined(name, "the ranks agree perfectly", n - 2)

@@ -13,7 +13,9 @@ import numpy as np
 from ..lazy import stats
 
 from ..engine.blocks.complete import block_matrix, friedman_from_ranks
-from ..engine.blocks.shared import design_arrays, midranks
+from ..engine.blocks.shared import design_arrays
+from ..engine.core.grid import negligible
+from ..engine.core.scores import midranks
 from ..engine.blocks.stratified import prepare_stratified
 from ..errors import BindError
 from ..result import NormalTheory

@@ -19,7 +19,7 @@ import numpy as np
 
 from ..result import NormalTheory
 
-ZERO_RTOL = 1e-12        # sums of squares (and spreads off a grid) below this share are zero
+from ..engine.core.grid import DEGENERACY_RTOL as ZERO_RTOL  # one threshold (engine/core/grid.py)
 
 ZERO_SPREAD = "zero spread"
 NO_RESIDUAL = "zero residual"
@@ -29,7 +29,7 @@ ALL_TIED = "all values tied"
 
 def no_spread(values) -> bool:
     """True when the values are all equal as recorded (see the module's note)."""
-    from ..engine.core.scores import integer_grid     # on first use: keeps start-up light
+    from ..engine.core.grid import integer_grid
 
     v = np.asarray(values, dtype=float)
     if v.size < 2:
@@ -42,7 +42,8 @@ def no_spread(values) -> bool:
 
 def no_residual(residual_ss: float, total_ss: float) -> bool:
     """A model's residual sum of squares is zero (to ZERO_RTOL of the total about the mean)."""
-    return residual_ss <= ZERO_RTOL * max(total_ss, 1e-300)
+    from ..engine.core.grid import negligible
+    return bool(negligible(residual_ss, total_ss))
 
 
 def undefined(test: str, why: str, df=None) -> NormalTheory:

@@ -11,7 +11,9 @@ from typing import Optional
 import numpy as np
 from ..lazy import stats
 
-from ..engine.ksample import above_median, design, midranks, normal_scores
+from ..engine.core.grid import centred, is_constant, negligible
+from ..engine.core.scores import median_scores, midranks, normal_scores
+from ..engine.ksample import design
 from ..engine.ordered import dose_scores, jt_doubled, least_squares_slope
 from ..result import NormalTheory
 from .degenerate import ALL_TIED, NO_RESIDUAL, ZERO_SPREAD, no_residual, no_spread, undefined
@@ -64,7 +66,10 @@ def welch_anova(values, groups) -> NormalTheory:
 
 def _quadratic_chi_square(score, values, groups, factor):
     x, g, sizes = design(values, groups)
-    a = score(x)
+    raw = score(x)
+    if is_constant(raw):
+        return math.nan, 1.0, len(sizes) - 1
+    a = centred(raw)
     a = a - a.mean()
     sst = float(np.sum(a * a))
     if sst <= 0:
@@ -87,7 +92,7 @@ def normal_scores_chi_square(values, groups) -> NormalTheory:
 
 def median_chi_square(values, groups) -> NormalTheory:
     return _chi_square_test("median test, Pearson chi-square approximation (no continuity "
-                            "correction)", above_median, values, groups, lambda N: N)
+                            "correction)", median_scores, values, groups, lambda N: N)
 
 
 def _chi_square_test(name, score, values, groups, factor) -> NormalTheory:

@@ -14,10 +14,8 @@ from dataclasses import dataclass
 from typing import Callable, Optional
 
 from ..errors import PlanError
+from ..engine.core.limits import DEFAULT_DRAWS, EXACT_CEILING_SECONDS, Limits, limits_for
 from .cost import Candidate, calibrated
-
-DEFAULT_DRAWS = 100_000
-EXACT_CEILING_SECONDS = 3600.0
 
 
 @dataclass(frozen=True)
@@ -30,6 +28,7 @@ class Plan:
     seed: Optional[int]         # None only outside the pipeline (nothing sampled yet)
     reason: str
     budget_seconds: float
+    limits: Limits = Limits()      # from the settings (`set memory`, `set budget`), for the engine
 
     @property
     def method(self) -> str:
@@ -65,7 +64,8 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
     budget = settings.budget_seconds
 
     def plan(chosen, reason):
-        return Plan(engine, family, chosen, cands, draws, seed, reason, budget)
+        return Plan(engine, family, chosen, cands, draws, seed, reason, budget,
+                    limits_for(settings))
 
     if settings.sampled and mc is not None:
         return plan(mc, f"'sampled {settings.sampled}' asks for Monte Carlo")

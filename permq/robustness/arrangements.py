@@ -20,11 +20,11 @@ permutations, so the p-value is unchanged) when there are at most EXACT_LIMIT of
 from __future__ import annotations
 
 from dataclasses import dataclass
-from math import comb
 from typing import Optional
 
 import numpy as np
 
+from ..engine.core.counting import multinomial
 from ..engine.core.enumeration import distinct_arrangements  # noqa: F401  (used and re-exported)
 from .problem import Problem
 
@@ -57,14 +57,6 @@ def _strata(problem: Problem) -> list:
     return [np.nonzero(problem.strata == s)[0] for s in np.unique(problem.strata)]
 
 
-def _multinomial(codes) -> int:
-    total, out = 0, 1
-    for c in np.bincount(codes):
-        total += int(c)
-        out *= comb(total, int(c))
-    return out
-
-
 def reference_size(problem: Problem) -> int:
     """The number of distinct arrangements (sign patterns) of the design."""
     if problem.form == "signs":
@@ -72,7 +64,7 @@ def reference_size(problem: Problem) -> int:
     codes, _ = _base_codes(problem)
     out = 1
     for units in _strata(problem):
-        out *= _multinomial(codes[units])
+        out *= multinomial(np.bincount(codes[units]))
     return out
 
 

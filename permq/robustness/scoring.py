@@ -8,10 +8,10 @@ from __future__ import annotations
 import numpy as np
 
 
-def _rankdata(Y, axis=1):
-    from scipy.stats import rankdata
+def _midranks(Y, axis=1):
+    from ..engine.core.scores import midranks
 
-    return rankdata(Y, axis=axis)
+    return midranks(Y, axis=axis)
 
 
 def values(problem, Y):
@@ -21,14 +21,14 @@ def values(problem, Y):
 
 def ranks(problem, Y):
     """Mid-ranks within each data set."""
-    return _rankdata(Y)
+    return _midranks(Y)
 
 
 def normal_scores(problem, Y):
     """van der Waerden scores of the mid-ranks."""
     from scipy.stats import norm
 
-    return norm.ppf(_rankdata(Y) / (Y.shape[1] + 1))
+    return norm.ppf(_midranks(Y) / (Y.shape[1] + 1))
 
 
 def above_median(problem, Y):
@@ -38,7 +38,7 @@ def above_median(problem, Y):
 
 def signed_ranks(problem, Y):
     """Signed mid-ranks of |d|: zeros keep their place in the ranking (Pratt) and carry no sign."""
-    return np.sign(Y) * _rankdata(np.abs(Y))
+    return np.sign(Y) * _midranks(np.abs(Y))
 
 
 def signs(problem, Y):
@@ -50,7 +50,7 @@ def ranks_within(problem, Y):
     out = np.empty_like(Y, dtype=float)
     for s in np.unique(problem.strata):
         units = np.nonzero(problem.strata == s)[0]
-        out[:, units] = _rankdata(Y[:, units])
+        out[:, units] = _midranks(Y[:, units])
     return out
 
 

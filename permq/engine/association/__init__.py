@@ -21,18 +21,20 @@ step functions of beta and the endpoints are read off exactly from the jumps of 
 reference set (all arrangements, or the same Monte Carlo draws for every beta)."""
 from __future__ import annotations
 
-from math import factorial, prod
+from math import factorial
 from typing import Optional
 
 import numpy as np
-from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome, Estimate
+from ..core.counting import multinomial
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
+from ..core.scores import midranks
 from ..montecarlo.sampling import require_seed
 from .adjusted import _run_freedman_lane, adjusted_coefficient
-from .pairings import (CHUNK, DEFAULT_DRAWS, DESCRIPTIONS, ENUMERATION_LIMIT, _big, _has_ties,
+from .pairings import (CHUNK, DESCRIPTIONS, _big, _has_ties,
                        _run_enumeration, _run_inversions, _run_monte_carlo, arrangements,
                        check_inputs, distinct_pairs, problem)
 from .slope import slope_estimate, slope_outcome, slope_pass
@@ -47,9 +49,9 @@ def reference_size(statistic: str, y, x) -> int:
     """Distinct arrangements enumeration would list."""
     if statistic == "slope":
         counts = distinct_pairs(y, x)[2]
-        return factorial(len(x)) // prod(factorial(int(c)) for c in counts)
+        return multinomial(counts)
     if statistic == "spearman":
-        y, x = stats.rankdata(y), stats.rankdata(x)
+        y, x = midranks(y), midranks(x)
     return min(arrangements(y), arrangements(x))
 
 
@@ -74,7 +76,7 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
         out.append(_inversions_candidate(y, x))
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, total * per,
                          min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0),
-                         feasible=total <= ENUMERATION_LIMIT, arrangements=total,
+                         arrangements=total,
                          note=f"{total:.4g} distinct arrangements"))
     # Kendall's S of a draw by merge sort: about n log2 n steps (compiled)
     per_draw = {"kendall": 6 * n + 4 * n * np.log2(n), "slope": 12.0 * n}.get(statistic, 6.0 * n)
@@ -124,7 +126,7 @@ def run(statistic: str, y, x, alternative: str, algorithm: str, draws: Optional[
 
 
 def _scores(statistic, v):
-    return stats.rankdata(v) if statistic == "spearman" else v
+    return midranks(v) if statistic == "spearman" else v
 
 
 def _mc_settings(algorithm, draws, seed):

@@ -9,6 +9,7 @@ import numpy as np
 from ...errors import DataError
 from ...result import EngineOutcome
 from ..core import pvalues
+from ..core.grid import negligible
 from ..montecarlo.sampling import blocks
 from .pairings import DESCRIPTIONS, Shuffler, _big
 
@@ -37,7 +38,7 @@ def reduced_model(y, x, covariates) -> Reduced:
     resid = y - q @ (q.T @ y)
     xt = x - q @ (q.T @ x)
     sxx = float(xt @ xt)
-    if sxx <= 1e-12 * float(((x - x.mean()) ** 2).sum()):
+    if negligible(sxx, float(((x - x.mean()) ** 2).sum())):
         raise DataError("the predictor is a linear combination of the covariates")
     df = n - q.shape[1] - 1
     if df < 1:

@@ -4,15 +4,17 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 import itertools
-from math import comb, factorial, prod
+from math import comb, factorial
 from typing import Optional
 
 import numpy as np
-from ...lazy import stats
 
 from ...errors import DataError
 from ...result import EngineOutcome
 from ..core import pvalues
+from ..core.counting import distinct_orderings
+from ..core.grid import centred, is_constant
+from ..core.scores import midranks
 from ..core.progress import Progress
 from ..montecarlo.draws import KendallPairs, random_u32, shuffled_dots
 from ..montecarlo.draws import kendall_s as shuffled_kendall_s
@@ -22,8 +24,6 @@ STATISTICS = ("pearson", "spearman", "kendall", "slope")
 ALTERNATIVES = ("higher", "lower", "two-sided")
 CHUNK = 1 << 16               # arrangements evaluated at a time
 ROW_BYTES = 1 << 25           # bytes of permuted rows held at a time (Monte Carlo)
-ENUMERATION_LIMIT = 1e10      # beyond this, listing arrangements is not offered
-DEFAULT_DRAWS = 10_000
 
 DESCRIPTIONS = {
     "enumeration": "complete enumeration",
@@ -62,7 +62,7 @@ def check_inputs(y, x, alternative: Optional[str] = None, covariates=None):
     if not (np.all(np.isfinite(y)) and np.all(np.isfinite(x))):
         raise DataError("the values must be finite numbers (no missing values)")
     for name, v in (("the response", y), ("the predictor", x)):
-        if np.ptp(v) == 0:
+        if is_constant(v):
             raise DataError(f"{name} is constant, so no association can be measured")
     if alternative is not None and alternative not in ALTERNATIVES:
         raise ValueError(f"alternative must be one of {ALTERNATIVES}, not {alternative!r}")
@@ -82,7 +82,7 @@ def problem(statistic: str, y, x, fixed_is_x: bool = True) -> Problem:
     if statistic not in STATISTICS:
         raise KeyError(statistic)
     if statistic == "spearman":
-        y, x = stats.rankdata(y), stats.rankdata(x)
+        y, x = midranks(y), midranks(x)
     if not fixed_is_x:
         if statistic == "slope":
             raise ValueError("the slope is not symmetric in x and y")
@@ -90,7 +90,11 @@ def problem(statistic: str, y, x, fixed_is_x: bool = True) -> Problem:
     ties = _has_ties(x) or _has_ties(y)
     if statistic == "kendall":
         return _kendall_problem(y, x, ties)
-    xc = x - x.mean()
+    # both centred on one of their own values first: no offset drowns the differences (T moves
+    # by the same constant for every arrangement, so no p-value changes)
+    xc = centred(x)
+    xc = xc - xc.mean()
+    y = centred(y)
     sxx, syy = float(xc @ xc), float(((y - y.mean()) ** 2).sum())
     t_obs = float(y @ xc)
     if statistic == "slope":
@@ -140,8 +144,7 @@ def kendall_s(y, x, rows: int = 256) -> int:
 
 def arrangements(v) -> int:
     """Distinct arrangements of v: n! / prod(t!) over tied groups."""
-    _, c = np.unique(v, return_counts=True)
-    return factorial(len(v)) // prod(factorial(int(t)) for t in c)
+    return distinct_orderings(v)
 
 
 def distinct_pairs(y, x):

@@ -2,13 +2,15 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from math import factorial, prod
+from math import factorial
 from typing import Optional
 
 import numpy as np
 
 from ...result import EngineOutcome, Estimate
 from ..core import pvalues
+from ..core.counting import multinomial
+from ..core.confidence import alpha_side, first_kept
 from ..core.progress import NO_PROGRESS
 from ..montecarlo.sampling import blocks
 from .pairings import (DESCRIPTIONS, Problem, Shuffler, _big, _tally, arrangement_chunks,
@@ -34,10 +36,11 @@ def slope_pass(y, x, algorithm: str, draws=None, seed=None, progress=NO_PROGRESS
     if algorithm not in ("enumeration", "monte-carlo"):
         raise ValueError(f"the slope is tested by enumeration or monte-carlo, not {algorithm!r}")
     pb = problem("slope", y, x)
+    y = pb.moving           # centred as the problem's T is (the same constant off every T)
     ts, dens = [], []
     if algorithm == "enumeration":
         xr, yr, counts = distinct_pairs(y, x)
-        total = factorial(len(x)) // prod(factorial(int(c)) for c in counts)
+        total = multinomial(counts)
         done = 0
         for labels in arrangement_chunks(counts):
             _slope_rows(pb, x, xr[labels], yr[labels], ts, dens)
@@ -99,10 +102,12 @@ def p_at(sp: SlopePass, beta: float, side: str) -> float:
 def interval_from_jumps(jumps_higher, jumps_lower, identity: float, total: float, level: float,
                         alternative: str) -> tuple:
     """{beta: p_higher(beta) > a and p_lower(beta) > a}, a = 1 - level (one-sided) or half
-    of it (two-sided, equal tails); closed at finite ends."""
-    side = (1.0 - level) / (2.0 if alternative == "two-sided" else 1.0)
-    ok = (identity + np.arange(len(jumps_higher) + 1)) / total > side
-    need = int(np.argmax(ok)) if ok.any() else None      # jumps needed to stop rejecting
+    of it (two-sided, equal tails), by the interval-end rule of `core.confidence`; closed at
+    finite ends."""
+    side = alpha_side(level, alternative)
+    cum = identity + np.arange(len(jumps_higher) + 1, dtype=float)
+    need = first_kept(cum, total, side)                 # jumps needed to stop rejecting
+    need = None if need == cum.size else need
     lo, hi = -np.inf, np.inf
     if alternative in ("two-sided", "higher"):
         c = np.sort(np.asarray(jumps_higher, dtype=float))

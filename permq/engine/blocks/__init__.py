@@ -27,11 +27,12 @@ from typing import Optional
 from ...errors import BindError, PlanError
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
+from ..core.limits import DEFAULT_DRAWS, EXACT_CEILING_SECONDS, NO_LIMITS_GIVEN, Limits
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import require_seed
 from .complete import (_complete_candidates, _complete_monte_carlo, _f_enumeration, _page_dp,
                        _quadratic_dp, prepare_complete)
-from .shared import COMPLETE, DEFAULT_DRAWS, STATISTIC_NAMES, STRATIFIED, TESTS, _check_alternative
+from .shared import COMPLETE, STATISTIC_NAMES, STRATIFIED, TESTS, _check_alternative
 from .stratified import (_stratified_candidates, _stratified_dp, _stratified_enumeration,
                          _stratified_monte_carlo, prepare_stratified)
 
@@ -56,8 +57,9 @@ def candidates(test, values, groups, blocks, draws: int = DEFAULT_DRAWS,
     return _complete_candidates(prep, draws)
 
 
-def _require_feasible(prep, algorithm):
-    """An exact algorithm past its limits is refused rather than left to exhaust memory."""
+def _require_feasible(prep, algorithm, limits: Limits):
+    """An exact algorithm that cannot apply, or past the plan's memory or the exact ceiling, is
+    refused rather than left to exhaust memory."""
     if algorithm == "monte-carlo":
         return
     found = (_stratified_candidates(prep, 1) if prep.test in STRATIFIED
@@ -66,11 +68,16 @@ def _require_feasible(prep, algorithm):
         if c.algorithm == algorithm and not c.feasible:
             raise PlanError(f"{c.description} does not apply to this design ({c.note}); "
                             "use Monte Carlo")
+        if c.algorithm == algorithm and (c.memory > limits.memory_bytes
+                                         or c.seconds > EXACT_CEILING_SECONDS):
+            raise PlanError(f"{c.description} would pass the limits for this design "
+                            f"({c.note}); use Monte Carlo")
 
 
 def run(test, values, groups, blocks, alternative, algorithm, draws: Optional[int] = None,
         seed: Optional[int] = None, progress: Progress = NO_PROGRESS,
-        n_groups: Optional[int] = None, block_names=None, group_names=None) -> EngineOutcome:
+        n_groups: Optional[int] = None, block_names=None, group_names=None,
+        limits: Limits = NO_LIMITS_GIVEN) -> EngineOutcome:
     """The permutation p-value of `test` by `algorithm` (a Candidate key).
 
     `n_groups` is the number of levels (when the last has no rows); `block_names` and
@@ -78,7 +85,7 @@ def run(test, values, groups, blocks, alternative, algorithm, draws: Optional[in
     """
     _check_alternative(test, alternative)
     prep = prepare(test, values, groups, blocks, n_groups, block_names, group_names)
-    _require_feasible(prep, algorithm)
+    _require_feasible(prep, algorithm, limits)
     if algorithm == "monte-carlo":
         draws = int(draws) if draws is not None else DEFAULT_DRAWS
         seed = require_seed(seed)

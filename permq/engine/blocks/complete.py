@@ -14,12 +14,13 @@ from ...errors import BindError, PlanError
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
 from ..core import pvalues
+from ..core.grid import MAX_DECIMALS, centred, integer_grid, negligible
 from ..core.progress import NO_PROGRESS, Progress
+from ..core.scores import midranks
 from ..montecarlo.sampling import iter_blocks
-from .shared import (CHUNK_ROWS, DESCRIPTIONS, MAX_DECIMALS, MAX_DP_BYTES, MAX_ENUMERATION,
-                     PAGE_MAX_TREATMENTS, STATISTIC_NAMES, VECTOR_MAX_TREATMENTS, _fraction_sum,
-                     _merge_tallies, _name, _outcome, convolve_exact, decimal_grid, design_arrays,
-                     integer_tail_mask, midranks)
+from .shared import (CHUNK_ROWS, DESCRIPTIONS, PAGE_MAX_TREATMENTS, STATISTIC_NAMES,
+                     VECTOR_MAX_TREATMENTS, _fraction_sum, _merge_tallies, _name, _outcome,
+                     convolve_exact, design_arrays, integer_tail_mask)
 
 # ================================================================ complete blocks
 
@@ -27,7 +28,8 @@ from .shared import (CHUNK_ROWS, DESCRIPTIONS, MAX_DECIMALS, MAX_DP_BYTES, MAX_E
 class Complete:
     test: str
     k: int
-    scores: np.ndarray          # b x k: mid-ranks (friedman, page) or values (F), by treatment
+    scores: np.ndarray          # b x k: mid-ranks (friedman, page) or values centred within
+                                # each block (F, which no block's offset changes), by treatment
     ints: Optional[np.ndarray]  # b x k non-negative integers, or None off a grid
     step: Optional[float]       # scores = per-block constant + step * ints
     t_obs: float                # the reported statistic
@@ -97,7 +99,7 @@ def f_from_table(y: np.ndarray) -> tuple[float, float, float]:
     sst = float(((y.mean(axis=0) - grand) ** 2).sum() * b)
     resid_total = float(((y - y.mean(axis=1, keepdims=True)) ** 2).sum())
     sse = max(resid_total - sst, 0.0)
-    if sse <= 1e-12 * max(resid_total, 1e-300):
+    if negligible(sse, resid_total):
         f = float("inf") if sst > 0 else float("nan")
     else:
         f = (sst / (k - 1)) / (sse / ((k - 1) * (b - 1)))
@@ -119,23 +121,23 @@ def prepare_complete(test, values, groups, blocks, n_groups=None, block_names=No
         return Complete(test, k, ranks, ints, step, t_obs, denom, tuple(warnings))
     if b < 2:
         raise BindError("the within-block F needs at least two blocks")
+    ints, step = _table_grid(y)                 # decided on the values as recorded
+    y = np.vstack([centred(row) for row in y])
     f, _, resid_total = f_from_table(y)
     if not np.isfinite(f):
         warnings.append("the additive model fits exactly (no residual variation): F is infinite"
                         if f == np.inf else "no variation within blocks: F is undefined")
-    ints, step = _table_grid(y)
     return Complete(test, k, y, ints, step, f, resid_total, tuple(warnings))
 
 
 def _table_grid(y):
-    grid = decimal_grid(y.ravel())
+    grid = integer_grid(y.ravel())
     if grid is None:
         return None, None
-    ints, d = grid
-    ints = ints.reshape(y.shape)
+    ints = grid.integers.reshape(y.shape)
     ints = ints - ints.min(axis=1, keepdims=True)
     div = reduce(gcd, (int(x) for x in np.unique(ints) if x), 0) or 1
-    return ints // div, div / 10 ** d
+    return ints // div, div * grid.step
 
 
 # ---------------------------------------------------------------- complete: statistics
@@ -160,7 +162,7 @@ def _statistic_from_ss(prep: Complete, centered):
     sse = prep.denominator - sst     # SST - SSB is the same for every within-block order
     with np.errstate(divide="ignore", invalid="ignore"):
         # F = (SSt / (k-1)) / (SSE / ((k-1)(b-1))) = (b-1) SSt / SSE
-        return np.where(sse > 1e-12 * max(prep.denominator, 1e-300), (prep.b - 1) * sst / sse,
+        return np.where(~negligible(sse, prep.denominator), (prep.b - 1) * sst / sse,
                         np.where(sst > 0, np.inf, np.nan))
 
 
@@ -192,7 +194,7 @@ def _vector_dp_cost(ints: np.ndarray) -> tuple[float, float, bool, str]:
         reach += int(row.max() - row.min()) // unit
         # Sorted vectors with a fixed sum, entries on a lattice of the given reach.
         states = min(states * _distinct_count(row), (reach + 1) ** (k - 1) / factorial(k) + 1)
-    return ops, mem, mem <= MAX_DP_BYTES, f"about {states:.3g} distinct sorted totals"
+    return ops, mem, True, f"about {states:.3g} distinct sorted totals"
 
 
 def _page_dp_cost(ints: np.ndarray) -> tuple[float, float, bool]:
@@ -203,7 +205,7 @@ def _page_dp_cost(ints: np.ndarray) -> tuple[float, float, bool]:
     patterns = len({tuple(np.sort(r)) for r in ints})
     ops = patterns * (2 ** k) * k * width + b * (b * width) * width
     mem = (2 ** k) * width * 8 + b * width * 8 * 3
-    return ops, mem, mem <= MAX_DP_BYTES
+    return ops, mem, True
 
 
 def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
@@ -227,7 +229,7 @@ def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
         rows = fixed / factorial(prep.k)    # totals held while the last block is applied
         out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True,
                              fixed * prep.k * 6, rows * prep.k * 8 * 3,
-                             feasible=fixed <= MAX_ENUMERATION, arrangements=total,
+                             arrangements=total,
                              note=f"{total:.4g} arrangements ({fixed:.4g} after fixing block 1)"))
     n = prep.b * prep.k
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
@@ -365,28 +367,35 @@ def _page_dp(prep: Complete, alternative, progress) -> EngineOutcome:
 
 
 def _f_enumeration(prep: Complete, progress) -> EngineOutcome:
-    """Every within-block order, with block 1's order fixed (F is symmetric in treatments)."""
-    fixed = prep.arrangements / factorial(prep.k)
-    if fixed > MAX_ENUMERATION:
-        raise PlanError(f"{prep.arrangements:.4g} arrangements are too many to enumerate")
-    y = prep.scores
+    """Every within-block order, with block 1's order fixed (F is symmetric in treatments).
+
+    On a grid the comparisons use the sum of squared integer treatment totals (exact)."""
+    exact = prep.ints is not None and _indexable(prep.ints)
+    y = prep.ints.astype(float) if exact else prep.scores
     perms = np.array(list(itertools.permutations(range(prep.k))), dtype=np.int64)
     totals = y[0][None, :]
     for row in y[1:-1]:
         totals = (totals[:, None, :] + row[perms][None, :, :]).reshape(-1, prep.k)
-    obs = _centered_ss(y.sum(axis=0))
+    quadratic = (lambda t: (t ** 2).sum(axis=-1)) if exact else _centered_ss
+    obs = quadratic(y.sum(axis=0))
     scale = _ss_scale(y)
     hits, vals, counts = 0, [], []
     last = y[-1][perms] if prep.b > 1 else np.zeros((1, prep.k))
     for i, arranged in enumerate(last):
-        ss = _centered_ss(totals + arranged[None, :])
-        hits += pvalues.exceedances(ss, obs, "higher", scale=scale)
-        v, c = _merge_tallies(ss, np.ones(len(ss)), scale)
+        ss = quadratic(totals + arranged[None, :])
+        if exact:
+            hits += int(np.count_nonzero(ss >= obs))
+            v, c = np.unique(ss, return_counts=True)
+        else:
+            hits += pvalues.exceedances(ss, obs, "higher", scale=scale)
+            v, c = _merge_tallies(ss, np.ones(len(ss)), scale)
         vals.append(v)
-        counts.append(c)
+        counts.append(c.astype(float))
         progress.step((i + 1) / len(last), "enumerating")
     enumerated = len(totals) * len(last)
     v, c = _merge_tallies(np.concatenate(vals), np.concatenate(counts), scale)
+    if exact:
+        v = prep.step ** 2 * (v - float(prep.ints.sum()) ** 2 / prep.k)
     return _outcome(prep.test, prep.t_obs, hits / enumerated, "enumeration", prep.arrangements,
                     _statistic_from_ss(prep, v), c / c.sum(), prep.warnings)
 
@@ -394,20 +403,31 @@ def _f_enumeration(prep: Complete, progress) -> EngineOutcome:
 # ---------------------------------------------------------------- complete: Monte Carlo
 
 def _complete_monte_carlo(prep: Complete, alternative, draws, seed, progress):
-    scores = prep.ints.astype(float) if prep.ints is not None else prep.scores
+    exact = prep.ints is not None and _indexable(prep.ints)
+    scores = prep.ints.astype(float) if exact else prep.scores
     k = prep.k
-    if prep.test == "page":
-        weights = _page_weights(k).astype(float)
+    weights = _page_weights(k).astype(float)
+    if prep.test != "page":
+        alternative = "higher"
+    if exact:       # integer statistics: L itself, or the sum of squared treatment totals
+        t_obs = float(weights @ scores.sum(axis=0) if prep.test == "page"
+                      else (scores.sum(axis=0) ** 2).sum())
+        num, den = int(weights.sum()) * int(prep.ints.sum()), k
+    elif prep.test == "page":
         t_obs = float(weights @ scores.sum(axis=0))
         center = float(weights.sum() * scores.sum() / k)
         scale = max(abs(t_obs), 1.0)
     else:
         t_obs = float(_centered_ss(scores.sum(axis=0)))
-        center, scale, alternative = 0.0, _ss_scale(scores), "higher"
+        center, scale = 0.0, _ss_scale(scores)
+
     def work(size, rng):
         totals = np.zeros((size, k))
         for row in scores:
             totals += row[np.argsort(rng.random((size, k)), axis=1)]
+        if exact:
+            t = totals @ weights if prep.test == "page" else (totals ** 2).sum(axis=1)
+            return pvalues.integer_exceedances(t, t_obs, alternative, num, den)
         t = totals @ weights if prep.test == "page" else _centered_ss(totals)
         return pvalues.exceedances(t, t_obs, alternative, center=center, scale=scale)
 

@@ -1,23 +1,17 @@
-"""Shared pieces of the blocked engines: limits, names, mid-ranks within blocks, the decimal
-grid, exact tails on integer statistics, exact convolutions."""
+"""Shared pieces of the blocked engines: the algorithms' structural limits, names, exact tails
+on integer statistics with a fractional centre, exact convolutions. Mid-ranks, the grid, the
+counts and the resource limits are the numerical core's (`engine/core`)."""
 from __future__ import annotations
 
 from fractions import Fraction
-from math import ceil, floor
-from typing import Optional
 
 import numpy as np
-from ...lazy import stats
 
 from ...errors import BindError
 from ...result import EngineOutcome
 from ..core import pvalues
+from ..core.limits import EXACT_COUNT_LIMIT
 
-DEFAULT_DRAWS = 10_000
-MAX_DP_BYTES = 1.0e9
-MAX_ENUMERATION = 2.0e7
-MAX_DECIMALS = 6
-EXACT_COUNT_LIMIT = 2.0 ** 53
 PAGE_MAX_TREATMENTS = 12       # the per-block Page DP runs over the 2^k subsets of units
 VECTOR_MAX_TREATMENTS = 8      # the vector DP applies each block's k! permutations
 CHUNK_ROWS = 1 << 21
@@ -47,23 +41,6 @@ COUNT_WARNING = ("the reference set has more than 2^53 members: counts are held 
 
 # ---------------------------------------------------------------- shared helpers
 
-def midranks(x) -> np.ndarray:
-    return stats.rankdata(np.asarray(x, dtype=float), method="average")
-
-
-def decimal_grid(values, max_decimals: int = MAX_DECIMALS) -> Optional[tuple[np.ndarray, int]]:
-    """(integers, d) with values == integers / 10^d as recorded, or None past max_decimals."""
-    a = np.asarray(values, dtype=float)
-    for d in range(max_decimals + 1):
-        scaled = a * 10.0 ** d
-        if np.max(np.abs(scaled), initial=0.0) > 2.0 ** 52:
-            return None
-        rounded = np.round(scaled)
-        if np.all(np.abs(scaled - rounded) <= 1e-9 * np.maximum(1.0, np.abs(scaled))):
-            return rounded.astype(np.int64), d
-    return None
-
-
 def design_arrays(values, groups, blocks):
     v = np.asarray(values, dtype=float)
     g = np.asarray(groups)
@@ -92,14 +69,9 @@ def _fraction_sum(pairs) -> Fraction:
 
 def integer_tail_mask(support, s_obs: int, center: Fraction, alternative: str) -> np.ndarray:
     """Exact tail for integer statistics; two-sided is |S - center| >= |s_obs - center|."""
-    support = np.asarray(support)
-    if alternative == "higher":
-        return support >= s_obs
-    if alternative == "lower":
-        return support <= s_obs
-    mirror = 2 * center - s_obs
-    lo, hi = min(Fraction(s_obs), mirror), max(Fraction(s_obs), mirror)
-    return (support >= ceil(hi)) | (support <= floor(lo))
+    center = Fraction(center)
+    return pvalues.integer_tail_mask(support, s_obs, alternative, center.numerator,
+                                     center.denominator)
 
 
 def _check_alternative(test, alternative):
@@ -123,20 +95,6 @@ def convolve_exact(a: np.ndarray, b: np.ndarray) -> np.ndarray:
         w = (a[part][:, None] * b[ib][None, :]).ravel()
         out += np.bincount(idx, weights=w, minlength=len(out))
     return out
-
-
-def subset_sum_counts(q, m: int) -> np.ndarray:
-    """c[s] = number of m-subsets of the non-negative integer scores q whose sum is s."""
-    q = np.asarray(q, dtype=np.int64)
-    width = int(np.sort(q)[::-1][:m].sum()) + 1
-    table = np.zeros((m + 1, width))
-    table[0, 0] = 1.0
-    for i, v in enumerate(q):
-        top = min(i + 1, m)
-        v = int(v)
-        # numpy treats overlapping operands as if the right-hand side were copied first.
-        table[1:top + 1, v:] += table[0:top, :width - v]
-    return table[m]
 
 
 def _outcome(test, statistic, p, algorithm, arrangements, support=None, probs=None,

@@ -14,10 +14,13 @@ from ...errors import BindError, PlanError
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
 from ..core import pvalues
+from ..core.counting import counts_by_size
+from ..core.grid import MAX_DECIMALS, centred, integer_grid
+from ..core.limits import EXACT_COUNT_LIMIT
+from ..core.scores import midranks
 from ..montecarlo.sampling import iter_blocks
-from .shared import (DESCRIPTIONS, MAX_DECIMALS, MAX_DP_BYTES, MAX_ENUMERATION, STATISTIC_NAMES,
-                     _fraction_sum, _merge_tallies, _name, _outcome, convolve_exact, decimal_grid,
-                     design_arrays, integer_tail_mask, midranks, subset_sum_counts)
+from .shared import (DESCRIPTIONS, STATISTIC_NAMES, _fraction_sum, _merge_tallies, _name,
+                     _outcome, convolve_exact, design_arrays, integer_tail_mask)
 
 # ================================================================ stratified two-sample
 
@@ -27,6 +30,7 @@ class StratifiedBlock:
     scores: np.ndarray        # ranks within the block, or values
     in_group0: np.ndarray     # bool
     ints: Optional[np.ndarray]  # non-negative integer scores (shifted, divided by the gcd)
+    work: np.ndarray          # what enumeration and Monte Carlo sum: ints, else centred scores
 
     @property
     def n(self) -> int:
@@ -41,9 +45,10 @@ class StratifiedBlock:
 class Stratified:
     test: str
     blocks: tuple
-    t_obs: float
-    center: float
-    scale: float
+    t_obs: float              # the reported statistic
+    w_obs: float              # the same sum of the blocks' work scores
+    center: float             # E0 of the work sum
+    scale: float              # a bound on the work sum, for the tolerance off a grid
     step: Optional[float]     # statistic = offset + step * (integer sum), when on a grid
     offset: Optional[float]
     warnings: tuple
@@ -75,33 +80,37 @@ def prepare_stratified(test, values, groups, blocks, block_names=None) -> Strati
         raise BindError("no block contains both groups, so there is nothing to compare "
                         "within blocks")
     scores = [midranks(x) if test == "stratified-ranks" else x for _, x, _ in used]
-    ints, denom = _stratified_integers(test, [x for _, x, _ in used], scores)
+    ints, base, unit = _stratified_integers(test, [x for _, x, _ in used], scores)
     step = offset = None
     if ints is not None:
         lows = [int(q.min()) for q in ints]
         shifted = [q - low for q, low in zip(ints, lows)]
         div = reduce(gcd, (int(x) for q in shifted for x in np.unique(q) if x), 0) or 1
         ints = [q // div for q in shifted]
-        step = div / denom
-        offset = sum(int(m.sum()) * low for (_, _, m), low in zip(used, lows)) / denom
-    parts = tuple(StratifiedBlock(c, s, m, None if ints is None else ints[i])
-                  for i, ((c, _, m), s) in enumerate(zip(used, scores)))
+        step = div * unit
+        offset = sum(int(m.sum()) * (base + unit * low) for (_, _, m), low in zip(used, lows))
+        if sum(int(q.sum()) for q in ints) >= EXACT_COUNT_LIMIT:
+            ints, step, offset = None, None, None
+    parts = tuple(StratifiedBlock(c, s_, m, None if ints is None else ints[i],
+                                  centred(s_) if ints is None else ints[i].astype(float))
+                  for i, ((c, _, m), s_) in enumerate(zip(used, scores)))
     t_obs = float(sum(b.scores[b.in_group0].sum() for b in parts))
-    center = float(sum(b.m * b.scores.mean() for b in parts))
-    scale = float(sum(b.m * np.abs(b.scores).max() for b in parts))
-    return Stratified(test, parts, t_obs, center, scale, step, offset, warnings)
+    w_obs = float(sum(b.work[b.in_group0].sum() for b in parts))
+    center = float(sum(b.m * b.work.mean() for b in parts))
+    scale = float(sum(b.m * np.abs(b.work).max() for b in parts))
+    return Stratified(test, parts, t_obs, w_obs, center, max(scale, 1e-300), step, offset,
+                      warnings)
 
 
 def _stratified_integers(test, raw, scores):
-    """Per-block integer scores and their common denominator, or (None, None) off a grid."""
+    """Per-block integer scores with score = base + unit * integer, or (None, None, None)."""
     if test == "stratified-ranks":
-        return [np.round(2 * s).astype(np.int64) for s in scores], 2
-    grid = decimal_grid(np.concatenate(raw))
+        return [np.round(2 * s).astype(np.int64) for s in scores], 0.0, 0.5
+    grid = integer_grid(np.concatenate(raw))
     if grid is None:
-        return None, None
-    ints, d = grid
+        return None, None, None
     cuts = np.cumsum([len(x) for x in raw])[:-1]
-    return np.split(ints, cuts), 10 ** d
+    return np.split(grid.integers, cuts), grid.origin, grid.step
 
 
 def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
@@ -118,7 +127,7 @@ def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
         note = ("mid-ranks within blocks (doubled, integers)" if prep.test == "stratified-ranks"
                 else f"data on a grid of {prep.step:g}")
         out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, ops, mem,
-                             feasible=mem <= MAX_DP_BYTES, note=note, arrangements=total))
+                             note=note, arrangements=total))
     else:
         out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, float("inf"),
                              float("inf"), feasible=False,
@@ -129,7 +138,7 @@ def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
         running *= comb(b.n, b.m)
         ops += running * 4 + comb(b.n, b.m) * b.m
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, ops, total * 8 * 4,
-                         feasible=total <= MAX_ENUMERATION, arrangements=total,
+                         arrangements=total,
                          note=f"{total:.4g} arrangements"))
     n = sum(b.n for b in prep.blocks)
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
@@ -145,7 +154,7 @@ def _stratified_dp(prep: Stratified, alternative, progress) -> EngineOutcome:
     acc = np.ones(1)
     s_obs, pairs = 0, []
     for i, b in enumerate(prep.blocks):
-        acc = convolve_exact(acc, subset_sum_counts(b.ints, b.m))
+        acc = convolve_exact(acc, counts_by_size(b.ints, b.m)[b.m])
         s_obs += int(b.ints[b.in_group0].sum())
         pairs.append((b.m * int(b.ints.sum()), b.n))
         progress.step((i + 1) / len(prep.blocks), "counting within blocks")
@@ -159,13 +168,29 @@ def _stratified_dp(prep: Stratified, alternative, progress) -> EngineOutcome:
 
 def _block_subset_sums(b: StratifiedBlock):
     idx = np.array(list(itertools.combinations(range(b.n), b.m)), dtype=np.int64)
-    sums = b.scores[idx].sum(axis=1)
+    sums = b.work[idx].sum(axis=1)
     return np.unique(sums, return_counts=True)
 
 
+def _work_tail(prep: Stratified, vals, counts, alternative) -> float:
+    """The share of arrangements at least as extreme: exactly on a grid."""
+    if prep.on_grid:
+        pairs = [(b.m * int(b.ints.sum()), b.n) for b in prep.blocks]
+        mask = integer_tail_mask(np.rint(vals).astype(np.int64), int(round(prep.w_obs)),
+                                 _fraction_sum(pairs), alternative)
+        return float(counts[mask].sum() / counts.sum())
+    return pvalues.tail_probability(vals, counts, prep.w_obs, alternative, center=prep.center,
+                                    scale=prep.scale)
+
+
+def _reported(prep: Stratified, work_sums):
+    """The reported statistic for sums of the work scores."""
+    if prep.on_grid:
+        return prep.offset + prep.step * np.asarray(work_sums, dtype=float)
+    return prep.t_obs + (np.asarray(work_sums, dtype=float) - prep.w_obs)
+
+
 def _stratified_enumeration(prep: Stratified, alternative, progress) -> EngineOutcome:
-    if prep.arrangements > MAX_ENUMERATION:
-        raise PlanError(f"{prep.arrangements:.4g} arrangements are too many to enumerate")
     vals, counts = np.zeros(1), np.ones(1)
     for i, b in enumerate(prep.blocks):
         u, c = _block_subset_sums(b)
@@ -174,20 +199,27 @@ def _stratified_enumeration(prep: Stratified, alternative, progress) -> EngineOu
         vals, inverse = np.unique(vals, return_inverse=True)   # merges identical values only
         counts = np.bincount(inverse, weights=counts)
         progress.step((i + 1) / len(prep.blocks), "enumerating")
-    p = pvalues.tail_probability(vals, counts, prep.t_obs, alternative, center=prep.center,
-                                 scale=prep.scale)
+    p = _work_tail(prep, vals, counts, alternative)
     support, probs = _merge_tallies(vals, counts, prep.scale)
+    support = _reported(prep, support)
     return _outcome(prep.test, prep.t_obs, p, "enumeration", prep.arrangements, support,
                     probs / probs.sum(), prep.warnings)
 
 
 def _stratified_monte_carlo(prep: Stratified, alternative, draws, seed, progress):
+    if prep.on_grid:
+        pairs = [(b.m * int(b.ints.sum()), b.n) for b in prep.blocks]
+        centre = _fraction_sum(pairs)
+
     def work(size, rng):
         t = np.zeros(size)
         for b in prep.blocks:
             order = np.argsort(rng.random((size, b.n)), axis=1)[:, :b.m]
-            t += b.scores[order].sum(axis=1)
-        return pvalues.exceedances(t, prep.t_obs, alternative, center=prep.center,
+            t += b.work[order].sum(axis=1)
+        if prep.on_grid:
+            return pvalues.integer_exceedances(t, prep.w_obs, alternative, centre.numerator,
+                                               centre.denominator)
+        return pvalues.exceedances(t, prep.w_obs, alternative, center=prep.center,
                                    scale=prep.scale)
 
     hits = sum(iter_blocks(seed, draws, work, progress))   # all cores, same p for any number

@@ -1,4 +1,5 @@
-"""Exact counting of subsets by the sum of their integer scores (dynamic programming).
+"""Counts of arrangements (multinomial coefficients, distinct arrangements of a multiset) and
+exact counting of subsets by the sum of their integer scores (dynamic programming).
 
 Counts are held in float64: they are exact integers while every count stays below 2^53
 (the reference set then has fewer than 2^53 members); beyond that the relative error of each
@@ -6,11 +7,32 @@ count stays near 1e-16, far below any p-value's meaning.
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from .progress import NO_PROGRESS, Progress
 
-EXACT_COUNT_LIMIT = 2.0 ** 53
+
+def multinomial(sizes) -> int:
+    """N! / (n_1! ... n_k!): the assignments of N items to groups of these sizes (exact)."""
+    total, out = 0, 1
+    for n in sizes:
+        total += int(n)
+        out *= math.comb(total, int(n))
+    return out
+
+
+def distinct_orderings(values) -> int:
+    """Distinct orderings of a multiset: n! / prod(t!) over its tied values."""
+    _, counts = np.unique(np.asarray(values), return_counts=True)
+    return multinomial(counts)
+
+
+def multinomial_weights(m: int, splits) -> np.ndarray:
+    """m! / prod(x_g!) for each split (x_1 .. x_k) of m tied items over k groups (floats)."""
+    return np.array([float(multinomial(x)) for x in np.asarray(splits, dtype=np.int64)],
+                    dtype=float).reshape(len(splits))
 
 
 def counts_by_size(q, max_size: int, progress: Progress = NO_PROGRESS) -> np.ndarray:

@@ -8,12 +8,15 @@ exactly, without a search:
     p_higher(delta) = (identity + #{jumps <= delta}) / total      (non-decreasing)
     p_lower(delta)  = (identity + #{jumps >= delta}) / total      (non-increasing)
 
-The two-sided interval at level 1 - alpha is {delta: p_higher > alpha/2 and p_lower > alpha/2};
-a one-sided interval uses alpha on its one side.
+The interval is {delta: p_higher > alpha_side and p_lower > alpha_side}, with the ends read by
+the interval-end rule of `confidence` (alpha_side exact, ties at a jump counted as extreme, so
+finite ends are closed and are jumps).
 """
 from __future__ import annotations
 
 import numpy as np
+
+from .confidence import alpha_side, first_kept
 
 
 def interval_from_jumps(values, counts, identity: float, total: float, level: float,
@@ -29,27 +32,31 @@ def interval_from_jumps(values, counts, identity: float, total: float, level: fl
         order = np.argsort(values, kind="stable")
         values, counts = values[order], counts[order]
     values, counts = _merge_equal(values, counts)
-    alpha = 1.0 - level
-    side = alpha if alternative != "two-sided" else alpha / 2
+    side = alpha_side(level, alternative)
     lo, hi = -np.inf, np.inf
     if alternative in ("two-sided", "higher"):
-        cum = (identity + np.cumsum(counts)) / total
-        if identity / total <= side:
-            idx = np.flatnonzero(cum > side)
-            lo = float(values[idx[0]]) if idx.size else np.inf
+        lo = _end(values, counts, identity, total, side, -np.inf, np.inf)
     if alternative in ("two-sided", "lower"):
-        cum = (identity + np.cumsum(counts[::-1])) / total
-        if identity / total <= side:
-            idx = np.flatnonzero(cum > side)
-            hi = float(values[::-1][idx[0]]) if idx.size else -np.inf
+        hi = _end(values[::-1], counts[::-1], identity, total, side, np.inf, -np.inf)
     return lo, hi
 
 
+def _end(values, counts, identity, total, side, open_end, empty):
+    """The first jump (in the order given) at which the one-sided p-value leaves the rejected
+    region: open_end when the observed arrangement alone keeps every value, `empty` when no
+    value is kept."""
+    cum = identity + np.concatenate([[0.0], np.cumsum(counts)])
+    i = first_kept(cum, total, side)
+    if i == 0:
+        return open_end
+    return float(values[i - 1]) if i < cum.size else empty
+
+
 def _merge_equal(values, counts):
-    """Merge jumps that are equal up to floating-point noise (relative 1e-12)."""
+    """Merge jumps that are equal up to floating-point noise (relative 1e-12 of the largest)."""
     if values.size == 0:
         return values, counts
-    scale = max(1.0, float(np.max(np.abs(values))))
+    scale = max(float(np.max(np.abs(values))), 1e-300)
     new_group = np.empty(values.size, dtype=bool)
     new_group[0] = True
     new_group[1:] = np.diff(values) > 1e-12 * scale

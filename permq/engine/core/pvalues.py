@@ -6,7 +6,14 @@
 - Two-sided for linear statistics: P(|T - E0 T| >= |t - E0 T|).
 - Monte Carlo: p = (b + 1) / (m + 1) with b exceedances in m draws, and a 99% Clopper-Pearson
   interval for the p-value that complete enumeration would give.
+- Integer statistics (scores on an integer grid: values recorded to a few decimals, doubled
+  mid-ranks) are compared exactly, without a tolerance; two-sided with a fractional centre
+  num / den compares |den * S - num| in integers.
+- Tables: a table is as extreme as the observed one when its probability is at most the
+  observed one's with relative tolerance PROBABILITY_RTOL.
 - Every p-value is clipped to [0, 1].
+
+Intervals that invert a test read their ends by the rule in `confidence`.
 """
 from __future__ import annotations
 
@@ -14,6 +21,7 @@ import numpy as np
 from ...normal.tails import beta_ppf
 
 RTOL = 1e-9
+PROBABILITY_RTOL = 1e-7
 
 TWO_SIDED_LINEAR = "two-sided p = P(|T - E0 T| >= |t - E0 T|) under the null"
 TWO_SIDED_QUADRATIC = "the statistic is already two-sided: p = P(T >= t) under the null"
@@ -48,6 +56,28 @@ def exceedances(sampled, t_obs, alternative, center=0.0, scale=None) -> int:
     if alternative == "lower":
         return int(np.count_nonzero(sampled <= t_obs + tol))
     return int(np.count_nonzero(np.abs(sampled - center) >= abs(t_obs - center) - tol))
+
+
+def integer_tail_mask(support, s_obs, alternative, center_num=0, center_den=1) -> np.ndarray:
+    """Exact tail of an integer statistic S: higher S >= s, lower S <= s, two-sided
+    |den S - num| >= |den s - num| (centre num / den, integers; no tolerance)."""
+    support = np.asarray(support)
+    if alternative == "higher":
+        return support >= s_obs
+    if alternative == "lower":
+        return support <= s_obs
+    num, den = int(center_num), int(center_den)
+    obs = abs(den * int(s_obs) - num)
+    if np.max(np.abs(support), initial=0) * den + abs(num) < 2 ** 62:
+        return np.abs(support.astype(np.int64) * den - num) >= obs
+    return np.array([abs(den * int(v) - num) >= obs for v in support], dtype=bool)
+
+
+def integer_exceedances(sampled, s_obs, alternative, center_num=0, center_den=1) -> int:
+    """How many integer statistics (held as exact floats) are at least as extreme as s_obs."""
+    s = np.rint(np.asarray(sampled, dtype=float)).astype(np.int64)
+    return int(np.count_nonzero(integer_tail_mask(s, int(round(s_obs)), alternative,
+                                                  center_num, center_den)))
 
 
 def monte_carlo_p(b: int, m: int, level: float = 0.99) -> tuple[float, tuple]:

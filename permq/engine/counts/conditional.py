@@ -25,8 +25,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-PROBABILITY_RTOL = 1e-7
-LINEAR_RTOL = 1e-9
+from ..core.pvalues import PROBABILITY_RTOL, RTOL as LINEAR_RTOL
 RULE_PROBABILITY = ("p = sum of the probabilities of values of the statistic no more probable "
                     "than the observed one (relative tolerance 1e-7)")
 RULE_LINEAR = "two-sided p = P(|T - E0 T| >= |t - E0 T|) under the null"

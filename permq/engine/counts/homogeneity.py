@@ -24,6 +24,7 @@ import numpy as np
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from .conditional import PROBABILITY_RTOL
 from .logdp import NEG, log_convolve
@@ -100,7 +101,7 @@ def candidates(strata, draws: int) -> list:
             Candidate("monte-carlo", MC_ALGORITHM, False, mc_ops, 8.0 * 8192 * 8)]
 
 
-def run(strata, algorithm: str = "network", draws: int = 100_000, seed: int = 1,
+def run(strata, algorithm: str = "network", draws: int = DEFAULT_DRAWS, seed: int = 1,
         progress: Progress = NO_PROGRESS) -> EngineOutcome:
     used, target, observed = _setup(strata)
     suffix = _Suffix(used)

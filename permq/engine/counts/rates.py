@@ -23,6 +23,7 @@ import numpy as np
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome, Estimate
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from .conditional import PROBABILITY_RTOL
 
@@ -97,7 +98,7 @@ def candidates(data: Rates, draws: int) -> list:
     return [exact, Candidate("monte-carlo", MC_ALGORITHM, False, 8.0 * draws, 8.0 * 8192)]
 
 
-def run(data: Rates, alternative: str, algorithm: str, draws: int = 100_000, seed: int = 1,
+def run(data: Rates, alternative: str, algorithm: str, draws: int = DEFAULT_DRAWS, seed: int = 1,
         progress: Progress = NO_PROGRESS) -> EngineOutcome:
     if data.two:
         x1, x2 = data.counts

@@ -26,6 +26,7 @@ import numpy as np
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome, Estimate
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from . import conditional as cond
 from .logdp import log_convolve, log_hypergeometric, trim
@@ -96,7 +97,7 @@ def candidates(strata, draws: int) -> list:
 
 
 def run(strata, alternative: str = "two-sided", algorithm: str = "convolution",
-        draws: int = 100_000, seed: int = 1, progress: Progress = NO_PROGRESS) -> EngineOutcome:
+        draws: int = DEFAULT_DRAWS, seed: int = 1, progress: Progress = NO_PROGRESS) -> EngineOutcome:
     """The exact (or Monte Carlo) test of a common odds ratio of 1."""
     the_law = law(strata)
     probs = the_law.probabilities()

@@ -27,6 +27,7 @@ import numpy as np
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from . import conditional as cond
 from .logdp import NEG, log_convolve, log_events_by_score, trim
@@ -69,7 +70,7 @@ def grouped(sizes, events, scores) -> Stratum:
 
 
 def _grid(strata):
-    from ..core.scores import integer_grid
+    from ..core.grid import integer_grid
 
     values = np.unique(np.concatenate([np.asarray(s.scores, float) for s in strata]))
     return integer_grid(values), values
@@ -188,7 +189,7 @@ def _merge_states(e, t, w, tol):
     return e[heads], t[heads], np.logaddexp.reduceat(w, heads)
 
 
-def run(strata, alternative: str, algorithm: str, draws: int = 100_000, seed: int = 1,
+def run(strata, alternative: str, algorithm: str, draws: int = DEFAULT_DRAWS, seed: int = 1,
         progress: Progress = NO_PROGRESS, name: str = "sum of the scores over the events"):
     """The exact (or Monte Carlo) conditional test of no trend; returns (outcome, law or None)."""
     used = _informative(strata)

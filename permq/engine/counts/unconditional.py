@@ -28,6 +28,7 @@ import numpy as np
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from . import nuisance
 
@@ -147,7 +148,7 @@ def candidates(data: Binomials, test: str, draws: int) -> list:
 
 
 def run(data: Binomials, test: str, alternative: str, algorithm: str = "enumeration",
-        draws: int = 100_000, seed: int = 1, progress: Progress = NO_PROGRESS) -> EngineOutcome:
+        draws: int = DEFAULT_DRAWS, seed: int = 1, progress: Progress = NO_PROGRESS) -> EngineOutcome:
     stat, mask, obs = region(data, test, alternative)
     if algorithm == "monte-carlo":
         return _monte_carlo(data, test, mask, obs, draws, seed, progress)

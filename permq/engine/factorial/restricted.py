@@ -21,13 +21,12 @@ import numpy as np
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
 from ..core import pvalues
+from ..core.limits import EXACT_COUNT_LIMIT
 from ..core.enumeration import distinct_arrangements
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import blocks
 from .layout import F_FLOOR, Layout, cell_sums, f_of, f_ratio
 
-LIST_LIMIT = 2e9              # arrangements beyond which listing is not offered
-STRATUM_ROWS_LIMIT = 2e6      # a stratum's own list beyond this is not built
 CHUNK = 1 << 16
 
 DESCRIPTIONS = {
@@ -72,10 +71,10 @@ def candidates(lay: Layout, key: str, draws: int) -> list[Candidate]:
     listed = float(sum(counts))
     build = float(sum(m * rows for m, rows in sizes))
     peak = max(float(m) * rows * 8 * 3 for m, rows in sizes)    # one stratum's list being built
-    ok = total <= LIST_LIMIT and max(counts) <= STRATUM_ROWS_LIMIT
-    note = f"{total:.4g} arrangements" if ok else (
-        "a stratum has too many arrangements to list" if max(counts) > STRATUM_ROWS_LIMIT
-        else f"{total:.3g} arrangements: too many to list")
+    # time and memory are the plan's to judge (`set budget`, `set memory`); a count past
+    # double precision's integers could not be tallied exactly
+    ok = total < EXACT_COUNT_LIMIT
+    note = f"{total:.4g} arrangements" if ok else f"{total:.3g} arrangements: too many to count"
     return [
         Candidate("listing", DESCRIPTIONS["listing"], True, total * per + build * 4.0,
                   peak + listed * (df + 1) * 8 + CHUNK * (df + 2) * 8 * 4, feasible=ok,

@@ -25,14 +25,6 @@ from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import blocks
 
 
-def count(sizes) -> int:
-    total, out = 0, 1
-    for n in sizes:
-        total += int(n)
-        out *= math.comb(total, int(n))
-    return out
-
-
 def layout(codes) -> np.ndarray:
     """Unit indices group after group (stable): the order the sampling streams see."""
     return np.argsort(np.asarray(codes), kind="stable")

@@ -16,7 +16,8 @@ from functools import lru_cache
 import numpy as np
 from ...lazy import stats
 
-from ..rankintervals import mann_whitney_cdf
+from ..core.confidence import alpha_side
+from ..rankintervals import critical, mann_whitney_counts
 
 CHUNK_ELEMENTS = 4_000_000
 
@@ -44,10 +45,8 @@ def welch(x1, x2, level: float, alternative: str):
 
 
 @lru_cache(maxsize=256)
-def _critical(n1: int, n2: int, side: float) -> int:
-    cdf = mann_whitney_cdf(n1, n2)
-    idx = np.flatnonzero(cdf <= side + 1e-12)
-    return int(idx[-1]) if idx.size else -1
+def _critical(n1: int, n2: int, side) -> int:
+    return critical(mann_whitney_counts(n1, n2), side)
 
 
 def hodges_lehmann(x1, x2, level: float, alternative: str):
@@ -58,7 +57,7 @@ def hodges_lehmann(x1, x2, level: float, alternative: str):
     hi = np.full(m, np.nan)
     pairs = x1.shape[0] * x2.shape[0]
     step = max(1, CHUNK_ELEMENTS // max(1, pairs))
-    side = (1 - level) / 2 if alternative == "two-sided" else 1 - level
+    side = alpha_side(level, alternative)
     for a in range(0, m, step):
         b = min(m, a + step)
         d = (x1[:, None, a:b] - x2[None, :, a:b]).reshape(pairs, b - a)

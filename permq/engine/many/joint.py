@@ -23,14 +23,16 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 import numpy as np
-from ...lazy import stats
 
 from ...plan.cost import Candidate
 from . import arrangements, kernels as kernels, multiplicity
+from ..core.counting import multinomial
+from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
+from ..core.scores import midranks
 from .workers import LocalPool
 
-ENUMERATION_MAX = 2_000_000      # arrangements listed at most
+MIN_DRAWS = 10_000               # big families never get fewer default draws than this
 TILE = 256                       # tests per tile in the streaming pass
 TILE_ELEMENTS = 4_000_000        # arrangements x tests held at once by min-P
 WINDOW_ROWS = 1 << 18            # Monte Carlo arrangements held at once by the streaming pass
@@ -54,15 +56,16 @@ class FamilyOutcome:
 
 
 def default_draws(tests: int) -> int:
-    """100,000 joint draws, fewer for big families (draws x tests <= 2e8), never under 10,000."""
-    return int(max(10_000, min(100_000, (2e8 // max(1, tests)) // 1000 * 1000)))
+    """The default number of draws (100,000), fewer for big families (draws x tests <= 2e8),
+    never under MIN_DRAWS."""
+    return int(max(MIN_DRAWS, min(DEFAULT_DRAWS, (2e8 // max(1, tests)) // 1000 * 1000)))
 
 
 def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = False) -> list:
     sizes = [int(s) for s in sizes]
     N = sum(sizes)
     summed = N - max(sizes)
-    total = float(arrangements.count(sizes))
+    total = float(multinomial(sizes))
     passes = 3.0 if method == "min-p" else 1.0
 
     def ops(rows):
@@ -82,9 +85,7 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
         return held * per_row + data
 
     out = [Candidate("enumeration", "complete enumeration, shared by every test", True,
-                     ops(total), memory(total, True), feasible=total <= ENUMERATION_MAX,
-                     note=f"{total:.3g} arrangements" + ("" if total <= ENUMERATION_MAX else
-                                                          " (more than can be listed)"),
+                     ops(total), memory(total, True), note=f"{total:.3g} arrangements",
                      arrangements=total),
            Candidate("monte-carlo", "Monte Carlo joint draws (one arrangement for every test)",
                      False, ops(draws + 1), memory(draws + 1, False), arrangements=total,
@@ -98,9 +99,11 @@ def standardised_scores(values, family: str):
     """(N, m) scores centred on their observed mean over their sd, 0 where missing; observed."""
     observed = ~np.isnan(values)
     if family == "ranks":
-        scores = stats.rankdata(values, axis=0, nan_policy="omit")
-    else:
+        scores = midranks(values, axis=0, nan_policy="omit")
+    else:           # centred on a middle value first, so no offset drowns the differences
         scores = np.array(values, dtype=float)
+        if observed.any(axis=0).all():
+            scores = scores - np.nanmedian(scores, axis=0)
     counts = observed.sum(axis=0)
     filled = np.where(observed, scores, 0.0)
     mean = filled.sum(axis=0) / np.maximum(counts, 1)
@@ -217,7 +220,7 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
                           pool, progress)
     else:
         adjusted = multiplicity.from_raw(raw, method, step)
-    return FamilyOutcome(t_obs, raw, adjusted, how, words, float(arrangements.count(sizes)),
+    return FamilyOutcome(t_obs, raw, adjusted, how, words, float(multinomial(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None)
 
@@ -311,7 +314,7 @@ def run_pairwise(values, codes, family: str, method: str, step: str, algorithm: 
     raw, adjusted = multiplicity.from_matrix(z, z_obs[0], method, step)
     t = overall_obs[0]
     p_overall = np.count_nonzero(overall >= t - multiplicity.tolerances([t])[0]) / R
-    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, float(arrangements.count(sizes)),
+    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, float(multinomial(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None,
                          overall={"statistic": float(t), "p_value": float(p_overall)},

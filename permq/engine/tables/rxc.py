@@ -16,6 +16,7 @@ from ...lazy import stats
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
+from ..core.limits import DEFAULT_DRAWS
 from ..core.pvalues import clip, monte_carlo_p
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import iter_blocks, require_seed
@@ -25,7 +26,6 @@ from .stats import NAMES, Prepared, check_choice, prepare
 
 NETWORK = "network"
 MONTE_CARLO = "monte-carlo"
-DEFAULT_DRAWS = 100_000
 # The backward pass keeps two floats per (stage, state): cap stages x states.
 NETWORK_CELLS = 12_000_000
 NETWORK_WORDS = ("network algorithm over columns: dynamic programming on the remaining row "

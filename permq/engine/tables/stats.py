@@ -22,11 +22,11 @@ from typing import Optional
 import numpy as np
 from ...lazy import gammaln, xlogy
 
-from ..core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC, tolerance
+from ..core.grid import centred, integer_grid
+from ..core.pvalues import PROBABILITY_RTOL, TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC, tolerance
 
 STATISTICS = ("fisher", "chi-square", "likelihood-ratio", "trend")
 ALTERNATIVES = ("two-sided", "higher", "lower")
-PROBABILITY_RTOL = 1e-7
 
 NAMES = {"fisher": "table probability (Fisher-Freeman-Halton)",
          "chi-square": "Pearson chi-square",
@@ -139,12 +139,26 @@ def _trend(t, rows, cols, n, x, alternative, row_scores, col_scores, stages) -> 
     v = default_scores(len(cols)) if col_scores is None else np.asarray(col_scores, float)
     if u.shape != rows.shape or v.shape != cols.shape:
         raise ValueError("one score is needed for each row and for each column")
-    integer = bool(np.all(u == np.round(u)) and np.all(v == np.round(v)))
-    cell = u[:, None, None] * v[None, :, None] * x[None, None, :]
+    # scores on decimal grids become integers (S is then an exact integer, an increasing affine
+    # function of the reported sum for the fixed margins); else they are centred on one of
+    # their own values, so no offset drowns the differences between tables
+    gu, gv = integer_grid(u), integer_grid(v)
+    integer = gu is not None and gv is not None
+    if integer:
+        zu, zv = gu.integers.astype(float), gv.integers.astype(float)
+        scale = gu.step * gv.step
+        offset = (gu.origin * gv.origin * n + gu.origin * gv.step * float(zv @ cols)
+                  + gu.step * gv.origin * float(zu @ rows))
+    else:
+        zu, zv = centred(u), centred(v)
+        scale = 1.0
+        offset = float((u - zu)[0] * (v - zv)[0] * n + (u - zu)[0] * float(zv @ cols)
+                       + (v - zv)[0] * float(zu @ rows))
+    cell = zu[:, None, None] * zv[None, :, None] * x[None, None, :]
     if integer:
         cell = np.round(cell).astype(np.int64)
     s0 = _observed(t, cell)
-    center = float(u @ rows) * float(v @ cols) / n
+    center = float(zu @ rows) * float(zv @ cols) / n
     tol = tolerance(s0 - center, max(abs(s0), abs(center), 1.0))
     d = abs(s0 - center)
     if alternative == "higher":
@@ -154,5 +168,5 @@ def _trend(t, rows, cols, n, x, alternative, row_scores, col_scores, stages) -> 
     else:
         region = (center - d + tol, center + d - tol)
     quantum = None if integer else tol / (20.0 * stages)
-    return Prepared("trend", cell, s0, region, quantum, offset=0.0, scale=1.0, center=center,
+    return Prepared("trend", cell, s0, region, quantum, offset=offset, scale=scale, center=center,
                     everything=region[0] >= region[1])
