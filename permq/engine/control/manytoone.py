@@ -26,6 +26,7 @@ from typing import Optional
 import numpy as np
 
 from ...plan.cost import Candidate
+from ..core.counting import multinomial
 from ..core.progress import NO_PROGRESS, Progress
 from ..many import arrangements, multiplicity
 from . import statistics
@@ -53,7 +54,7 @@ class ControlOutcome:
 
 
 def count(sizes) -> int:
-    return arrangements.count(sizes)
+    return multinomial(sizes)
 
 
 def candidates(sizes, draws: int, family: str) -> list:

@@ -13,15 +13,15 @@ same order, so both give the same law.
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import Optional
 
 import numpy as np
 
 from ...errors import PlanError
+from ..core.counting import multinomial
+from ..core.grid import integer_grid
 from ..core.progress import NO_PROGRESS, Progress
-from ..core.scores import integer_grid
 
 MAX_CELLS = 1.5e8                 # states x statistic values held at once (two such arrays)
 OPS_PER_CELL = 0.08               # estimated work per (unit, state, value, class): measured
@@ -139,8 +139,4 @@ def _compiled_step():
 
 
 def count(sizes) -> int:
-    total, out = 0, 1
-    for n in sizes:
-        total += int(n)
-        out *= math.comb(total, int(n))
-    return out
+    return multinomial(sizes)
