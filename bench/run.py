@@ -21,6 +21,7 @@ from scipy import stats
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "bench"))
 
 import permq  # noqa: E402
 
@@ -107,6 +108,7 @@ def cases():
                                                 random_state=1), 1)
     rows.append(("Monte Carlo, 100,000 draws, 100 + 100", t, 1.0, r,
                  f"scipy permutation_test: {ts:.2f} s (permq {ts / t:.1f}x faster)"))
+    rows.extend(previous_cases())
     rows.extend(group_cases(rng))
     rows.extend(factor_cases(rng))
     rows.extend(association_cases(rng))
@@ -114,6 +116,62 @@ def cases():
     rows.extend(robustness_cases(rng))
     rows.extend(many_cases())
     rows.extend(control_cases())
+    return rows
+
+
+def _timed_with(patches, fn, repeat):
+    """fn() timed with module attributes replaced (restored afterwards)."""
+    saved = [(mod, name, getattr(mod, name)) for mod, name, _ in patches]
+    try:
+        for mod, name, value in patches:
+            setattr(mod, name, value)
+        return best(fn, repeat)
+    finally:
+        for mod, name, value in saved:
+            setattr(mod, name, value)
+
+
+def previous_cases():
+    """Three exact counts beside their former versions, timed in this run on the same data:
+    the former Hodges-Lehmann law and Kendall count are copies in bench/previous.py; the former
+    Kruskal-Wallis count (state lists merged by sorting) is still the product's for four or
+    more groups, and is had here by leaving out the three-group tables."""
+    import pandas as pd
+
+    import previous
+    from permq.engine import ksample_dense, rankintervals
+    from permq.engine.association import inversions
+
+    rng = np.random.default_rng(20261204)
+    rows = []
+    x = np.round(rng.normal(10, 2, 150), 2)
+    y = np.round(rng.normal(10.5, 2, 150), 2)
+    st = f"compare {lst(x)} vs {lst(y)} using ranks"
+    t, r = permq_case(st, 2)
+    old, _ = _timed_with([(rankintervals, "mann_whitney_cdf", previous.mann_whitney_cdf)],
+                         lambda: permq.run(st), 1)
+    rows.append(("rank-sum with its Hodges-Lehmann interval, 150 + 150", t, 1.0, r,
+                 f"previous: {old:.2f} s in this run ({old / t:.1f}x), the interval's law from "
+                 "the full table of subset counts (bench/previous.py)"))
+    x = rng.normal(size=1000)
+    df = pd.DataFrame({"x": x, "y": 0.05 * x + rng.normal(size=1000)})
+    st = "relate y to x using kendall exact"
+    t, out = best(lambda: permq.run(st, tables={"d": df}), 2)
+    old, _ = _timed_with([(inversions, "run", previous.inversions_run)],
+                         lambda: permq.run(st, tables={"d": df}), 1)
+    ts, _ = best(lambda: stats.kendalltau(df.x, df.y, method="exact"), 1)
+    rows.append(("Kendall's tau exact, n = 1,000, no ties", t, 5.0, out[0],
+                 f"previous: {old:.1f} s in this run ({old / t:.0f}x), Python integers over "
+                 f"the whole half law (bench/previous.py); scipy kendalltau exact: {ts:.2f} s"))
+    g = [rng.normal(size=15) for _ in range(3)]
+    st = groups_statement(g, "using ranks exact")
+    t, r = permq_case(st, 2)
+    old, out = _timed_with([(ksample_dense, "applies", lambda sizes: False)],
+                           lambda: permq.run(st), 1)
+    same = abs(out[0].outcome.p_value - r.outcome.p_value) <= 1e-12
+    rows.append(("Kruskal-Wallis, 3 groups of 15, exact", t, 1.0, r,
+                 f"previous: {old:.2f} s in this run ({old / t:.1f}x), state lists merged by "
+                 f"sorting; {'the same' if same else 'a DIFFERENT'} p-value"))
     return rows
 
 
@@ -210,6 +268,7 @@ def association_cases(rng):
         except Exception:  # noqa: BLE001 - older scipy: only 2 x 2
             pass
         rows.append((f"Fisher exact r x c, {name}", t, targets[name], r, note))
+    rows.extend(large_count_cases())
     x = rng.normal(size=50)
     y = 0.3 * x + rng.normal(size=50)
     st = "relate y to x using kendall exact"
@@ -228,6 +287,38 @@ def association_cases(rng):
         permutation_type="pairings", n_resamples=10_000, vectorized=True, random_state=1), 1)
     rows.append(("Pearson Monte Carlo, 100,000 draws, n = 1,000", t, 2.0, out[0],
                  f"scipy permutation_test: {ts * 10:.1f} s per 100,000 (timed on 10,000)"))
+    return rows
+
+
+def large_count_cases():
+    """Tables with large counts but few tables, and ordinal data through the table network.
+    Before the network counted only the states that occur, the first two were refused exact
+    ("state space ... too large"); the ordinal design went by dynamic programming over tie
+    blocks (the planner's estimate for it is given beside)."""
+    from permq.engine import ordered
+    from permq.engine.tables import ranked
+
+    rows = []
+    # A. Agresti (2007), An Introduction to Categorical Data Analysis, 2nd ed.: party
+    # identification by gender, n = 2,757 (Table 2.5); infant malformation by alcohol, n = 32,574
+    # (Table 2.6, from Graubard and Korn 1987)
+    party = "count [[762, 327, 468], [484, 239, 477]] exact"
+    t, r = permq_case(party, 1)
+    rows.append(("Fisher exact 2 x 3, n = 2,757 (published)", t, 1.0, r,
+                 "before: exact refused (1.87e+06 row-margin states); scipy has no exact r x c"))
+    trend = "count [[17066, 48], [14464, 38], [788, 5], [126, 1], [37, 1]] ordered exact"
+    t, r = permq_case(trend, 1)
+    rows.append(("trend 5 x 2, n = 32,574 (published)", t, 1.0, r,
+                 "before: exact refused (state space too large)"))
+    rng = np.random.default_rng(5)          # four groups of 25 graded 1-4 (our own data)
+    groups = [rng.integers(1, 5, 25) for _ in range(4)]
+    t, r = permq_case(groups_statement(groups, "ordered using ranks exact"), 1)
+    v = np.concatenate(groups).astype(float)
+    g = np.repeat(np.arange(4), 25)
+    dp = next(c for c in ordered.JONCKHEERE_TERPSTRA.candidates(v, g, 1000)
+              if c.algorithm != ranked.TABLE and c.exact)
+    rows.append(("Jonckheere-Terpstra, ordinal 4 x 4, n = 100, exact", t, 1.0, r,
+                 f"before: {dp.description}, planner's estimate {dp.seconds:.0f} s"))
     return rows
 
 

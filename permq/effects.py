@@ -48,10 +48,26 @@ def attach(design, result) -> None:
 
 
 def effect_sizes(design, result) -> list:
-    for kind, fn in _BY_DESIGN:
-        if isinstance(design, kind):
-            return [s for s in fn(design, result) if s is not None]
-    return []
+    """The family's own effect sizes (`Family.effect_sizes`, naming the pieces below), or
+    the design's plain ones where a family declares none."""
+    from .families.registry import family_for
+
+    chosen = getattr(family_for(design), "effect_sizes", None)
+    if chosen is None:
+        chosen = next((fn for kind, fn in _BY_DESIGN if isinstance(design, kind)), None)
+    return [s for s in chosen(design, result) if s is not None] if chosen else []
+
+
+def pieces(*names: str):
+    """A family's effect sizes: the pieces of this module named, in order
+    (e.g. pieces("standardised_difference_with_interval", "superiority"))."""
+    def sizes(design, result):
+        out = []
+        for name in names:
+            found = globals()[name](design, result)
+            out.extend(found if isinstance(found, list) else [found])
+        return out
+    return sizes
 
 
 def _size(key, name, value, source, interval=None, level=None, method=NO_INTERVAL) -> dict:
@@ -75,22 +91,36 @@ def _scaled_interval(result, scale, family_has_interval: bool):
 
 # ---------------------------------------------------------------- two samples
 
-def _two_sample(design, result):
+def _difference(design, result, with_interval: bool):
     x, y = design.x, design.y
-    fam = design.settings.family
     nx, ny = len(x), len(y)
-    out = []
     if nx > 1 and ny > 1:
         sp = math.sqrt(((nx - 1) * np.var(x, ddof=1) + (ny - 1) * np.var(y, ddof=1))
                        / (nx + ny - 2))
         if sp > 0 and not (no_spread(x) and no_spread(y)):     # zero spread: no d
-            iv, lvl, how = _scaled_interval(result, sp, fam == "means")
-            out.append(_size("d", f"standardised difference d ({design.effect}, pooled sd)",
-                             (x.mean() - y.mean()) / sp, "cohen-1988", iv, lvl, how))
-    if fam == "ranks":
-        out.append(_size("superiority", f"probability of superiority P({design.labels[0]} > "
-                         f"{design.labels[1]}) + P(=) / 2", superiority(x, y), "vargha-2000"))
-    return out
+            iv, lvl, how = _scaled_interval(result, sp, with_interval)
+            return _size("d", f"standardised difference d ({design.effect}, pooled sd)",
+                         (x.mean() - y.mean()) / sp, "cohen-1988", iv, lvl, how)
+    return None
+
+
+def standardised_difference(design, result):
+    return _difference(design, result, False)
+
+
+def standardised_difference_with_interval(design, result):
+    """d with the family's exact interval of the shift over the same pooled sd (means)."""
+    return _difference(design, result, True)
+
+
+def probability_of_superiority(design, result):
+    x, y = design.x, design.y
+    return _size("superiority", f"probability of superiority P({design.labels[0]} > "
+                 f"{design.labels[1]}) + P(=) / 2", superiority(x, y), "vargha-2000")
+
+
+def _two_sample(design, result):
+    return [standardised_difference(design, result)]
 
 
 def superiority(x, y) -> float:
@@ -101,26 +131,41 @@ def superiority(x, y) -> float:
 
 # ---------------------------------------------------------------- paired and one sample
 
-def _one_sample(design, result):
+def _dz(design, result, with_interval: bool):
     d = design.d
-    fam = design.settings.family
-    out = []
     if len(d) > 1:
         sd = float(np.std(d, ddof=1))
         if sd > 0 and not no_spread(d):           # equal as recorded: 1e-16 of noise is no sd
-            iv, lvl, how = _scaled_interval(result, sd, fam == "means")
-            out.append(_size("dz", f"standardised mean difference d_z ({design.effect}, "
-                             "sd of the differences)", d.mean() / sd, "cohen-1988", iv, lvl,
-                             how))
-    if fam == "ranks":
-        out.append(_size("rank_biserial", "matched-pairs rank-biserial correlation "
-                         "(W+ - W-) / (W+ + W-)", rank_biserial(d), "kerby-2014"))
-    if fam == "signs":
-        pos, neg = int(np.sum(d > 0)), int(np.sum(d < 0))
-        if pos + neg:
-            out.append(_size("positive_share", "share of positive differences (zeros left out)",
-                             pos / (pos + neg), "dixon-mood-1946"))
-    return out
+            iv, lvl, how = _scaled_interval(result, sd, with_interval)
+            return _size("dz", f"standardised mean difference d_z ({design.effect}, "
+                         "sd of the differences)", d.mean() / sd, "cohen-1988", iv, lvl, how)
+    return None
+
+
+def standardised_mean_difference(design, result):
+    return _dz(design, result, False)
+
+
+def standardised_mean_difference_with_interval(design, result):
+    return _dz(design, result, True)
+
+
+def matched_rank_biserial(design, result):
+    return _size("rank_biserial", "matched-pairs rank-biserial correlation "
+                 "(W+ - W-) / (W+ + W-)", rank_biserial(design.d), "kerby-2014")
+
+
+def positive_share(design, result):
+    d = design.d
+    pos, neg = int(np.sum(d > 0)), int(np.sum(d < 0))
+    if not pos + neg:
+        return None
+    return _size("positive_share", "share of positive differences (zeros left out)",
+                 pos / (pos + neg), "dixon-mood-1946")
+
+
+def _one_sample(design, result):
+    return [standardised_mean_difference(design, result)]
 
 
 def rank_biserial(d) -> float:
@@ -139,23 +184,26 @@ def _midranks(v) -> np.ndarray:
 
 # ---------------------------------------------------------------- groups, order, blocks
 
-def _groups(design, result):
+def epsilon_squared(design, result):
     v, g = np.asarray(design.values, float), np.asarray(design.groups)
-    fam = design.settings.family
-    if design.kind == "blocked":
-        return _blocked(design, result)
-    out = []
-    if fam == "ranks":
-        out.append(_size("epsilon_squared", "epsilon-squared (H / (N - 1), mid-ranks)",
-                         _eta_squared(_midranks(v), g), "tomczak-2014"))
-    else:
-        out.append(_size("eta_squared", "eta-squared (between-group over total sum of squares)",
-                         _eta_squared(v, g), "cohen-1988"))
-    if design.kind == "ordered" and fam == "ranks":
-        out.append(_size("concordance", "share of concordant pairs along the order "
-                         "(J over its maximum, ties counted half)", _jt_share(v, g),
-                         "jonckheere-1954"))
-    return out
+    return _size("epsilon_squared", "epsilon-squared (H / (N - 1), mid-ranks)",
+                 _eta_squared(_midranks(v), g), "tomczak-2014")
+
+
+def eta_squared(design, result):
+    v, g = np.asarray(design.values, float), np.asarray(design.groups)
+    return _size("eta_squared", "eta-squared (between-group over total sum of squares)",
+                 _eta_squared(v, g), "cohen-1988")
+
+
+def concordance_share(design, result):
+    v, g = np.asarray(design.values, float), np.asarray(design.groups)
+    return _size("concordance", "share of concordant pairs along the order "
+                 "(J over its maximum, ties counted half)", _jt_share(v, g), "jonckheere-1954")
+
+
+def _groups(design, result):
+    return [] if design.kind == "blocked" else [eta_squared(design, result)]
 
 
 def _eta_squared(v, g) -> float:
@@ -179,16 +227,21 @@ def _jt_share(v, g) -> float:
     return j / most if most else math.nan
 
 
-def _blocked(design, result):
+def kendalls_w(design, result):
     v, g, b = np.asarray(design.values, float), np.asarray(design.groups), design.blocks
     k = len(design.labels)
     if k < 3:
-        return []
-    if design.settings.family == "ranks":
-        return [_size("kendall_w", "Kendall's W (agreement of the rankings within blocks, "
-                      "tie-corrected)", kendall_w(v, g, b, k), "kendall-1939")]
-    return [_size("partial_eta_squared", "partial eta-squared (treatments over treatments "
-                  "plus error, additive model)", _partial_eta(v, g, b), "cohen-1988")]
+        return None
+    return _size("kendall_w", "Kendall's W (agreement of the rankings within blocks, "
+                 "tie-corrected)", kendall_w(v, g, b, k), "kendall-1939")
+
+
+def partial_eta_squared(design, result):
+    v, g, b = np.asarray(design.values, float), np.asarray(design.groups), design.blocks
+    if len(design.labels) < 3:
+        return None
+    return _size("partial_eta_squared", "partial eta-squared (treatments over treatments "
+                 "plus error, additive model)", _partial_eta(v, g, b), "cohen-1988")
 
 
 def kendall_w(v, g, b, k) -> float:
@@ -220,8 +273,8 @@ def _partial_eta(v, g, b) -> float:
 
 # ---------------------------------------------------------------- association
 
-def _association(design, result):
-    if design.settings.family != "slope" or design.covariates is not None:
+def standardised_slope(design, result):
+    if design.covariates is not None:
         return []
     sx, sy = float(np.std(design.x, ddof=1)), float(np.std(design.y, ddof=1))
     if not sy > 0:
@@ -301,5 +354,4 @@ def cramer_v(t) -> float:
 
 
 _BY_DESIGN = [(designs.TwoSampleDesign, _two_sample), (designs.OneSampleDesign, _one_sample),
-              (designs.GroupsDesign, _groups), (designs.AssociationDesign, _association),
-              (designs.TableDesign, _table)]
+              (designs.GroupsDesign, _groups), (designs.TableDesign, _table)]

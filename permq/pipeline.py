@@ -21,6 +21,7 @@ from .families.registry import family_for
 from .engine.core.progress import Progress
 from .engine.montecarlo.sampling import using_workers
 from .plan import seeds
+from .plan import statement as statement_costs
 from .result import Failure, Note
 from .robustness import diagnostics
 from .syntax import nodes as n
@@ -49,13 +50,14 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     """One analysis statement, end to end."""
     design, choice = bind_seeded(node, text, catalog, defaults)
     handler = family_for(design)
-    the_plan = handler.plan(design)
+    the_plan = whole_plan(handler, design, node)
     result = handler.execute(design, the_plan, progress, text)
     result.seed_source = choice.source
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
-    result.extra["estimated_seconds"] = round(the_plan.chosen.seconds, 4)   # what explain said
-    result.summary_decimals = decimals.for_design(design)
+    result.extra["estimated_seconds"] = round(the_plan.seconds, 4)   # what explain said
+    if result.summary_decimals is None:      # a family may set its own (proportions)
+        result.summary_decimals = decimals.for_design(design)
     result.design = design            # kept for the report's pictures (not in the JSON)
     diagnostics.attach(design, result)
     effects.attach(design, result)
@@ -68,10 +70,20 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
 
 def explain(node, text: str, catalog: Catalog, defaults: Defaults) -> Note:
     design, _ = bind_seeded(node, text, catalog, defaults)
-    the_plan = family_for(design).plan(design)
+    the_plan = whole_plan(family_for(design), design, node)
     return Note(text, str(the_plan), {"plan": str(the_plan), "method": the_plan.method,
                                       "algorithm": the_plan.chosen.description,
-                                      "estimated_seconds": the_plan.chosen.seconds})
+                                      "estimated_seconds": the_plan.seconds,
+                                      "estimated_bytes": the_plan.memory})
+
+
+def whole_plan(handler, design, node):
+    """The family's plan with the statement's other work priced beside the test."""
+    the_plan = handler.plan(design)
+    if not hasattr(the_plan, "with_parts"):
+        return the_plan
+    picture = "picture" in n.options_of(node)
+    return the_plan.with_parts(statement_costs.parts(design, the_plan.chosen, picture))
 
 
 class Session:

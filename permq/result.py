@@ -76,6 +76,8 @@ class Result:
     summary_decimals: Optional[list] = None   # decimals for each group's summaries (data/decimals.py)
     extra: dict = field(default_factory=dict)     # family-specific additions (kept in JSON)
     also_normal: list = field(default_factory=list)  # further textbook tests (e.g. Welch ANOVA, HC3)
+    reference: str = "arrangements"   # what the exact reference set is made of, in words
+    exact_heading: str = ""           # the exact column's heading when not a permutation test
     design: Optional[object] = field(default=None, repr=False, compare=False)  # the bound design
 
     def to_dict(self) -> dict:
@@ -231,5 +233,7 @@ def _num(v):
 def _count(v):
     if v is None:
         return None
+    if isinstance(v, int):           # exact, any size (JSON numbers have no size limit)
+        return v
     f = float(v)
     return int(f) if f < 2 ** 63 and f == int(f) else f

@@ -190,6 +190,23 @@ def critical_count(counts: list, side: float) -> int:
     return c
 
 
+def mahonian(n: int, upto=None) -> list:
+    """Exact numbers of permutations of n items with k inversions, k = 0 .. upto (Python
+    integers), by I_m(k) = sum_{i < m} I_{m-1}(k - i); truncation is exact."""
+    top = n * (n - 1) // 2 if upto is None else min(upto, n * (n - 1) // 2)
+    c = [1]
+    for m in range(2, n + 1):
+        length = min(len(c) + m - 1, top + 1)
+        new, window = [], 0
+        for k in range(length):
+            window += c[k] if k < len(c) else 0
+            if k - m >= 0 and k - m < len(c):
+                window -= c[k - m]
+            new.append(window)
+        c = new
+    return c
+
+
 # ---------------------------------------------------------------- groups, orders, blocks, pairs
 
 def assignments(labels) -> list:

@@ -6,14 +6,18 @@ from __future__ import annotations
 import itertools
 from fractions import Fraction
 import time
+from fractions import Fraction
 from math import factorial
 
 import numpy as np
 import pytest
 import statsmodels.api as sm
+
+import brute
 from scipy import stats
 
 from permq.engine import association as A
+from permq.engine.association import inversions as A_inversions
 from permq.engine.association import pairings as A_pairings, slope as A_slope
 from permq.engine.core.limits import EXACT_CEILING_SECONDS
 from permq.engine.core.progress import Progress
@@ -155,7 +159,7 @@ def test_statistic_matches_scipy(statistic):
 
 def test_mahonian_counts_sum_to_n_factorial_and_are_symmetric():
     for n in range(1, 31):
-        c = A_pairings.inversion_counts(n)
+        c = brute.mahonian(n)
         assert sum(c) == factorial(n)
         assert c == c[::-1]
         assert len(c) == n * (n - 1) // 2 + 1
@@ -164,19 +168,54 @@ def test_mahonian_counts_sum_to_n_factorial_and_are_symmetric():
 def test_mahonian_counts_small_n_against_published_rows():
     # Triangle of Mahonian numbers, OEIS A008302 (N. J. A. Sloane), rows n = 3, 4, 5
     # (from memory; also re-derived by listing permutations below).
-    assert A_pairings.inversion_counts(3) == [1, 2, 2, 1]
-    assert A_pairings.inversion_counts(4) == [1, 3, 5, 6, 5, 3, 1]
-    assert A_pairings.inversion_counts(5) == [1, 4, 9, 15, 20, 22, 20, 15, 9, 4, 1]
+    assert brute.mahonian(3) == [1, 2, 2, 1]
+    assert brute.mahonian(4) == [1, 3, 5, 6, 5, 3, 1]
+    assert brute.mahonian(5) == [1, 4, 9, 15, 20, 22, 20, 15, 9, 4, 1]
     for n in (5, 6):
         perms = all_perms(n)
         inv = sum((perms[:, i] > perms[:, j]).astype(int)
                   for i in range(n) for j in range(i + 1, n))
-        assert A_pairings.inversion_counts(n) == np.bincount(inv).tolist()
+        assert brute.mahonian(n) == np.bincount(inv).tolist()
+        counts, e = A_inversions.counts_up_to(n, n * (n - 1) // 2)
+        assert e == 0 and counts.tolist() == np.bincount(inv).tolist()
+
+
+def test_float_counts_are_exact_to_n18_and_near_exact_beyond():
+    for n in (12, 18):
+        counts, e = A_inversions.counts_up_to(n, n * (n - 1) // 4)
+        assert e == 0 and counts.tolist() == brute.mahonian(n, n * (n - 1) // 4)
+    for n in (40, 180):                       # past 2^53 (and, at 180, past the rescaling)
+        top = n * (n - 1) // 4
+        exact = brute.mahonian(n, top)
+        counts, e = A_inversions.counts_up_to(n, top)
+        assert n < 180 or e > 0
+        for k in range(0, top + 1, max(1, top // 50)):
+            got = Fraction(float(counts[k])) * 2 ** e           # exact rational, any size
+            assert float(abs(got - exact[k]) / exact[k]) < 1e-13
+        running = 0
+        for k in range(0, top + 1):
+            running += exact[k]
+            if k % max(1, top // 20) == 0:
+                got = A_inversions.share(float(counts[:k + 1].sum()), e, n)
+                assert got == pytest.approx(running / factorial(n), rel=1e-13)
 
 
 def test_truncated_counts_are_exact():
-    full = A_pairings.inversion_counts(12)
-    assert A_pairings.inversion_counts(12, 20) == full[:21]
+    full = brute.mahonian(12)
+    assert brute.mahonian(12, 20) == full[:21]
+    assert A_inversions.counts_up_to(12, 20)[0].tolist() == full[:21]
+
+
+@pytest.mark.parametrize("n", [400])
+def test_kendall_counting_large_n_matches_scipy(n):
+    rng = np.random.default_rng(n)
+    x = rng.normal(size=n)
+    for slope in (0.05, 0.3):               # a p near the centre, and a small p far out
+        y = slope * x + rng.normal(size=n)
+        for alternative in ALTS:
+            ref = stats.kendalltau(x, y, method="exact", alternative=SCIPY_ALT[alternative])
+            out = A.run("kendall", y, x, alternative, "dp-inversions")
+            assert out.p_value == pytest.approx(ref.pvalue, rel=1e-9, abs=1e-300)
 
 
 def test_kendall_table_n5_upper_tail():
@@ -202,7 +241,7 @@ def test_kendall_counting_matches_scipy_exact(n, alternative):
     out = A.run("kendall", y, x, alternative, "dp-inversions")
     assert out.statistic == pytest.approx(ref.statistic, rel=1e-12)
     assert out.p_value == pytest.approx(ref.pvalue, rel=1e-9)
-    assert out.arrangements == float(factorial(n))
+    assert out.arrangements == factorial(n)
 
 
 def test_kendall_counting_equals_enumeration_without_ties():

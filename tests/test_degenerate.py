@@ -60,7 +60,7 @@ def test_one_sample_t_constant_data_is_undefined_where_scipy_says_inf():
 
 def test_one_sample_t_with_spread_matches_scipy():
     d = [0.4, -0.1, 0.9, 0.3, 0.6, 0.2]
-    nt = NTh.one_sample("means", np.array(d), 0.95, "two-sided")
+    nt = NTh.one_sample_t(np.array(d), 0.95, "two-sided")
     ref = stats.ttest_1samp(d, 0)
     assert not nt.undefined
     assert nt.statistic == pytest.approx(ref.statistic, rel=1e-12)
@@ -68,20 +68,20 @@ def test_one_sample_t_with_spread_matches_scipy():
 
 
 def test_welch_t_zero_spread_in_both_groups_is_undefined_in_one_matches_scipy():
-    assert NTh.two_sample("means", np.array([1.3] * 3), np.array([2.3] * 3), 0.95,
+    assert NTh.welch_t(np.array([1.3] * 3), np.array([2.3] * 3), 0.95,
                           "two-sided").undefined == "zero spread"
     x, y = np.array([1.3, 1.3, 1.3]), np.array([2.1, 2.3, 2.6, 2.2])
-    nt = NTh.two_sample("means", x, y, 0.95, "two-sided")
+    nt = NTh.welch_t(x, y, 0.95, "two-sided")
     ref = stats.ttest_ind(x, y, equal_var=False)
     assert nt.statistic == pytest.approx(ref.statistic, rel=1e-12)
     assert nt.p_value == pytest.approx(ref.pvalue, rel=1e-10)
 
 
 def test_rank_normal_approximations_with_every_value_tied_are_undefined():
-    nt = NTh.two_sample("ranks", np.array([3.0, 3, 3]), np.array([3.0, 3]), 0.95, "two-sided")
+    nt = NTh.rank_sum_z(np.array([3.0, 3, 3]), np.array([3.0, 3]), 0.95, "two-sided")
     assert nt.undefined == "all values tied"
-    assert NTh.one_sample("ranks", np.zeros(4), 0.95, "two-sided").undefined
-    assert NTh.one_sample("signs", np.zeros(4), 0.95, "two-sided").undefined
+    assert NTh.signed_rank_z(np.zeros(4), 0.95, "two-sided").undefined
+    assert NTh.sign_z(np.zeros(4), 0.95, "two-sided").undefined
 
 
 def test_no_spread_on_the_grid_and_off_it():

@@ -162,6 +162,24 @@ def _tie_free_pair(seed, n1, n2):
 HL_PAIRS = [_tie_free_pair(1, 5, 6), _tie_free_pair(2, 7, 4), _tie_free_pair(3, 6, 6)]
 
 
+@pytest.mark.parametrize("n1, n2", [(1, 1), (1, 6), (3, 5), (6, 3), (7, 7), (4, 10)])
+def test_mann_whitney_law_by_generating_function_equals_listing(n1, n2):
+    got = rankintervals.mann_whitney_counts(n1, n2)
+    assert got.tolist() == brute.mann_whitney_u_counts(n1, n2)     # exact integers here
+
+
+@pytest.mark.parametrize("n1, n2, seed", [(8, 13, 1), (40, 25, 2), (90, 110, 3), (9, 300, 4)])
+def test_mann_whitney_law_matches_scipy_exact(n1, n2, seed):
+    from scipy import stats
+
+    rng = np.random.default_rng(seed)
+    cdf = rankintervals.mann_whitney_cdf(n1, n2)
+    for shift in (0.0, 0.4, 1.0):
+        x, y = rng.normal(size=n1), rng.normal(shift, 1, size=n2)
+        ref = stats.mannwhitneyu(x, y, method="exact", alternative="less")
+        assert cdf[int(ref.statistic)] == pytest.approx(ref.pvalue, rel=1e-11, abs=1e-300)
+
+
 @pytest.mark.parametrize("x, y", HL_PAIRS + TWO_SAMPLES)
 @pytest.mark.parametrize("alternative", ALTERNATIVES)
 def test_hodges_lehmann_interval_from_the_listed_mann_whitney_law(x, y, alternative):

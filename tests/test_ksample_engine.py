@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from permq.engine import ksample as K
+from permq.engine import ksample as K, ksample_dense as K_dense
 from permq.engine.core.limits import EXACT_CEILING_SECONDS
 from permq.engine import ordered as O
 from permq.errors import DataError, PlanError
@@ -286,9 +286,34 @@ KW_TABLE_FROM_MEMORY = [
 @pytest.mark.parametrize("sizes,h,p", KW_TABLE_FROM_MEMORY)
 def test_kruskal_wallis_exact_table_from_memory(sizes, h, p):
     x = np.arange(sum(sizes), dtype=float)
-    out = K.RANKS.run(x, np.repeat(np.arange(3), sizes), "two-sided", "dp-sums")
-    tail = out.null_probs[out.null_support >= h - 1e-4].sum()
-    assert tail == pytest.approx(p, abs=6e-4)
+    for algorithm in ("dp-sums", "dp-dense"):
+        out = K.RANKS.run(x, np.repeat(np.arange(3), sizes), "two-sided", algorithm)
+        tail = out.null_probs[out.null_support >= h - 1e-4].sum()
+        assert tail == pytest.approx(p, abs=6e-4)
+
+
+@pytest.mark.parametrize("sizes, levels", [((8, 8, 8), 12), ((6, 9, 4), 5), ((7, 7, 7), 0),
+                                            ((10, 3, 6), 0)])
+def test_dense_tables_of_sums_give_the_same_law_as_the_state_lists(sizes, levels):
+    rng = np.random.default_rng(sum(sizes) + levels)
+    n = sum(sizes)
+    x = rng.integers(0, levels, n).astype(float) if levels else rng.normal(size=n)
+    z = K._rank_grid(x).integers
+    dense_q, dense_w = K_dense.count_three(z, sizes)
+    list_q, list_w = K.count_sum_squares(z, sizes)
+    assert dense_q.tolist() == list_q.tolist()
+    assert dense_w.tolist() == list_w.tolist()          # exact integers at these sizes
+    assert dense_w.sum() == K.multinomial(sizes)
+    cells, _ = K_dense.work(z, sizes)
+    assert cells > 0
+
+
+def test_dense_tables_of_means_on_a_grid_match_enumeration():
+    x = np.array([1.2, 3.4, 2.2, 1.2, 5.0, 2.2, 3.3, 4.1, 0.5, 2.2, 1.9, 3.0])
+    g = np.repeat([0, 1, 2], [4, 5, 3])
+    a = K.MEANS.run(x, g, "two-sided", "dp-dense")
+    b = K.MEANS.run(x, g, "two-sided", "enumeration")
+    assert a.p_value == pytest.approx(b.p_value, abs=1e-12)
 
 
 @pytest.mark.parametrize("alternative,side", [("higher", "greater"), ("lower", "less"),

@@ -333,7 +333,7 @@ def test_family_wise_error_of_max_t_under_the_complete_null():
     pool = LocalPool(1)
     for _ in range(sets):
         y = np.sqrt(0.6) * rng.normal(size=(10, 1)) + np.sqrt(0.4) * rng.normal(size=(10, 10))
-        out = many.run_family(y, codes, "means", "two-sided", "max-t", "step-down",
+        out = many.run_family(y, codes, False, "two-sided", "max-t", "step-down",
                               "enumeration", 0, 0, pool=pool)
         hits_adj += bool((out.p_adjusted <= 0.05).any())
         hits_raw += bool((out.p_raw <= 0.05).any())
@@ -393,7 +393,7 @@ def test_compiled_and_numpy_paths_agree():
         codes = np.repeat(np.arange(k), sizes).astype(np.int8)
         values = rng.normal(size=(len(codes), 300))
         values[3, 10] = values[4, 299] = np.nan
-        y, obs = many.standardised_scores(values, "means")
+        y, obs = many.standardised_scores(values, False)
         fam, lut = many.build_family(y, obs, codes, np.bincount(codes), "two-sided",
                                      thr=np.full(300, 1.5))
         ref = many_kernels.members_of(lut[many.arrangements.sampled_codes(codes, 5, 2000)],

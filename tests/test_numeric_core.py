@@ -74,12 +74,12 @@ def test_the_memory_set_reaches_the_engine():
 
 def test_the_memory_set_chooses_the_algorithm_and_both_are_exact():
     # brute force over the C(16, 8) = 12,870 splits (exact fractions): the same p whichever
-    # algorithm the memory allows (counting needs about 3.3 MB here, listing 2.8 MB)
+    # algorithm the memory allows (counting needs about 6.7 MB here, listing 5.5 MB)
     rng = np.random.default_rng(7)
     x = [round(float(v), 2) for v in rng.uniform(0, 40, 8)]
     y = [round(float(v), 2) for v in rng.uniform(0, 40, 8)]
     want = brute.two_sample_p("means", x, y, "two-sided")
-    for memory, algorithm in (("2GB", "dynamic programming"), ("3MB", "complete enumeration")):
+    for memory, algorithm in (("2GB", "dynamic programming"), ("6MB", "complete enumeration")):
         s = Session()
         s.run(f"set memory {memory}")
         r = s.run(f"compare {inline(x)} vs {inline(y)} exact")[-1]

@@ -193,7 +193,7 @@ def test_pratt_signed_rank_with_ties_matches_scipy_permutation_test(d):
 @pytest.mark.parametrize("d", WITH_ZEROS[:4] + NO_TIES)
 @pytest.mark.parametrize("alternative", ALTERNATIVES)
 def test_t_on_differences_matches_scipy_ttest_1samp(d, alternative):
-    nt = theory.one_sample("means", d, 0.9, alternative)
+    nt = theory.one_sample_t(d, 0.9, alternative)
     ref = stats.ttest_1samp(d, 0.0, alternative=SCIPY_ALT[alternative])
     assert nt.statistic == pytest.approx(ref.statistic, rel=1e-10)
     assert nt.df == len(d) - 1
@@ -218,7 +218,7 @@ def test_paired_t_reaches_the_result_as_scipy_ttest_rel():
 @pytest.mark.parametrize("d", WITH_ZEROS[:4] + NO_TIES)
 @pytest.mark.parametrize("alternative", ALTERNATIVES)
 def test_signed_rank_normal_approximation_matches_scipy_pratt(d, alternative):
-    nt = theory.one_sample("ranks", d, 0.95, alternative)
+    nt = theory.signed_rank_z(d, 0.95, alternative)
     ref = stats.wilcoxon(d, zero_method="pratt", correction=False, method="approx",
                          alternative=SCIPY_ALT[alternative])
     assert nt.p_value == pytest.approx(ref.pvalue, rel=1e-9)
@@ -230,6 +230,6 @@ def test_sign_count_approximation(d):
     nonzero = [v for v in d if v != 0]
     m, k = len(nonzero), sum(1 for v in nonzero if v > 0)
     z = (k - m / 2) / np.sqrt(m / 4)
-    nt = theory.one_sample("signs", d, 0.95, "two-sided")
+    nt = theory.sign_z(d, 0.95, "two-sided")
     assert nt.statistic == pytest.approx(z)
     assert nt.p_value == pytest.approx(2 * stats.norm.sf(abs(z)))

@@ -82,7 +82,7 @@ def test_exact_is_refused_past_the_ceiling_with_the_estimate():
     err = info.value
     assert err.message == ("'exact' refused: the cheapest exact method (dynamic programming on "
                            f"integer scores) would take about "
-                           f"{planner._seconds(20 * 86400 + cost.BASE_SECONDS)} and 1 MB; "
+                           f"{planner._seconds(20 * 86400 + cost.base_seconds())} and 1 MB; "
                            "the limit is 60 min and 2 GB")
     assert "20 days" in err.message
     assert err.hint == "drop 'exact' for Monte Carlo, or use 'sampled N'"
@@ -134,10 +134,31 @@ def test_large_data_go_to_monte_carlo_with_the_plan_saying_why():
     assert "reference set: 1.18e+17 arrangements" in note.text
 
 
-def test_a_small_budget_sends_small_data_to_monte_carlo():
+def test_a_small_budget_sends_data_to_monte_carlo_when_the_draws_are_cheaper():
+    ten = f"{_normal_list(3, 10)} vs {_normal_list(4, 10)} using normal-scores"  # C(20, 10)
+    assert permq.run(f"explain compare {ten}")[0].data["method"] == "exact"
+    out = permq.run(f"set budget 1ms\nexplain compare {ten}")
+    assert out[1].data["method"] == "monte-carlo"
+
+
+def test_a_small_budget_keeps_exact_when_it_is_cheaper_than_the_draws():
     out = permq.run("set budget 1ms\nexplain compare [1.5, 2.5, 3.5, 4.5, 5.5, 6.5, 7.5] vs "
                     "[2, 3, 4, 5, 6, 7, 8, 9, 10]")
-    assert out[1].data["method"] == "monte-carlo"
+    assert out[1].data["method"] == "exact"
+    assert "but Monte Carlo would take longer" in out[1].text
+
+
+def test_exact_past_the_budget_is_chosen_when_cheaper_than_monte_carlo():
+    def cands(draws):
+        return fake_candidates(draws, exact_seconds=(2.0, 0.5))[:2] + [
+            Candidate("monte-carlo", "Monte Carlo sampling", False, seconds(1.0), 1e6)]
+    plan = planner.make_plan(ENGINE, "means", Settings("means", budget_seconds=0.1), cands)
+    assert plan.method == "exact" and plan.chosen.algorithm == "dp-integer"
+    assert plan.reason.startswith("the cheapest exact method would take about 0.5 s, past "
+                                  "the budget of about 0.1 s, but Monte Carlo would take longer")
+    plan = planner.make_plan(ENGINE, "means", Settings("means", budget_seconds=0.1,
+                                                       memory_bytes=1e5), cands)
+    assert plan.method == "monte-carlo"          # the exact methods do not fit the memory
 
 
 def test_exact_refused_in_the_language_with_the_estimate():

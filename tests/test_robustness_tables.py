@@ -360,9 +360,11 @@ def test_robustness_of_a_2x2_table_end_to_end():
 
 def test_robustness_of_an_rxc_table_from_columns():
     rng = np.random.default_rng(9)
-    frame = pd.DataFrame({"dose": rng.choice(["0", "10", "20"], 36),
+    frame = pd.DataFrame({"dose": rng.choice([0, 10, 20], 36),
                           "grade": rng.choice(["low", "mid", "high"], 36)})
-    for extra, normal in (("", "Pearson chi-square"), (" ordered", "linear-by-linear"),
+    # ordered: the doses by their values, the grades in the order listed
+    for extra, normal in (("", "Pearson chi-square"),
+                          (' ordered "low" < "mid" < "high"', "linear-by-linear"),
                           (" using likelihood-ratio", "likelihood-ratio")):
         rr = permq.run(f"robustness count dose by grade in t{extra} datasets 100 seed 3",
                        tables={"t": frame})[0]

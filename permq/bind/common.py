@@ -97,8 +97,7 @@ def _not_a_family(opt, kind: str, form: str) -> BindError:
     word = opt.value
     allowed = [f.keyword for f in registry.for_kind(kind) if f.selectable]
     # where the word fits this statement with one more option ('trend' once 'ordered' is added)
-    elsewhere = [k for k in registry.kinds_of(word) if registry.kind(k).verb ==
-                 registry.kind(kind).verb and registry.kind(k).how.startswith("add ")]
+    elsewhere = [k for k in registry.kinds_of(word) if registry.kind(k).extends == kind]
     hint = "choose one of " + ", ".join(allowed) if allowed else (
         f"{form} has one test, {registry.default(kind).title}: drop 'using'")
     if elsewhere:
@@ -285,3 +284,17 @@ def chosen_levels(opt: n.Option, present: list, column: str) -> list:
         raise BindError(f"'{opt.key}' needs two or more levels", opt.span,
                         hint=f"levels: {', '.join(present)}")
     return levels
+
+
+def all_numbers(levels) -> bool:
+    """Whether every level reads as a number."""
+    try:
+        [float(v) for v in levels]
+        return True
+    except ValueError:
+        return False
+
+
+def listed_numbers(values) -> str:
+    """Scores in a message: "0, 10, 20"."""
+    return ", ".join(f"{v:g}" for v in values)

@@ -91,6 +91,8 @@ class TableDesign:
     names: tuple = ()
     warnings: tuple = field(default_factory=tuple)
     kind: str = "table"
+    row_scores: Optional[tuple] = None    # trend scores of the ordered rows / columns
+    col_scores: Optional[tuple] = None
 
 
 @dataclass(frozen=True)

@@ -14,6 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import BindError
+from .common import all_numbers as _all_numbers, listed_numbers as _listed
 from .designs import GroupsDesign
 
 
@@ -39,7 +40,7 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
     else:
         form, kind = "three or more groups", "k-sample"
         registry_kind = kind
-    allowed = ("levels", "within", "ordered")
+    allowed = ("levels", "within", "ordered", "scores")
     s = settings_for(node, opts, defaults, registry_kind, form, allowed)
     if not ordered and len(levels) > 2 and s.alternative != "two-sided":
         raise BindError(f"a comparison of {len(levels)} groups has no direction",
@@ -59,7 +60,15 @@ def bind_groups(node, subject, opts, defaults, y, g, levels, blocks, warnings, t
         block_codes = np.array([block_labels.index(b) for b in block_text], dtype=np.int64)
     if within and len(levels) > 2:
         _check_complete(codes, block_codes, levels, block_labels, opts["within"].value)
-    scores = _dose_scores(levels) if ordered else None
+    scores = None
+    if ordered:
+        listed = bool(opts["ordered"].value) or "levels" in opts
+        scores, how = _dose_scores(levels, listed, table.frame[subject.group.text])
+        scores, how = _given_scores(opts, scores, how, within)
+        if not within:
+            warnings += (f"dose scores: {_listed(scores)} ({how})",)
+    elif "scores" in opts:
+        raise BindError("'scores' go with 'ordered'", opts["scores"].span, hint="add 'ordered'")
     if len(levels) == 2 and not within and ordered:
         warnings += ("two ordered levels: the trend test is the two-sample test",)
     return GroupsDesign(y.to_numpy(float), codes, tuple(levels), subject.response.text, s,
@@ -74,13 +83,19 @@ def bind_inline_groups(node, opts, defaults, samples, labels, warnings):
         raise BindError("inline samples are ordered as written; write just 'ordered'",
                         opts["ordered"].span)
     s = settings_for(node, opts, defaults, "ordered" if ordered else "k-sample",
-                     "ordered samples" if ordered else "three or more samples", ("ordered",))
+                     "ordered samples" if ordered else "three or more samples", ("ordered", "scores"))
     if not ordered and s.alternative != "two-sided":
         raise BindError(f"a comparison of {len(samples)} samples has no direction",
                         opts["alternative"].span, hint="drop 'alternative', or add 'ordered'")
     values = np.concatenate(samples)
     codes = np.concatenate([np.full(len(a), i) for i, a in enumerate(samples)])
-    scores = np.arange(1, len(samples) + 1, dtype=float) if ordered else None
+    scores = None
+    if ordered:
+        scores, how = _given_scores(opts, np.arange(1.0, len(samples) + 1),
+                                    "1..k in the order written", False)
+        warnings = tuple(warnings) + (f"dose scores: {_listed(scores)} ({how})",)
+    elif "scores" in opts:
+        raise BindError("'scores' go with 'ordered'", opts["scores"].span, hint="add 'ordered'")
     return GroupsDesign(values, codes.astype(np.int64), tuple(labels), "values", s,
                         None, (), ordered, scores, warnings,
                         "ordered" if ordered else "k-sample")
@@ -122,18 +137,32 @@ def _ordered_levels(opt, levels, g, subject, table):
     return sorted(levels, key=float)
 
 
-def _all_numbers(levels) -> bool:
-    try:
-        [float(v) for v in levels]
-        return True
-    except ValueError:
-        return False
+def _dose_scores(levels, listed: bool, column):
+    """(scores, in words): a numeric group column's levels score their values (in whatever
+    order they are listed); listed text levels score 1..k."""
+    import pandas as pd
+
+    if pd.api.types.is_numeric_dtype(column) and _all_numbers(levels):
+        return np.array([float(v) for v in levels]), "the levels' values"
+    return (np.arange(1, len(levels) + 1, dtype=float),
+            "1..k in the order listed" if listed else "1..k in order")
 
 
-def _dose_scores(levels) -> np.ndarray:
-    if _all_numbers(levels):
-        return np.array([float(v) for v in levels])
-    return np.arange(1, len(levels) + 1, dtype=float)
+def _given_scores(opts, scores, how, within):
+    """`scores 0, 10, 20, 40` in place of the default dose scores, checked."""
+    if "scores" not in opts:
+        return scores, how
+    opt = opts["scores"]
+    if within:
+        raise BindError("Page's test within blocks takes no dose scores", opt.span,
+                        hint="drop 'scores'")
+    given = np.array([v for v, _ in opt.value], float)
+    if given.size != scores.size:
+        raise BindError(f"{given.size} scores for {scores.size} ordered levels", opt.span,
+                        hint=f"give {scores.size} scores, one a level, in order")
+    if not np.all(np.isfinite(given)) or np.ptp(given) == 0:
+        raise BindError("the scores must be finite numbers, not all equal", opt.span)
+    return given, "as given"
 
 
 def _natural(text):

@@ -40,7 +40,9 @@ import numpy as np
 
 from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
+from ..plan.sizes import big
 from ..result import EngineOutcome
+from . import ksample_dense
 from .core import pvalues
 from .core.counting import multinomial, multinomial_weights
 from .core.grid import Grid, centred, integer_grid, is_constant
@@ -51,6 +53,7 @@ from .montecarlo.draws import group_sums, random_u32
 from .core.progress import NO_PROGRESS, Progress
 
 _ROWS = 1 << 18                  # rows handled at once when listing or counting
+DENSE_WORDS = "dynamic programming on dense tables of group score sums (three groups)"
 
 
 # ----------------------------------------------------------------------------- design
@@ -102,7 +105,7 @@ def enumerate_group_sums(scores, sizes, progress: Progress = NO_PROGRESS) -> Ite
     sizes = [int(n) for n in sizes]
     rem = np.arange(a.shape[0], dtype=np.int64)[None, :]
     sums = np.zeros((1, 0, a.shape[1]))
-    total = float(multinomial(sizes))
+    total = big(multinomial(sizes))
     done = [0.0]
     for chunk in _expand(a, sizes, 0, rem, sums):
         done[0] += len(chunk)
@@ -231,11 +234,19 @@ def count_sum_squares(z, sizes, progress: Progress = NO_PROGRESS) -> tuple[np.nd
     values, mult = np.unique(z, return_counts=True)
     for i, (v, m) in enumerate(zip(values, mult)):
         st = _add_block(st, int(v), int(m), sizes, smax, classes)
+        _rescale_ways(st.ways)
         progress.step((i + 1) / len(values), "counting assignments")
     lcm = int(np.lcm.reduce(sizes))
     q = (st.sums ** 2 * (lcm // sizes)).sum(axis=1)
     support, inverse = np.unique(q, return_inverse=True)
     return support, np.bincount(inverse.ravel(), weights=st.ways)
+
+
+def _rescale_ways(ways: np.ndarray) -> None:
+    """Past 2^800, the ways times a power of two (exact) bringing the largest near 1."""
+    top = float(ways.max(initial=0.0))
+    if top > 2.0 ** 800:
+        ways *= 2.0 ** -math.frexp(top)[1]
 
 
 def estimate_states(z, sizes) -> float:
@@ -254,9 +265,10 @@ def estimate_states(z, sizes) -> float:
         for j, g in enumerate(order):
             f = np.ones(int(sizes[g]) + 1)
             if j < len(order) - 1:
-                for c in range(min(int(sizes[g]), i) + 1):
-                    span = int(prefix[::-1][:c].sum() - prefix[:c].sum()) + 1
-                    f[c] = min(span, distinct[c])
+                top = min(int(sizes[g]), i) + 1
+                low = np.concatenate([[0], np.cumsum(prefix)])[:top]          # c smallest
+                high = np.concatenate([[0], np.cumsum(prefix[::-1])])[:top]   # c largest
+                f[:top] = np.minimum(high - low + 1, distinct[:top])
             f[min(int(sizes[g]), i) + 1:] = 0
             total = np.convolve(total, f)
         if i < len(total):
@@ -276,31 +288,65 @@ def dp_ops(z, sizes) -> tuple[float, float, float]:
 
 # ----------------------------------------------------------------------------- median counting
 
-def count_median_tables(sizes, above: int) -> tuple[list, list]:
+def count_median_tables(sizes, above: int) -> tuple[np.ndarray, np.ndarray]:
     """Exact law of Q = sum_g a_g^2 * (L / n_g) over the tables of counts a_g above the median.
 
     A table has prod_g C(n_g, a_g) of the C(N, A) equally likely choices of which items lie
-    above (multivariate hypergeometric); it stands for that many times
-    N!/(n_1!...n_k!) / C(N, A) assignments, an integer once multiplied out. Returns
-    (Q values, numbers of assignments) as Python integers.
+    above (multivariate hypergeometric). The groups are taken one at a time, the state being
+    (items above placed so far, partial Q) with its number of ways; the last group's count is
+    what is left (A less the rest), so it adds no branches. Returns (Q values, ways) with the
+    ways in float64: exact integers below 2^53; a group's weights C(n, a) are divided by their
+    largest when that passes 2^53 (a common factor, which cancels), and the ways are rescaled
+    by powers of two, so no size overflows. Ratios of ways are the probabilities.
     """
     sizes = [int(n) for n in sizes]
     lcm = math.lcm(*sizes)
-    states = {(0, 0): 1}
-    for n in sizes:
-        new: dict = {}
-        for (used, q), ways in states.items():
-            for a in range(0, min(n, above - used) + 1):
-                key = (used + a, q + a * a * (lcm // n))
-                new[key] = new.get(key, 0) + ways * math.comb(n, a)
-        states = new
-    laws: dict = {}
-    for (used, q), ways in states.items():
-        if used == above:
-            laws[q] = laws.get(q, 0) + ways
-    support = sorted(laws)
-    total, choices = multinomial(sizes), math.comb(sum(sizes), above)
-    return support, [laws[q] * total // choices for q in support]
+    used = np.zeros(1, dtype=np.int64)
+    q = np.zeros(1, dtype=np.int64)
+    ways = np.ones(1)
+    for n in sizes[:-1]:
+        a = np.arange(0, min(n, above) + 1, dtype=np.int64)
+        w = _binomial_weights(n, len(a))
+        new_used = (used[:, None] + a[None, :]).ravel()
+        keep = new_used <= above
+        new_q = (q[:, None] + (a * a * (lcm // n))[None, :]).ravel()[keep]
+        new_w = (ways[:, None] * w[None, :]).ravel()[keep]
+        new_used = new_used[keep]
+        key = new_used * (int(new_q.max(initial=0)) + 1) + new_q
+        uniq, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+        used, q = new_used[first], new_q[first]
+        ways = np.bincount(inverse.ravel(), weights=new_w)
+        _rescale_ways(ways)
+    last = sizes[-1]
+    rest = above - used
+    ok = (rest >= 0) & (rest <= last)
+    w_last = _binomial_weights(last, last + 1)
+    q = q[ok] + rest[ok] ** 2 * (lcm // last)
+    ways = ways[ok] * w_last[rest[ok]]
+    support, inverse = np.unique(q, return_inverse=True)
+    return support, np.bincount(inverse.ravel(), weights=ways)
+
+
+def _binomial_weights(n: int, count: int) -> np.ndarray:
+    """C(n, a) for a = 0 .. count-1 as floats; divided by the largest past 2^53."""
+    w = [math.comb(n, a) for a in range(count)]
+    top = max(w)
+    return np.array([v / top for v in w] if top > 2 ** 53 else w, dtype=float)
+
+
+def median_counting_cost(sizes, above: int) -> tuple[float, float]:
+    """(ops, bytes) of `count_median_tables`: the states before each group times its
+    branches (states bounded by the items above placed times the partial Q values)."""
+    sizes = [int(n) for n in sizes]
+    lcm = math.lcm(*sizes)
+    states, ops, peak, q_top = 1.0, 0.0, 1.0, 0
+    for n in sizes[:-1]:
+        branches = min(n, above) + 1
+        ops += states * branches * 12.0
+        peak = max(peak, states * branches)
+        q_top += n * n * (lcm // n)
+        states = min(states * branches, (above + 1.0) * (q_top + 1.0))
+    return ops + states * 10.0, peak * 8.0 * 8
 
 
 # ----------------------------------------------------------------------------- families
@@ -362,23 +408,37 @@ class QuadraticFamily:
         arr = multinomial(sizes)
         out = [enumeration_candidate(arr, len(x), len(sizes))]
         out.append(self._counting_candidate(x, sizes, arr))
+        dense = self._dense_candidate(x, sizes, arr)
+        if dense is not None:
+            out.append(dense)
         out.append(monte_carlo_candidate(len(x), arr, draws))
         return out
 
+    def _dense_candidate(self, x, sizes, arr) -> Optional[Candidate]:
+        """Three groups with scores on a grid: dense tables of score sums (ksample_dense)."""
+        grid = self.grid(x) if self.grid and ksample_dense.applies(sizes) else None
+        if grid is None:
+            return None
+        cells, peak = ksample_dense.work(grid.integers, sizes)
+        fits = math.isfinite(cells)
+        return Candidate("dp-dense", DENSE_WORDS, True, cells * 2.0, peak * 8.0 * 2.5 + 1e5,
+                         feasible=fits, note="" if fits else "the tables of sums are too large",
+                         arrangements=arr)
+
     def _counting_candidate(self, x, sizes, arr) -> Candidate:
         if self.counting == "dp-hypergeometric":
-            ops = float(sum(sizes)) * float(sizes.max() + 1) * len(sizes) * 50.0
-            return Candidate("dp-hypergeometric", self.counting_words, True, ops, 1e6,
-                             arrangements=float(arr))
+            ops, memory = median_counting_cost(sizes, int(median_scores(x).sum()))
+            return Candidate("dp-hypergeometric", self.counting_words, True, ops, memory,
+                             arrangements=arr)
         grid = self.grid(x) if self.grid else None
         if grid is None:
             return Candidate(self.counting, self.counting_words, True, math.inf, math.inf,
-                             feasible=False, note="scores are not on a grid", arrangements=float(arr))
+                             feasible=False, note="scores are not on a grid", arrangements=arr)
         states, ops, memory = dp_ops(grid.integers, sizes)
         fits = _radix(grid.integers, sizes) is not None
         return Candidate(self.counting, self.counting_words, True, ops, memory, feasible=fits,
                          note=f"about {states:.3g} counting states" if fits else
-                         "score sums too wide to index", arrangements=float(arr))
+                         "score sums too wide to index", arrangements=arr)
 
     def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
             seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
@@ -397,12 +457,17 @@ class QuadraticFamily:
         if N == k:
             notes.append("each group has one value: every assignment gives the same statistic")
         run = {"enumeration": self._enumerate, "monte-carlo": self._sample,
-               "dp-sums": self._count, "dp-hypergeometric": self._count_medians}.get(algorithm)
-        if run is None or (algorithm.startswith("dp-") and algorithm != self.counting):
+               "dp-sums": self._count, "dp-hypergeometric": self._count_medians,
+               "dp-dense": self._count}.get(algorithm)
+        dense_ok = (algorithm == "dp-dense" and self.grid is not None
+                    and ksample_dense.applies(sizes))
+        if run is None or (algorithm.startswith("dp-") and algorithm != self.counting
+                           and not dense_ok):
             raise PlanError(f"the {self.key} family has no algorithm '{algorithm}'",
                             hint=f"use enumeration, {self.counting} or monte-carlo")
         parts = run(x=x, g=g, sizes=sizes, a=a, sst=sst, ssb_obs=ssb_obs, draws=draws, seed=seed,
-                    progress=progress, exact=_exact_integers(raw, sizes))
+                    progress=progress, exact=_exact_integers(raw, sizes),
+                    dense=algorithm == "dp-dense")
         stat = float(self.statistic_of(ssb_obs, sst, N, k))
         return EngineOutcome(statistic_name=self.statistic_name, statistic=stat,
                              arrangements=arr if parts["method"] == "exact" else None,
@@ -457,17 +522,21 @@ class QuadraticFamily:
         return dict(p_value=p, method="monte-carlo", draws=draws, p_interval=interval, seed=seed,
                     algorithm="Monte Carlo: random assignments to groups")
 
-    def _count(self, x, g, sizes, progress, **_):
+    def _count(self, x, g, sizes, progress, dense=False, **_):
         grid = self.grid(x) if self.grid else None
         if grid is None:
             raise PlanError(f"exact counting needs {self.key} scores on a grid", hint="use enumeration")
         z = grid.integers
-        support, ways = count_sum_squares(z, sizes, progress)
+        if dense:
+            support, ways = ksample_dense.count_three(z, sizes, progress)
+        else:
+            support, ways = count_sum_squares(z, sizes, progress)
         lcm = int(np.lcm.reduce(sizes))
         zg = np.bincount(g, weights=z, minlength=len(sizes)).round().astype(np.int64)
         q_obs = int(sum(int(s) ** 2 * (lcm // int(n)) for s, n in zip(zg, sizes)))
         p = float(ways[support >= q_obs].sum() / ways.sum())
-        return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words,
+        words = DENSE_WORDS if dense else self.counting_words
+        return dict(p_value=pvalues.clip(p), method="exact", algorithm=words,
                     **self._law(support / lcm, ways, z, sizes))
 
     def _law(self, q, ways, z, sizes) -> dict:
@@ -487,10 +556,8 @@ class QuadraticFamily:
         lcm = math.lcm(*(int(n) for n in sizes))
         counts = np.bincount(g, weights=above, minlength=len(sizes)).round().astype(int)
         q_obs = sum(int(c) ** 2 * (lcm // int(n)) for c, n in zip(counts, sizes))
-        total = sum(ways)
-        p = sum(w for q, w in zip(support, ways) if q >= q_obs) / total
-        law = self._law(np.array(support, dtype=float) / lcm, np.array(ways, dtype=float),
-                        above, sizes)
+        p = float(ways[support >= q_obs].sum() / ways.sum())
+        law = self._law(support.astype(float) / lcm, ways, above, sizes)
         return dict(p_value=pvalues.clip(p), method="exact", algorithm=self.counting_words, **law)
 
 
@@ -519,15 +586,15 @@ def _all_equal(family: QuadraticFamily, arr: int, notes: list) -> EngineOutcome:
 
 def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
     return Candidate("enumeration", "complete enumeration of every assignment to groups", True,
-                     float(arr) * (N + 2 * k) * 2.0, float(_ROWS) * N * 8 * 4,
-                     arrangements=float(arr))
+                     big(arr) * (N + 2 * k) * 2.0, float(_ROWS) * N * 8 * 4,
+                     arrangements=arr)
 
 
 def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
                           description: str = "Monte Carlo: random assignments to groups") -> Candidate:
     return Candidate("monte-carlo", description, False, float(draws) * N * per_item,
                      float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws:,} draws",
-                     arrangements=float(arr))
+                     arrangements=arr)
 
 
 MEANS = QuadraticFamily(

@@ -11,7 +11,8 @@ test drops them. The reference set has 2^(number of non-zero differences) sign p
 """
 from __future__ import annotations
 
-from typing import Optional
+from dataclasses import dataclass
+from typing import Callable, Optional
 
 import numpy as np
 
@@ -20,9 +21,11 @@ from ..result import EngineOutcome
 from .core import pvalues
 from .core.counting import counts_all_subsets, counts_by_size, layer_bytes
 from .core.enumeration import sign_patterns_chunks
+from ..plan.sizes import big, words
 from .core.grid import integer_grid
-from .core.jumps import collect_sampled, interval_from_jumps
+from .core.jumps import JumpStream, collect_sampled, interval_from_jumps
 from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
+from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
 from .montecarlo.draws import flip_sums, random_bits
 from .montecarlo.sampling import BLOCK, iter_blocks
 from .core.progress import NO_PROGRESS, Progress
@@ -30,31 +33,41 @@ from .core.scores import midranks
 
 ENUMERATION_MAX_ITEMS = 62      # sign patterns are listed as the bits of one int64 code
 
-STATISTIC_NAMES = {
-    "means": "mean difference",
-    "ranks": "signed-rank sum W+ (mid-ranks)",
-    "signs": "number of positive differences",
+@dataclass(frozen=True)
+class FlipRule:
+    """How a one-sample family scores the differences' sizes; its statistic is the sum of the
+    positive differences' scores (or, for `mean`, the mean difference, with the exact
+    interval of the mean)."""
+
+    key: str
+    statistic_name: str
+    scores: Callable[[np.ndarray], np.ndarray]   # |d| -> scores
+    mean: bool = False
+
+
+RULES = {
+    "means": FlipRule("means", "mean difference", lambda a: a, mean=True),
+    "ranks": FlipRule("ranks", "signed-rank sum W+ (mid-ranks)", midranks),
+    "signs": FlipRule("signs", "number of positive differences", np.ones_like),
 }
 
 
-def flip_scores(family: str, d) -> tuple[np.ndarray, np.ndarray]:
+def rule_of(rule) -> FlipRule:
+    """A rule, or the name of one of this engine's rules."""
+    return RULES[rule] if isinstance(rule, str) else rule
+
+
+def flip_scores(rule, d) -> tuple[np.ndarray, np.ndarray]:
     """(scores r >= 0 of the non-zero differences, their signs as bool positive)."""
     d = np.asarray(d, dtype=float)
     nonzero = d != 0
-    if family == "means":
-        r = np.abs(d)
-    elif family == "ranks":
-        r = midranks(np.abs(d))      # zeros keep their ranks (Pratt) ...
-    elif family == "signs":
-        r = np.ones_like(d)
-    else:
-        raise KeyError(family)
-    return r[nonzero], d[nonzero] > 0  # ... and are then left out of the flips
+    r = np.asarray(rule_of(rule).scores(np.abs(d)), dtype=float)   # zeros keep their ranks
+    return r[nonzero], d[nonzero] > 0  # (Pratt) and are then left out of the flips
 
 
-def statistic_from_positive_sum(family: str, p_sum, r, n_all: int):
+def statistic_from_positive_sum(rule, p_sum, r, n_all: int):
     """Reported statistic from P = sum of scores with positive sign."""
-    if family == "means":
+    if rule_of(rule).mean:
         return (2 * np.asarray(p_sum) - r.sum()) / n_all
     return np.asarray(p_sum, dtype=float)
 
@@ -70,59 +83,65 @@ def _anchored_grid(r):
 
 # ---------------------------------------------------------------- cost
 
-def candidates(family: str, d, draws: int) -> list[Candidate]:
-    r, _ = flip_scores(family, d)
+def candidates(rule, d, draws: int) -> list[Candidate]:
+    rule = rule_of(rule)
+    r, _ = flip_scores(rule, d)
     n = len(r)
-    total = float(2 ** n)
+    count = 2 ** n
+    total = big(count)
     out = []
     g = _anchored_grid(r)
     if g is not None:
         width = float(g[0].sum()) + 1
         ops = n * width
-        mem = layer_bytes(1, width)
-        if family == "means":  # the exact interval needs counts by size too
+        mem = 2 * layer_bytes(1, width)          # the counts and numpy's overlap copy
+        if rule.mean:  # the exact interval needs counts by size too
             full = integer_grid(np.asarray(d, dtype=float))
             w2 = float(full.integers.sum()) + 1 if full is not None else float("inf")
             ops += len(d) * (len(d) + 1) * w2 / 2
-            mem += layer_bytes(len(d) + 1, w2)
+            mem += 2 * layer_bytes(len(d) + 1, w2)
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
-                             arrangements=total, note="scores on an integer grid"))
+                             arrangements=count, note="scores on an integer grid"))
     else:
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True,
-                             float("inf"), float("inf"), feasible=False, arrangements=total,
+                             float("inf"), float("inf"), feasible=False, arrangements=count,
                              note="scores do not lie on a decimal grid"))
+    patterns = (1 << min(n, 16)) * n * 8 * 4
+    law = min(total, TALLY_LIMIT) * TALLY_BYTES
+    jumps = 0.5 * total * 8 * 3 if rule.mean else 0.0
     out.append(Candidate("enumeration", "complete enumeration", True, total * n * 3,
-                         (1 << min(n, 16)) * n * 8 * 2, arrangements=total,
-                         feasible=n <= ENUMERATION_MAX_ITEMS, note=f"{total:.3g} sign patterns"))
+                         patterns + law + jumps, arrangements=count,
+                         feasible=n <= ENUMERATION_MAX_ITEMS, note=f"{words(count)} sign patterns"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of sign patterns", False,
-                         draws * n * 6.0, min(draws, BLOCK) * n * 8 * 3, arrangements=total,
+                         draws * n * 6.0, min(draws, BLOCK) * n * 8 * 3, arrangements=count,
                          note=f"{draws:,} draws"))
     return out
 
 
 # ---------------------------------------------------------------- run
 
-def run(family: str, d, alternative: str, algorithm: str, level: float,
+def run(rule, d, alternative: str, algorithm: str, level: float,
         draws: Optional[int] = None, seed: Optional[int] = None,
         progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:
     """The sign-flip p-value, and for `means` the exact interval for the mean difference."""
     d = np.asarray(d, dtype=float)
-    r, pos = flip_scores(family, d)
+    rule = rule_of(rule)
+    r, pos = flip_scores(rule, d)
     n_all = len(d)
-    t_obs = float(statistic_from_positive_sum(family, r[pos].sum(), r, n_all))
-    name = STATISTIC_NAMES[family]
+    t_obs = float(statistic_from_positive_sum(rule, r[pos].sum(), r, n_all))
+    name = rule.statistic_name
     if algorithm == "dp-integer":
-        out = _p_dp(family, name, r, pos, n_all, t_obs, alternative, progress)
-        interval = _mean_interval_dp(d, level, alternative) if family == "means" else None
+        out = _p_dp(rule, name, r, pos, n_all, t_obs, alternative, progress)
+        interval = _mean_interval_dp(d, level, alternative) if rule.mean else None
     elif algorithm == "enumeration":
-        out, interval = _enumerate(family, name, d, r, pos, t_obs, alternative, level, progress)
+        out, interval = _enumerate(rule, name, d, r, pos, t_obs, alternative, level, progress)
     else:
-        out, interval = _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws,
+        out, interval = _monte_carlo(rule, name, d, r, pos, t_obs, alternative, level, draws,
                                      seed, progress)
     return out, interval
 
 
-def _p_dp(family, name, r, pos, n_all, t_obs, alternative, progress):
+def _p_dp(rule, name, r, pos, n_all, t_obs, alternative, progress):
     q, step = _anchored_grid(r)
     counts = counts_all_subsets(q, progress)
     support = np.flatnonzero(counts)
@@ -132,11 +151,11 @@ def _p_dp(family, name, r, pos, n_all, t_obs, alternative, progress):
     mask = pvalues.integer_tail_mask(2 * support - total_q, 2 * p_obs - total_q, alternative)
     p = pvalues.clip(counts[mask].sum() / counts.sum())
     n = len(r)
-    warn = () if 2.0 ** n < EXACT_COUNT_LIMIT else (
+    warn = () if 2 ** n < EXACT_COUNT_LIMIT else (
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
     return EngineOutcome(name, t_obs, p, "exact", "dynamic programming on integer scores",
-                         arrangements=2.0 ** n,
-                         null_support=statistic_from_positive_sum(family, support * step, r, n_all),
+                         arrangements=2 ** n,
+                         null_support=statistic_from_positive_sum(rule, support * step, r, n_all),
                          null_probs=counts / counts.sum(), warnings=warn)
 
 
@@ -144,15 +163,17 @@ def _mean_interval_dp(d, level, alternative):
     """Exact interval for the mean difference: jumps S_F / k over all subsets F (k = |F| >= 1)."""
     grid = integer_grid(d)
     n = len(d)
-    table = counts_by_size(grid.integers, n)
+    table, e = counts_by_size(grid.integers, n, with_exponent=True)
     values, counts = [], []
     for k in range(1, n + 1):
         row = table[k]
         nz = np.flatnonzero(row)
         values.append(grid.origin + grid.differences(nz) / k)
         counts.append(row[nz])
-    return interval_from_jumps(np.concatenate(values), np.concatenate(counts), 1.0, 2.0 ** n,
-                               level, alternative)
+    counts = np.concatenate(counts)
+    identity = float(np.ldexp(1.0, -e))       # the empty set: no sign flipped (counts x 2^-e)
+    return interval_from_jumps(np.concatenate(values), counts, identity,
+                               float(counts.sum()) + identity, level, alternative)
 
 
 def _tail(sampled_p, p_obs, total_r, alternative, exact: bool):
@@ -167,51 +188,61 @@ def _tail(sampled_p, p_obs, total_r, alternative, exact: bool):
 
 
 def _flip_scores_exact(r):
-    """The scores as exact integers when they lie on a grid (sums are then exact), else r."""
+    """(w, exact, unit): the scores as exact integers when they lie on a grid (sums are then
+    exact; r = unit * w), else r itself with unit 1."""
     g = _anchored_grid(r)
-    return (g[0].astype(float), True) if g is not None else (np.asarray(r, float), False)
+    if g is None:
+        return np.asarray(r, float), False, 1.0
+    return g[0].astype(float), True, g[1]
 
 
-def _enumerate(family, name, d, r, pos, t_obs, alternative, level, progress):
+def _enumerate(rule, name, d, r, pos, t_obs, alternative, level, progress):
+    """Every sign pattern in chunks: exceedances counted and the law tallied as they come."""
     n = len(r)
     total = 2 ** n
-    w, exact = _flip_scores_exact(r)
+    w, exact, unit = _flip_scores_exact(r)
     p_obs = w[pos].sum()
+    tally = Tally(max(1.0, float(w.sum())), TALLY_LIMIT)
     b, done = 0, 0
     for signs in sign_patterns_chunks(n):
         s = signs.astype(float) @ w
         b += _tail(s, p_obs, w.sum(), alternative, exact)
+        tally.add(s)
         done += len(signs)
         progress.step(done / total, "enumerating")
+    support, counts = tally.law()
     out = EngineOutcome(name, t_obs, pvalues.clip(b / total), "exact", "complete enumeration",
-                        arrangements=float(total))
+                        arrangements=total,
+                        null_support=None if support is None else
+                        statistic_from_positive_sum(rule, support * unit, r, len(d)),
+                        null_probs=None if counts is None else counts / counts.sum())
     interval = None
-    if family == "means":
+    if rule.mean:
         interval = _mean_interval_enumerate(np.asarray(d, float), level, alternative)
     return out, interval
 
 
 def _mean_interval_enumerate(d, level, alternative):
+    """Jumps S_F / |F| over every non-empty subset F, streamed (only the extreme ones kept)."""
     n = len(d)
-    vals = []
+    jumps = JumpStream(1.0, float(2 ** n), level, alternative)
     for signs in sign_patterns_chunks(n):
         k = signs.sum(axis=1)
         s = signs.astype(float) @ d
         keep = k > 0
-        vals.append(s[keep] / k[keep])
-    v = np.concatenate(vals)
-    return interval_from_jumps(v, np.ones(v.size), 1.0, 2.0 ** n, level, alternative)
+        jumps.add(s[keep] / k[keep])
+    return jumps.interval()
 
 
-def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed, progress):
+def _monte_carlo(rule, name, d, r, pos, t_obs, alternative, level, draws, seed, progress):
     """One random sign for every difference in every draw (one bit of the generator's output
     each; zeros included, so the mean's interval can use the same draws); the test flips the
     non-zero ones. Compiled, with a numpy path that gives the same numbers (draws.flip_sums)."""
     d = np.asarray(d, dtype=float)
     nonzero = d != 0
-    w, exact = _flip_scores_exact(r)
+    w, exact, _ = _flip_scores_exact(r)
     p_obs = w[pos].sum()
-    means = family == "means"
+    means = rule.mean
     scores = np.zeros(len(d))            # the test's scores in place; zeros carry none
     scores[nonzero] = w
 
@@ -227,7 +258,7 @@ def _monte_carlo(family, name, d, r, pos, t_obs, alternative, level, draws, seed
                                               INTERVAL_DRAWS)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(name, t_obs, p, "monte-carlo", "Monte Carlo sampling of sign patterns",
-                        arrangements=2.0 ** len(r), draws=draws, p_interval=p_int, seed=seed)
+                        arrangements=2 ** len(r), draws=draws, p_interval=p_int, seed=seed)
     interval = None
     if means:
         interval = interval_from_jumps(v, None, identity, float(used + 1), level,

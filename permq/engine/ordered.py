@@ -27,6 +27,7 @@ import numpy as np
 
 from ..errors import DataError, PlanError
 from ..plan.cost import Candidate
+from ..plan.sizes import big, words
 from ..result import EngineOutcome, Estimate
 from .core import pvalues
 from .core.confidence import alpha_side, rejected_up_to
@@ -34,9 +35,10 @@ from .core.counting import multinomial, multinomial_weights
 from .core.grid import centred, integer_grid, is_constant
 from .core.limits import DEFAULT_DRAWS, EXACT_COUNT_LIMIT, NULL_KEEP_MAX, NO_LIMITS_GIVEN, Limits
 from .montecarlo import sampling
-from .ksample import (_compositions, design, enumerate_group_sums, enumeration_candidate,
-                      monte_carlo_candidate, sample_group_sums)
+from .ksample import (_compositions, _rescale_ways, design, enumerate_group_sums,
+                      enumeration_candidate, monte_carlo_candidate, sample_group_sums)
 from .core.progress import NO_PROGRESS, Progress
+from .tables import ranked
 
 _CHUNK_ROWS = 1 << 21
 # listing one assignment for the slope interval costs about this many operations per item
@@ -65,6 +67,7 @@ def count_linear(block_values, block_mults, sizes, increment, progress: Progress
                 c = counts[ok]
                 parts.append((c + x, t[ok] + increment(c, x, v), ways[ok] * w))
         counts, t, ways = _merge(parts, radix, int(np.prod(sizes + 1)))
+        _rescale_ways(ways)
         progress.step((i + 1) / len(block_values), "counting assignments")
     support, inverse = np.unique(t, return_inverse=True)
     return support, np.bincount(inverse.ravel(), weights=ways)
@@ -144,9 +147,12 @@ class JonckheereTerpstra:
         t_max = float(len(x) ** 2 - np.sum(sizes ** 2))          # largest 2J
         states, ops, memory = count_estimate(sizes, t_max, _blocks_of(x)[1])
         words = "dynamic programming over tie blocks and group counts (doubled statistic, integers)"
-        return [Candidate("dp-counts", words, True, ops, memory,
-                          note=f"about {states:.3g} counting states", arrangements=float(arr)),
-                monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes))]
+        out = [Candidate("dp-counts", words, True, ops, memory,
+                         note=f"about {states:.3g} counting states", arrangements=arr)]
+        if ranked.offered(x):
+            out.append(ranked.candidate(ranked.ordered_table(x, groups), "concordance",
+                                        "groups x categories", arr))
+        return out + [monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes))]
 
     def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
             seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
@@ -166,10 +172,15 @@ class JonckheereTerpstra:
                                  algorithm="dynamic programming over tie blocks and group counts "
                                            "(doubled statistic, integers)",
                                  null_support=support / 2.0, null_probs=ways / ways.sum(), **common)
+        if algorithm == ranked.TABLE:
+            p, _ = ranked.jonckheere(x, g, alternative, progress)
+            return EngineOutcome(p_value=p, method="exact", arrangements=multinomial(sizes),
+                                 algorithm=ranked.WORDS.format(what="groups x categories"),
+                                 **common)
         if algorithm == "monte-carlo":
             return self._sample(x, sizes, j_obs, center, alternative, draws, seed, progress, common)
         raise PlanError(f"the Jonckheere-Terpstra test has no algorithm '{algorithm}'",
-                        hint="use dp-counts or monte-carlo")
+                        hint=f"use dp-counts, {ranked.TABLE} or monte-carlo")
 
     def _sample(self, x, sizes, j_obs, center, alternative, draws, seed, progress, common):
         draws = int(draws or DEFAULT_DRAWS)
@@ -293,14 +304,17 @@ class LinearTrend:
         if grids is None:
             out.append(Candidate("dp-counts", words, True, math.inf, math.inf, feasible=False,
                                  note="values or dose scores are not on a decimal grid",
-                                 arrangements=float(arr)))
+                                 arrangements=arr))
         else:
             zg, _, e, cls = grids
             t_max = float(e.max() * zg.integers.sum())
             states, ops, memory = count_estimate(cls, t_max, _blocks_of(zg.integers)[1])
             out.append(Candidate("dp-counts", words, True, ops, memory,
                                  note=f"about {states:.3g} counting states",
-                                 arrangements=float(arr)))
+                                 arrangements=arr))
+        if ranked.offered(st.x):
+            t, u, v = ranked.trend_table(st.x, st.g, st.d)
+            out.append(ranked.candidate(t, "trend", "groups x values", arr, u, v))
         out.append(monte_carlo_candidate(N, arr, draws))
         return out
 
@@ -319,10 +333,14 @@ class LinearTrend:
             return self._count(st, alternative, progress, common)
         if algorithm == "enumeration":
             return self._enumerate(st, alternative, progress, common)
+        if algorithm == ranked.TABLE:
+            p, _ = ranked.linear_trend(st.x, st.g, st.d, alternative, progress)
+            return EngineOutcome(p_value=p, method="exact", arrangements=multinomial(st.sizes),
+                                 algorithm=ranked.WORDS.format(what="groups x values"), **common)
         if algorithm == "monte-carlo":
             return self._sample(st, alternative, draws, seed, progress, common)
         raise PlanError(f"the trend test has no algorithm '{algorithm}'",
-                        hint="use dp-counts, enumeration or monte-carlo")
+                        hint=f"use dp-counts, enumeration, {ranked.TABLE} or monte-carlo")
 
     def _count(self, st: TrendSetup, alternative, progress, common):
         grids = _trend_grids(st)
@@ -405,9 +423,9 @@ def slope_estimate(values, groups, scores=None, level: float = 0.95, alternative
         return Estimate(name, float("nan"), None, level, "no slope: all dose scores are equal")
     b = least_squares_slope(st.x, d_item)
     arr = multinomial(st.sizes)
-    if not limits.fits(float(arr) * len(st.x) * _SLOPE_OPS_PER_ITEM, float(arr) * 8.0 * 3):
+    if not limits.fits(big(arr) * len(st.x) * _SLOPE_OPS_PER_ITEM, big(arr) * 8.0 * 3):
         return Estimate(name, b, None, level, "least squares; no exact interval: "
-                        f"{arr:,.0f} assignments are too many to list within the budget")
+                        f"{words(arr)} assignments are too many to list within the budget")
     ratios, fixed = _slope_ratios(st, progress)
     lo, hi = _invert(ratios, fixed, arr, level, alternative)
     method = ("least squares; exact interval by inverting the permutation test of the slope "

@@ -18,11 +18,11 @@ from ..lazy import stats
 from ..normal.tails import normal_isf
 
 from .core.confidence import alpha_side, last_rejected
-from .core.counting import counts_all_subsets, counts_by_size
-from .core.grid import exact_difference, integer_grid
+from .core.counting import counts_all_subsets, rescale
+from .core.grid import common_grid, integer_grid
 
-# the exact no-ties laws are counted up to these sizes; beyond, normal-approximation ranks
-EXACT_TWO_SAMPLE_WORK = 5e7      # n1 * n2 * (n1 + n2)
+# the exact no-ties laws are counted up to these sizes (two samples: EXACT_LAW_OPS below);
+# beyond, normal-approximation ranks
 EXACT_ONE_SAMPLE_N = 400
 EXACT_BINOMIAL_N = 2000
 
@@ -38,23 +38,64 @@ def _side(level, alternative) -> Fraction:
     return alpha_side(level, alternative)
 
 
-def _interval_from_order(sorted_vals, c, alternative):
-    m = len(sorted_vals)
+def _interval_from_order(values, c, alternative):
+    """The order statistics c and m-1-c (from 0) of the values, by selection (no sort)."""
+    values = np.asarray(values, dtype=float)
+    m = len(values)
     lo, hi = -np.inf, np.inf
     if c >= 0 and c < m:
+        low, high = values[c], values[m - 1 - c]
+        if not (values.size < 2 or np.all(values[1:] >= values[:-1])):     # not yet sorted
+            picked = np.partition(values, sorted({c, m - 1 - c}))
+            low, high = picked[c], picked[m - 1 - c]
         if alternative in ("two-sided", "higher"):
-            lo = float(sorted_vals[c])
+            lo = float(low)
         if alternative in ("two-sided", "lower"):
-            hi = float(sorted_vals[m - 1 - c])
+            hi = float(high)
     return lo, hi
 
 
 def mann_whitney_counts(n1: int, n2: int) -> np.ndarray:
-    """Numbers of splits with U = u, u = 0 .. n1*n2, without ties."""
-    table = counts_by_size(np.arange(n1 + n2), n1)
-    row = table[n1]
-    offset = n1 * (n1 - 1) // 2
-    return row[offset:offset + n1 * n2 + 1]
+    """Numbers of the C(n1 + n2, n1) splits with U = u, u = 0 .. n1*n2, without ties (times a
+    power of two past 2^960: use ratios).
+
+    The law's generating function is the Gaussian binomial coefficient
+    prod_{i=1..m} (1 - q^(n+i)) / (1 - q^i), m = min(n1, n2), n = max(n1, n2); multiplying
+    by (1 - q^(n+i)) is one shifted difference and dividing by (1 - q^i) a running sum along
+    each residue class mod i, so the law costs about m passes over a one-dimensional array
+    (Harding, E. F. (1984), An efficient, minimal-storage procedure for calculating the
+    Mann-Whitney U, generalized U and similar distributions, Applied Statistics 33, 1-6).
+    Both steps read only lower powers, so the half up to n1*n2/2 is formed and mirrored."""
+    m, n = min(n1, n2), max(n1, n2)
+    top = m * n // 2
+    c = np.zeros(top + 1)
+    c[0] = 1.0
+    for i in range(1, m + 1):
+        a = n + i
+        if a <= top:
+            c[a:] -= c[:top + 1 - a]                 # numpy reads the right side first
+        rows = -(-(top + 1) // i)
+        padded = np.zeros(rows * i)
+        padded[:top + 1] = c
+        np.cumsum(padded.reshape(rows, i), axis=0, out=padded.reshape(rows, i))
+        c = padded[:top + 1]
+        if i % 16 == 0:
+            rescale(c)
+    np.maximum(c, 0.0, out=c)                        # rounding noise below the smallest count
+    rest = m * n + 1 - c.size
+    return np.concatenate([c, c[:rest][::-1]])
+
+
+def mann_whitney_cdf(n1: int, n2: int) -> np.ndarray:
+    """P(U <= u), u = 0 .. n1*n2, without ties."""
+    counts = mann_whitney_counts(n1, n2)
+    return np.cumsum(counts) / counts.sum()
+
+
+def mann_whitney_ops(n1: int, n2: int) -> float:
+    """Array operations of `mann_whitney_counts` (two or three passes a step)."""
+    m, n = min(n1, n2), max(n1, n2)
+    return 3.0 * m * (m * n / 2 + 1)
 
 
 def signed_rank_counts(n: int) -> np.ndarray:
@@ -77,10 +118,19 @@ def binomial_critical(n: int, side: Fraction) -> int:
     return c
 
 
+# the exact no-ties law is formed when it costs at most this many array operations (about
+# 0.3 s; 300 + 300 is within); past it, normal-approximation ranks
+EXACT_LAW_OPS = 2e7
+
+
 def pairwise_differences(x, y) -> np.ndarray:
-    """Every x_i - y_j, sorted, formed on the data's decimal grid (exact decimals)."""
+    """Every x_i - y_j (unsorted), formed on the data's decimal grid (exact decimals)."""
     x, y = np.asarray(x, float), np.asarray(y, float)
-    return np.sort(exact_difference(np.repeat(x, len(y)), np.tile(y, len(x))))
+    grid = common_grid(x, y) if x.size and y.size else None
+    if grid is None:
+        return (x[:, None] - y[None, :]).ravel()
+    z = grid.integers
+    return grid.differences((z[:x.size, None] - z[None, x.size:]).ravel())
 
 
 def hodges_lehmann_two_sample(x, y, level, alternative):
@@ -89,7 +139,7 @@ def hodges_lehmann_two_sample(x, y, level, alternative):
     diffs = pairwise_differences(x, y)
     est = float(np.median(diffs))
     side = _side(level, alternative)
-    exact = n1 * n2 * (n1 + n2) <= EXACT_TWO_SAMPLE_WORK
+    exact = mann_whitney_ops(n1, n2) <= EXACT_LAW_OPS
     if exact:
         c = critical(mann_whitney_counts(n1, n2), side)
     else:
@@ -99,21 +149,21 @@ def hodges_lehmann_two_sample(x, y, level, alternative):
 
 def hodges_lehmann_two_sample_normal(x, y, level, alternative):
     n1, n2 = len(x), len(y)
-    diffs = pairwise_differences(x, y)
     c = _normal_critical(n1 * n2 / 2, np.sqrt(n1 * n2 * (n1 + n2 + 1) / 12),
                          _side(level, alternative))
-    return _interval_from_order(diffs, c, alternative)
+    return _interval_from_order(pairwise_differences(x, y), c, alternative)
 
 
 def walsh_averages(d):
-    """Every (d_i + d_j) / 2, i <= j, sorted; on the data's decimal grid, exact decimals."""
+    """The n(n+1)/2 Walsh averages (d_i + d_j) / 2, i <= j, unsorted; on the data's decimal
+    grid, exact decimals."""
     d = np.asarray(d, float)
     i, j = np.triu_indices(len(d))
     grid = integer_grid(d)
     if grid is None:
-        return np.sort((d[i] + d[j]) / 2)
+        return (d[i] + d[j]) / 2
     z = grid.integers
-    return np.sort(grid.means(z[i] + z[j], 2))
+    return grid.means(z[i] + z[j], 2)
 
 
 def hodges_lehmann_one_sample(d, level, alternative):

@@ -17,11 +17,13 @@ from ..errors import PlanError
 from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .core import pvalues
+from ..plan.sizes import big, words
 from .core.counting import convolve_counts, counts_by_size, layer_bytes
-from .core.enumeration import combinations_chunks
+from .core.enumeration import CHUNK, combinations_chunks
 from .core.grid import Grid, integer_grid, reference_value
-from .core.jumps import collect_sampled, interval_from_jumps
+from .core.jumps import JumpStream, collect_sampled, interval_from_jumps
 from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
+from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
 from .montecarlo.draws import random_u32, subset_sums
 from .core.progress import NO_PROGRESS, Progress
 from .montecarlo.sampling import iter_blocks
@@ -65,34 +67,43 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
     rule = rule_of(rule)
     a = scores_for(rule, x, y)
     n1, N = len(x), len(a)
-    total = float(comb(N, n1))
+    m = min(n1, N - n1)          # counting and listing take subsets of the smaller group
+    count = comb(N, n1)
+    total = big(count)
     out = []
     grid = integer_grid(a)
     if grid is not None:
-        width = float(np.sort(grid.integers)[::-1][:n1].sum()) + 1
-        ops = N * (n1 + 1) * width / 2
-        mem = layer_bytes(n1 + 1, width)
+        width = float(np.sort(grid.integers)[::-1][:m].sum()) + 1
+        ops = N * (m + 1) * width / 2
+        mem = 2 * layer_bytes(m + 1, width)          # the table and numpy's overlap copy
         if rule.mean_difference:   # the exact interval counts each group on its own as well
             ops *= 2
             mem *= 2
         note = ("scores are integers" if not rule.mean_difference
                 else f"data on a grid of {grid.step:g} ({grid.decimals} decimals)")
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True, ops, mem,
-                             note=note, arrangements=total))
+                             note=note, arrangements=count))
     else:
         out.append(Candidate("dp-integer", "dynamic programming on integer scores", True,
                              float("inf"), float("inf"), feasible=False,
-                             note="scores do not lie on a decimal grid", arrangements=total))
-    # listing runs at about 3 microseconds an arrangement (itertools, gathers, sums); every
-    # sum is kept (and for means the moved count and jump too)
-    out.append(Candidate("enumeration", "complete enumeration", True, total * (n1 * 8 + 600),
-                         min(total, 1e5) * n1 * 8 * 3 + total * 8 * (3 if rule.mean_difference else 1),
-                         arrangements=total,
-                         note=f"{total:.3g} arrangements"))
+                             note="scores do not lie on a decimal grid", arrangements=count))
+    # listing runs at about 3 microseconds an arrangement (itertools, gathers, sums)
+    out.append(Candidate("enumeration", "complete enumeration", True, total * (m * 8 + 600),
+                         _enumeration_bytes(rule.mean_difference, m, total), arrangements=count,
+                         note=f"{words(count)} arrangements"))
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
-                         draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=total,
+                         draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=count,
                          note=f"{draws:,} draws"))
     return out
+
+
+def _enumeration_bytes(mean_difference: bool, m: int, total: float) -> float:
+    """A chunk of subsets and its sums, the law's tally, and for means the interval's kept
+    jumps (a share alpha of the arrangements at most, a side)."""
+    chunk = min(total, CHUNK) * (m * 8 * 4 + 64)
+    law = min(total, TALLY_LIMIT) * TALLY_BYTES
+    jumps = 0.5 * total * 8 * 3 if mean_difference else 0.0
+    return chunk + law + jumps
 
 
 # ---------------------------------------------------------------- run
@@ -130,6 +141,13 @@ def _statistic(rule: ScoreRule, sc: Scores, s_w, n1: int):
     return n1 * sc.base + sc.unit * s_w
 
 
+def observed(rule, x, y) -> float:
+    """The reported statistic of the data as they are (what `run` reports)."""
+    fam = rule_of(rule)
+    sc = _scores(scores_for(fam, np.asarray(x, float), np.asarray(y, float)))
+    return float(_statistic(fam, sc, sc.w[:len(x)].sum(), len(x)))
+
+
 def run(rule, x, y, alternative: str, algorithm: str, level: float,
         draws: Optional[int] = None, seed: Optional[int] = None,
         progress: Progress = NO_PROGRESS) -> tuple[EngineOutcome, Optional[tuple]]:
@@ -158,15 +176,18 @@ def _tail_count(sc: Scores, sums, s_obs, n1, alternative) -> int:
 
 
 def _run_dp(fam, x, y, sc, alternative, level, t_obs, progress):
+    """Counts of the smaller group's score sums; group 1's sum is the total less group 2's."""
     n1, N = len(x), len(sc.w)
+    m = min(n1, N - n1)
     grid = sc.grid
     if grid is None:
         raise PlanError("the scores do not lie on a decimal grid; use enumeration or Monte Carlo")
     q = grid.integers
-    table = counts_by_size(q, n1, progress)
-    counts = table[n1]
+    counts = counts_by_size(q, m, progress)[m]
     support = np.flatnonzero(counts)
     counts = counts[support]
+    if m < n1:                                   # counted group 2: S1 = Q - S2
+        support, counts = int(q.sum()) - support[::-1], counts[::-1]
     s_obs = int(q[:n1].sum())
     mask = pvalues.integer_tail_mask(support, s_obs, alternative, int(q.sum()) * n1, N)
     p = pvalues.clip(counts[mask].sum() / counts.sum())
@@ -175,20 +196,23 @@ def _run_dp(fam, x, y, sc, alternative, level, t_obs, progress):
         "counts exceed 2^53 and are held in double precision (relative error below 1e-12)",)
     stat_support = _statistic(fam, sc, support, n1)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact",
-                        "dynamic programming on integer scores", arrangements=float(total),
+                        "dynamic programming on integer scores", arrangements=total,
                         null_support=stat_support, null_probs=counts / counts.sum(), warnings=warn)
     interval = None
     if fam.mean_difference:
-        interval = _shift_interval_dp(q[:n1], q[n1:], grid, level, alternative, total)
+        interval = _shift_interval_dp(q[:n1], q[n1:], grid, level, alternative)
     return out, interval
 
 
-def _shift_interval_dp(q1, q2, grid: Grid, level, alternative, total):
-    """Exact interval for delta in x - delta vs y, from the jumps (u moved, w = Q1_u - Q2_u)."""
+def _shift_interval_dp(q1, q2, grid: Grid, level, alternative):
+    """Exact interval for delta in x - delta vs y, from the jumps (u moved, w = Q1_u - Q2_u).
+
+    The counts come as true counts times 2^-e (e > 0 only past 2^960); the identity and the
+    total are put on the same scale, so the shares are exact."""
     n1, n2 = len(q1), len(q2)
     top = min(n1, n2)
-    t1 = counts_by_size(q1, top)
-    t2 = counts_by_size(q2, top)
+    t1, e1 = counts_by_size(q1, top, with_exponent=True)
+    t2, e2 = counts_by_size(q2, top, with_exponent=True)
     values, counts = [], []
     for u in range(1, top + 1):
         c1, c2 = t1[u], t2[u]
@@ -199,55 +223,53 @@ def _shift_interval_dp(q1, q2, grid: Grid, level, alternative, total):
         nz = conv > 0
         values.append(grid.differences(w[nz]) / u)
         counts.append(conv[nz])
-    return interval_from_jumps(np.concatenate(values), np.concatenate(counts), 1.0, float(total),
-                               level, alternative)
+    counts = np.concatenate(counts)
+    identity = float(np.ldexp(1.0, -(e1 + e2)))      # u = 0: the observed split itself
+    return interval_from_jumps(np.concatenate(values), counts, identity,
+                               float(counts.sum()) + identity, level, alternative)
 
 
 def _run_enumeration(fam, x, y, sc, alternative, level, t_obs, progress):
+    """Every subset of the smaller group, listed in chunks: exceedances counted, the law
+    tallied and the interval's jumps streamed as they come (memory stays bounded)."""
     n1, N = len(x), len(sc.w)
+    m = min(n1, N - n1)
     total = comb(N, n1)
     w = sc.w
     s_obs = w[:n1].sum()
-    sums, us, ws = [], [], []
-    done = 0
-    for idx in combinations_chunks(N, n1):
-        s = w[idx].sum(axis=1)
-        sums.append(s)
-        if fam.mean_difference:
-            in2 = idx >= n1
-            u = in2.sum(axis=1)
-            g2_in = np.where(in2, w[idx], 0.0).sum(axis=1)
-            g1_out = s_obs - (s - g2_in)
-            us.append(u)
-            ws.append(g1_out - g2_in)
+    sum_all, x_sum = w.sum(), s_obs
+    tally = Tally(max(1.0, float(np.abs(w).sum())), TALLY_LIMIT)
+    jumps = JumpStream(1.0, float(total), level, alternative) if fam.mean_difference else None
+    b, done = 0, 0
+    for idx in combinations_chunks(N, m):
+        picked = w[idx]
+        raw = picked.sum(axis=1)
+        s = raw if m == n1 else sum_all - raw    # listed group 2: S1 = total - S2
+        b += _tail_count(sc, s, s_obs, n1, alternative)
+        tally.add(s)
+        if jumps is not None:
+            # u items change sides each way; jump = (group 1's items out - group 2's in) / u
+            if m == n1:                          # listed: the new group 1
+                from2 = idx >= n1
+                moved = from2.sum(axis=1)
+                g2_in = np.where(from2, picked, 0.0).sum(axis=1)
+                g1_out = x_sum - (s - g2_in)
+            else:                                # listed: the new group 2
+                from1 = idx < n1
+                moved = from1.sum(axis=1)
+                g1_out = np.where(from1, picked, 0.0).sum(axis=1)
+                g2_in = (sum_all - x_sum) - (raw - g1_out)
+            keep = moved > 0
+            jumps.add(sc.unit * (g1_out - g2_in)[keep] / moved[keep])
         done += len(idx)
         progress.step(done / total, "enumerating")
-    sums = np.concatenate(sums)
-    p = pvalues.clip(_tail_count(sc, sums, s_obs, n1, alternative) / total)
-    uniq, cnt = _tally(sums)
+    p = pvalues.clip(b / total)
+    uniq, cnt = tally.law()
     out = EngineOutcome(fam.statistic_name, t_obs, p, "exact", "complete enumeration",
-                        arrangements=float(total),
-                        null_support=_statistic(fam, sc, uniq, n1), null_probs=cnt / total)
-    interval = None
-    if fam.mean_difference:
-        u = np.concatenate(us)
-        jump = np.concatenate(ws)
-        moved = u > 0
-        interval = interval_from_jumps(sc.unit * jump[moved] / u[moved], np.ones(moved.sum()),
-                                       float((~moved).sum()), float(total), level, alternative)
-    return out, interval
-
-
-def _tally(values):
-    v = np.sort(values)
-    if v.size == 0:
-        return v, v
-    scale = max(float(np.abs(v).max()), 1e-300)
-    new = np.empty(v.size, dtype=bool)
-    new[0] = True
-    new[1:] = np.diff(v) > pvalues.RTOL * scale
-    starts = np.flatnonzero(new)
-    return v[starts], np.diff(np.append(starts, v.size)).astype(float)
+                        arrangements=total,
+                        null_support=None if uniq is None else _statistic(fam, sc, uniq, n1),
+                        null_probs=None if cnt is None else cnt / cnt.sum())
+    return out, (jumps.interval() if jumps is not None else None)
 
 
 def _run_monte_carlo(fam, x, y, sc, alternative, level, t_obs, draws, seed, progress):
@@ -271,7 +293,7 @@ def _run_monte_carlo(fam, x, y, sc, alternative, level, t_obs, draws, seed, prog
                                               INTERVAL_DRAWS)
     p, p_int = pvalues.monte_carlo_p(b, draws)
     out = EngineOutcome(fam.statistic_name, t_obs, p, "monte-carlo",
-                        "Monte Carlo sampling of arrangements", arrangements=float(comb(N, n1)),
+                        "Monte Carlo sampling of arrangements", arrangements=comb(N, n1),
                         draws=draws, p_interval=p_int, seed=seed)
     interval = None
     if means:   # the observed arrangement counts once more (identity starts at 1)

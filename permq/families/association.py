@@ -5,7 +5,7 @@ from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family
+from .registry import Family, effect_pieces
 
 association = module("permq.engine.association")  # loaded when a statement first runs
 normal_association = module("permq.normal.association")
@@ -96,5 +96,5 @@ FAMILIES = [
              "least-squares t test of the slope (and its HC3 form)",
              "slope; exact interval by inverting the test (none when adjusted)",
              _check("linear", "values", "least-squares t test of the slope", "slope_t", "slope"),
-             options=("adjusting",)),
+             options=("adjusting",), effect_sizes=effect_pieces("standardised_slope")),
 ]

@@ -6,7 +6,7 @@ from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family
+from .registry import Family, effect_pieces
 
 blocks_engine = module("permq.engine.blocks")      # loaded when a statement first runs
 normal_blocks = module("permq.normal.blocks")
@@ -95,15 +95,16 @@ FAMILIES = [
            "F for treatments in the additive two-way model",
            robustness=_check("quadratic", "values", "F for treatments, additive two-way model",
                              "additive_f", "within_block_f"),
-           default_in=("blocked",)),
+           default_in=("blocked",), effect_sizes=effect_pieces("partial_eta_squared")),
     Family("ranks", ("blocked",), "Friedman test (mid-ranks within blocks)", "", plan, execute,
            "chi-square approximation to Friedman's statistic",
            robustness=_check("quadratic", "ranks_within",
                              "chi-square approximation to Friedman's statistic",
-                             "friedman_chi_square", "friedman")),
+                             "friedman_chi_square", "friedman"),
+           effect_sizes=effect_pieces("kendalls_w")),
     Family("ranks", ("ordered-blocked",), "Page's test for ordered treatments", "", plan,
            execute, "normal approximation to Page's L",
            robustness=_check("linear", "ranks_within", "normal approximation to Page's L",
                              "page_z"),
-           default_in=("ordered-blocked",)),
+           default_in=("ordered-blocked",), effect_sizes=effect_pieces("kendalls_w")),
 ]

@@ -42,6 +42,16 @@ class TermPlans:
         return "exact" if all(p.chosen.exact for _, _, p in self.plans) else "monte-carlo"
 
     @property
+    def seconds(self) -> float:
+        """The whole statement: the three terms, one after the other."""
+        return sum(p.seconds for _, _, p in self.plans)
+
+    @property
+    def memory(self) -> float:
+        """Peak bytes: the largest of the terms (they run one at a time)."""
+        return max(p.memory for _, _, p in self.plans)
+
+    @property
     def seed(self) -> int:
         return self.plans[0][2].seed
 

@@ -5,7 +5,7 @@ from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_QUADRATIC
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family
+from .registry import Family, effect_pieces
 
 ksample = module("permq.engine.ksample")           # loaded when a statement first runs
 normal_k = module("permq.normal.ksample")
@@ -50,7 +50,8 @@ def _check(keyword, scores, counterpart, normal_p):
 
 
 def _declare(keyword, title, normal, scores, counterpart, normal_p, default=False):
-    return Family(keyword, ("k-sample",), title, "", plan, execute, normal, "",
+    sizes = effect_pieces("epsilon_squared" if keyword == "ranks" else "eta_squared")
+    return Family(keyword, ("k-sample",), title, "", plan, execute, normal, "", effect_sizes=sizes,
                   robustness=_check(keyword, scores, counterpart, normal_p),
                   default_in=("k-sample",) if default else ())
 

@@ -12,7 +12,7 @@ from ..engine.core.scores import midranks
 
 from ..lazy import module
 from ..errors import PlanError
-from ..normal.theory import two_sample as normal_two_sample
+from ..normal.theory import welch_t
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
 from .registry import Family
@@ -65,13 +65,13 @@ def execute(design, the_plan, progress, statement: str = "") -> ManyResult:
     s = design.settings
     alg, draws, seed = the_plan.chosen.algorithm, the_plan.draws, the_plan.seed
     if design.pairwise:
-        out = many.run_pairwise(design.values[:, 0], design.groups, s.family, design.adjustment,
-                                design.step, alg, draws, seed, progress)
+        out = many.run_pairwise(design.values[:, 0], design.groups, s.family == "ranks",
+                                design.adjustment, design.step, alg, draws, seed, progress)
         rows, names = _pair_rows(design, out), _pair_names(s.family)
         where = "this machine"
     else:
         pool = many_workers.pool_for(design.workers, design.cluster)
-        out = many.run_family(design.values, design.groups, s.family, s.alternative,
+        out = many.run_family(design.values, design.groups, s.family == "ranks", s.alternative,
                               design.adjustment, design.step, alg, draws, seed, progress, pool)
         rows, names = _response_rows(design, out), _response_names(design)
         where = pool.where
@@ -199,7 +199,7 @@ def _pair_rows(design, out) -> list:
         sign = 1.0 if higher else -1.0
         if s.family == "means":
             est = float(xa.mean() - xb.mean())
-            iv = (normal_two_sample("means", xa, xb, s.level, "two-sided").interval
+            iv = (welch_t(xa, xb, s.level, "two-sided").interval
                   if len(xa) > 1 and len(xb) > 1 else None)
         else:
             est, iv, _ = rankintervals.hodges_lehmann_two_sample(xa, xb, s.level, "two-sided")

@@ -5,11 +5,11 @@ import numpy as np
 
 from ..engine import onesample, rankintervals
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
-from ..normal.theory import one_sample as normal_one_sample
+from ..normal import theory
 from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family
+from .registry import Family, effect_pieces
 
 ZERO_RULE = ("zero differences carry no sign and are left out of the sign flips; for ranks they "
              "keep their place in the ranking (Pratt's rule)")
@@ -26,7 +26,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     outcome, interval = onesample.run(s.family, design.d, s.alternative,
                                       the_plan.chosen.algorithm, s.level, draws=the_plan.draws,
                                       seed=the_plan.seed, progress=progress)
-    normal = normal_one_sample(s.family, design.d, s.level, s.alternative)
+    normal = NORMAL[s.family](design.d, s.level, s.alternative)
     estimate = _estimate(design, interval, outcome.method, the_plan.draws)
     warnings = list(design.warnings)
     zeros = int(np.sum(design.d == 0))
@@ -40,6 +40,9 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                   effect=_effect_words(s.family, design), groups=groups,
                   two_sided_rule=TWO_SIDED_LINEAR, warnings=warnings,
                   extra={"zero_rule": ZERO_RULE})
+
+
+NORMAL = {"means": theory.one_sample_t, "ranks": theory.signed_rank_z, "signs": theory.sign_z}
 
 
 def _effect_words(family, design):
@@ -93,10 +96,11 @@ def _t_name(problem) -> str:
     return "one-sample t on the differences" if problem.kind == "paired" else "one-sample t"
 
 
-def _declare(keyword, title, summary, normal, estimate, robustness, default=False):
+def _declare(keyword, title, summary, normal, estimate, robustness, sizes, default=False):
     kinds = ("paired", "one-sample")
     return Family(keyword, kinds, title, summary, plan, execute, normal, estimate,
-                  robustness=robustness, default_in=kinds if default else ())
+                  robustness=robustness, default_in=kinds if default else (),
+                  effect_sizes=effect_pieces(*sizes))
 
 
 FAMILIES = [
@@ -104,15 +108,17 @@ FAMILIES = [
              "mean difference, by sign flips", "one-sample t",
              "mean; exact interval by inverting the sign-flip test",
              _check("values", _t_name, "one_sample_t", "mean_of_flips", "mean", "mean"),
-             default=True),
+             ("standardised_mean_difference_with_interval",), default=True),
     _declare("ranks", "Wilcoxon signed-rank test (mid-ranks, Pratt's rule for zeros)",
              "Wilcoxon signed ranks", "normal approximation to the signed-rank sum",
              "Hodges-Lehmann pseudo-median; interval at the exact signed-rank quantiles",
              _check("signed_ranks", "normal approximation to the signed-rank sum",
-                    "signed_rank_z", "positive_sum", "pseudo_median", "pseudo-median")),
+                    "signed_rank_z", "positive_sum", "pseudo_median", "pseudo-median"),
+             ("standardised_mean_difference", "matched_rank_biserial")),
     _declare("signs", "sign test", "sign test (paired, one sample)",
              "normal approximation to the sign count",
              "median; interval at binomial quantiles",
              _check("signs", "normal approximation to the sign count", "sign_z",
-                    "positive_sum", "median", "median")),
+                    "positive_sum", "median", "median"),
+             ("standardised_mean_difference", "positive_share")),
 ]

@@ -5,7 +5,7 @@ from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family
+from .registry import Family, effect_pieces
 
 ordered = module("permq.engine.ordered")           # loaded when a statement first runs
 normal_k = module("permq.normal.ksample")
@@ -63,8 +63,10 @@ def _jonckheere_check(design):
 FAMILIES = [
     Family("means", ("ordered",), "permutation test of the linear trend in dose scores",
            "", plan, execute, "linear trend t", "trend slope; exact interval by inversion",
-           robustness=_trend_check, default_in=("ordered",)),
+           robustness=_trend_check, default_in=("ordered",),
+           effect_sizes=effect_pieces("eta_squared")),
     Family("ranks", ("ordered",), "Jonckheere-Terpstra test", "", plan, execute,
            "Jonckheere-Terpstra normal approximation (and the linear trend t)",
-           "trend slope; exact interval by inversion", robustness=_jonckheere_check),
+           "trend slope; exact interval by inversion", robustness=_jonckheere_check,
+           effect_sizes=effect_pieces("epsilon_squared", "concordance_share")),
 ]

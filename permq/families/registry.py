@@ -21,9 +21,8 @@ from typing import Callable, Optional
 # The modules that declare families, in the order their words are offered. Adding a family is
 # adding its module here.
 MODULES = ("two_sample", "one_sample", "k_sample", "ordered", "blocked", "association",
-           "tables", "two_proportions", "strata", "rates", "dose_response", "many", "scale",
-           "factorial", "adjusted", "control",
-           "dose_finding", "studentized")
+           "tables", "paired_counts", "two_proportions", "strata", "rates", "dose_response",
+           "many", "scale", "factorial", "adjusted", "control", "dose_finding", "studentized")
 
 
 @dataclass(frozen=True)
@@ -33,6 +32,7 @@ class Kind:
     verb: str            # the statement that produces it
     words: str           # in messages: "'signs' is not a test family for two groups"
     how: str = ""        # how a statement reaches it, for hints
+    extends: str = ""    # the kind a statement becomes this one from, by adding `how`
 
 
 BASE_KINDS = {
@@ -40,16 +40,16 @@ BASE_KINDS = {
     "paired": Kind("compare", "paired data", "compare after vs before paired"),
     "one-sample": Kind("compare", "one sample", "compare Y vs 12.5"),
     "k-sample": Kind("compare", "three or more groups", "compare Y by G with three or more levels"),
-    "ordered": Kind("compare", "ordered groups", "add 'ordered'"),
+    "ordered": Kind("compare", "ordered groups", "add 'ordered'", "k-sample"),
     "stratified": Kind("compare", "two groups within blocks", "add 'within BLOCK' with two levels"),
     "blocked": Kind("compare", "blocked designs", "add 'within BLOCK' with three or more levels"),
-    "ordered-blocked": Kind("compare", "ordered groups within blocks",
-                            "add 'ordered' and 'within BLOCK'"),
+    "ordered-blocked": Kind("compare", "ordered groups within blocks", "add 'ordered'",
+                            "blocked"),
     "many": Kind("compare", "several responses", "compare Y1, Y2 by G"),
     "association": Kind("relate", "an association", "relate Y to X"),
     "table": Kind("count", "a table", "count A by B"),
     "ordered-table": Kind("count", "an ordered table",
-                          "add 'ordered' (rows and columns in the order given)"),
+                          "add 'ordered' (rows and columns in the order given)", "table"),
     "paired-table": Kind("count", "paired outcomes", "count first vs second paired"),
     "proportion": Kind("count", "one proportion", "count 7 of 20 vs 0.5"),
 }
@@ -71,6 +71,7 @@ class Family:
     options: tuple = ()            # options only this family takes, e.g. ("adjusting",)
     help: str = ""                 # its help paragraph (`help KEYWORD`)
     selectable: bool = True        # offered after `using` (False: the kind's only test)
+    effect_sizes: Optional[Callable] = None   # (design, result) -> list (effects.pieces)
     extra: dict = field(default_factory=dict, compare=False)   # what else the family needs
 
 
@@ -162,6 +163,16 @@ def family_for(design) -> Family:
         raise PlanError(f"'{s.family}' analyses of {kind(s.kind).words} are not available "
                         "in this version")
     return found
+
+
+def effect_pieces(*names: str) -> Callable:
+    """A family's effect sizes: the pieces of permq/effects.py named, in order (loaded when a
+    result first needs them)."""
+    def sizes(design, result):
+        from ..effects import pieces
+
+        return pieces(*names)(design, result)
+    return sizes
 
 
 def declaring_module(family: Family) -> str:

@@ -43,7 +43,8 @@ def plan(design):
     elif route == "2x2":
         cands = lambda draws: tables_2x2.candidates(t)
     else:
-        cands = lambda draws: tables.candidates(t, s.family, draws)
+        cands = lambda draws: tables.candidates(t, s.family, draws, design.row_scores,
+                                                design.col_scores)
     return make_plan("table", s.family, s, cands)
 
 
@@ -83,9 +84,11 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                       f"against '{design.col_labels[1]}'")
         rule = tables_2x2.TWO_SIDED_RULE
     else:
-        out = tables.run(t, s.family, s.alternative, alg, draws, seed, progress)
+        u, v = design.row_scores, design.col_scores
+        out = tables.run(t, s.family, s.alternative, alg, draws, seed, progress, u, v)
         if s.family == "trend":
-            normal = normal_tables.trend(t, alternative=s.alternative)
+            normal = normal_tables.trend(t, alternative=s.alternative, row_scores=u,
+                                         col_scores=v)
             effect = "a rise of the column order with the row order"
         else:
             normal = getattr(normal_tables, RC_NORMAL[s.family])(t)
@@ -94,9 +97,11 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
             effect = "association of rows and columns"
         rule = table_stats.RULES[s.family]
     summary = normal_tables.table_summary(t, design.row_labels, design.col_labels)
+    binomial = route in ("proportion", "paired")     # counts of successes, not arrangements
     return Result(statement, "table", s.alternative, out, normal, estimate, effect=effect,
                   two_sided_rule=rule, warnings=list(design.warnings), also_normal=also,
-                  extra={"table": summary})
+                  extra={"table": summary}, reference="outcomes" if binomial else "arrangements",
+                  exact_heading="exact binomial" if binomial else "")
 
 
 TABLE_KINDS = ("table", "ordered-table")

@@ -1,35 +1,66 @@
 """Two independent samples: permutation p-value, normal theory and the shift estimate."""
 from __future__ import annotations
 
+from math import comb
+
 import numpy as np
 
 from ..engine import rankintervals, twosample
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
-from ..normal.theory import two_sample as normal_two_sample
+from ..lazy import module
+from ..normal import theory
 from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
-from ..result import Estimate, Result
-from .registry import Family
+from ..result import EngineOutcome, Estimate, Result
+from .registry import Family, effect_pieces, family_for
+
+ranked = module("permq.engine.tables.ranked")       # the table route, loaded when it runs
 
 
 def plan(design):
     s = design.settings
-    return make_plan("two-sample", s.family, s,
-                     lambda draws: twosample.candidates(s.family, design.x, design.y, draws))
+    table_route = family_for(design).extra.get("table_route", False)
+
+    def cands(draws):
+        out = twosample.candidates(s.family, design.x, design.y, draws)
+        if table_route:      # few distinct values: the test on the 2 x categories table
+            arrangements = out[0].arrangements
+            c = ranked.rank_sum_candidate(design.x, design.y, arrangements)
+            if c is not None:
+                out.insert(len(out) - 1, c)
+        return out
+
+    return make_plan("two-sample", s.family, s, cands)
 
 
 def execute(design, the_plan, progress, statement: str = "") -> Result:
     s = design.settings
-    outcome, interval = twosample.run(s.family, design.x, design.y, s.alternative,
-                                      the_plan.chosen.algorithm, s.level,
-                                      draws=the_plan.draws, seed=the_plan.seed, progress=progress)
-    normal = normal_two_sample(s.family, design.x, design.y, s.level, s.alternative)
+    if the_plan.chosen.algorithm == ranked.TABLE:
+        outcome, interval = _table_route(design, progress), None
+    else:
+        outcome, interval = twosample.run(s.family, design.x, design.y, s.alternative,
+                                          the_plan.chosen.algorithm, s.level,
+                                          draws=the_plan.draws, seed=the_plan.seed,
+                                          progress=progress)
+    normal = NORMAL[s.family](design.x, design.y, s.level, s.alternative)
     estimate = _estimate(design, interval, outcome.method, the_plan.draws)
     a, b = design.labels
     groups = [_summary(a, design.x), _summary(b, design.y)]
     return Result(statement, "two-sample", s.alternative, outcome, normal, estimate,
                   effect=_effect_words(s.family, design.effect), groups=groups,
                   two_sided_rule=TWO_SIDED_LINEAR, warnings=list(design.warnings))
+
+
+NORMAL = {"means": theory.welch_t, "ranks": theory.rank_sum_z,
+          "normal-scores": theory.normal_scores_z, "medians": theory.median_count_z}
+def _table_route(design, progress) -> EngineOutcome:
+    """The rank sum's exact p-value from the table network (its statistic as the engine's)."""
+    x, y = np.asarray(design.x, float), np.asarray(design.y, float)
+    rule = twosample.rule_of(design.settings.family)
+    p, _ = ranked.rank_sum(x, y, design.settings.alternative, progress)
+    return EngineOutcome(rule.statistic_name, twosample.observed(rule, x, y), p, "exact",
+                         ranked.WORDS.format(what=ranked.RANK_SUM_WORDS),
+                         arrangements=float(comb(len(x) + len(y), len(x))))
 
 
 def _effect_words(family, effect):
@@ -82,10 +113,11 @@ def _check(scores, counterpart, normal_p, reported, effect):
     return check
 
 
-def _declare(keyword, title, summary, normal, estimate, robustness, default=False, help=""):
+def _declare(keyword, title, summary, normal, estimate, robustness, sizes, default=False,
+             help="", extra=None):
     return Family(keyword, ("two-sample",), title, summary, plan, execute, normal, estimate,
                   robustness=robustness, default_in=("two-sample",) if default else (),
-                  help=help)
+                  help=help, effect_sizes=effect_pieces(*sizes), extra=extra or {})
 
 
 FAMILIES = [
@@ -93,20 +125,24 @@ FAMILIES = [
              "difference in means, by permutation", "Welch t (unequal variances)",
              "difference in means; exact interval by inverting the test under a shift",
              _check("values", "Welch t", "welch_t", "mean_difference", "mean_difference"),
-             default=True),
+             ("standardised_difference_with_interval",), default=True),
     _declare("ranks", "Wilcoxon rank-sum test (mid-ranks)", "Wilcoxon ranks with mid-ranks",
              "normal approximation to the rank sum (tie-corrected)",
              "Hodges-Lehmann shift; interval at the exact rank-sum quantiles",
              _check("ranks", "normal approximation to the rank sum", "score_sum_z", "as_is",
-                    "hodges_lehmann_shift")),
+                    "hodges_lehmann_shift"),
+             ("standardised_difference", "probability_of_superiority"),
+             extra={"table_route": True}),   # few categories: the 2 x c table's network
     _declare("normal-scores", "van der Waerden normal-scores test",
              "van der Waerden normal scores",
              "normal approximation to the normal-scores sum", "Hodges-Lehmann shift",
              _check("normal_scores", "normal approximation to the normal-scores sum",
-                    "score_sum_z", "as_is", "hodges_lehmann_shift")),
+                    "score_sum_z", "as_is", "hodges_lehmann_shift"),
+             ("standardised_difference",)),
     _declare("medians", "Mood's median test", "Mood's median test",
              "normal approximation to the count above the median",
              "difference in medians (no exact interval)",
              _check("above_median", "normal approximation to the count above the median",
-                    "score_sum_z", "as_is", "median_difference")),
+                    "score_sum_z", "as_is", "median_difference"),
+             ("standardised_difference",)),
 ]

@@ -12,10 +12,12 @@ from functools import lru_cache
 from pathlib import Path
 
 # Elementary operations a second on one core of this class of machine, for vectorised numpy
-# work (calibrated by bench/calibrate.py; order of magnitude is what matters here).
+# work (bench/calibrate.py measures how far each algorithm's count is from it).
 OPS_PER_SECOND = 2.0e8
-# What any statement costs before its algorithm starts (binding, scores, set-up), in seconds.
+# What any statement costs before its algorithm starts (parsing, binding, planning, the
+# result), in seconds, and the bytes it holds meanwhile; calibration.json overrides both.
 BASE_SECONDS = 0.004
+BASE_BYTES = 2.0e6
 
 
 @dataclass(frozen=True)
@@ -28,27 +30,56 @@ class Candidate:
     feasible: bool = True   # False when the method cannot apply (e.g. scores not on a grid)
     note: str = ""          # why, in words (e.g. "scores are not on a grid")
     arrangements: float = 0.0  # size of the reference set, when known
+    reference: str = "arrangements"   # what that set is made of, in words
 
     @property
     def seconds(self) -> float:
-        return BASE_SECONDS + self.ops / OPS_PER_SECOND
+        return base_seconds() + self.ops / OPS_PER_SECOND
 
 
 CALIBRATION_FILE = Path(__file__).with_name("calibration.json")
 
 
 @lru_cache(maxsize=1)
-def calibration() -> dict:
-    """Measured seconds / estimated seconds per (engine, algorithm), from bench/calibrate.py."""
+def _calibration_file() -> dict:
     try:
-        data = json.loads(CALIBRATION_FILE.read_text())
+        return json.loads(CALIBRATION_FILE.read_text())
     except (OSError, ValueError):
         return {}
-    return {tuple(k.split("/", 1)): float(v) for k, v in data.get("factors", {}).items()}
+
+
+@lru_cache(maxsize=1)
+def calibration() -> dict:
+    """Measured seconds / estimated seconds per (engine, algorithm), and per ("statement",
+    part) for the statement's other work, from bench/calibrate.py."""
+    return {tuple(k.split("/", 1)): float(v)
+            for k, v in _calibration_file().get("factors", {}).items()}
+
+
+@lru_cache(maxsize=1)
+def memory_calibration() -> dict:
+    """Measured peak bytes / estimated bytes per (engine, algorithm)."""
+    return {tuple(k.split("/", 1)): float(v)
+            for k, v in _calibration_file().get("memory_factors", {}).items()}
+
+
+def base_seconds() -> float:
+    return float(_calibration_file().get("base_seconds", BASE_SECONDS))
+
+
+def base_bytes() -> float:
+    return float(_calibration_file().get("base_bytes", BASE_BYTES))
 
 
 def calibrated(engine: str, c: Candidate) -> Candidate:
-    factor = calibration().get((engine, c.algorithm))
-    if factor is None or not c.feasible or c.ops == float("inf"):
+    if not c.feasible or c.ops == float("inf"):
         return c
-    return replace(c, ops=c.ops * factor)
+    factor = calibration().get((engine, c.algorithm), 1.0)
+    memory = memory_calibration().get((engine, c.algorithm), 1.0)
+    return replace(c, ops=c.ops * factor, memory=c.memory * memory)
+
+
+def reload() -> None:
+    """Read calibration.json afresh (after bench/calibrate.py wrote it)."""
+    for cached in (_calibration_file, calibration, memory_calibration):
+        cached.cache_clear()

@@ -3,6 +3,8 @@
 It asks the design's engine for its candidate algorithms with their estimated cost, and picks:
 - `sampled N` forces Monte Carlo with N draws;
 - otherwise the cheapest feasible exact algorithm within the time and memory budget;
+- past the time budget, still the cheapest exact algorithm when it is cheaper than the draws
+  (the answer is exact and comes sooner);
 - `exact` forces the cheapest feasible exact algorithm up to a hard ceiling, and refuses past
   it with the estimate;
 - otherwise Monte Carlo with the default number of draws.
@@ -10,12 +12,13 @@ It asks the design's engine for its candidate algorithms with their estimated co
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Callable, Optional
 
 from ..errors import PlanError
 from ..engine.core.limits import DEFAULT_DRAWS, EXACT_CEILING_SECONDS, Limits, limits_for
-from .cost import Candidate, calibrated
+from .cost import Candidate, base_bytes, calibrated
+from .sizes import words
 
 
 @dataclass(frozen=True)
@@ -28,11 +31,25 @@ class Plan:
     seed: Optional[int]         # None only outside the pipeline (nothing sampled yet)
     reason: str
     budget_seconds: float
-    limits: Limits = Limits()      # from the settings (`set memory`, `set budget`), for the engine
+    limits: Limits = Limits()   # from the settings (`set memory`, `set budget`), for the engine
+    parts: tuple = ()           # the statement's other work (plan/statement.py): Part, ...
 
     @property
     def method(self) -> str:
         return "exact" if self.chosen.exact else "monte-carlo"
+
+    @property
+    def seconds(self) -> float:
+        """The whole statement: the chosen algorithm (with the fixed cost) and every part."""
+        return self.chosen.seconds + sum(p.seconds for p in self.parts)
+
+    @property
+    def memory(self) -> float:
+        """Peak bytes: the largest of the algorithm and the other parts, over the base."""
+        return base_bytes() + max([self.chosen.memory] + [p.memory for p in self.parts])
+
+    def with_parts(self, parts) -> "Plan":
+        return replace(self, parts=tuple(parts))
 
     def __str__(self) -> str:
         lines = [f"plan: {self.engine}, family '{self.family}'",
@@ -51,7 +68,17 @@ class Plan:
         if not self.chosen.exact:
             lines.append(f"  draws: {self.draws:,}, seed {self.seed}")
         if self.chosen.arrangements:
-            lines.append(f"  reference set: {_count(self.chosen.arrangements)} arrangements")
+            lines.append(f"  reference set: {_count(self.chosen.arrangements)} "
+                         f"{self.chosen.reference}")
+        if self.parts:
+            merged: dict = {}
+            for p in self.parts:
+                merged[p.what] = merged.get(p.what, 0.0) + p.seconds
+            shown = [(what, secs) for what, secs in merged.items() if secs >= 0.01]
+            if shown:
+                lines.append("  besides the test:")
+                lines += [f"     {what:<62} {_seconds(secs)}" for what, secs in shown]
+            lines.append(f"  whole statement: {_seconds(self.seconds)}, {_bytes(self.memory)}")
         return "\n".join(lines)
 
 
@@ -65,7 +92,7 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
 
     def plan(chosen, reason):
         return Plan(engine, family, chosen, cands, draws, seed, reason, budget,
-                    limits_for(settings))
+                    limits=limits_for(settings))
 
     if settings.sampled and mc is not None:
         return plan(mc, f"'sampled {settings.sampled}' asks for Monte Carlo")
@@ -80,9 +107,15 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
         ok = [c for c in fitting if c.seconds <= EXACT_CEILING_SECONDS]
         if not ok:
             best = exact[0] if exact else None
-            what = (f"the cheapest exact method ({best.description}) would take "
-                    f"{_about(best.seconds)} and {_bytes(best.memory)}" if best else
-                    "no exact method applies to these data")
+            barred = [c for c in cands if c.exact and not c.feasible]
+            if best:
+                what = (f"the cheapest exact method ({best.description}) would take "
+                        f"{_about(best.seconds)} and {_bytes(best.memory)}")
+            elif barred:
+                what = "no exact method fits these data (" + "; ".join(
+                    f"{c.description}: {c.note or 'past its limits'}" for c in barred) + ")"
+            else:
+                what = "no exact method applies to these data"
             raise PlanError(f"'exact' refused: {what}; the limit is "
                             f"{_seconds(EXACT_CEILING_SECONDS)} and {_bytes(settings.memory_bytes)}",
                             hint="drop 'exact' for Monte Carlo, or use 'sampled N'")
@@ -90,6 +123,11 @@ def make_plan(engine: str, family: str, settings, candidates_for: Callable[[int]
     within = [c for c in fitting if c.seconds <= budget]
     if within:
         return plan(within[0], "the cheapest exact method within the budget")
+    if fitting and fitting[0].seconds <= mc.seconds:
+        best = fitting[0]
+        return plan(best, f"the cheapest exact method would take {_about(best.seconds)}, past the "
+                          f"budget of {_seconds(budget)}, but Monte Carlo would take longer "
+                          f"({_about(mc.seconds)})")
     if exact:
         return plan(mc, f"the cheapest exact method ({exact[0].description}) would take "
                         f"{_about(exact[0].seconds)}, past the budget of {_seconds(budget)}")
@@ -125,5 +163,5 @@ def _bytes(b: float) -> str:
     return f"{b:.0f} B"
 
 
-def _count(v: float) -> str:
-    return f"{int(v):,}" if v < 1e15 else f"{v:.3g}"
+def _count(v) -> str:
+    return words(v)

@@ -32,7 +32,7 @@ def render(outputs) -> str:
         if not isinstance(o, Result):
             continue
         oc, nt, est = o.outcome, o.normal, o.estimate
-        method = (f"exact, {fmt.count(oc.arrangements)} arrangements" if oc.method == "exact"
+        method = (f"exact, {fmt.count(oc.arrangements)} {o.reference}" if oc.method == "exact"
                   else f"Monte Carlo, {oc.draws:,} draws, {fmt.seed(oc.seed, o.seed_source)}")
         cells = [f"`{o.statement}`", o.family, f"{oc.statistic_name} = {fmt.num(oc.statistic)}",
                  fmt.p(oc.p_value) if oc.method == "exact"

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import math
 
+from ..plan.sizes import words
 from ..syntax.parser import one_line
 
 
@@ -92,9 +93,7 @@ def interval(iv, digits: int = 4) -> str:
 
 
 def count(v) -> str:
-    if v is None:
-        return "-"
-    return f"{int(v):,}" if v < 1e15 else f"{v:.3g}"
+    return words(v)
 
 
 def df(v) -> str:

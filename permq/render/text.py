@@ -67,7 +67,9 @@ def result_block(r: Result, color: bool = False) -> str:
     lines.extend(data_lines(r))
     lines.append(f"  {'statistic':<15}{fmt.num(o.statistic, 6)}")
     method_word = "exact" if o.method == "exact" else "Monte Carlo"
-    lines.append(f"  {'':<15}{'permutation (' + method_word + ')':<28}normal theory")
+    heading = (r.exact_heading if o.method == "exact" and r.exact_heading
+               else "permutation (" + method_word + ")")
+    lines.append(f"  {'':<15}{heading:<28}normal theory")
     p_label = f"p ({r.alternative})"
     normal_p = fmt.normal_p(nt)
     exact_p = fmt.p(o.p_value) if o.method == "exact" else fmt.sampled_p(o.p_value, o.p_interval)
@@ -100,7 +102,7 @@ def result_block(r: Result, color: bool = False) -> str:
     if o.method == "exact" and (o.arrangements is None or o.arrangements == float("inf")):
         how = f"exact: {o.algorithm}"
     elif o.method == "exact":
-        how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} arrangements"
+        how = f"exact: {o.algorithm}, {fmt.count(o.arrangements)} {r.reference}"
     else:
         b = fmt.as_extreme(o.p_value, o.draws)
         how = (f"Monte Carlo: {o.draws:,} draws, {f'{b:,}' if b else 'none'} as extreme as the "

@@ -13,6 +13,7 @@ import numpy as np
 
 from ..engine.montecarlo import sampling
 from ..errors import PermqError
+from ..plan.sizes import words
 from .arrangements import sampled_reference
 from .batch import residual_t, pair_signs, scores
 from .problem import Problem, data_row, problem_for
@@ -27,7 +28,7 @@ def null_picture(design, outcome, seed: Optional[int] = None, bins: int = BINS,
     if outcome.null_support is not None and outcome.null_probs is not None:
         support = np.asarray(outcome.null_support, dtype=float)
         probs = np.asarray(outcome.null_probs, dtype=float)
-        size = f", {outcome.arrangements:,.0f} arrangements" if outcome.arrangements else ""
+        size = f", {words(outcome.arrangements)} arrangements" if outcome.arrangements else ""
         source = f"exact null distribution{size}"
     else:
         try:

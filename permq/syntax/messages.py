@@ -78,6 +78,7 @@ _OPTIONS_OF = {"datasets": ("robustness",), "shift": ("robustness",),
                "top": ("compare",), "below": ("compare",), "levels": ("compare", "count"),
                "rows": ("count",), "columns": ("count",),
                "within": ("compare", "count"), "ordered": ("compare", "count"),
+               "scores": ("compare", "count"),
                "paired": ("compare", "count"), "against": ("compare",)}
 
 

@@ -107,6 +107,7 @@ class CountVersus:
     span: Span
     first: Name
     second: Name
+    more: tuple = ()           # further columns: several paired outcomes
 
 
 @dataclass(frozen=True)

@@ -297,7 +297,7 @@ class _ToNodes(Transformer):
         return n.CountBy(_span(meta), ch[0], ch[1])
 
     def count_versus(self, meta, ch):
-        return n.CountVersus(_span(meta), ch[0], ch[1])
+        return n.CountVersus(_span(meta), ch[0], ch[1], tuple(ch[2:]))
 
     def count_inline(self, meta, ch):
         return n.CountInline(_span(meta), ch[0].value)
@@ -362,6 +362,9 @@ class _ToNodes(Transformer):
 
     def ordered(self, meta, ch):
         return self._opt(meta, "ordered", tuple((c.value, c.span) for c in ch))
+
+    def scores(self, meta, ch):
+        return self._opt(meta, "scores", tuple((float(c.value), c.span) for c in ch))
 
     def paired(self, meta, ch):
         return self._opt(meta, "paired")

@@ -25,18 +25,23 @@ from math import factorial
 from typing import Optional
 
 import numpy as np
+from ...lazy import stats
 
 from ...plan.cost import Candidate
+from ...plan.sizes import big, words
+from ..core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT
 from ...result import EngineOutcome, Estimate
 from ..core.counting import multinomial
 from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from ..core.scores import midranks
 from ..montecarlo.sampling import require_seed
+from ..tables import ranked
 from .adjusted import _run_freedman_lane, adjusted_coefficient
-from .pairings import (CHUNK, DESCRIPTIONS, _big, _has_ties,
-                       _run_enumeration, _run_inversions, _run_monte_carlo, arrangements,
+from .pairings import (CHUNK, DESCRIPTIONS, _big, _has_ties, _run_enumeration, _run_monte_carlo,
+                       _warnings, arrangements,
                        check_inputs, distinct_pairs, problem)
+from . import inversions
 from .slope import slope_estimate, slope_outcome, slope_pass
 
 # ---------------------------------------------------------------- cost
@@ -67,35 +72,48 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
                           note="residual permutation is approximate; there is no exact reference set"),
                 Candidate("residual-permutation", DESCRIPTIONS["residual-permutation"], False,
                           draws * n * (6.0 + width), min(draws, 8192) * n * 8 * 2,
-                          arrangements=_big(factorial(n)), note=f"{draws:,} draws")]
-    total = _big(reference_size(statistic, y, x))
+                          arrangements=factorial(n), note=f"{draws:,} draws")]
+    count = reference_size(statistic, y, x)
+    total = big(count)
     pairs = n * (n - 1) / 2
     per = {"kendall": 4 * n + 3 * pairs, "slope": 10.0 * n}.get(statistic, 4.0 * n)
     out = []
     if statistic == "kendall":
         out.append(_inversions_candidate(y, x))
+        if ranked.offered(x) and ranked.offered(y):
+            t, _, _ = ranked.table_of(x, y)
+            out.append(ranked.candidate(t, "concordance", "x values x y values", total))
+    listing = min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0)
+    # the law's tally (bounded); the slope keeps T and its denominator for every arrangement
+    held = total * 16 * 3 if statistic == "slope" else min(total, TALLY_LIMIT) * TALLY_BYTES
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, total * per,
-                         min(total, CHUNK) * n * 8 * 3 + (CHUNK * pairs * 8 if statistic == "kendall" else 0),
-                         arrangements=total,
-                         note=f"{total:.4g} distinct arrangements"))
+                         listing + held, arrangements=count,
+                         note=f"{words(count)} distinct arrangements"))
     # Kendall's S of a draw by merge sort: about n log2 n steps (compiled)
     per_draw = {"kendall": 6 * n + 4 * n * np.log2(n), "slope": 12.0 * n}.get(statistic, 6.0 * n)
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * per_draw,
-                         min(draws, 8192) * n * 8 * 2, arrangements=total, note=f"{draws:,} draws"))
+                         min(draws, 8192) * n * 8 * 2, arrangements=count, note=f"{draws:,} draws"))
     return out
 
 
 def _inversions_candidate(y, x) -> Candidate:
     n = len(x)
-    K = n * (n - 1) // 2
-    total = _big(factorial(n))
+    total = factorial(n)
     if _has_ties(x) or _has_ties(y):
         return Candidate("dp-inversions", DESCRIPTIONS["dp-inversions"], True, float("inf"),
                          float("inf"), feasible=False, note="ties: counting inversions needs distinct values",
                          arrangements=total)
-    ops = n * (K / 2 + 1) * 20.0          # Python integers cost about 20 array operations each
-    return Candidate("dp-inversions", DESCRIPTIONS["dp-inversions"], True, ops, (K / 2 + 1) * 64.0 * 3,
+    ops, memory = inversions.cost(n, _discordant(y, x), "two-sided")
+    return Candidate("dp-inversions", DESCRIPTIONS["dp-inversions"], True, ops, memory,
                      arrangements=total, note="no ties: exact counts of permutations by inversions")
+
+
+def _discordant(y, x) -> int:
+    """Discordant pairs without ties, in O(n log n): S = tau * n(n-1)/2 (exact after rounding)."""
+    n = len(x)
+    K = n * (n - 1) // 2
+    s = int(round(stats.kendalltau(x, y).statistic * K))
+    return (K - s) // 2
 
 
 # ---------------------------------------------------------------- run
@@ -116,7 +134,18 @@ def run(statistic: str, y, x, alternative: str, algorithm: str, draws: Optional[
     if algorithm == "dp-inversions":
         if statistic != "kendall" or _has_ties(x) or _has_ties(y):
             raise ValueError("counting inversions applies to Kendall's tau without ties")
-        return _run_inversions(problem("kendall", y, x), alternative, progress)
+        pb = problem("kendall", y, x)
+        return inversions.run(pb.name, pb.coefficient(pb.t_obs), int(round(pb.t_obs)), len(x),
+                              alternative, progress)
+    if algorithm == ranked.TABLE:
+        if statistic != "kendall":
+            raise ValueError("the table route applies to Kendall's tau")
+        pb = problem("kendall", y, x)
+        p, _ = ranked.kendall(y, x, alternative, progress)
+        return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), p, "exact",
+                             ranked.WORDS.format(what="x values x y values"),
+                             arrangements=_big(reference_size("kendall", y, x)),
+                             warnings=_warnings(pb))
     if algorithm == "enumeration":
         fixed_is_x = arrangements(_scores(statistic, y)) <= arrangements(_scores(statistic, x))
         return _run_enumeration(problem(statistic, y, x, fixed_is_x), alternative, progress)

@@ -16,6 +16,7 @@ from ..core.counting import distinct_orderings
 from ..core.grid import centred, is_constant
 from ..core.scores import midranks
 from ..core.progress import Progress
+from ..core.tally import Tally
 from ..montecarlo.draws import KendallPairs, random_u32, shuffled_dots
 from ..montecarlo.draws import kendall_s as shuffled_kendall_s
 from ..montecarlo.sampling import iter_blocks
@@ -212,15 +213,14 @@ def arrangement_chunks(counts, chunk: int = CHUNK):
 
 
 def _enumerate_t(pb: Problem, progress: Progress):
-    """T over every distinct arrangement of pb.moving (equal weights)."""
+    """Chunks of T over every distinct arrangement of pb.moving (equal weights)."""
     vals, counts = np.unique(pb.moving, return_counts=True)
     total = arrangements(pb.moving)
-    out, done = [], 0
+    done = 0
     for labels in arrangement_chunks(counts):
-        out.append(evaluate(pb, vals[labels]))
+        yield evaluate(pb, vals[labels])
         done += len(labels)
         progress.step(done / total, "enumerating")
-    return np.concatenate(out), total
 
 
 def _tally(values, scale):
@@ -230,51 +230,6 @@ def _tally(values, scale):
     new[1:] = np.diff(v) > pvalues.RTOL * max(scale, 1e-300)
     starts = np.flatnonzero(new)
     return v[starts], np.diff(np.append(starts, v.size)).astype(float)
-
-
-# ---------------------------------------------------------------- Kendall by counting
-
-def inversion_counts(n: int, upto: Optional[int] = None) -> list:
-    """Exact counts (Python ints) of permutations of n items with k inversions, k = 0..upto
-    (Mahonian numbers; default all k up to n(n-1)/2). Truncation is exact: count k depends
-    only on counts at k' <= k for n - 1."""
-    top = n * (n - 1) // 2 if upto is None else min(upto, n * (n - 1) // 2)
-    c = np.array([1], dtype=object)
-    for m in range(2, n + 1):
-        length = min(len(c) + m - 1, top + 1)
-        ext = np.zeros(length, dtype=object)
-        ext[:min(len(c), length)] = c[:length]
-        cs = np.cumsum(ext)
-        new = cs.copy()
-        new[m:] -= cs[:-m]
-        c = new
-    return list(c)
-
-
-def _run_inversions(pb: Problem, alternative: str, progress: Progress) -> EngineOutcome:
-    n = len(pb.fixed)
-    K = n * (n - 1) // 2
-    d = (K - int(round(pb.t_obs))) // 2                # discordant pairs
-    half = inversion_counts(n, K // 2)
-    progress.step(1.0, "counting inversions")
-    full = half + half[:K + 1 - len(half)][::-1]       # symmetric about K / 2
-    total = factorial(n)
-    p = pvalues.clip(_inversion_tail(full, d, K, alternative) / total)
-    tau = 1.0 - 4.0 * np.arange(K + 1) / (n * (n - 1))
-    probs = np.array([c / total for c in full], dtype=float)
-    return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), p, "exact",
-                         DESCRIPTIONS["dp-inversions"], arrangements=_big(total),
-                         null_support=tau[::-1], null_probs=probs[::-1])
-
-
-def _inversion_tail(full, d, K, alternative) -> int:
-    """Count of permutations at least as extreme as d discordant pairs (exact integers)."""
-    if alternative == "higher":                        # positive association: few inversions
-        return sum(full[:d + 1])
-    if alternative == "lower":
-        return sum(full[d:])
-    dev = abs(2 * d - K)
-    return sum(c for k, c in enumerate(full) if abs(2 * k - K) >= dev)
 
 
 # ---------------------------------------------------------------- Monte Carlo
@@ -318,13 +273,19 @@ def _run_monte_carlo(pb: Problem, alternative, draws, seed, progress) -> EngineO
 
 
 def _run_enumeration(pb: Problem, alternative, progress) -> EngineOutcome:
-    t, total = _enumerate_t(pb, progress)
-    b = pvalues.exceedances(t, pb.t_obs, alternative, 0.0, pb.scale)
-    support, counts = _tally(t, pb.scale)
+    """Exceedances counted and the law tallied chunk by chunk (memory stays bounded)."""
+    total = arrangements(pb.moving)
+    tally = Tally(pb.scale)
+    b = 0
+    for t in _enumerate_t(pb, progress):
+        b += pvalues.exceedances(t, pb.t_obs, alternative, 0.0, pb.scale)
+        tally.add(t)
+    support, counts = tally.law()
     what = DESCRIPTIONS["enumeration"] + (" of distinct arrangements (ties)" if pb.ties else "")
     return EngineOutcome(pb.name, float(pb.coefficient(pb.t_obs)), pvalues.clip(b / total),
-                         "exact", what, arrangements=float(total),
-                         null_support=pb.coefficient(support), null_probs=counts / total,
+                         "exact", what, arrangements=total,
+                         null_support=None if support is None else pb.coefficient(support),
+                         null_probs=None if counts is None else counts / total,
                          warnings=_warnings(pb))
 
 

@@ -12,6 +12,8 @@ import numpy as np
 
 from ...errors import BindError, PlanError
 from ...plan.cost import Candidate
+from ...plan.sizes import big, words
+from ..core.counting import rescale
 from ...result import EngineOutcome
 from ..core import pvalues
 from ..core.grid import MAX_DECIMALS, centred, integer_grid, negligible
@@ -41,8 +43,8 @@ class Complete:
         return self.scores.shape[0]
 
     @property
-    def arrangements(self) -> float:
-        return float(factorial(self.k)) ** self.b
+    def arrangements(self) -> int:
+        return factorial(self.k) ** self.b
 
 
 def check_complete_blocks(groups, blocks, n_groups: Optional[int] = None, test: str = "friedman",
@@ -209,31 +211,32 @@ def _page_dp_cost(ints: np.ndarray) -> tuple[float, float, bool]:
 
 
 def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
-    total = prep.arrangements
+    count = prep.arrangements
     out = []
     if prep.test == "page":
         ops, mem, ok = _page_dp_cost(prep.ints)
         out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, ops, mem, ok,
                              note="doubled mid-ranks are integers" if ok else
-                             f"more than {PAGE_MAX_TREATMENTS} treatments", arrangements=total))
+                             f"more than {PAGE_MAX_TREATMENTS} treatments", arrangements=count))
     elif prep.ints is not None:
         ops, mem, ok, note = _vector_dp_cost(prep.ints)
         out.append(Candidate("dp-vector", DESCRIPTIONS["dp-vector"], True, ops, mem, ok,
-                             note=note, arrangements=total))
+                             note=note, arrangements=count))
     else:
         out.append(Candidate("dp-vector", DESCRIPTIONS["dp-vector"], True, float("inf"),
-                             float("inf"), False, arrangements=total,
+                             float("inf"), False, arrangements=count,
                              note=f"values are not on a grid of at most {MAX_DECIMALS} decimals"))
     if prep.test == "within-block-f":
-        fixed = total / factorial(prep.k)   # the first block's order is fixed by symmetry
-        rows = fixed / factorial(prep.k)    # totals held while the last block is applied
+        fixed = big(count // factorial(prep.k))   # the first block's order is fixed by symmetry
+        rows = fixed / factorial(prep.k)          # totals held while the last block is applied
         out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True,
                              fixed * prep.k * 6, rows * prep.k * 8 * 3,
-                             arrangements=total,
-                             note=f"{total:.4g} arrangements ({fixed:.4g} after fixing block 1)"))
+                             arrangements=count,
+                             note=f"{words(count)} arrangements "
+                                  f"({words(count // factorial(prep.k))} after fixing block 1)"))
     n = prep.b * prep.k
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
-                         min(draws, 8192) * prep.k * 8 * 4, arrangements=total,
+                         min(draws, 8192) * prep.k * 8 * 4, arrangements=count,
                          note=f"{draws:,} draws"))
     return out
 
@@ -299,6 +302,7 @@ def vector_dp(ints: np.ndarray, progress: Progress = NO_PROGRESS):
             codes.append(u)
             weights.append(w)
         merged, counts = _merge_codes(np.concatenate(codes), np.concatenate(weights))
+        rescale(counts)                    # exact powers of two: ratios are unchanged
         states = _decode(merged, radix, k)
         progress.step((i + 1) / b, "counting over blocks")
     return states, counts
@@ -355,6 +359,7 @@ def _page_dp(prep: Complete, alternative, progress) -> EngineOutcome:
         if key not in cache:
             cache[key] = linear_permutation_counts(key, weights)
         acc = convolve_exact(acc, cache[key])
+        rescale(acc)                       # exact powers of two: ratios are unchanged
         progress.step((i + 1) / prep.b, "counting over blocks")
     support = np.flatnonzero(acc)
     counts = acc[support]

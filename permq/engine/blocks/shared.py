@@ -103,7 +103,7 @@ def _outcome(test, statistic, p, algorithm, arrangements, support=None, probs=No
     if method == "exact" and arrangements >= EXACT_COUNT_LIMIT and algorithm != "enumeration":
         warnings = tuple(warnings) + (COUNT_WARNING,)
     return EngineOutcome(STATISTIC_NAMES[test], float(statistic), pvalues.clip(p), method,
-                         DESCRIPTIONS[algorithm], arrangements=float(arrangements), draws=draws,
+                         DESCRIPTIONS[algorithm], arrangements=arrangements, draws=draws,
                          p_interval=p_interval, seed=seed, null_support=support, null_probs=probs,
                          warnings=tuple(warnings))
 

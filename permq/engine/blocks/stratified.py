@@ -12,9 +12,10 @@ import numpy as np
 
 from ...errors import BindError, PlanError
 from ...plan.cost import Candidate
+from ...plan.sizes import big, words
 from ...result import EngineOutcome
 from ..core import pvalues
-from ..core.counting import counts_by_size
+from ..core.counting import counts_by_size, rescale
 from ..core.grid import MAX_DECIMALS, centred, integer_grid
 from ..core.limits import EXACT_COUNT_LIMIT
 from ..core.scores import midranks
@@ -54,8 +55,8 @@ class Stratified:
     warnings: tuple
 
     @property
-    def arrangements(self) -> float:
-        return float(prod(comb(b.n, b.m) for b in self.blocks))
+    def arrangements(self) -> int:
+        return prod(comb(b.n, b.m) for b in self.blocks)
 
     @property
     def on_grid(self) -> bool:
@@ -114,7 +115,8 @@ def _stratified_integers(test, raw, scores):
 
 
 def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
-    total = prep.arrangements
+    count = prep.arrangements
+    total = big(count)
     out = []
     if prep.on_grid:
         ops, mem, acc = 0.0, 0.0, 1.0
@@ -127,23 +129,23 @@ def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
         note = ("mid-ranks within blocks (doubled, integers)" if prep.test == "stratified-ranks"
                 else f"data on a grid of {prep.step:g}")
         out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, ops, mem,
-                             note=note, arrangements=total))
+                             note=note, arrangements=count))
     else:
         out.append(Candidate("dp-integer", DESCRIPTIONS["dp-integer"], True, float("inf"),
                              float("inf"), feasible=False,
                              note=f"values are not on a grid of at most {MAX_DECIMALS} decimals",
-                             arrangements=total))
+                             arrangements=count))
     running, ops = 1.0, 0.0
     for b in prep.blocks:
         running *= comb(b.n, b.m)
         ops += running * 4 + comb(b.n, b.m) * b.m
     out.append(Candidate("enumeration", DESCRIPTIONS["enumeration"], True, ops, total * 8 * 4,
-                         arrangements=total,
-                         note=f"{total:.4g} arrangements"))
+                         arrangements=count,
+                         note=f"{words(count)} arrangements"))
     n = sum(b.n for b in prep.blocks)
     out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
                          min(draws, 8192) * max(b.n for b in prep.blocks) * 8 * 4,
-                         arrangements=total, note=f"{draws:,} draws"))
+                         arrangements=count, note=f"{draws:,} draws"))
     return out
 
 
@@ -155,6 +157,7 @@ def _stratified_dp(prep: Stratified, alternative, progress) -> EngineOutcome:
     s_obs, pairs = 0, []
     for i, b in enumerate(prep.blocks):
         acc = convolve_exact(acc, counts_by_size(b.ints, b.m)[b.m])
+        rescale(acc)                       # exact powers of two: ratios are unchanged
         s_obs += int(b.ints[b.in_group0].sum())
         pairs.append((b.m * int(b.ints.sum()), b.n))
         progress.step((i + 1) / len(prep.blocks), "counting within blocks")

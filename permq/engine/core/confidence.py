@@ -39,9 +39,11 @@ def rejected_up_to(side: Fraction, total) -> int:
 
 def first_kept(cumulative, total, side: Fraction) -> int:
     """Index of the first entry of a non-decreasing count array with count / total > side
-    (len(cumulative) when there is none). Exact while the counts are integers below 2^53."""
+    (len(cumulative) when there is none). Exact while the counts are integers below 2^53
+    (counts rescaled by a power of two, past 2^960, are compared in floating point)."""
     cum = np.asarray(cumulative, dtype=float)
-    if float(total) < EXACT_COUNT_LIMIT:
+    if float(total) < EXACT_COUNT_LIMIT and float(total).is_integer() and \
+            bool(np.all(cum == np.floor(cum))):
         return int(np.searchsorted(cum, rejected_up_to(side, total) + 1, side="left"))
     return int(np.searchsorted(cum, float(side) * float(total), side="right"))
 

@@ -3,7 +3,9 @@ exact counting of subsets by the sum of their integer scores (dynamic programmin
 
 Counts are held in float64: they are exact integers while every count stays below 2^53
 (the reference set then has fewer than 2^53 members); beyond that the relative error of each
-count stays near 1e-16, far below any p-value's meaning.
+count stays near 1e-16, far below any p-value's meaning. Past 2^960 a table is multiplied by
+2^-960, which is exact in binary floating point, so counts of any size (C(1200, 600), 2^1500)
+never overflow; callers use ratios of counts, or ask for the exponent (`with_exponent`).
 """
 from __future__ import annotations
 
@@ -12,6 +14,9 @@ import math
 import numpy as np
 
 from .progress import NO_PROGRESS, Progress
+
+RESCALE_BITS = 960                  # a table past 2^960 is multiplied by 2^-960 (exactly)
+_RESCALE_EVERY = 16                 # items between checks: a table at most doubles per item
 
 
 def multinomial(sizes) -> int:
@@ -30,19 +35,35 @@ def distinct_orderings(values) -> int:
 
 
 def multinomial_weights(m: int, splits) -> np.ndarray:
-    """m! / prod(x_g!) for each split (x_1 .. x_k) of m tied items over k groups (floats)."""
-    return np.array([float(multinomial(x)) for x in np.asarray(splits, dtype=np.int64)],
-                    dtype=float).reshape(len(splits))
+    """m! / prod(x_g!) for each split (x_1 .. x_k) of m tied items over k groups (floats);
+    past 2^53 all are divided by the largest (a factor common to the block, which cancels in
+    every ratio of counts), so that no weight overflows."""
+    f = [math.factorial(v) for v in range(int(m) + 1)]
+    w = [f[int(m)] // math.prod(f[int(v)] for v in x) for x in np.asarray(splits, dtype=np.int64)]
+    top = max(w, default=1)
+    if top > 2 ** 53:
+        return np.array([v / top for v in w], dtype=float)
+    return np.array(w, dtype=float).reshape(len(w))
 
 
-def counts_by_size(q, max_size: int, progress: Progress = NO_PROGRESS) -> np.ndarray:
-    """table[k, s] = number of k-subsets (k <= max_size) of the integer scores q with sum s."""
+def rescale(table: np.ndarray) -> int:
+    """Multiply `table` in place by 2^-960 when it passed 2^960; the exponent taken out."""
+    if table.size and float(table.max()) > 2.0 ** RESCALE_BITS:
+        table *= 2.0 ** -RESCALE_BITS
+        return RESCALE_BITS
+    return 0
+
+
+def counts_by_size(q, max_size: int, progress: Progress = NO_PROGRESS,
+                   with_exponent: bool = False):
+    """table[k, s] = number of k-subsets (k <= max_size) of the integer scores q with sum s,
+    times 2^-e; with_exponent gives (table, e), else the table (e is 0 below 2^960)."""
     q = np.asarray(q, dtype=np.int64)
     max_size = int(min(max_size, len(q)))
     width = int(np.sort(q)[::-1][:max_size].sum()) + 1
     table = np.zeros((max_size + 1, width))
     table[0, 0] = 1.0
-    reach = 0
+    reach, exponent = 0, 0
     n = len(q)
     for i, v in enumerate(q):
         v = int(v)
@@ -53,13 +74,16 @@ def counts_by_size(q, max_size: int, progress: Progress = NO_PROGRESS) -> np.nda
             table[1:top + 1, :reach + 1] += table[0:top, :reach + 1]
         else:
             table[1:top + 1, v:reach + 1] += table[0:top, :reach + 1 - v]
-        if i % 8 == 7:
+        if i % _RESCALE_EVERY == _RESCALE_EVERY - 1:
+            exponent += rescale(table)
             progress.step((i + 1) / n, "counting")
-    return table
+    exponent += rescale(table)
+    return (table, exponent) if with_exponent else table
 
 
 def counts_all_subsets(q, progress: Progress = NO_PROGRESS) -> np.ndarray:
-    """c[s] = number of subsets (of any size) of the integer scores q with sum s."""
+    """c[s] = number of subsets (of any size) of the integer scores q with sum s (times a
+    power of two past 2^960: use ratios)."""
     q = np.asarray(q, dtype=np.int64)
     total = int(q.sum())
     c = np.zeros(total + 1)
@@ -72,8 +96,10 @@ def counts_all_subsets(q, progress: Progress = NO_PROGRESS) -> np.ndarray:
             c *= 2.0
         else:
             c[v:reach + 1] += c[:reach + 1 - v]
-        if i % 16 == 15:
+        if i % _RESCALE_EVERY == _RESCALE_EVERY - 1:
+            rescale(c)
             progress.step((i + 1) / len(q), "counting")
+    rescale(c)
     return c
 
 

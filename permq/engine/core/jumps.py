@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .confidence import alpha_side, first_kept
+from .confidence import alpha_side, first_kept, rejected_up_to
 
 
 def interval_from_jumps(values, counts, identity: float, total: float, level: float,
@@ -50,6 +50,56 @@ def _end(values, counts, identity, total, side, open_end, empty):
     if i == 0:
         return open_end
     return float(values[i - 1]) if i < cum.size else empty
+
+
+class JumpStream:
+    """The interval from jumps that arrive in chunks, holding only the few it is read from.
+
+    Each endpoint is the jump where the one-sided p-value first leaves the rejected region
+    (the interval-end rule of `confidence`) from its end, so it lies among the
+    K = C - identity + 1 smallest (or largest) jumps, C the largest rejected count: those are
+    kept, the rest are dropped as they arrive. Memory is 8 K bytes a side,
+    whatever the size of the reference set; the endpoints are those of `interval_from_jumps` on
+    every jump (the kept jumps are a prefix of the sorted list, so ties group the same way).
+    Every jump counts once (listed arrangements)."""
+
+    def __init__(self, identity: float, total: float, level: float, alternative: str):
+        self.identity, self.total = float(identity), float(total)
+        self.level, self.alternative = level, alternative
+        side = alpha_side(level, alternative)
+        self.keep = int(max(0.0, rejected_up_to(side, self.total) - self.identity)) + 2
+        self.low = np.empty(0) if alternative in ("two-sided", "higher") else None
+        self.high = np.empty(0) if alternative in ("two-sided", "lower") else None
+
+    def add(self, values) -> None:
+        values = np.asarray(values, dtype=float)
+        if self.low is not None:
+            self.low = _keep_smallest(self.low, values, self.keep)
+        if self.high is not None:
+            self.high = -_keep_smallest(-self.high, -values, self.keep)
+
+    def interval(self) -> tuple[float, float]:
+        side = alpha_side(self.level, self.alternative)
+        lo, hi = -np.inf, np.inf
+        if self.low is not None:
+            v, c = _merge_equal(np.sort(self.low), np.ones(self.low.size))
+            lo = _end(v, c, self.identity, self.total, side, -np.inf, np.inf)
+        if self.high is not None:
+            v, c = _merge_equal(np.sort(self.high), np.ones(self.high.size))
+            hi = _end(v[::-1], c[::-1], self.identity, self.total, side, np.inf, -np.inf)
+        return lo, hi
+
+
+def _keep_smallest(kept: np.ndarray, new: np.ndarray, k: int) -> np.ndarray:
+    """The k smallest of kept and new together (kept holds at most k values)."""
+    if kept.size >= k:
+        new = new[new < kept.max()]          # most of a chunk falls past the kept ones
+        if new.size == 0:
+            return kept
+    both = np.concatenate([kept, new])
+    if both.size <= k:
+        return both
+    return np.partition(both, k - 1)[:k]
 
 
 def _merge_equal(values, counts):

@@ -25,6 +25,7 @@ from typing import Optional
 import numpy as np
 
 from ...plan.cost import Candidate
+from ...plan.sizes import big, words as count_words
 from . import arrangements, kernels as kernels, multiplicity
 from ..core.counting import multinomial
 from ..core.limits import DEFAULT_DRAWS
@@ -65,7 +66,8 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
     sizes = [int(s) for s in sizes]
     N = sum(sizes)
     summed = N - max(sizes)
-    total = float(multinomial(sizes))
+    count = multinomial(sizes)
+    total = big(count)
     passes = 3.0 if method == "min-p" else 1.0
 
     def ops(rows):
@@ -85,8 +87,8 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
         return held * per_row + data
 
     out = [Candidate("enumeration", "complete enumeration, shared by every test", True,
-                     ops(total), memory(total, True), note=f"{total:.3g} arrangements",
-                     arrangements=total),
+                     ops(total), memory(total, True), note=f"{count_words(count)} arrangements",
+                     arrangements=count),
            Candidate("monte-carlo", "Monte Carlo joint draws (one arrangement for every test)",
                      False, ops(draws + 1), memory(draws + 1, False), arrangements=total,
                      note=f"{draws:,} draws")]
@@ -95,10 +97,11 @@ def candidates(sizes, tests: int, draws: int, method: str, pairwise: bool = Fals
 
 # ---------------------------------------------------------------- scores
 
-def standardised_scores(values, family: str):
-    """(N, m) scores centred on their observed mean over their sd, 0 where missing; observed."""
+def standardised_scores(values, ranked: bool):
+    """(N, m) scores (mid-ranks of each column when `ranked`, else the values) centred on their
+    observed mean over their sd, 0 where missing; observed."""
     observed = ~np.isnan(values)
-    if family == "ranks":
+    if ranked:
         scores = midranks(values, axis=0, nan_policy="omit")
     else:           # centred on a middle value first, so no offset drowns the differences
         scores = np.array(values, dtype=float)
@@ -181,7 +184,7 @@ def reference_windows(codes, sizes, algorithm, draws, seed, progress):
 
 # ---------------------------------------------------------------- responses
 
-def run_family(values, codes, family: str, alternative: str, method: str, step: str,
+def run_family(values, codes, ranked: bool, alternative: str, method: str, step: str,
                algorithm: str, draws: int, seed: int, progress: Progress = NO_PROGRESS,
                pool=None) -> FamilyOutcome:
     """All responses (columns of values, NaN where missing) across the groups of `codes`."""
@@ -189,7 +192,7 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
     codes = np.asarray(codes, dtype=np.int8)
     k = int(codes.max()) + 1
     sizes = np.bincount(codes, minlength=k)
-    y, observed = standardised_scores(np.asarray(values, dtype=float), family)
+    y, observed = standardised_scores(np.asarray(values, dtype=float), ranked)
     fam, lut = build_family(y, observed, codes, sizes, alternative)
     t_obs = observed_statistics(fam, lut[codes])
     tol = multiplicity.tolerances(t_obs)
@@ -220,7 +223,7 @@ def run_family(values, codes, family: str, alternative: str, method: str, step: 
                           pool, progress)
     else:
         adjusted = multiplicity.from_raw(raw, method, step)
-    return FamilyOutcome(t_obs, raw, adjusted, how, words, float(multinomial(sizes)),
+    return FamilyOutcome(t_obs, raw, adjusted, how, words, big(multinomial(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None)
 
@@ -297,13 +300,13 @@ def _pair_statistics(ref, y, sizes, pairs, chunk: int = 65536):
     return overall, z
 
 
-def run_pairwise(values, codes, family: str, method: str, step: str, algorithm: str,
+def run_pairwise(values, codes, ranked: bool, method: str, step: str, algorithm: str,
                  draws: int, seed: int, progress: Progress = NO_PROGRESS) -> FamilyOutcome:
     """Every pair of levels of one response (no missing values), and the k-sample test."""
     codes = np.asarray(codes, dtype=np.int8)
     k = int(codes.max()) + 1
     sizes = np.bincount(codes, minlength=k)
-    y, _ = standardised_scores(np.asarray(values, dtype=float)[:, None], family)
+    y, _ = standardised_scores(np.asarray(values, dtype=float)[:, None], ranked)
     y = y[:, 0]
     pairs = pair_list(k)
     ref, how, words = reference_set(codes, sizes, algorithm, draws, seed, progress)
@@ -314,7 +317,7 @@ def run_pairwise(values, codes, family: str, method: str, step: str, algorithm: 
     raw, adjusted = multiplicity.from_matrix(z, z_obs[0], method, step)
     t = overall_obs[0]
     p_overall = np.count_nonzero(overall >= t - multiplicity.tolerances([t])[0]) / R
-    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, float(multinomial(sizes)),
+    return FamilyOutcome(z_obs[0], raw, adjusted, how, words, big(multinomial(sizes)),
                          draws if how == "monte-carlo" else None,
                          seed if how == "monte-carlo" else None,
                          overall={"statistic": float(t), "p_value": float(p_overall)},

@@ -14,27 +14,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from .network import MAX_ENTRIES, Layout, log_factorials, merge, moves, stage_moves
+from .network import MAX_ENTRIES, Layout, gains, log_factorials, merge, step
 
 # Turn round when the lists would hold at most this many sums per pair carried (or this many).
 TURN_RATIO = 4.0
 TURN_FLOOR = 200_000
-
-
-def completion_counts(layout: Layout) -> np.ndarray:
-    """(columns, size): number of ways to fill columns j.. from each state at boundary j."""
-    r, c = len(layout.rows), len(layout.cols)
-    out = np.zeros((c, layout.size))
-    cur = np.zeros(layout.size)
-    cur[0] = 1.0
-    for stage in range(layout.stages - 1, -1, -1):
-        _, _, nxt, starts = stage_moves(layout, stage)
-        new = np.zeros(layout.size)
-        new[layout.reach[stage]] = np.add.reduceat(cur[nxt], starts)
-        cur = new
-        if stage % r == 0:
-            out[stage // r] = cur
-    return out
 
 
 def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf, budget=MAX_ENTRIES):
@@ -43,24 +27,23 @@ def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf, budget=MA
     Returns (code, rest, probability) sorted by code, then rest; each code's probabilities
     sum to 1. Returns None when a step would hold more than `budget` sums.
     """
-    r = len(layout.rows)
     reach = [np.unique(codes)]
     for s in range(stage, layout.stages):
-        reach.append(np.unique(moves(layout, s, reach[-1])[2]))
+        reach.append(np.unique(step(layout, s, reach[-1]).nxt))
     dtype = np.int64 if quantum is None else float
     lc, lv, lp = np.zeros(1, np.int64), np.zeros(1, dtype), np.ones(1)
     for s in range(layout.stages - 1, stage - 1, -1):
-        i, j = s % r, s // r
         src = reach[s - stage]
-        rep, x, nxt, logw = moves(layout, s, src, lf)
+        st = step(layout, s, src, lf)
+        rep, x, nxt, logw = st.rep, st.x, st.nxt, st.logw
         start = np.searchsorted(lc, nxt, "left")
         length = np.searchsorted(lc, nxt, "right") - start
         if int(length.sum()) > budget:
             return None
         e = np.repeat(np.arange(rep.size), length)
         idx = start[e] + (np.arange(e.size) - np.repeat(np.cumsum(length) - length, length))
-        lc, lv, lp = merge(src[rep[e]], cell[i, j, x[e]] + lv[idx], np.exp(logw[e]) * lp[idx],
-                           quantum)
+        lc, lv, lp = merge(src[rep[e]], gains(layout, cell, s, st)[e] + lv[idx],
+                           np.exp(logw[e]) * lp[idx], quantum)
     return lc, lv, lp
 
 
@@ -116,18 +99,19 @@ def join(codes, vals, mass, lists, region):
 class Turn:
     """Decides, at each column boundary, whether to settle the pairs against future lists."""
 
-    def __init__(self, layout: Layout, cell, region, quantum):
+    def __init__(self, layout: Layout, cell, region, quantum, bounds):
         self.layout, self.cell, self.region, self.quantum = layout, cell, region, quantum
-        self.counts = completion_counts(layout)
+        self.ways = bounds.ways            # completions of each state
         self.lf = log_factorials(layout)
         self.list_error = 0.0
 
     def __call__(self, stage, codes, vals, mass):
-        j = stage // len(self.layout.rows)
+        j = stage // self.layout.per_column
         if j >= len(self.layout.cols) - 1:
             return None
         budget = min(max(TURN_RATIO * codes.size, TURN_FLOOR), MAX_ENTRIES)
-        if float(self.counts[j, np.unique(codes)].sum()) > 1e3 * budget:
+        at = self.layout.position(stage, np.unique(codes))
+        if float(self.ways[stage][at].sum()) > 1e3 * budget:
             return None                       # hopeless: not worth an attempt
         lists = future_lists(self.layout, self.cell, codes, stage, self.quantum, self.lf, budget)
         if lists is None:

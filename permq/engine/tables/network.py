@@ -1,10 +1,15 @@
 """The network algorithm for r x c tables with both margins fixed.
 
-A table is built one cell at a time, column by column, top row to bottom row. The state
-between cells is the vector of row margins still to fill; it is coded as one integer in mixed
-radix (digit i runs over 0..R_i). Every state is reachable and completable, so the network is
-dense over those codes. A move places x in cell (i, j) with the conditional (hypergeometric)
-probability
+A table is built one cell at a time, column by column, top row to bottom row; the last row's
+cell of a column is forced (the column's remainder), so it is placed together with the cell
+above it and a column takes r - 1 stages. The state between stages is the vector of row
+margins still to fill, coded as one integer in mixed radix
+(digit i runs over 0..R_i). Only the states that can really occur are kept: `reach[s]` holds,
+sorted, the codes of the states met before cell s (found by a forward sweep over the moves; a
+state is on some path from the start to the end), and every per-state array is aligned with it.
+`states.state_counts` gives the same numbers before anything is built.
+
+A move places x in cell (i, j) with the conditional (hypergeometric) probability
 
     comb(r_i, x) comb(below, left - x) / comb(r_i + below, left),
 
@@ -12,11 +17,13 @@ where `left` is what column j still needs and `below` is what the rows under i c
 The moves out of a state sum to 1, and the product along a path is the table's probability
 prod R_i! prod C_j! / (N! prod n_ij!), so no mass is lost or invented on the way.
 
-The statistic is additive over cells, S = sum g_ij(n_ij). Each state carries a list of
-(partial sum, probability mass) pairs; pairs with equal partial sums are merged. Before each
-move the exact range of the remaining sum (the longest and shortest path to the end, found by a
-backward pass) settles whole pairs: if every completion is extreme the mass joins the p-value,
-if none is, the mass is set aside; only undecided pairs go on.
+The statistic is additive over cells, S = sum g_ij(n_ij), or more generally over moves: a
+move's gain may depend on the state it leaves (`gains`), which is how Kendall's S on a table
+is carried. Each state carries a list of (partial sum, probability mass) pairs; pairs with equal
+partial sums are merged. Before each move the exact range of the remaining sum (the longest and
+shortest path to the end, found by a backward pass) settles whole pairs: if every completion is
+extreme the mass joins the p-value, if none is, the mass is set aside; only undecided pairs go
+on.
 """
 from __future__ import annotations
 
@@ -29,6 +36,10 @@ from ..core.progress import NO_PROGRESS, Progress
 
 # Most (state, partial sum) pairs one step may create; beyond it the exact network gives way.
 MAX_ENTRIES = 40_000_000
+# Most states one stage may hold when the network is laid out.
+MAX_STAGE_STATES = 20_000_000
+# Mixed-radix codes must fit in a signed 64-bit integer.
+MAX_CODE = 2 ** 62
 
 
 class NetworkTooLarge(MemoryError):
@@ -37,101 +48,192 @@ class NetworkTooLarge(MemoryError):
 
 @dataclass(frozen=True)
 class Layout:
-    """Shape of the network: margins, mixed-radix coding and per-code digit sums."""
+    """Shape of the network: margins, mixed-radix coding and the states met at each stage."""
 
     rows: tuple            # row margins R_i (all > 0)
     cols: tuple            # column margins C_j (all > 0), in processing order
     radix: np.ndarray      # radix[i] = prod_{k < i} (R_k + 1)
-    digits: np.ndarray     # (size, r): remaining row margins for each code
-    below: np.ndarray      # (size, r): sum of digits k > i
-    total: np.ndarray      # (size,): sum of digits
     after: tuple           # after[j] = sum of C_k for k > j
     reach: tuple = ()      # reach[s]: sorted codes of the states that occur before stage s
+    fold: bool = True      # the last row's forced cell goes with the cell above it
+    tables: float = 0.0    # number of tables with these margins (paths through the network)
+    moves: int = 0         # moves over all stages
 
     @property
-    def size(self) -> int:
-        return int(self.total.size)
+    def per_column(self) -> int:
+        return len(self.rows) - 1 if self.fold else len(self.rows)
 
     @property
     def stages(self) -> int:
-        return len(self.rows) * len(self.cols)
+        return self.per_column * len(self.cols)
+
+    @property
+    def states(self) -> int:
+        """States over all stages (the size of every per-state array together)."""
+        return int(sum(r.size for r in self.reach))
+
+    def cell_of(self, stage: int) -> tuple:
+        """(row, column) of the cell a stage chooses."""
+        return stage % self.per_column, stage // self.per_column
+
+    def folds(self, stage: int) -> bool:
+        """Whether the stage also places the forced last cell of its column."""
+        return self.fold and stage % self.per_column == self.per_column - 1
 
     def start_code(self) -> int:
         return int(np.dot(self.rows, self.radix))
 
+    def position(self, stage: int, codes) -> np.ndarray:
+        """Index of each code in reach[stage] (the codes must occur there)."""
+        return np.searchsorted(self.reach[stage], codes)
 
-def dense_size(rows) -> int:
-    return int(np.prod([int(v) + 1 for v in rows], dtype=float))
+    def digits(self, codes) -> np.ndarray:
+        """(len(codes), r): the remaining row margins of each state."""
+        codes = np.asarray(codes, np.int64)
+        base = np.asarray([v + 1 for v in self.rows], np.int64)
+        return (codes[:, None] // self.radix[None, :]) % base[None, :]
 
 
-def make_layout(rows, cols) -> Layout:
+def dense_size(rows) -> float:
+    """Number of mixed-radix codes (every vector 0 <= r <= R), reachable or not."""
+    return float(np.prod([float(v) + 1.0 for v in rows]))
+
+
+def make_layout(rows, cols, max_stage_states: int = MAX_STAGE_STATES, fold: bool = True) -> Layout:
+    """The network for these margins, with its number of tables (paths counted on the way);
+    `fold=False` gives every cell its own stage."""
     rows = tuple(int(v) for v in rows)
     cols = tuple(int(v) for v in cols)
+    if dense_size(rows) >= MAX_CODE:
+        raise NetworkTooLarge("the row margins are too many and too large to code the states")
     radix = np.cumprod([1] + [v + 1 for v in rows[:-1]]).astype(np.int64)
-    size = int(np.prod([v + 1 for v in rows]))
-    code = np.arange(size, dtype=np.int64)
-    digits = np.stack([(code // radix[i]) % (rows[i] + 1) for i in range(len(rows))], axis=1)
-    digits = digits.astype(np.int32)
-    csum = np.cumsum(digits[:, ::-1], axis=1)[:, ::-1]
-    below = np.concatenate([csum[:, 1:], np.zeros((size, 1), np.int32)], axis=1).astype(np.int32)
     after = tuple(int(sum(cols[j + 1:])) for j in range(len(cols)))
-    layout = Layout(rows, cols, radix, digits, below, csum[:, 0].astype(np.int32), after)
+    layout = Layout(rows, cols, radix, after, fold=fold)
     reach = [np.array([layout.start_code()], np.int64)]
+    paths, total_moves = np.ones(1), 0
     for stage in range(layout.stages):
-        reach.append(np.unique(moves(layout, stage, reach[-1])[2]))
-    return replace(layout, reach=tuple(reach))
+        st = step(layout, stage, reach[-1])
+        total_moves += st.x.size
+        nxt, at = sorted_unique(st.nxt)
+        if nxt.size > max_stage_states:
+            raise NetworkTooLarge(f"the network would hold {nxt.size:,} states at one stage")
+        paths = np.bincount(at.ravel(), weights=paths[st.rep], minlength=nxt.size)
+        reach.append(nxt)
+    return replace(layout, reach=tuple(reach), tables=float(paths[0]), moves=total_moves)
 
 
-def _move_range(layout: Layout, stage: int, codes):
-    """(lowest x, highest x, r_i, below, left) for the cell of `stage`, per state code."""
-    r = len(layout.rows)
-    i, j = stage % r, stage // r
-    digit = layout.digits[codes, i].astype(np.int64)
-    below = layout.below[codes, i].astype(np.int64)
-    left = layout.total[codes].astype(np.int64) - layout.after[j]
+def sorted_unique(codes):
+    """(sorted distinct codes, index of each code among them): through a dense mark over the
+    codes' range when it is not much wider than their number, else by sorting."""
+    if codes.size == 0:
+        return codes, codes
+    low, high = int(codes.min()), int(codes.max())
+    span = high - low + 1
+    if span > max(8 * codes.size, 1 << 20):
+        out, inverse = np.unique(codes, return_inverse=True)
+        return out, inverse.ravel()
+    mark = np.zeros(span, bool)
+    mark[codes - low] = True
+    out = np.flatnonzero(mark)
+    index = np.cumsum(mark, dtype=np.int64) - 1
+    return out + low, index[codes - low]
+
+
+@dataclass(frozen=True)
+class Step:
+    """The moves out of some states at one stage, one entry a move (sources: `codes`)."""
+
+    codes: np.ndarray      # the states left, one each
+    rep: np.ndarray        # for each move, the index of its source in `codes`
+    x: np.ndarray          # what the move places in the stage's cell
+    nxt: np.ndarray        # the state it reaches
+    logw: np.ndarray       # its log conditional probability (None unless asked for)
+    digits: np.ndarray     # (len(codes), r): remaining row margins of each source
+    left: np.ndarray       # what the stage's column still needs, per source
+
+
+def step(layout: Layout, stage: int, codes, lf=None) -> Step:
+    """Every move out of the given states at `stage` (log weights when `lf`, the table of log
+    factorials, is given)."""
+    i, j = layout.cell_of(stage)
+    codes = np.asarray(codes, np.int64)
+    d = layout.digits(codes)
+    digit = d[:, i]
+    below = d[:, i + 1:].sum(axis=1)
+    left = d.sum(axis=1) - layout.after[j]
     lo = np.maximum(0, left - below)
-    hi = np.minimum(digit, left)
-    ok = (left >= 0) & (left <= layout.cols[j])
-    hi = np.where(ok, hi, -1)
-    return lo, hi, digit, below, left
+    hi = np.where((left >= 0) & (left <= layout.cols[j]), np.minimum(digit, left), -1)
+    cnt = np.maximum(hi - lo + 1, 0)
+    total = int(cnt.sum())
+    if total > MAX_ENTRIES:
+        raise NetworkTooLarge(f"the network would carry {total:,} pairs at one step")
+    rep = np.repeat(np.arange(codes.size), cnt)
+    x = np.arange(total) - np.repeat(np.cumsum(cnt) - cnt - lo, cnt)
+    nxt = codes[rep] - x * layout.radix[i]
+    if layout.folds(stage):
+        nxt -= (left[rep] - x) * layout.radix[i + 1]
+    logw = None
+    if lf is not None:
+        dr, b, k = digit[rep], below[rep], left[rep]
+        logw = (lf[dr] - lf[x] - lf[dr - x] + lf[b] - lf[k - x] - lf[b - k + x]
+                - (lf[dr + b] - lf[k] - lf[dr + b - k]))
+    return Step(codes, rep, x, nxt, logw, d, left)
 
 
-def stage_moves(layout: Layout, stage: int):
-    """Moves at `stage` out of every state that occurs there: (source index, x, next code,
-    start of each source's run of moves); the moves of one source are consecutive."""
-    rep, x, nxt, _ = moves(layout, stage, layout.reach[stage])
-    starts = np.flatnonzero(np.r_[True, rep[1:] != rep[:-1]])
-    return rep, x, nxt, starts
+def moves(layout, stage, codes, lf=None):
+    """Every move out of the given states: (index of the source, x, next code, log weight)."""
+    st = step(layout, stage, codes, lf)
+    return st.rep, st.x, st.nxt, st.logw
+
+
+def run_starts(rep) -> np.ndarray:
+    """Where each source's run of consecutive moves starts."""
+    return np.flatnonzero(np.r_[True, rep[1:] != rep[:-1]])
+
+
+def gains(layout: Layout, cell, stage: int, st: Step) -> np.ndarray:
+    """What each move adds to S: `cell[i, j, x]` (and the forced last cell's value) for a fixed
+    table of cell values, or `cell.gain(layout, stage, st)` when the gain depends on the state
+    the move leaves."""
+    if not isinstance(cell, np.ndarray):
+        return cell.gain(layout, stage, st)
+    i, j = layout.cell_of(stage)
+    g = cell[i, j, st.x]
+    if layout.folds(stage):
+        g = g + cell[i + 1, j, st.left[st.rep] - st.x]
+    return g
 
 
 def count_tables(layout: Layout) -> float:
     """Number of tables with these margins (one path through the network each)."""
-    counts = np.zeros(layout.size)
-    counts[layout.start_code()] = 1.0
-    for stage in range(layout.stages):
-        rep, _, nxt, _ = stage_moves(layout, stage)
-        counts = np.bincount(nxt, weights=counts[layout.reach[stage]][rep], minlength=layout.size)
-    return float(counts[0])
+    return layout.tables
 
 
-def path_bounds(layout: Layout, cell: np.ndarray):
-    """Longest and shortest remaining sum from every state at every stage.
+@dataclass(frozen=True)
+class Bounds:
+    """Per stage, aligned with `layout.reach[stage]`: the longest and shortest remaining sum,
+    and the number of ways to complete the table."""
 
-    `cell[i, j, x]` is g_ij(x). Returns two (stages + 1, size) arrays; states that cannot occur
-    at a stage hold -inf / +inf.
-    """
-    stages, r = layout.stages, len(layout.rows)
-    hi_b = np.full((stages + 1, layout.size), -np.inf)
-    lo_b = np.full((stages + 1, layout.size), np.inf)
-    hi_b[stages, 0] = lo_b[stages, 0] = 0.0
+    hi: list
+    lo: list
+    ways: list
+
+
+def path_bounds(layout: Layout, cell) -> Bounds:
+    """Longest and shortest remaining sum (and completions) from every state at every stage."""
+    stages = layout.stages
+    hi_b, lo_b, ways = [None] * (stages + 1), [None] * (stages + 1), [None] * (stages + 1)
+    hi_b[stages] = lo_b[stages] = np.zeros(1)
+    ways[stages] = np.ones(1)
     for stage in range(stages - 1, -1, -1):
-        i, j = stage % r, stage // r
-        _, x, nxt, starts = stage_moves(layout, stage)
-        g = cell[i, j, x]
-        codes = layout.reach[stage]
-        hi_b[stage, codes] = np.maximum.reduceat(g + hi_b[stage + 1, nxt], starts)
-        lo_b[stage, codes] = np.minimum.reduceat(g + lo_b[stage + 1, nxt], starts)
-    return hi_b, lo_b
+        st = step(layout, stage, layout.reach[stage])
+        starts = run_starts(st.rep)
+        g = gains(layout, cell, stage, st)
+        at = layout.position(stage + 1, st.nxt)
+        hi_b[stage] = np.maximum.reduceat(g + hi_b[stage + 1][at], starts)
+        lo_b[stage] = np.minimum.reduceat(g + lo_b[stage + 1][at], starts)
+        ways[stage] = np.add.reduceat(ways[stage + 1][at], starts)
+    return Bounds(hi_b, lo_b, ways)
 
 
 @dataclass
@@ -145,34 +247,24 @@ class Pass:
     probs: np.ndarray = None
 
 
-def moves(layout, stage, codes, lf=None):
-    """Every move out of the given states: (index of the source, x, next code, log weight).
-
-    The log weights (conditional probabilities) are computed only when `lf`, the table of
-    log factorials, is given."""
-    r = len(layout.rows)
-    i = stage % r
-    lo, hi, digit, below, left = _move_range(layout, stage, codes)
-    cnt = np.maximum(hi - lo + 1, 0)
-    if int(cnt.sum()) > MAX_ENTRIES:
-        raise NetworkTooLarge(f"the network would carry {int(cnt.sum()):,} pairs at one step")
-    rep = np.repeat(np.arange(codes.size), cnt)
-    x = lo[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(cnt) - cnt, cnt))
-    nxt = codes[rep] - x * layout.radix[i]
-    if lf is None:
-        return rep, x, nxt, None
-    d, b, k = digit[rep], below[rep], left[rep]
-    logw = (lf[d] - lf[x] - lf[d - x] + lf[b] - lf[k - x] - lf[b - k + x]
-            - lf[d + b] + lf[k] + lf[d + b - k])
-    return rep, x, nxt, logw
-
-
-def _expand(layout, stage, codes, vals, mass, cell, lf):
-    """All moves out of the given pairs: new codes, partial sums and masses."""
-    r = len(layout.rows)
-    i, j = stage % r, stage // r
-    rep, x, nxt, logw = moves(layout, stage, codes, lf)
-    return nxt, vals[rep] + cell[i, j, x], mass[rep] * np.exp(logw)
+def _expand(layout, stage, at, vals, mass, cell, lf):
+    """All moves out of the given pairs (`at`: their states' indices in reach[stage], sorted):
+    the moves of each distinct state are worked out once, then every pair takes them."""
+    first = np.flatnonzero(np.r_[True, at[1:] != at[:-1]])
+    st = step(layout, stage, layout.reach[stage][at[first]], lf)
+    g = gains(layout, cell, stage, st)
+    w = np.exp(st.logw)
+    nxt = layout.position(stage + 1, st.nxt)
+    starts = run_starts(st.rep)
+    cnt = np.diff(np.r_[starts, st.rep.size])
+    which = np.repeat(np.arange(first.size), np.diff(np.r_[first, at.size]))
+    per = cnt[which]
+    total = int(per.sum())
+    if total > MAX_ENTRIES:
+        raise NetworkTooLarge(f"the network would carry {total:,} pairs at one step")
+    rep = np.repeat(np.arange(at.size), per)
+    move = np.arange(total) + np.repeat(starts[which] - (np.cumsum(per) - per), per)
+    return nxt[move], vals[rep] + g[move], mass[rep] * w[move]
 
 
 def merge(codes, vals, mass, quantum):
@@ -192,10 +284,18 @@ def merge(codes, vals, mass, quantum):
 
 
 def _order(codes, keys):
-    """Order by (code, key): one integer sort key when the two fit in 62 bits."""
+    """Order by (code, key). When the two and the entry's index fit in 63 bits, one sort of
+    packed integers (much faster than an argsort); else one argsort of a combined key; else a
+    lexical sort."""
     low = int(keys.min())
     span = int(keys.max()) - low + 1
-    if span * (int(codes.max()) + 1) < 2 ** 62:
+    top = span * (int(codes.max()) + 1)
+    bits = max(int(codes.size - 1).bit_length(), 1)
+    if top < 2 ** (63 - bits):
+        packed = ((codes * span + (keys - low)) << bits) | np.arange(codes.size, dtype=np.int64)
+        packed.sort()
+        return packed & ((1 << bits) - 1)
+    if top < 2 ** 62:
         return np.argsort(codes * span + (keys - low), kind="stable")
     return np.lexsort((keys, codes))
 
@@ -204,7 +304,7 @@ def log_factorials(layout: Layout) -> np.ndarray:
     return gammaln(np.arange(int(sum(layout.rows)) + 2, dtype=float) + 1.0)
 
 
-def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
+def forward(layout: Layout, cell, region, quantum=None, bounds=None,
             progress: Progress = NO_PROGRESS, turn=None) -> Pass:
     """Sum the probability of tables whose S lies in the region.
 
@@ -215,7 +315,7 @@ def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
     """
     lf = log_factorials(layout)
     dtype = np.int64 if quantum is None else float
-    codes = np.array([layout.start_code()], np.int64)
+    at = np.zeros(1, np.int64)                 # the pairs' states, as indices in reach[stage]
     vals = np.zeros(1, dtype)
     mass = np.ones(1)
     out = Pass()
@@ -224,30 +324,30 @@ def forward(layout: Layout, cell: np.ndarray, region, quantum=None, bounds=None,
     for stage in range(layout.stages + 1):
         progress.step(stage / (layout.stages + 1), "network")
         if region is not None:
-            codes, vals, mass = _settle(out, stage, codes, vals, mass, region, bounds)
-        out.entries += int(codes.size)
-        if stage == layout.stages or codes.size == 0 and region is not None:
+            at, vals, mass = _settle(out, stage, at, vals, mass, region, bounds)
+        out.entries += int(at.size)
+        if stage == layout.stages or at.size == 0 and region is not None:
             break
-        if turn is not None and stage % len(layout.rows) == 0 and stage > 0:
-            settled = turn(stage, codes, vals, mass)
+        if turn is not None and stage % layout.per_column == 0 and stage > 0:
+            settled = turn(stage, layout.reach[stage][at], vals, mass)
             if settled is not None:
                 out.extreme += settled[0]
                 out.ordinary += settled[1]
                 break
-        codes, vals, mass = _expand(layout, stage, codes, vals, mass, cell, lf)
-        codes, vals, mass = merge(codes, vals, mass, quantum)
+        at, vals, mass = _expand(layout, stage, at, vals, mass, cell, lf)
+        at, vals, mass = merge(at, vals, mass, quantum)
     if region is None:
         out.support, out.probs = vals.astype(float), mass
     return out
 
 
-def _settle(out: Pass, stage, codes, vals, mass, region, bounds):
+def _settle(out: Pass, stage, at, vals, mass, region, bounds):
     lo_thr, hi_thr = region
-    top = vals + bounds[0][stage, codes]
-    bottom = vals + bounds[1][stage, codes]
+    top = vals + bounds.hi[stage][at]
+    bottom = vals + bounds.lo[stage][at]
     extreme = (bottom >= hi_thr) | (top <= lo_thr)
     ordinary = (top < hi_thr) & (bottom > lo_thr)
     out.extreme += float(mass[extreme].sum())
     out.ordinary += float(mass[ordinary].sum())
     keep = ~(extreme | ordinary)
-    return codes[keep], vals[keep], mass[keep]
+    return at[keep], vals[keep], mass[keep]

@@ -40,7 +40,7 @@ def discordant(table) -> tuple[int, int]:
 def candidates(table, statistic: str = "mcnemar") -> list[Candidate]:
     b, c = discordant(table)
     return [Candidate("binomial", ALGORITHM, True, 20.0 * (b + c + 1), 16.0 * (b + c + 1),
-                      arrangements=float(b + c + 1))]
+                      arrangements=float(b + c + 1), reference="outcomes")]
 
 
 def run(table, statistic: str = "mcnemar", alternative: str = "two-sided",

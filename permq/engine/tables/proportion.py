@@ -56,7 +56,7 @@ def binomial_p(k: int, n: int, p0: float, alternative: str):
 def candidates(table, statistic: str = "binomial") -> list[Candidate]:
     _, n = counts(table)
     return [Candidate("binomial", ALGORITHM, True, 20.0 * (n + 1), 16.0 * (n + 1),
-                      arrangements=float(n + 1))]
+                      arrangements=float(n + 1), reference="outcomes")]
 
 
 def run(table, statistic: str = "binomial", alternative: str = "two-sided",

@@ -11,6 +11,8 @@ has one row or one column left is the only table with its margins: p = 1.
 """
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 from ...lazy import stats
 
@@ -21,16 +23,36 @@ from ..core.pvalues import clip, monte_carlo_p
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import iter_blocks, require_seed
 from .join import Turn
-from .network import NetworkTooLarge, count_tables, dense_size, forward, make_layout
-from .stats import NAMES, Prepared, check_choice, prepare
+from .network import (MAX_ENTRIES, MAX_STAGE_STATES, NetworkTooLarge, count_tables, forward,
+                      make_layout, path_bounds)
+from .states import processing_order
+from . import concordance, integers
+from .stats import NAMES, Prepared, check_choice, prepare as prepare_cells
 
 NETWORK = "network"
 MONTE_CARLO = "monte-carlo"
-# The backward pass keeps two floats per (stage, state): cap stages x states.
-NETWORK_CELLS = 12_000_000
+# Up to this many states the planner lays the network out to count its tables.
+LAYOUT_STATES = 3_000_000
+# Statistics that need the columns in their own order (their gains depend on it).
+ORDERED_STATISTICS = ("concordance",)
 NETWORK_WORDS = ("network algorithm over columns: dynamic programming on the remaining row "
                  "margins, with exact bounds on the rest of the statistic")
 SAMPLED_WORDS = "random tables with both margins fixed (Patefield's algorithm)"
+
+
+def check_statistic(statistic: str, alternative: str) -> None:
+    if statistic == "concordance":
+        check_choice("trend", alternative)
+    else:
+        check_choice(statistic, alternative)
+
+
+def prepare(t, statistic, alternative, u, v, stages):
+    """The statistic set up for table `t` as the network takes it (trend scores on decimal
+    grids become integers in `stats`: S is then an exact integer)."""
+    if statistic == "concordance":
+        return concordance.prepare(t, alternative)
+    return prepare_cells(t, statistic, alternative, u, v, stages=stages)
 
 
 def as_table(table) -> np.ndarray:
@@ -62,69 +84,107 @@ def reduce_table(table, row_scores=None, col_scores=None):
     return t[rk][:, ck], u[rk], v[ck], warnings
 
 
-def orient(t, u, v):
-    """Transpose so that the network's state space (over the rows) is the smaller one."""
-    if dense_size(t.sum(axis=1)) > dense_size(t.sum(axis=0)):
-        return t.T.copy(), v, u
-    return t, u, v
+def orient(t, u, v, keep_order: bool = False):
+    """The table as the network takes it: transposed when that holds fewer states, columns
+    from the largest margin to the smallest (unless `keep_order`), scores alongside.
+    Returns (table, row scores, column scores, states per stage)."""
+    flip, order, counts = processing_order(t, keep_order)
+    if flip:
+        t, u, v = t.T, v, u
+    return np.ascontiguousarray(t[:, order]), u, v[order], counts
 
 
-def _shape(table, row_scores=None, col_scores=None):
+def _shape(table, row_scores=None, col_scores=None, keep_order=False):
     t, u, v, warnings = reduce_table(table, row_scores, col_scores)
+    counts = np.ones(1)
     if min(t.shape) >= 2:
-        t, u, v = orient(t, u, v)
-    return t, u, v, warnings
+        t, u, v, counts = orient(t, u, v, keep_order)
+    return t, u, v, warnings, counts
 
 
-def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS) -> list[Candidate]:
+def candidates(table, statistic: str = "fisher", draws: int = DEFAULT_DRAWS, row_scores=None,
+               col_scores=None) -> list[Candidate]:
     """The exact network and Monte Carlo, with their estimated cost."""
-    t, _, _, _ = _shape(table)
+    t, u, v, _, counts = _shape(table, row_scores, col_scores,
+                                keep_order=statistic in ORDERED_STATISTICS)
     if min(t.shape) < 2:
         return [Candidate(NETWORK, "single table with these margins", True, 1.0, 1.0,
                           arrangements=1.0)]
-    rows, cols = t.sum(axis=1), t.sum(axis=0)
-    size, stages = dense_size(rows), t.size
-    cells = size * (stages + 1)
-    feasible = cells <= NETWORK_CELLS
-    ops, arrangements = float(cells), 0.0
-    if feasible:
-        layout = make_layout(rows, cols)
-        arrangements = count_tables(layout)
-        states = float(sum(r.size for r in layout.reach))
-        ops += states * (float(np.mean(np.minimum.outer(rows, cols))) + 1.0) * 10.0
-        ops += _network_ops(statistic, arrangements)
-    note = "" if feasible else f"state space of {size:.3g} row-margin states is too large"
-    out = [Candidate(NETWORK, NETWORK_WORDS, True, ops, cells * 24.0 + ops * 0.05,
-                     feasible=feasible, note=note, arrangements=arrangements)]
+    integer = statistic == "concordance" or (
+        statistic == "trend" and bool(np.all(u == np.round(u)) and np.all(v == np.round(v))))
+    out = [network_candidate(t, counts, statistic, integer=integer)]
     mc_ops = float(draws) * (12.0 * t.size + 60.0)
     out.append(Candidate(MONTE_CARLO, SAMPLED_WORDS, False, mc_ops, 8192 * t.size * 24.0,
-                         arrangements=arrangements))
+                         arrangements=out[0].arrangements))
     return out
 
 
-def _network_ops(statistic, arrangements) -> float:
-    """Forward-pass work, from an empirical fit: time grows like the square root of the
-    number of tables (measured 0.05 s at 3e5 tables, 0.3 s at 1e7, 10-60 s at 1.3e11, on this
-    class of machine); Pearson's X^2 settles fewer pairs early and costs about twice as much.
-    """
+def network_candidate(t, counts, statistic, words: str = NETWORK_WORDS,
+                      algorithm: str = NETWORK, integer: bool = False) -> Candidate:
+    """The exact network for table `t` as the network takes it (`orient`), with its cost:
+    the states it really meets (`counts`, exact), its moves (estimated) and tables."""
+    states, widest = float(counts.sum()), float(counts.max())
+    if widest > MAX_STAGE_STATES or not np.isfinite(states):
+        return Candidate(algorithm, words, True, float("inf"), float("inf"), feasible=False,
+                         note=f"{widest:.3g} network states at one stage are too many to hold")
+    rows, cols = t.sum(axis=1), t.sum(axis=0)
+    arrangements = 0.0
+    if states <= LAYOUT_STATES:
+        arrangements = tables_with_margins(rows, cols, integer)
+    moves = estimated_moves(rows, cols, counts)
+    compiled = compiled_route(integer)
+    ops = network_ops(moves, arrangements or states ** 1.5, statistic, compiled)
+    memory = (moves * 16.0 + states * 48.0 if compiled else states * 64.0)
+    memory += min(ops * 0.2, 4.0 * MAX_ENTRIES * 24.0) + 2e6
+    note = f"{_count_words(states)} states"
+    return Candidate(algorithm, words, True, ops, memory, note=note, arrangements=arrangements)
+
+
+def estimated_moves(rows, cols, counts) -> float:
+    """Moves of the network: at each stage, the states times about half the range of the
+    cell (within a factor of about 2 of the count, `tests/test_table_routes.py`)."""
+    per = len(rows) - 1
+    return float(sum(counts[s] * (min(rows[s % per], cols[s // per]) / 2.0 + 1.0)
+                     for s in range(len(counts) - 1)))
+
+
+def _count_words(v: float) -> str:
+    return f"{int(v):,}" if v < 1e7 else f"{v:.3g}"
+
+
+def network_ops(moves, tables, statistic, compiled: bool = False) -> float:
+    """Estimated work of the network: laying it out and the bounds (per move), and the pass
+    over the pairs, which grows like the square root of the number of tables (an empirical
+    fit on this class of machine, `bench/calibrate.py`); Pearson's X^2 settles fewer pairs
+    early and costs about twice as much; the compiled pass for integer statistics about a
+    quarter."""
     factor = 2.0 if statistic == "chi-square" else 1.0
-    return factor * 1.0e4 * float(np.sqrt(max(arrangements, 1.0)))
+    if compiled:
+        factor *= 0.25
+    return moves * 30.0 * (0.3 if compiled else 1.0) + factor * 1.0e4 * float(
+        np.sqrt(max(tables, 1.0)))
+
+
+@lru_cache(maxsize=4)
+def cached_layout(rows: tuple, cols: tuple):
+    """The network's layout for these margins, kept for the run after the plan."""
+    return make_layout(rows, cols)
 
 
 def run(table, statistic: str = "fisher", alternative: str = "two-sided",
         algorithm: str = NETWORK, draws=None, seed=None, progress: Progress = NO_PROGRESS,
         row_scores=None, col_scores=None) -> EngineOutcome:
     """Test independence in an r x c table with both margins fixed."""
-    check_choice(statistic, alternative)
-    t, u, v, warnings = _shape(table, row_scores, col_scores)
+    check_statistic(statistic, alternative)
+    t, u, v, warnings, counts = _shape(table, row_scores, col_scores,
+                                       keep_order=statistic in ORDERED_STATISTICS)
     if min(t.shape) < 2:
         return _single(statistic, warnings)
     prep = prepare(t, statistic, alternative, u, v, stages=t.size)
     if algorithm == NETWORK:
-        cells = dense_size(t.sum(axis=1)) * (t.size + 1)
-        if cells > NETWORK_CELLS:
-            raise NetworkTooLarge(f"the network would need {cells:.3g} state cells "
-                                  f"(limit {NETWORK_CELLS:.3g}); use Monte Carlo")
+        if counts.max() > MAX_STAGE_STATES:
+            raise NetworkTooLarge(f"the network would hold {counts.max():.3g} states at one "
+                                  "stage; use Monte Carlo")
         return _exact(t, prep, progress, warnings)
     if algorithm == MONTE_CARLO:
         return _sampled(t, prep, draws or DEFAULT_DRAWS, seed, progress, warnings)
@@ -133,19 +193,46 @@ def run(table, statistic: str = "fisher", alternative: str = "two-sided",
 
 def _single(statistic, warnings) -> EngineOutcome:
     value = 1.0 if statistic == "fisher" else 0.0
-    return EngineOutcome(NAMES[statistic], value, 1.0, "exact", "single table with these margins",
+    name = concordance.NAME if statistic == "concordance" else NAMES[statistic]
+    return EngineOutcome(name, value, 1.0, "exact", "single table with these margins",
                          arrangements=1.0, warnings=tuple(warnings) + (
                              "only one table has these margins: p = 1",))
 
 
+def compiled_route(integer: bool) -> bool:
+    """Whether an integer statistic goes through the compiled dense network."""
+    return integer and integers.available()
+
+
+def tables_with_margins(rows, cols, integer: bool) -> float:
+    """Number of tables with these margins (from the layout the run will use)."""
+    rows, cols = tuple(int(v) for v in rows), tuple(int(v) for v in cols)
+    if compiled_route(integer):
+        return integers.layout(rows, cols).tables
+    return count_tables(cached_layout(rows, cols))
+
+
 def _exact(t, prep: Prepared, progress, warnings) -> EngineOutcome:
-    layout = make_layout(t.sum(axis=1), t.sum(axis=0))
+    rows, cols = tuple(int(v) for v in t.sum(axis=1)), tuple(int(v) for v in t.sum(axis=0))
+    if compiled_route(integers.is_integer(prep.cell)) and not prep.everything:
+        try:
+            lay = integers.layout(rows, cols)
+            res = integers.forward(lay, prep.cell, prep.region, progress)
+            if abs(res.extreme + res.ordinary - 1.0) > 1e-9:
+                raise ArithmeticError("the network lost probability mass; no exact p-value")
+            return EngineOutcome(prep.name, float(prep.reported(prep.observed)),
+                                 clip(res.extreme), "exact", NETWORK_WORDS,
+                                 arrangements=lay.tables, warnings=tuple(warnings))
+        except (integers.TooWide, NetworkTooLarge):
+            pass                           # the sorting network below holds sparse lists
+    layout = cached_layout(rows, cols)
     arrangements = count_tables(layout)
     if prep.everything:
         p = 1.0
     else:
-        turn = Turn(layout, prep.cell, prep.region, prep.quantum)
-        res = forward(layout, prep.cell, prep.region, prep.quantum, progress=progress, turn=turn)
+        bounds = path_bounds(layout, prep.cell)
+        turn = Turn(layout, prep.cell, prep.region, prep.quantum, bounds)
+        res = forward(layout, prep.cell, prep.region, prep.quantum, bounds, progress, turn)
         if abs(res.extreme + res.ordinary - 1.0) > 1e-9 or turn.list_error > 1e-9:
             raise ArithmeticError("the network lost probability mass; no exact p-value")
         p = res.extreme
@@ -158,11 +245,13 @@ def null_distribution(table, statistic: str = "trend", row_scores=None, col_scor
 
     No pruning, so it costs more than `run`; meant for pictures and checks on small tables.
     """
-    t, u, v, _ = _shape(table, row_scores, col_scores)
+    t, u, v, _, _ = _shape(table, row_scores, col_scores,
+                           keep_order=statistic in ORDERED_STATISTICS)
     if min(t.shape) < 2:
         raise ValueError("a table with one row or one column has a single arrangement")
     prep = prepare(t, statistic, "two-sided", u, v, stages=t.size)
-    res = forward(make_layout(t.sum(axis=1), t.sum(axis=0)), prep.cell, None, prep.quantum)
+    res = forward(cached_layout(tuple(t.sum(axis=1)), tuple(t.sum(axis=0))), prep.cell, None,
+                  prep.quantum)
     values = prep.reported(res.support)
     order = np.argsort(values, kind="stable")
     return values[order], res.probs[order]

@@ -56,6 +56,7 @@ KEYWORDS = {
     "levels": "choose and order the levels",
     "within": "blocks or strata column",
     "ordered": "ordered alternative (trend)",
+    "scores": "scores of the ordered levels",
     "paired": "paired columns",
     "in": "take the columns from a table",
     "adjusting": "covariates (groups or a slope)",

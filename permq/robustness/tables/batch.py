@@ -34,8 +34,8 @@ from ...lazy import xlogy
 from ...engine.tables import (
     twobytwo as tables_2x2, paired as tables_paired, proportion as tables_proportion)
 from ...engine.core.pvalues import clip, tolerance
-from ...engine.tables.rxc import NETWORK_CELLS, orient, reduce_table
-from ...engine.tables.network import count_tables, dense_size, forward, make_layout
+from ...engine.tables.rxc import LAYOUT_STATES, cached_layout, orient, reduce_table
+from ...engine.tables.network import count_tables, forward, make_layout
 from ...engine.tables.stats import prepare
 from ..counterparts import z_tails
 
@@ -65,11 +65,10 @@ def _tables_with_margins(table) -> float:
     red, u, v, _ = reduce_table(table)
     if min(red.shape) < 2:
         return 1.0
-    red, _, _ = orient(red, u, v)
-    rows, cols = red.sum(axis=1), red.sum(axis=0)
-    if dense_size(rows) * (red.size + 1) > NETWORK_CELLS:
+    red, _, _, counts = orient(red, u, v)
+    if counts.sum() > LAYOUT_STATES:
         return float("inf")
-    return count_tables(make_layout(rows, cols))
+    return count_tables(cached_layout(tuple(red.sum(axis=1)), tuple(red.sum(axis=0))))
 
 
 # ---------------------------------------------------------------- normal theory, vectorised
@@ -302,7 +301,7 @@ class CountTests:
         t, u, v, _ = reduce_table(table)
         if min(t.shape) < 2:
             return None
-        t, u, v = orient(t, u, v)
+        t, u, v, _ = orient(t, u, v)
         return t, u, v, prepare(t, self.statistic, self.alternative, u, v, stages=t.size)
 
     def _rxc_one(self, table) -> float:

@@ -165,14 +165,13 @@ class FixedMargins:
         self.rows, self.cols = r_, c_
         if self.trivial:
             return
-        layout = make_layout(r_, c_)
+        layout = make_layout(r_, c_, fold=False)
         self.layout = layout
         lf = gammaln(np.arange(int(r_.sum()) + 2, dtype=float) + 1.0)
         with np.errstate(divide="ignore"):
             log_theta = np.log(th)
         r = len(r_)
-        h_next = np.full(layout.size, -np.inf)
-        h_next[0] = 0.0
+        h_next = np.zeros(1)                 # aligned with layout.reach[stage + 1]
         self.steps = [None] * layout.stages
         kept = 0
         for stage in range(layout.stages - 1, -1, -1):
@@ -184,7 +183,7 @@ class FixedMargins:
                 raise TooLarge(f"more than {SAMPLER_MOVES:,} moves")
             tilt = np.where(x > 0, x * log_theta[i, j] if np.isfinite(log_theta[i, j])
                             else -np.inf, 0.0)
-            val = logw + tilt + h_next[nxt]
+            val = logw + tilt + h_next[layout.position(stage + 1, nxt)]
             starts = np.flatnonzero(np.r_[True, rep[1:] != rep[:-1]])
             h = np.logaddexp.reduceat(val, starts)
             with np.errstate(invalid="ignore"):
@@ -195,9 +194,8 @@ class FixedMargins:
             within = cum - before
             within[np.r_[starts[1:] - 1, rep.size - 1]] = 1.0
             self.steps[stage] = (codes, rep + within, x, nxt)
-            h_next = np.full(layout.size, -np.inf)
-            h_next[codes] = h
-        if not np.isfinite(h_next[layout.start_code()]):
+            h_next = h
+        if not np.isfinite(h_next[0]):
             raise ValueError("no table with these margins has positive weight")
 
     @staticmethod

@@ -89,7 +89,7 @@ def effect_for(v: StrataView, shift):
         theta = np.stack([np.exp(b * (scores - scores.min())), np.ones(scores.size)], axis=1)
         return Effect(tuple(_panel(tables, lambda rows, first: _slope_rows(
             rows, first, b, scores), theta)), b, words, b == 0)
-    if v.source.settings.family == "homogeneity":
+    if _route(v) == "homogeneity":
         if shift is not None:
             raise BindError("'shift' sets one odds ratio, which is homogeneity itself: the "
                             "power is at the strata's observed odds ratios", hint="drop 'shift'")
@@ -111,6 +111,13 @@ def effect_for(v: StrataView, shift):
                         "simulate at it", hint="give one: shift 3")
     return Effect(tuple(_panel(tables, lambda rows, first: TL.odds_ratio_rows(rows, first, psi),
                                np.array([[psi, 1.0], [1.0, 1.0]]))), psi, words, psi == 1.0)
+
+
+def _route(v: StrataView) -> str:
+    """The count check's route, as the design's family declares it (families/strata.py)."""
+    from ...families.registry import family_for
+
+    return family_for(v.source).robustness(v.source).route
 
 
 def _slope_rows(rows, first, b, scores):

@@ -1,0 +1,129 @@
+"""Paired outcomes beyond the 2 x 2 table: symmetry (Bowker), marginal homogeneity
+(Stuart-Maxwell form) and Cochran's Q, against brute-force listings of the swaps within units
+(exact fractions), statsmodels, and a published table."""
+from __future__ import annotations
+
+import itertools
+from fractions import Fraction
+
+import numpy as np
+import pandas as pd
+import pytest
+from statsmodels.stats.contingency_tables import SquareTable, cochrans_q
+
+import permq
+from permq.engine.tables import symmetry as S
+
+# made-up paired grades of 11 units (low / mid / high), and yes/no on three occasions
+BEFORE = ["low", "low", "mid", "mid", "high", "low", "mid", "low", "high", "low", "mid"]
+AFTER = ["low", "mid", "high", "mid", "mid", "high", "high", "mid", "high", "mid", "low"]
+D = [[1, 1, 0], [1, 0, 0], [0, 0, 0], [1, 1, 1], [1, 1, 0], [0, 1, 0], [1, 1, 0], [1, 0, 0],
+     [0, 1, 1], [1, 0, 1]]
+
+
+def frame():
+    d = np.array(D)
+    return {"t": pd.DataFrame({"before": BEFORE, "after": AFTER}),
+            "u": pd.DataFrame({"d1": np.where(d[:, 0], "yes", "no"),
+                               "d2": np.where(d[:, 1], "yes", "no"),
+                               "d3": np.where(d[:, 2], "yes", "no")})}
+
+
+def table_of(first, second, levels):
+    t = np.zeros((len(levels), len(levels)), dtype=int)
+    for a, b in zip(first, second):
+        t[levels.index(a), levels.index(b)] += 1
+    return t
+
+
+def brute_swap_p(first, second, levels, stat) -> Fraction:
+    """Every way of swapping each discordant unit's two outcomes, each equally likely."""
+    units = [(a, b) for a, b in zip(first, second) if a != b]
+    same = [(a, a) for a, b in zip(first, second) if a == b]
+    observed = stat(table_of(first, second, levels))
+    hits = 0
+    for flips in itertools.product((False, True), repeat=len(units)):
+        pairs = [(b, a) if f else (a, b) for f, (a, b) in zip(flips, units)] + same
+        t = table_of([p[0] for p in pairs], [p[1] for p in pairs], levels)
+        hits += stat(t) >= observed - 1e-9 * max(1.0, observed)
+    return Fraction(hits, 2 ** len(units))
+
+
+LEVELS = ["high", "low", "mid"]       # natural order of the words
+
+
+@pytest.mark.parametrize("family, stat", [("symmetry", S.bowker),
+                                          ("marginal-homogeneity",
+                                           lambda t: S.stuart_maxwell(t)[0])])
+def test_exact_p_equals_every_swap_listed(family, stat):
+    r = permq.run(f"count before vs after in t paired using {family}", tables=frame())[0]
+    assert r.outcome.method == "exact"
+    assert r.outcome.arrangements == 2 ** 8
+    assert r.outcome.p_value == pytest.approx(float(brute_swap_p(BEFORE, AFTER, LEVELS, stat)),
+                                              rel=1e-12)
+
+
+def test_statistics_and_counterparts_agree_with_statsmodels():
+    t = table_of(BEFORE, AFTER, LEVELS)
+    st = SquareTable(t, shift_zeros=False)
+    for family, ref in (("symmetry", st.symmetry()), ("marginal-homogeneity",
+                                                      st.homogeneity())):
+        r = permq.run(f"count before vs after in t paired using {family}", tables=frame())[0]
+        assert r.outcome.statistic == pytest.approx(ref.statistic, rel=1e-12)
+        assert r.normal.p_value == pytest.approx(ref.pvalue, rel=1e-9)
+        assert r.normal.df == ref.df
+
+
+def test_published_vision_table():
+    # Stuart (1955), Biometrika 42:412: unaided distance vision, right against left eye, of
+    # 7,477 women; Stuart-Maxwell 11.96 on 3 df and Bowker 19.11 on 6 df as Agresti (2002,
+    # Categorical Data Analysis, section 10.3) reports them (from memory)
+    t = np.array([[1520, 266, 124, 66], [234, 1512, 432, 78], [117, 362, 1772, 205],
+                  [36, 82, 179, 492]])
+    assert S.stuart_maxwell(t) == (pytest.approx(11.96, abs=0.005), 3)
+    assert S.bowker(t) == pytest.approx(19.11, abs=0.005)
+
+
+def test_monte_carlo_agrees_with_the_exact_law():
+    t = table_of(BEFORE, AFTER, LEVELS)
+    exact = S.run("marginal-homogeneity", t, "dp")
+    mc = S.run("marginal-homogeneity", t, "monte-carlo", draws=40_000, seed=5)
+    lo, hi = mc.p_interval
+    assert lo <= exact.p_value <= hi
+
+
+def brute_cochran_p(rows) -> Fraction:
+    """Every permutation of each unit's outcomes among the columns (distinct arrangements of a
+    row are weighted by their multiplicity, so each permutation counts once)."""
+    def q(y):
+        y = np.array(y, float)
+        k = y.shape[1]
+        c, r, n = y.sum(axis=0), y.sum(axis=1), y.sum()
+        den = k * n - (r ** 2).sum()
+        return (k - 1) * (k * (c ** 2).sum() - n ** 2) / den
+    observed = q(rows)
+    perms = [list(itertools.permutations(row)) for row in rows]
+    hits = total = 0
+    for choice in itertools.product(*perms):
+        total += 1
+        hits += q(choice) >= observed - 1e-9
+    return Fraction(hits, total)
+
+
+def test_cochran_q_exact_p_statsmodels_and_brute_force():
+    r = permq.run("count d1 vs d2 vs d3 in u paired", tables=frame())[0]
+    ref = cochrans_q(np.array(D))
+    assert r.outcome.statistic_name == "Cochran's Q"
+    assert r.outcome.statistic == pytest.approx(ref.statistic, rel=1e-12)
+    assert r.normal.p_value == pytest.approx(ref.pvalue, rel=1e-9)
+    assert r.outcome.p_value == pytest.approx(float(brute_cochran_p(D)), rel=1e-12)
+
+
+def test_several_outcomes_must_be_yes_no_and_paired():
+    tables = frame()
+    tables["u"]["d3"] = ["a", "b", "c"] * 3 + ["a"]
+    f = permq.run("count d1 vs d2 vs d3 in u paired", tables=tables)[0]
+    assert isinstance(f, permq.Failure) and "yes/no outcomes" in f.message
+    f = permq.run("count before vs after in t paired using fisher", tables=frame())[0]
+    assert isinstance(f, permq.Failure)
+    assert f.hint == "choose one of marginal-homogeneity, symmetry"
