@@ -56,7 +56,7 @@ def bind_against(node, subject, opts, catalog, defaults) -> ControlDesign:
     if ordered:
         from .groups import _dose_scores
 
-        scores = _dose_scores(levels)
+        scores, _ = _dose_scores(levels, True, table.frame[subject.group.text])
     elif "adjust" in opts:
         from .many import _adjustment
 

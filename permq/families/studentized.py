@@ -30,9 +30,9 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                           progress)
     a, b = design.labels
     if s.family == "welch":
-        from ..normal.theory import two_sample
+        from ..normal.theory import welch_t
 
-        normal = two_sample("means", design.x, design.y, s.level, s.alternative)
+        normal = welch_t(design.x, design.y, s.level, s.alternative)
         iv = studentized.interval(out.estimate, out.se, out.critical, s.alternative)
         estimate = Estimate(f"difference in means {design.effect}", out.estimate, iv, s.level,
                             _how("its Welch standard error", out.critical, s, "0"))
