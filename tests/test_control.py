@@ -110,7 +110,8 @@ def test_adjusted_p_values_match_brute_force_joint_enumeration(groups, family, a
     raw, single, down, R = brute(values, sizes, family, alternative)
     codes = np.repeat(np.arange(len(sizes)), sizes)
     for step, expected in (("step-down", down), ("single-step", single)):
-        out = manytoone.run(values, codes, family, alternative, "max-t", step, "enumeration",
+        out = manytoone.run(values, codes, family == "ranks", alternative, "max-t", step,
+                            "enumeration",
                             0, 0, 0.95)
         assert out.method == "exact" and out.arrangements == R
         np.testing.assert_allclose(out.p_raw, raw, rtol=0, atol=1e-12)
@@ -143,10 +144,10 @@ def test_monte_carlo_lies_within_its_interval_of_the_exact_values(family):
     values = np.round(rng.normal(size=sum(sizes)) * (1 + np.repeat(np.arange(4), sizes)), 1)
     values[np.repeat(np.arange(4), sizes) == 2] += 2.0
     codes = np.repeat(np.arange(4), sizes)
-    exact = manytoone.run(values, codes, family, "two-sided", "max-t", "step-down",
+    exact = manytoone.run(values, codes, family == "ranks", "two-sided", "max-t", "step-down",
                           "enumeration", 0, 0, 0.95)
     draws = 20_000
-    mc = manytoone.run(values, codes, family, "two-sided", "max-t", "step-down",
+    mc = manytoone.run(values, codes, family == "ranks", "two-sided", "max-t", "step-down",
                        "monte-carlo", draws, 5, 0.95)
     assert mc.method == "monte-carlo" and mc.draws == draws
     # six p-values at once: each within its 99.9% interval (Clopper-Pearson)
@@ -168,11 +169,11 @@ def test_one_dose_is_the_two_sample_studentized_and_rank_tests():
     x, c = [5.9, 6.3, 5.2, 7.7, 6.0], [4.1, 5.0, 4.4, 4.9]
     codes = np.repeat([0, 1], [4, 5])
     values = np.r_[c, x]
-    welch = manytoone.run(values, codes, "means", "two-sided", "max-t", "step-down",
+    welch = manytoone.run(values, codes, False, "two-sided", "max-t", "step-down",
                           "enumeration", 0, 0, 0.95)
     two = result_of(f"compare {x} vs {c} using welch exact")
     assert welch.p_adjusted[0] == pytest.approx(two.outcome.p_value, abs=1e-12)
-    ranks = manytoone.run(values, codes, "ranks", "two-sided", "max-t", "step-down",
+    ranks = manytoone.run(values, codes, True, "two-sided", "max-t", "step-down",
                           "enumeration", 0, 0, 0.95)
     wilcoxon = result_of(f"compare {x} vs {c} using ranks exact")
     assert ranks.p_adjusted[0] == pytest.approx(wilcoxon.outcome.p_value, abs=1e-12)
@@ -257,7 +258,7 @@ def _family_wise_error(sizes, sds, rows, D=1000):
     Y = np.random.default_rng(20261203).normal(size=(D, len(codes))) * sd
     rejected = np.zeros(D, dtype=bool)
     for lo in range(0, D, 50):
-        lay = statistics.layout(Y[lo:lo + 50], codes, "means")
+        lay = statistics.layout(Y[lo:lo + 50], codes, False)
         null = np.abs(statistics.statistics(rows, lay))                 # (d, R, k-1)
         t = np.abs(statistics.statistics(codes[None, :], lay))[:, 0]    # (d, k-1)
         rejected[lo:lo + 50] = step_down_rejects(null, t, 0.05)

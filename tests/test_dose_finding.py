@@ -82,7 +82,8 @@ def test_step_down_matches_brute_force_closed_testing(groups, family, alternativ
     raw, adjusted = brute_steps(groups, scores, family, alternative)
     values = np.array([v for g in groups for v in g])
     codes = np.repeat(np.arange(4), [len(g) for g in groups])
-    steps = stepdown.run(values, codes, np.array(scores), family, alternative, "dp-steps", 0, 0)
+    steps = stepdown.run(values, codes, np.array(scores), family == "ranks", alternative,
+                         "dp-steps", 0, 0)
     assert [st.top for st in steps] == [3, 2, 1]
     for st, p, q in zip(steps, raw, adjusted):
         assert st.p_value == pytest.approx(float(p), rel=1e-12, abs=1e-15)
@@ -119,8 +120,8 @@ def test_monte_carlo_steps_lie_within_their_intervals():
     values = np.array([v for g in DATA for v in g])
     codes = np.repeat(np.arange(4), [3, 2, 2, 2])
     scores = np.array([0.0, 5.0, 10.0, 20.0])
-    exact = stepdown.run(values, codes, scores, "means", "higher", "dp-steps", 0, 0)
-    sampled = stepdown.run(values, codes, scores, "means", "higher", "monte-carlo", 20_000, 4)
+    exact = stepdown.run(values, codes, scores, False, "higher", "dp-steps", 0, 0)
+    sampled = stepdown.run(values, codes, scores, False, "higher", "monte-carlo", 20_000, 4)
     for e, s in zip(exact, sampled):
         assert s.method == "monte-carlo" and s.draws == 20_000
         lo, hi = s.p_interval
@@ -223,7 +224,7 @@ def test_each_step_against_scipy_permutation_test(family, alternative):
     values = np.array([v for g in groups for v in g])
     codes = np.repeat(np.arange(4), [len(g) for g in groups])
     ours = {"greater": "higher", "less": "lower", "two-sided": "two-sided"}[alternative]
-    steps = stepdown.run(values, codes, scores, family, ours, "dp-steps", 0, 0)
+    steps = stepdown.run(values, codes, scores, family == "ranks", ours, "dp-steps", 0, 0)
     for st in steps:
         kept = values[codes <= st.top]
         if family == "ranks":

@@ -19,6 +19,9 @@ X = [10.1, 11.2, 9.8, 10.5, 10.3, 10.3]
 Y = [11.9, 14.5, 8.1, 16.0, 12.2, 9.5, 10.3]
 
 
+RULES = {"welch": studentized.WELCH, "brunner-munzel": studentized.BRUNNER_MUNZEL}
+
+
 def welch(a, b, axis):
     return stats.ttest_ind(a, b, equal_var=False, axis=axis).statistic
 
@@ -32,7 +35,7 @@ def bm(a, b, axis):
 @pytest.mark.parametrize("alternative,word", [("higher", "greater"), ("lower", "less")])
 def test_exact_p_against_scipy_permutation_test(family, statistic, alternative, word):
     x, y = np.array(X), np.array(Y)
-    out = studentized.run(family, x, y, alternative, "enumeration", 0, 0, 0.95)
+    out = studentized.run(RULES[family], x, y, alternative, "enumeration", 0, 0, 0.95)
     ref = stats.permutation_test((x, y), statistic, permutation_type="independent",
                                  n_resamples=np.inf, alternative=word, vectorized=True)
     assert out.outcome.method == "exact"
@@ -42,7 +45,7 @@ def test_exact_p_against_scipy_permutation_test(family, statistic, alternative, 
 
 def test_two_sided_compares_the_absolute_statistic():
     x, y = np.array(X), np.array(Y)
-    out = studentized.run("welch", x, y, "two-sided", "enumeration", 0, 0, 0.95)
+    out = studentized.run(studentized.WELCH, x, y, "two-sided", "enumeration", 0, 0, 0.95)
     null = stats.permutation_test((x, y), welch, permutation_type="independent",
                                   n_resamples=np.inf, vectorized=True).null_distribution
     t = out.outcome.statistic

@@ -1,11 +1,11 @@
 """Two samples with unequal spread: permutation tests of studentized statistics.
 
-- "welch": the Welch t, (mean_1 - mean_2) / sqrt(s_1^2 / n_1 + s_2^2 / n_2), recomputed for
+- `WELCH`: the Welch t, (mean_1 - mean_2) / sqrt(s_1^2 / n_1 + s_2^2 / n_2), recomputed for
   every arrangement. Permuting a studentized statistic keeps the test exact when the groups
   are exchangeable and makes it asymptotically valid for a difference in means when the
   spreads differ (Janssen 1997, Stat. Prob. Letters 36:9; Chung and Romano 2013, Ann. Stat.
   41:484), where the unstudentized difference is not.
-- "brunner-munzel": the Brunner-Munzel statistic (p - 1/2) / se(p) for
+- `BRUNNER_MUNZEL`: the Brunner-Munzel statistic (p - 1/2) / se(p) for
   p = P(X > Y) + 1/2 P(X = Y) (X the first group), from the placements (the number of the
   other group's values below each value, ties 1/2), recomputed for every arrangement
   (Neubert and Brunner 2007, CSDA 51:5192). A sample whose placements have no spread
@@ -16,11 +16,15 @@ the observed split and `draws` seeded ones (the two-sample engine's streams). Tw
 p = P(|T| >= |t|); `higher` P(T >= t); `lower` P(T <= t). The interval is
 estimate -+ c x se, c the (K + 1)-th largest oriented statistic of the R arrangements,
 K = floor((1 - level) R): 0 (1/2 for Brunner-Munzel) lies outside it exactly when p <= 1 - level.
+
+A family hands the engine one of these rules (`StudentizedRule`): its statistic for rows of
+codes, its observed estimate and standard error, and its cost per unit.
 """
 from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Callable
 
 import numpy as np
 
@@ -35,8 +39,15 @@ WINDOW_ROWS = 1 << 16
 BIG = 1e300
 ZERO_VARIANCE = 1e-10
 
-NAMES = {"welch": "Welch t (recomputed for every arrangement)",
-         "brunner-munzel": "Brunner-Munzel statistic (recomputed for every arrangement)"}
+@dataclass(frozen=True)
+class StudentizedRule:
+    """A studentized two-sample statistic: what the engine recomputes for every arrangement."""
+
+    statistic_name: str
+    statistic: Callable      # (rows of codes, layout of the pooled values, n1, n2) -> (R,)
+    estimate: Callable       # (x, y) -> (estimate, its standard error)
+    row_cost: float          # operations per unit for one listed arrangement
+    draw_cost: float         # ... added for one sampled arrangement
 
 
 @dataclass(frozen=True)
@@ -47,17 +58,17 @@ class StudentizedOutcome:
     se: float
 
 
-def candidates(family, x, y, draws: int) -> list:
+def candidates(rule: StudentizedRule, x, y, draws: int) -> list:
     n1, N = len(x), len(x) + len(y)
     total = float(math.comb(N, n1))
-    per_row = N * (30.0 if family == "welch" else 40.0)
+    per_row = N * rule.row_cost
     feasible = total <= ENUMERATION_MAX
     return [Candidate("enumeration", "complete enumeration of the splits", True,
                       total * (per_row + n1), min(total, 100_000) * N * 40.0 + total * 16,
                       feasible=feasible, arrangements=total,
                       note="" if feasible else f"{total:.3g} splits are too many to list"),
             Candidate("monte-carlo", "Monte Carlo: random splits", False,
-                      (draws + 1) * (per_row + (10.0 if family == "welch" else 45.0) * N),
+                      (draws + 1) * (per_row + rule.draw_cost * N),
                       WINDOW_ROWS * N * 40.0 + draws * 8,
                       arrangements=total, note=f"{draws} draws")]
 
@@ -168,13 +179,32 @@ def brunner_munzel_parts(x, y) -> dict:
     return {"estimate": float(p[0]), "se": math.sqrt(float(se2[0])), "df": float(df)}
 
 
-# ---------------------------------------------------------------- the test
+# ---------------------------------------------------------------- the rules
 
-def _statistic(family, rows, v, lay, n1, n2):
-    if family == "welch":
-        return welch_rows(rows, v, n1, n2)
+def _welch_statistic(rows, lay, n1, n2):
+    return welch_rows(rows, lay[0], n1, n2)
+
+
+def _welch_estimate(x, y):
+    return float(x.mean() - y.mean()), math.sqrt(x.var(ddof=1) / len(x) + y.var(ddof=1) / len(y))
+
+
+def _brunner_munzel_statistic(rows, lay, n1, n2):
     return brunner_munzel_rows(rows, lay)
 
+
+def _brunner_munzel_estimate(x, y):
+    parts = brunner_munzel_parts(x, y)
+    return parts["estimate"], parts["se"]
+
+
+WELCH = StudentizedRule("Welch t (recomputed for every arrangement)", _welch_statistic,
+                        _welch_estimate, 30.0, 10.0)
+BRUNNER_MUNZEL = StudentizedRule("Brunner-Munzel statistic (recomputed for every arrangement)",
+                                 _brunner_munzel_statistic, _brunner_munzel_estimate, 40.0, 45.0)
+
+
+# ---------------------------------------------------------------- the test
 
 def oriented(t, alternative) -> np.ndarray:
     t = np.asarray(t, dtype=float)
@@ -200,30 +230,24 @@ def reference_rows(n1, N, algorithm, draws, seed, progress):
     yield from sampled_windows(codes, seed, draws, WINDOW_ROWS, progress)
 
 
-def run(family, x, y, alternative, algorithm, draws, seed, level,
+def run(rule: StudentizedRule, x, y, alternative, algorithm, draws, seed, level,
         progress: Progress = NO_PROGRESS) -> StudentizedOutcome:
     x, y = np.asarray(x, float), np.asarray(y, float)
     n1, n2 = len(x), len(y)
     N = n1 + n2
     lay = _layout(x, y)
-    v = lay[0]
     observed = np.r_[np.zeros(n1, np.int8), np.ones(n2, np.int8)][None, :]
-    t_obs = float(_statistic(family, observed, v, lay, n1, n2)[0])
+    t_obs = float(rule.statistic(observed, lay, n1, n2)[0])
     t_or = float(oriented([t_obs], alternative)[0])
     tol = pvalues.RTOL * max(abs(t_or), 1.0)
-    null = np.concatenate([oriented(_statistic(family, rows, v, lay, n1, n2), alternative)
+    null = np.concatenate([oriented(rule.statistic(rows, lay, n1, n2), alternative)
                            for rows in reference_rows(n1, N, algorithm, draws, seed, progress)])
     hits = int(np.count_nonzero(null >= t_or - tol))
     R = len(null)
     K = int(math.floor((1.0 - level) * R + 1e-9))
     critical = float(np.partition(null, R - 1 - K)[R - 1 - K]) if K < R else -math.inf
-    if family == "welch":
-        est = float(x.mean() - y.mean())
-        se = math.sqrt(x.var(ddof=1) / n1 + y.var(ddof=1) / n2)
-    else:
-        parts = brunner_munzel_parts(x, y)
-        est, se = parts["estimate"], parts["se"]
-    common = dict(statistic_name=NAMES[family], statistic=t_obs)
+    est, se = rule.estimate(x, y)
+    common = dict(statistic_name=rule.statistic_name, statistic=t_obs)
     if algorithm == "enumeration":
         out = EngineOutcome(p_value=pvalues.clip(hits / R), method="exact",
                             algorithm="complete enumeration of the splits", arrangements=float(R),

@@ -13,7 +13,7 @@ import numpy as np
 
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
-from .registry import Family, Kind
+from .registry import Family, Kind, family_for
 
 KINDS = {"control": Kind("compare", "levels against a control",
                          "add 'against \"LEVEL\"' (the control)")}
@@ -30,13 +30,18 @@ TESTS = {
 }
 
 
+def _ranked(design) -> bool:
+    return family_for(design).extra["ranked"]
+
+
 def plan(design):
     from ..engine.control import manytoone
 
     s = design.settings
     sizes = np.bincount(design.groups, minlength=len(design.labels))
+    ranked = _ranked(design)
     return make_plan("control", s.family, s,
-                     lambda draws: manytoone.candidates(sizes, draws, s.family))
+                     lambda draws: manytoone.candidates(sizes, draws, ranked))
 
 
 def execute(design, the_plan, progress, statement: str = "") -> ManyResult:
@@ -46,7 +51,7 @@ def execute(design, the_plan, progress, statement: str = "") -> ManyResult:
 
     s = design.settings
     v, g, labels = design.values, design.groups, design.labels
-    out = manytoone.run(v, g, s.family, s.alternative, design.adjustment, design.step,
+    out = manytoone.run(v, g, _ranked(design), s.alternative, design.adjustment, design.step,
                         the_plan.chosen.algorithm, the_plan.draws, the_plan.seed, s.level,
                         progress)
     normal = (normal_control.dunnett(v, g, s.level, s.alternative) if s.family == "means"
@@ -179,10 +184,11 @@ FAMILIES = [
            plan, execute, "Dunnett's many-to-one t (pooled variance)",
            "difference in means per level, with simultaneous intervals",
            robustness=_robustness, default_in=("control",), help=_HELP,
-           extra={"global_test": global_test}),
+           extra={"global_test": global_test, "ranked": False}),
     Family("ranks", ("control",), "many-to-one rank sums (re-ranked per pair), all units "
            "permuted together (Westfall-Young max-T)", "levels against a control, by ranks",
            plan, execute, "normal approximation to the pairwise-ranked sums",
            "Hodges-Lehmann shift per level, with simultaneous intervals",
-           robustness=_robustness, help=_HELP, extra={"global_test": global_test}),
+           robustness=_robustness, help=_HELP, extra={"global_test": global_test,
+                                                      "ranked": True}),
 ]

@@ -14,7 +14,7 @@ import numpy as np
 
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
-from .registry import Family, Kind
+from .registry import Family, Kind, family_for
 
 KINDS = {"dose-finding": Kind("compare", "doses in order against a control",
                               "add 'ordered against \"0\"' (the control, lowest dose first)")}
@@ -24,13 +24,18 @@ RULE = ("step m tests 'no effect up to dose m' with the trend over the control "
         "m (Tukey, Ciminera and Heyse 1985)")
 
 
+def _ranked(design) -> bool:
+    return family_for(design).extra["ranked"]
+
+
 def plan(design):
     from ..engine.control import stepdown
 
     s = design.settings
+    ranked = _ranked(design)
     return make_plan("dose-finding", s.family, s,
                      lambda draws: stepdown.candidates(design.values, design.groups,
-                                                       design.scores, s.family, draws))
+                                                       design.scores, ranked, draws))
 
 
 def execute(design, the_plan, progress, statement: str = "") -> ManyResult:
@@ -38,7 +43,7 @@ def execute(design, the_plan, progress, statement: str = "") -> ManyResult:
 
     s = design.settings
     v, g, labels = design.values, design.groups, design.labels
-    steps = stepdown.run(v, g, design.scores, s.family, s.alternative,
+    steps = stepdown.run(v, g, design.scores, _ranked(design), s.alternative,
                          the_plan.chosen.algorithm, the_plan.draws, the_plan.seed, progress)
     alpha = 1.0 - s.level
     normal = _normal(design, the_plan.seed)
@@ -105,7 +110,7 @@ def _normal(design, seed) -> dict:
         raw = []
         for top in range(len(design.labels) - 1, 0, -1):
             keep = g <= top
-            T, centre, sd = trend_parts(scores_of(v[keep], "ranks"), g[keep],
+            T, centre, sd = trend_parts(scores_of(v[keep], True), g[keep],
                                         np.asarray(design.scores[:top + 1], float))
             raw.append(p_from_z((T - centre) / sd if sd > 0 else 0.0, s.alternative))
         test, short = "normal approximation to each step's rank trend", "normal approximation"
@@ -175,10 +180,11 @@ FAMILIES = [
            plan, execute, "Williams' test (isotonic means), stepped down",
            "difference in means, top dose of each step - control",
            robustness=_robustness, default_in=("dose-finding",), help=_HELP,
-           extra={"global_test": global_test}),
+           extra={"global_test": global_test, "ranked": False}),
     Family("ranks", ("dose-finding",), "step-down trend test on mid-ranks for the lowest "
            "effective dose (re-ranked at each step)", "the lowest effective dose, by ranks",
            plan, execute, "normal approximation to each step's rank trend, stepped down",
            "Hodges-Lehmann shift, top dose of each step - control",
-           robustness=_robustness, help=_HELP, extra={"global_test": global_test}),
+           robustness=_robustness, help=_HELP, extra={"global_test": global_test,
+                                                      "ranked": True}),
 ]

@@ -12,12 +12,20 @@ from .registry import Family
 RULE = "two-sided p = P(|T| >= |t|) under the null (T studentized: no centring needed)"
 
 
+def _rule(design):
+    """The engine's rule for this family's statistic."""
+    from ..engine import studentized
+
+    return studentized.WELCH if design.settings.family == "welch" else studentized.BRUNNER_MUNZEL
+
+
 def plan(design):
     from ..engine import studentized
 
     s = design.settings
+    rule = _rule(design)
     return make_plan("studentized", s.family, s,
-                     lambda draws: studentized.candidates(s.family, design.x, design.y, draws))
+                     lambda draws: studentized.candidates(rule, design.x, design.y, draws))
 
 
 def execute(design, the_plan, progress, statement: str = "") -> Result:
@@ -25,7 +33,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     from .two_sample import _summary
 
     s = design.settings
-    out = studentized.run(s.family, design.x, design.y, s.alternative,
+    out = studentized.run(_rule(design), design.x, design.y, s.alternative,
                           the_plan.chosen.algorithm, the_plan.draws, the_plan.seed, s.level,
                           progress)
     a, b = design.labels
@@ -59,10 +67,16 @@ def _how(scale, c, s, null_value) -> str:
             f"the arrangements: {null_value} lies outside exactly when p <= {1 - s.level:g}")
 
 
-def _robustness(design):
-    from ..robustness.control import studentized_check
+def _welch_robustness(design):
+    from ..robustness.control import welch_check
 
-    return studentized_check(design)
+    return welch_check(design)
+
+
+def _brunner_munzel_robustness(design):
+    from ..robustness.control import brunner_munzel_check
+
+    return brunner_munzel_check(design)
 
 
 FAMILIES = [
@@ -70,7 +84,8 @@ FAMILIES = [
            "under unequal spread as the groups grow)", "Welch t by permutation, for unequal "
            "spread", plan, execute, "Welch t (unequal variances)",
            "difference in means; interval from the permutation law of the Welch t",
-           robustness=_robustness, help="""compare weight by dose levels "40", "0" in doses using welch
+           robustness=_welch_robustness,
+           help="""compare weight by dose levels "40", "0" in doses using welch
   the Welch t recomputed for every split of the units: exact when the groups are
   exchangeable, and asymptotically valid for a difference in means when their spreads
   differ (Janssen 1997; Chung and Romano 2013)"""),
@@ -78,7 +93,7 @@ FAMILIES = [
            "Brunner-Munzel by permutation: P(A > B) + 1/2 P(A = B)", plan, execute,
            "Brunner-Munzel t (Satterthwaite df)",
            "P(A > B) + 1/2 P(A = B), with its interval from the permutation law",
-           robustness=_robustness,
+           robustness=_brunner_munzel_robustness,
            help="""compare weight by dose levels "40", "0" in doses using brunner-munzel
   the rank counterpart of 'welch': tests P(A > B) + 1/2 P(A = B) = 1/2 without assuming
   equal spread (Neubert and Brunner 2007), and estimates it with an interval"""),

@@ -12,8 +12,8 @@ studentized two-sample tests: their layouts, recomputed statistics and counterpa
   (form "linear", weights the centred dose scores, as for ordered groups), whose rate under the
   null is the family-wise error of the whole step-down; counterpart Williams' test over every
   dose (its null law tabulated once by simulation) or the normal approximation to the rank trend.
-- `welch` and `brunner-munzel`: form "recomputed", the statistic recomputed for every
-  arrangement of the two groups.
+- `welch` and `brunner-munzel` (`welch_check`, `brunner_munzel_check`): form "recomputed",
+  the statistic recomputed for every arrangement of the two groups.
 
 A recomputed statistic is returned for each data set (rows of A) and arrangement (rows of
 codes) as its natural, signed value; the simulation orients it by the problem's alternative
@@ -35,6 +35,13 @@ WILLIAMS_TABLE_DRAWS = 100_000
 TABLE_SEED = 20261203
 
 
+def _ranked(design) -> bool:
+    """Whether the design's family ranks (its declared `ranked`), else it takes the values."""
+    from ..families.registry import family_for
+
+    return family_for(design).extra["ranked"]
+
+
 def _clip(t):
     return np.clip(np.nan_to_num(t, nan=0.0, posinf=BIG, neginf=-BIG), -BIG, BIG)
 
@@ -47,7 +54,7 @@ def control_problem(d: designs.ControlDesign, check: Check):
     v, g = d.values, d.groups
     sizes = np.bincount(g)
     k, N = len(sizes), len(v)
-    if N <= k or (d.settings.family == "means" and np.any(sizes < 2)):
+    if N <= k or (not _ranked(d) and np.any(sizes < 2)):
         raise PlanError("robustness needs two or more values in each level")
     means = np.bincount(g, weights=v) / sizes
     sd = float(np.sqrt(((v - means[g]) ** 2).sum() / (N - k)))
@@ -86,18 +93,18 @@ def extreme(t, alternative):
     return t.max(axis=-1) if alternative == "higher" else t.min(axis=-1)
 
 
-def largest(family: str, alternative: str):
+def largest(ranked: bool, alternative: str):
     """The most extreme statistic of the levels against the control: (D, R)."""
     def recompute(problem, A, rows):
         from ..engine.control import statistics
 
         rows = np.asarray(rows, dtype=np.int8)
-        if family == "means":
-            lay = statistics.layout(A, problem.codes, "means")
+        if not ranked:
+            lay = statistics.layout(A, problem.codes, False)
             return _clip(extreme(statistics.statistics(rows, lay), alternative))
         out = np.empty((A.shape[0], rows.shape[0]))
         for i, a in enumerate(A):
-            t = statistics.statistics(rows, statistics.layout(a, problem.codes, "ranks"))[0]
+            t = statistics.statistics(rows, statistics.layout(a, problem.codes, True))[0]
             out[i] = _clip(extreme(t, alternative))
         return out
     return recompute
@@ -237,19 +244,19 @@ def control_check(design) -> Check:
     from . import scoring
 
     s = design.settings
-    if s.family == "means":
+    if not _ranked(design):
         return Check("recomputed", scoring.values, "Dunnett's many-to-one t: the smallest "
                      "adjusted p", dunnett_global(s.alternative), as_is,
-                     recompute=largest("means", s.alternative), test="many-to-one means")
+                     recompute=largest(False, s.alternative), test="many-to-one means")
     return Check("recomputed", scoring.values, "normal approximation to the pairwise-ranked "
                  "sums: the smallest adjusted p", rank_sums_global(s.alternative), as_is,
-                 recompute=largest("ranks", s.alternative), test="many-to-one ranks")
+                 recompute=largest(True, s.alternative), test="many-to-one ranks")
 
 
 def dose_check(design) -> Check:
     from . import scoring
 
-    if design.settings.family == "means":
+    if not _ranked(design):
         return Check("linear", scoring.values, "Williams' test over every dose (its null law "
                      f"tabulated from {WILLIAMS_TABLE_DRAWS:,} simulated data sets)",
                      williams_top(design.settings.alternative), trend_z,
@@ -258,13 +265,16 @@ def dose_check(design) -> Check:
                  rank_trend, trend_z, test="trend in mid-ranks over every dose")
 
 
-def studentized_check(design) -> Check:
+def welch_check(design) -> Check:
     from . import counterparts, effects, scoring
 
-    if design.settings.family == "welch":
-        return Check("recomputed", scoring.values, "Welch t (unequal variances)",
-                     counterparts.welch_t, as_is, effect=effects.mean_difference,
-                     recompute=welch)
+    return Check("recomputed", scoring.values, "Welch t (unequal variances)",
+                 counterparts.welch_t, as_is, effect=effects.mean_difference, recompute=welch)
+
+
+def brunner_munzel_check(design) -> Check:
+    from . import effects, scoring
+
     return Check("recomputed", scoring.values, "Brunner-Munzel t (Satterthwaite degrees of "
                  "freedom)", brunner_munzel_t, as_is, effect=effects.hodges_lehmann_shift,
                  recompute=brunner_munzel)
@@ -286,18 +296,15 @@ def brunner_munzel_t(pb, Y, A):
 
 # ---------------------------------------------------------------- a pointer to them
 
-def spread_note(problem, sim) -> str:
-    """When unequal spread moves a plain two-group test off its level: the tests for it."""
-    from .spread import STUDENTIZED
-
-    if problem.kind != "two-sample" or problem.family in STUDENTIZED:
+def spread_note(problem, sim, other: str) -> str:
+    """When unequal spread moves a plain two-group test off its level: the test for it
+    (`other`, the family's declared `unequal_spread_test`; '' for none)."""
+    if problem.kind != "two-sample" or not other:
         return ""
     for r in sim.rates:
         rate = r.permutation_null
         se = max(rate.se, math.sqrt(sim.alpha * (1 - sim.alpha) / sim.datasets))
         if r.law.spread == "groups" and abs(rate.value - sim.alpha) > 3 * se:
-            other = ("brunner-munzel" if problem.family in ("ranks", "normal-scores",
-                                                            "medians") else "welch")
             return (f"under unequal spread the permutation test's level is "
                     f"{100 * rate.value:.3g}%, not {100 * sim.alpha:g}%: 'using {other}' "
                     "tests a difference in location that allows for it")

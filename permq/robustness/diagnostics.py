@@ -54,11 +54,10 @@ def skewness(r) -> Optional[float]:
 
 
 def attach(design, result, level: float = LEVEL) -> None:
-    from .spread import note
+    from .spread import note, unequal_spread_test
 
     result.extra["diagnostics"] = diagnostics(design, result, level)
-    pointer = note(design.settings.kind, design.settings.family,
-                   result.extra["diagnostics"]["spread_ratio"])
+    pointer = note(unequal_spread_test(design), result.extra["diagnostics"]["spread_ratio"])
     if pointer:
         result.warnings.append(pointer)
 

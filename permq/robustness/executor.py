@@ -95,8 +95,10 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
     picture = null_picture(design, observed.outcome, int(seed))
     warnings = list(design.warnings) + [why for _, why in problem.check.leaves_out]
     from .control import spread_note
+    from .spread import unequal_spread_test
 
-    warnings += [note for note in (spread_note(problem, sim),) if note]
+    warnings += [note for note in (spread_note(problem, sim, unequal_spread_test(design)),)
+                 if note]
     if problem.kind == "paired":
         warnings.append("pairs are simulated as two values from the law, so their differences "
                         "are symmetric under the null, as random order within a pair makes them")

@@ -57,11 +57,11 @@ def count(sizes) -> int:
     return multinomial(sizes)
 
 
-def candidates(sizes, draws: int, family: str) -> list:
+def candidates(sizes, draws: int, ranked: bool) -> list:
     sizes = [int(s) for s in sizes]
     N, k = sum(sizes), len(sizes)
     total = float(count(sizes))
-    per_row = N * k * (6.0 if family == "means" else 4.0) + 12.0 * (k - 1)
+    per_row = N * k * (4.0 if ranked else 6.0) + 12.0 * (k - 1)
 
     def memory(rows, listed):
         held = rows if listed else min(rows, WINDOW_ROWS)
@@ -87,11 +87,11 @@ def oriented(t, alternative: str) -> np.ndarray:
     return np.clip(np.nan_to_num(out, nan=0.0, posinf=BIG, neginf=-BIG), -BIG, BIG)
 
 
-def null_matrix(values, codes, family, algorithm, draws, seed, progress=NO_PROGRESS):
+def null_matrix(values, codes, ranked, algorithm, draws, seed, progress=NO_PROGRESS):
     """(statistics of the observed arrangement (m,), of every reference row (R, m), method)."""
     codes = np.asarray(codes, dtype=np.int8)
     sizes = np.bincount(codes, minlength=int(codes.max()) + 1)
-    lay = statistics.layout(values, codes, family)
+    lay = statistics.layout(values, codes, ranked)
     observed = statistics.statistics(codes[None, :], lay)[0, 0]
     if algorithm == "enumeration":
         rows = arrangements.enumerate_codes(sizes, progress)
@@ -112,11 +112,11 @@ def critical_value(null_oriented, level: float) -> float:
     return float(top[K]) if K < len(top) else -math.inf
 
 
-def run(values, codes, family: str, alternative: str, adjustment: str, step: str,
+def run(values, codes, ranked: bool, alternative: str, adjustment: str, step: str,
         algorithm: str, draws: int, seed: int, level: float,
         progress: Progress = NO_PROGRESS) -> ControlOutcome:
     sizes = np.bincount(np.asarray(codes), minlength=int(np.max(codes)) + 1)
-    t, null, how = null_matrix(values, codes, family, algorithm, draws, seed, progress)
+    t, null, how = null_matrix(values, codes, ranked, algorithm, draws, seed, progress)
     t_or, null_or = oriented(t, alternative), oriented(null, alternative)
     raw, adjusted = multiplicity.from_matrix(null_or, t_or, adjustment, step or "step-down")
     single = multiplicity.max_t_matrix(null_or, t_or, multiplicity.tolerances(t_or),

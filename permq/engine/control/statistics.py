@@ -4,10 +4,11 @@ An arrangement gives each unit a group code (0 is the control); rows of codes co
 `engine/many/arrangements` (every assignment, or seeded joint draws). For each row and each
 dose j = 1 .. k-1:
 
-- means: the Welch-type statistic (mean_j - mean_0) / sqrt(s_j^2 / n_j + s_0^2 / n_0), each
-  pair studentized by its own two variances, so a wide control does not drown a tight dose.
+- values (`ranked` false): the Welch-type statistic
+  (mean_j - mean_0) / sqrt(s_j^2 / n_j + s_0^2 / n_0), each pair studentized by its own
+  two variances, so a wide control does not drown a tight dose.
   A pair without spread gives +-inf (0 when its means agree as well);
-- ranks: the rank sum of dose j with the control alone, re-ranked for each pair (mid-ranks
+- ranked: the rank sum of dose j with the control alone, re-ranked for each pair (mid-ranks
   within the pair), as its Mann-Whitney count U_j = #{(i in dose j, l in control): y_i > y_l}
   + 1/2 #{... y_i = y_l}, centred at n_0 n_j / 2 and divided by its no-ties standard deviation
   sqrt(n_0 n_j (n_0 + n_j + 1) / 12), a scale fixed over the arrangements.
@@ -28,7 +29,7 @@ ZERO_VARIANCE = 1e-10          # a group's variance below this (values scaled to
 class Layout:
     """What the statistics need of the data, computed once."""
 
-    family: str
+    ranked: bool               # pairwise-ranked sums (else the Welch-type t of the values)
     sizes: np.ndarray          # units per group, control first
     y: np.ndarray              # means: (D, N) values centred and scaled; ranks: (N,) values
     order: np.ndarray = None   # ranks: units in increasing order of value
@@ -36,35 +37,35 @@ class Layout:
     block_end: np.ndarray = None     # ... and ends (exclusive)
 
 
-def layout(values, codes, family: str) -> Layout:
-    """values: (N,) for one data set, or (D, N) for several sharing one design (means)."""
+def layout(values, codes, ranked: bool) -> Layout:
+    """values: (N,) for one data set, or (D, N) for several sharing one design (Welch-type t;
+    `ranked`: the pairwise-ranked sums, one data set)."""
     codes = np.asarray(codes)
     k = int(codes.max()) + 1
     sizes = np.bincount(codes, minlength=k)
     v = np.asarray(values, dtype=float)
-    if family == "means":
+    if not ranked:
         y = np.atleast_2d(v)
         centre = y.mean(axis=1, keepdims=True)
         scale = y.std(axis=1, keepdims=True)
         scale[scale == 0] = 1.0
-        return Layout(family, sizes, (y - centre) / scale)
+        return Layout(False, sizes, (y - centre) / scale)
     order = np.argsort(v, kind="stable")
     sv = v[order]
     new = np.r_[True, sv[1:] != sv[:-1]]
     block = np.cumsum(new) - 1
     starts = np.flatnonzero(new)
     ends = np.r_[starts[1:], len(sv)]
-    return Layout(family, sizes, v, order, starts[block], ends[block])
+    return Layout(True, sizes, v, order, starts[block], ends[block])
 
 
 def statistics(rows, lay: Layout) -> np.ndarray:
-    """(D, R, k-1) for means (D data sets), (1, R, k-1) for ranks: one column per dose."""
+    """(D, R, k-1) for the Welch-type t (D data sets), (1, R, k-1) ranked: one column per dose."""
     rows = np.asarray(rows)
     k = len(lay.sizes)
     N = rows.shape[1]
-    step = max(1, CHUNK_CELLS // max(1, N * k * (lay.y.shape[0] if lay.family == "means"
-                                                  else 1)))
-    parts = [(_welch if lay.family == "means" else _steel)(rows[lo:lo + step], lay)
+    step = max(1, CHUNK_CELLS // max(1, N * k * (1 if lay.ranked else lay.y.shape[0])))
+    parts = [(_steel if lay.ranked else _welch)(rows[lo:lo + step], lay)
              for lo in range(0, rows.shape[0], step)]
     return np.concatenate(parts, axis=1) if parts else np.zeros((1, 0, k - 1))
 

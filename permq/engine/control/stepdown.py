@@ -3,7 +3,7 @@
 Levels 0 (the control) < 1 < ... < K in dose order. Hypothesis H_m: the control and doses
 1 .. m have one distribution. Step m tests H_m with the linear trend in dose scores over those
 m + 1 groups alone, T = sum_g d_g (sum of group g's scores), by permuting their units only
-(values for 'means'; mid-ranks re-ranked among the m + 1 groups for 'ranks'): exactly by the
+(the values; or, `ranked`, mid-ranks re-ranked among the m + 1 groups): exactly by the
 trend law of `trend`, or by seeded Monte Carlo (the draws of `engine/ordered`).
 
 Closed testing (Tukey, Ciminera and Heyse 1985, Biometrics 41:295): H_K implies every H_m
@@ -46,23 +46,24 @@ class Step:
     p_interval: Optional[tuple] = None
 
 
-def scores_of(values, family: str) -> np.ndarray:
-    return midranks(values) if family == "ranks" else np.asarray(values, dtype=float)
+def scores_of(values, ranked: bool) -> np.ndarray:
+    """The step's scores: mid-ranks among its units (`ranked`), else the values."""
+    return midranks(values) if ranked else np.asarray(values, dtype=float)
 
 
-def _subset(values, groups, top, family):
+def _subset(values, groups, top, ranked):
     keep = np.asarray(groups) <= top
-    return scores_of(np.asarray(values)[keep], family), np.asarray(groups)[keep]
+    return scores_of(np.asarray(values)[keep], ranked), np.asarray(groups)[keep]
 
 
-def candidates(values, groups, scores, family: str, draws: int) -> list:
+def candidates(values, groups, scores, ranked: bool, draws: int) -> list:
     from ..ksample import monte_carlo_candidate
 
     k = int(np.max(groups)) + 1
     ops = memory = mc_ops = 0.0
     feasible, note, total = True, "", 0.0
     for top in range(k - 1, 0, -1):
-        x, g = _subset(values, groups, top, family)
+        x, g = _subset(values, groups, top, ranked)
         sizes = np.bincount(g, minlength=top + 1)
         total = max(total, float(trend.count(sizes)))
         mc = monte_carlo_candidate(len(x), trend.count(sizes), draws, per_item=11.0)
@@ -94,13 +95,13 @@ def trend_parts(x, g, d):
     return T, centre, math.sqrt(var) if var > 0 else 0.0
 
 
-def run(values, groups, scores, family: str, alternative: str, algorithm: str,
+def run(values, groups, scores, ranked: bool, alternative: str, algorithm: str,
         draws: int, seed: int, progress: Progress = NO_PROGRESS) -> list:
     """The steps from the top dose down, each with its raw and closed-testing adjusted p."""
     k = int(np.max(groups)) + 1
     steps, running = [], 0.0
     for top in range(k - 1, 0, -1):
-        x, g = _subset(values, groups, top, family)
+        x, g = _subset(values, groups, top, ranked)
         d = np.asarray(scores, dtype=float)[:top + 1]
         sizes = np.bincount(g, minlength=top + 1)
         T, centre, sd = trend_parts(x, g, d)
