@@ -39,6 +39,14 @@ the reference set, estimate and interval are those of the units""",
   compare yield by variety adjusting for nitrate      three or more groups: F of the residuals
   ... using ranks                                     Wilcoxon / Kruskal-Wallis of the residuals
 text covariates (block, sex ...) enter as indicators, here and in relate ... adjusting for""",
+    "control": """levels against a control, the lowest effective dose, unequal spread (try them on the demo's doses)
+  compare weight by dose against "0"                  every other dose against "0": max-T step-down
+  compare weight by dose against "0" using ranks      rank sums re-ranked for each pair
+  compare weight by dose against "0" adjust max-t single-step   simultaneous intervals agree with it
+  compare weight by dose ordered against "0"          step-down trend: the lowest effective dose
+  compare weight by dose levels "40", "0" using welch           the Welch t by permutation
+  compare weight by dose levels "40", "0" using brunner-munzel  P(40 > 0) + 1/2 P(40 = 0)
+beside them: Dunnett's many-to-one t, Williams' test, the Welch and Brunner-Munzel t""",
     "relate": """relate: association and slopes
   relate mass to light                                Pearson correlation by permutation
   relate mass to light using kendall                  Kendall's tau (spearman: Spearman's rho)
@@ -130,6 +138,7 @@ TOPICS["picture"] = TOPICS["diagnostics"] = TOPICS["robustness"]
 TOPICS["sample-size"] = TOPICS["law"] = TOPICS["power"]
 TOPICS["margin"] = TOPICS["equivalence"] = TOPICS["compare"]
 TOPICS["adjust"] = TOPICS["pairwise"] = TOPICS["many"]
+TOPICS["against"] = TOPICS["dose"] = TOPICS["control"]
 TOPICS["adjusting"] = TOPICS["covariates"] = TOPICS["and"] = TOPICS["factors"]
 
 

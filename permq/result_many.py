@@ -21,13 +21,22 @@ class ManyRow:
     estimate: Optional[float] = None
     interval: Optional[tuple] = None
     note: str = ""                   # why a response was not tested, and the like
+    normal_p: Optional[float] = None         # the normal-theory counterpart's (adjusted) p
+    normal_interval: Optional[tuple] = None  # its interval for the same estimate
+    extra: dict = field(default_factory=dict, compare=False)   # kept in JSON as they are
 
     def to_dict(self) -> dict:
-        return {"name": self.name, "n": list(self.n), "statistic": _num(self.statistic),
-                "p_value": _num(self.p_value), "p_adjusted": _num(self.p_adjusted),
-                "estimate": _num(self.estimate),
-                "interval": None if self.interval is None else [_num(v) for v in self.interval],
-                "note": self.note}
+        d = {"name": self.name, "n": list(self.n), "statistic": _num(self.statistic),
+             "p_value": _num(self.p_value), "p_adjusted": _num(self.p_adjusted),
+             "estimate": _num(self.estimate),
+             "interval": None if self.interval is None else [_num(v) for v in self.interval],
+             "note": self.note}
+        if self.normal_p is not None or self.normal_interval is not None:
+            d["normal_p"] = _num(self.normal_p)
+            d["normal_interval"] = (None if self.normal_interval is None else
+                                    [_num(v) for v in self.normal_interval])
+        d.update({k: _num(v) if isinstance(v, float) else v for k, v in self.extra.items()})
+        return d
 
 
 @dataclass
@@ -58,6 +67,9 @@ class ManyResult:
     warnings: list = field(default_factory=list)
     where: str = ""                  # where it ran (not part of the JSON: it never changes it)
     line: Optional[int] = None
+    normal_test: str = ""            # the counterpart whose p fills the rows' normal_p
+    conclusion: str = ""             # a sentence the rows lead to (e.g. the lowest effective dose)
+    extra: dict = field(default_factory=dict)     # kept in JSON as they are
     seed_source: str = ""        # how the seed was had: given, statement, fresh (plan/seeds.py)
 
     def to_dict(self) -> dict:
@@ -80,6 +92,11 @@ class ManyResult:
         if self.overall:
             d["overall"] = {k: _num(v) if isinstance(v, float) else v
                             for k, v in self.overall.items()}
+        if self.normal_test:
+            d["normal_theory"] = {"test": self.normal_test}
+        if self.conclusion:
+            d["conclusion"] = self.conclusion
+        d.update(self.extra)
         d["rows"] = [r.to_dict() for r in self.rows]
         d["warnings"] = list(self.warnings)
         return d

@@ -47,12 +47,19 @@ KINDS = {
     "dose response": "relate wilted to dose in sprays",
     "several responses": 'compare mass, light by recipe levels "A", "B" in trays',
     "pairwise": "compare mass by recipe in trays pairwise sampled 2000 seed 4",
+    "many-to-one means": 'compare weight by dose against "0" in doses sampled 2000 seed 3',
+    "many-to-one ranks": 'compare weight by dose against "0" in doses using ranks sampled 2000 seed 3',
+    "lowest effective dose": 'compare weight by dose ordered against "0" in doses alternative higher seed 3',
+    "two-sample welch": 'compare weight by dose levels "40", "0" in doses using welch',
+    "two-sample brunner-munzel": 'compare weight by dose levels "40", "0" in doses using brunner-munzel',
+    "robustness many-to-one": 'robustness compare weight by dose against "0" in doses datasets 100 seed 5',
     "two factors": "compare yield by variety and fertiliser in beans sampled 2000 seed 6",
     "adjusted": "compare yield by fertiliser adjusting for nitrate, variety in beans sampled 5000 seed 6",
     "censored times": "compare days by supplier event failed in lamps using gehan",
     "failure": "compare mass by recipy in trays",
 }
-LOADS = 'load "trays.csv" as trays\nload "seedlings.csv" as pots\nload "plots.csv" as plots\n'
+LOADS = ('load "trays.csv" as trays\nload "seedlings.csv" as pots\nload "plots.csv" as plots\n'
+         'load "doses.csv" as doses\n')
 BEANS = 'load "beans.csv" as beans\n'      # the field trial of two factors and a covariate
 SPRAYS = ('load "sprays.csv" as sprays\n'     # the count forms' demo table
           'load "lamps.csv" as lamps\n')      # and the censored times'

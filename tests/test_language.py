@@ -285,7 +285,8 @@ def test_family_that_does_not_fit_the_form(trays):
     assert_failure(failure_of("compare mass by recipe using signs", trays),
                    "'signs' is not a test family for two groups", 1, 24,
                    "compare mass by recipe using signs\n" + " " * 23 + "^" * 11,
-                   hint="choose one of means, ranks, normal-scores, medians, ansari-bradley")
+                   hint="choose one of means, ranks, normal-scores, medians, ansari-bradley, "
+                        "welch, brunner-munzel")
     f = failure_of("compare mass vs 12 using medians", trays)
     assert f.message == "'medians' is not a test family for one sample"
     assert f.hint == "choose one of means, ranks, signs"
@@ -432,7 +433,8 @@ def test_help_examples_bind_on_the_demo():
     from conftest import ROOT
 
     session = permq.Session(base_dir=ROOT / "demo")
-    names = ("trays", "plots", "seedlings", "sprays", "beans", "lamps", "litters", "varieties")
+    names = ("trays", "plots", "seedlings", "sprays", "beans", "lamps", "litters", "varieties",
+             "doses")
     for name in names:
         assert isinstance(session.run(f'load "{name}.csv"')[0], permq.Note)
     seen = 0

@@ -26,7 +26,7 @@ compare mass by recipy in trays
 @pytest.fixture(scope="module")
 def report(tmp_path_factory):
     folder = tmp_path_factory.mktemp("report")
-    for name in ("trays.csv", "seedlings.csv", "plots.csv"):
+    for name in ("trays.csv", "seedlings.csv", "plots.csv", "doses.csv"):
         shutil.copy(DEMO / name, folder / name)
     (folder / "analysis.pq").write_text(SCRIPT + 'save report "saved.html"\n')
     page = folder / "page.html"

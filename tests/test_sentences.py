@@ -13,7 +13,9 @@ from permq.render.methods import method_of
 from permq.render.sentences import decimals_for, number, render, sentence
 
 SINGLE = [k for k in KINDS if k not in ("robustness", "robustness counts", "several responses",
-                                        "pairwise", "two factors", "failure")]
+                                        "pairwise", "two factors", "failure",
+                                        "many-to-one means", "many-to-one ranks",
+                                        "lowest effective dose", "robustness many-to-one")]
 
 
 @pytest.mark.parametrize("kind", SINGLE)

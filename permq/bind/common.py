@@ -156,6 +156,7 @@ def _option_hint(key: str, form: str = "") -> Optional[str]:
         "ordered": "'ordered' goes with a group column: compare mass by dose ordered",
         "units": "'units' goes with a group column or a predictor: compare weight by dose "
                  "units litter",
+        "against": "'against' goes with a group column: compare weight by dose against \"0\"",
         "adjusting": "'adjusting for' goes with a group column or a slope: compare Y by G "
                      "adjusting for Z, relate Y to X using slope adjusting for Z",
         "datasets": "'datasets' goes with a robustness check: robustness compare ... datasets 5000",

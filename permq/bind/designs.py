@@ -203,6 +203,23 @@ class ManyDesign:
 
 
 @dataclass(frozen=True)
+class ControlDesign:
+    """Every other level against a control (`against`), or doses in order against it
+    (`ordered against`): level 0 is the control, the others follow in order."""
+
+    values: np.ndarray       # one per unit
+    groups: np.ndarray       # codes 0..k-1; 0 is the control
+    labels: tuple            # the control first, then the other levels in order
+    response: str
+    settings: Settings
+    adjustment: str = "max-t"        # many-to-one: none | holm | fdr | max-t | min-p
+    step: str = "step-down"
+    scores: Optional[np.ndarray] = None   # dose scores (ordered against): one per level
+    warnings: tuple = ()
+    kind: str = "control"            # "control" or "dose-finding"
+
+
+@dataclass(frozen=True)
 class FactorialDesign:
     """One response across two crossed factors (`compare Y by A and B`), every cell filled."""
 

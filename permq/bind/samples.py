@@ -38,6 +38,10 @@ def bind_grouped(node, subject: n.Grouped, opts, catalog, defaults, table=None):
         from .events import bind_events
 
         return bind_events(node, subject, opts, catalog, defaults)
+    if "against" in opts:
+        from .control import bind_against
+
+        return bind_against(node, subject, opts, catalog, defaults)
     if isinstance(subject.response, n.Responses) or "for_each" in opts or "pairwise" in opts:
         from .many import bind_many
 

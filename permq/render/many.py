@@ -18,7 +18,8 @@ def _head(r) -> list:
         how = (f"Monte Carlo: {r.draws:,} joint draws, {fmt.seed(r.seed, r.seed_source)}; "
                f"p = (b + 1) / ({r.draws:,} + 1), the smallest possible is "
                f"{fmt.p(1 / (r.draws + 1))}")
-    unit = {"pairwise": "pairs", "for each": "features"}.get(r.family, "responses")
+    unit = {"pairwise": "pairs", "for each": "features", "many-to-one": "comparisons",
+            "lowest effective dose": "steps"}.get(r.family, "responses")
     tested = f"{r.tested:,} {unit}" + (f" ({r.untested:,} not tested)" if r.untested else "")
     lines = [f"  {'adjustment':<15}{r.adjustment}: {r.adjustment_rule}",
              f"  {'method':<15}{how}",
@@ -27,6 +28,8 @@ def _head(r) -> list:
         o = r.overall
         lines.append(f"  {'overall':<15}{o['test']} = {fmt.num(o['statistic'])}, "
                      f"p = {fmt.p(o['p_value'])} (on the same arrangements)")
+    if r.normal_test:
+        lines.append(f"  {'beside it':<15}{r.normal_test}")
     if r.filters:
         what = ", ".join(f"{k} {v:g}" for k, v in r.filters.items())
         lines.append(f"  {'shown':<15}{len(r.rows):,} of {r.total_rows:,} rows ({what})")
@@ -35,18 +38,25 @@ def _head(r) -> list:
 
 def _cells(r, row) -> list:
     iv = fmt.interval(row.interval) if row.interval is not None else "-"
-    return [row.name, "/".join(str(c) for c in row.n) or "-", fmt.num(row.statistic),
-            fmt.num(row.estimate), iv, fmt.p(row.p_value), fmt.p(row.p_adjusted), row.note]
+    cells = [row.name, "/".join(str(c) for c in row.n) or "-", fmt.num(row.statistic),
+             fmt.num(row.estimate), iv, fmt.p(row.p_value), fmt.p(row.p_adjusted), row.note]
+    if r.normal_test:
+        cells.insert(7, fmt.p(row.normal_p) if row.normal_p is not None else "-")
+    return cells
 
 
 def _titles(r) -> list:
-    first = {"pairwise": "pair", "for each": "feature"}.get(r.family, "response")
-    n = "n" if first == "pair" else "n " + "/".join(r.labels)
+    first = {"pairwise": "pair", "for each": "feature", "many-to-one": "comparison",
+             "lowest effective dose": "doses tested"}.get(r.family, "response")
+    n = "n" if first in ("pair", "comparison", "doses tested") else "n " + "/".join(r.labels)
     if len(n) > 16:
         n = "n"
     stat = r.statistic_name.split(":")[0]
     level = f"{r.level * 100:g}% interval" if r.estimate_name else "interval"
-    return [first, n, stat, "estimate", level, "p (raw)", f"p ({r.adjustment})", ""]
+    titles = [first, n, stat, "estimate", level, "p (raw)", f"p ({r.adjustment})", ""]
+    if r.normal_test:
+        titles.insert(7, "p (normal)")
+    return titles
 
 
 def text_block(r, color: bool = False, bold: str = "", dim: str = "", reset: str = "") -> str:
@@ -56,17 +66,20 @@ def text_block(r, color: bool = False, bold: str = "", dim: str = "", reset: str
     lines += _head(r)
     shown = r.rows[:TEXT_ROWS]
     table = [_titles(r)] + [_cells(r, row) for row in shown]
+    last = len(table[0]) - 1
     keep = [i for i in range(len(table[0])) if any(t[i] not in ("", "-") for t in table[1:])
             or i in (0, 5, 6)]
     widths = {i: max(len(t[i]) for t in table) for i in keep}
     for t in table:
-        cells = [t[i].ljust(widths[i]) if i in (0, 1, 7) else t[i].rjust(widths[i])
+        cells = [t[i].ljust(widths[i]) if i in (0, 1, last) else t[i].rjust(widths[i])
                  for i in keep]
         lines.append("  " + "  ".join(cells).rstrip())
     more = len(r.rows) - len(shown)
     if more:
         lines.append(f"  ... {more:,} more row{'s' if more != 1 else ''} (every row: --format "
                      "csv or json; fewer: top N or below X)")
+    if r.conclusion:
+        lines.append(f"  {'conclusion':<15}{r.conclusion}")
     if r.estimate_name:
         lines.append(_dim(f"  {'estimate':<15}{r.estimate_name}; interval: {r.interval_method}",
                           color, dim, reset))
@@ -93,6 +106,12 @@ def markdown_section(r) -> str:
     out.append("|" + "---|" * len(titles))
     for row in r.rows:
         out.append("| " + " | ".join(c.replace("|", "\\|") for c in _cells(r, row)) + " |")
+    if r.conclusion:
+        out.append("")
+        out.append(f"Conclusion: {r.conclusion}")
+    if r.normal_test:
+        out.append("")
+        out.append(f"p (normal): {r.normal_test}.")
     if r.estimate_name:
         out.append("")
         out.append(f"Estimate: {r.estimate_name}; interval: {r.interval_method}.")
@@ -120,7 +139,8 @@ def csv_rows(d: dict, columns: list) -> list:
                     statistic=_blank(row["statistic"]), p_value=_blank(row["p_value"]),
                     p_adjusted=_blank(row["p_adjusted"]), estimate=_blank(row["estimate"]),
                     estimate_name=est.get("name", ""), level=est.get("level", ""),
-                    interval_low=iv[0], interval_high=iv[1], note=row.get("note", ""))
+                    interval_low=iv[0], interval_high=iv[1], note=row.get("note", ""),
+                    normal_p_value=_blank(row.get("normal_p")))
         out.append(line)
     return out
 

@@ -83,6 +83,28 @@ SOURCES = {
                  "McGraw-Hill.",
     "dixon-mood-1946": "Dixon, W. J. and Mood, A. M. (1946). The statistical sign test. "
                        "Journal of the American Statistical Association 41, 557-566.",
+    "dunnett-1955": "Dunnett, C. W. (1955). A multiple comparison procedure for comparing "
+                    "several treatments with a control. Journal of the American Statistical "
+                    "Association 50, 1096-1121.",
+    "steel-1959": "Steel, R. G. D. (1959). A multiple comparison rank sum test: treatments "
+                  "versus control. Biometrics 15, 560-572.",
+    "williams-1971": "Williams, D. A. (1971). A test for differences between treatment means "
+                     "when several dose levels are compared with a zero dose control. "
+                     "Biometrics 27, 103-117.",
+    "tukey-ciminera-heyse-1985": "Tukey, J. W., Ciminera, J. L. and Heyse, J. F. (1985). "
+                                 "Testing the statistical certainty of a response to "
+                                 "increasing doses of a drug. Biometrics 41, 295-301.",
+    "janssen-1997": "Janssen, A. (1997). Studentized permutation tests for non-i.i.d. "
+                    "hypotheses and the generalized Behrens-Fisher problem. Statistics and "
+                    "Probability Letters 36, 9-21.",
+    "chung-romano-2013": "Chung, E. and Romano, J. P. (2013). Exact and asymptotically robust "
+                         "permutation tests. Annals of Statistics 41, 484-507.",
+    "brunner-munzel-2000": "Brunner, E. and Munzel, U. (2000). The nonparametric "
+                           "Behrens-Fisher problem: asymptotic theory and a small-sample "
+                           "approximation. Biometrical Journal 42, 17-25.",
+    "neubert-brunner-2007": "Neubert, K. and Brunner, E. (2007). A studentized permutation "
+                            "test for the non-parametric Behrens-Fisher problem. "
+                            "Computational Statistics and Data Analysis 51, 5192-5204.",
     "student-1908": "Student (1908). The probable error of a mean. Biometrika 6, 1-25.",
     "welch-1947": "Welch, B. L. (1947). The generalization of 'Student's' problem when several "
                   "different population variances are involved. Biometrika 34, 28-35.",
@@ -187,6 +209,12 @@ class Method:
 
 # (family, start of the statistic's name) -> Method; the first match wins
 _TESTS = [
+    (("two-sample",), "Welch t",
+     Method("studentized permutation test of the Welch t", ("janssen-1997",
+                                                            "chung-romano-2013"))),
+    (("two-sample",), "Brunner-Munzel",
+     Method("Brunner-Munzel test by permutation", ("brunner-munzel-2000",
+                                                   "neubert-brunner-2007"))),
     (("two-sample",), "difference in means",
      Method("permutation test of the difference in means (Pitman)", ("pitman-1937",))),
     (("two-sample",), "rank sum",
@@ -276,7 +304,9 @@ _TESTS = [
 ]
 
 # normal-theory counterparts and intervals: (start of the words) -> source keys
-_NORMAL = [("Welch one-way", ("welch-1951",)), ("Welch t", ("welch-1947",)),
+_NORMAL = [("Dunnett", ("dunnett-1955",)), ("Williams", ("williams-1971",)),
+           ("Brunner-Munzel", ("brunner-munzel-2000",)),
+           ("Welch one-way", ("welch-1951",)), ("Welch t", ("welch-1947",)),
            ("one-sample t", ("student-1908",)), ("one-way ANOVA", ("fisher-1925",)),
            ("two-way ANOVA", ("fisher-1925",)), ("ANCOVA", ("fisher-1925",)),
            ("Kruskal-Wallis", ("kruskal-wallis-1952",)),
@@ -303,9 +333,13 @@ _ADJUSTMENTS = [("max-t", ("westfall-young-1993",)), ("min-p", ("westfall-young-
 def method_of(record: dict) -> Method:
     """The named test of a result record (its JSON object)."""
     family = record.get("family", "")
-    if family in ("several responses", "for each", "pairwise"):
+    if family in ("several responses", "for each", "pairwise", "many-to-one"):
+        extra = ("steel-1959",) if "rank sum" in record.get("test", "") else ()
         return Method(record.get("test", "several tests"),
-                      _match(_ADJUSTMENTS, record.get("adjustment", "").lower()))
+                      _match(_ADJUSTMENTS, record.get("adjustment", "").lower()) + extra)
+    if family == "lowest effective dose":
+        return Method(record.get("test", "step-down trend test"),
+                      ("tukey-ciminera-heyse-1985",))
     if family == "two factors":
         return Method("two-way permutation ANOVA (restricted permutation for the main effects, "
                       "Freedman-Lane residual permutation for the interaction)",

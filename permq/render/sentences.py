@@ -17,7 +17,7 @@ from ..syntax.parser import one_line
 from . import numbers as fmt
 from .methods import method_of
 
-SEVERAL = ("several responses", "for each", "pairwise")
+SEVERAL = ("several responses", "for each", "pairwise", "many-to-one", "lowest effective dose")
 ROWS_NAMED = 5            # rows of a several-tests result named in its sentence
 SHORT_NAMES = {"d": "standardised difference d", "dz": "standardised mean difference d_z",
                "superiority": "probability of superiority",
@@ -235,7 +235,8 @@ def _effects_clause(r: dict) -> str:
 # ---------------------------------------------------------------- several tests at once
 
 def _several(r: dict) -> str:
-    unit = {"pairwise": "pairs", "for each": "features"}.get(r["family"], "responses")
+    unit = {"pairwise": "pairs", "for each": "features", "many-to-one": "comparisons",
+            "lowest effective dose": "steps"}.get(r["family"], "responses")
     if r["method"] == "exact":
         how = f"exact over {fmt.count(r['arrangements'])} arrangements"
     else:
@@ -258,6 +259,8 @@ def _several(r: dict) -> str:
                      f"{fmt.p(row['p_adjusted'])}{est})")
     more = len(r["rows"]) - len(rows)
     tail = f"; and {more:,} more" if more > 0 else ""
+    if r.get("conclusion"):
+        tail += f"; {r['conclusion']}"
     return f"{head}: " + "; ".join(named) + tail + "."
 
 

@@ -8,7 +8,8 @@
 - Kendall's S ("pairs"): rows of sign(x_j - x_i) over the pairs i < j with x arranged, so that
   S of every arrangement is the product with the data set's pair signs sign(y_j - y_i);
 - residual permutation ("residual"): one row per (arrangement, column of the basis), the
-  basis's rows arranged, so that the projections of the permuted residuals are one product.
+  basis's rows arranged, so that the projections of the permuted residuals are one product;
+- a recomputed statistic ("recomputed"): the arranged group codes, one row an arrangement.
 
 With blocks (`problem.strata`) arrangements move units only within their block.
 
@@ -39,7 +40,7 @@ class Reference:
 
 def _base_codes(problem: Problem) -> tuple[np.ndarray, np.ndarray]:
     """(code of each unit, value per code): what an arrangement moves around."""
-    if problem.form in ("quadratic", "quadform"):
+    if problem.form in ("quadratic", "quadform", "recomputed"):
         return problem.codes, np.arange(len(problem.sizes), dtype=float)
     if problem.form == "residual":
         return np.arange(problem.n, dtype=np.int64), np.arange(problem.n, dtype=float)
@@ -78,6 +79,8 @@ def _within_strata(problem: Problem, codes: np.ndarray) -> np.ndarray:
 
 
 def _as_matrix(problem: Problem, arranged_codes: np.ndarray, values: np.ndarray) -> np.ndarray:
+    if problem.form == "recomputed":   # the group codes themselves: the check recomputes
+        return arranged_codes.astype(np.int8)
     if problem.form in ("quadratic", "quadform"):
         k = len(problem.sizes)
         onehot = arranged_codes[:, None, :] == np.arange(k)[None, :, None]

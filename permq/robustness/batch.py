@@ -57,6 +57,8 @@ def observed_statistic(problem: Problem, A: np.ndarray) -> np.ndarray:
         return pair_signs(A) @ problem.weights
     if problem.form == "residual":
         return residual_t(problem, A @ problem.basis, (A * A).sum(axis=1))
+    if problem.form == "recomputed":
+        return problem.check.recompute(problem, A, problem.codes[None, :])[:, 0]
     k = len(problem.sizes)
     onehot = (problem.codes[:, None] == np.arange(k)).astype(float)
     if problem.form == "quadform":
@@ -79,6 +81,10 @@ def permutation_p(problem: Problem, A: np.ndarray, reference: Reference) -> np.n
         b = _quadratic_exceedances(problem, A, reference)
     elif problem.form == "residual":
         b = _residual_exceedances(problem, A, reference)
+    elif problem.form == "recomputed":
+        t0 = observed_statistic(problem, A)
+        t = problem.check.recompute(problem, A, reference.matrix).T     # arrangements x sets
+        b = _tail_counts(problem.alternative, t, t0, RTOL * np.maximum(np.abs(t0), 1.0))
     else:
         b = _linear_exceedances(problem, A, reference)
     if reference.exact:

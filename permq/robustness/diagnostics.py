@@ -54,7 +54,12 @@ def skewness(r) -> Optional[float]:
 
 
 def attach(design, result, level: float = LEVEL) -> None:
+    from .spread import note, unequal_spread_test
+
     result.extra["diagnostics"] = diagnostics(design, result, level)
+    pointer = note(unequal_spread_test(design), result.extra["diagnostics"]["spread_ratio"])
+    if pointer:
+        result.warnings.append(pointer)
 
 
 def _ratio(sds) -> Optional[float]:
@@ -78,6 +83,8 @@ def _residuals(design):
         if np.isin(design.values, (0.0, 1.0)).all():     # yes/no outcomes have no residuals
             return None, 0, None, None
         return _group_residuals(design)
+    if isinstance(design, designs.ControlDesign):
+        return _group_residuals(design)
     if isinstance(design, designs.AssociationDesign):
         return _line_residuals(design)
     if isinstance(design, designs.AdjustedDesign):
@@ -89,7 +96,7 @@ def _group_residuals(design):
     v, g = design.values, design.groups
     k = int(g.max()) + 1
     groups = (g[:, None] == np.arange(k)[None, :]).astype(float)
-    if design.blocks is None:
+    if getattr(design, "blocks", None) is None:
         X = np.column_stack([np.ones(len(v)), groups[:, 1:]])
         coef, *_ = np.linalg.lstsq(X, v, rcond=None)
         r = v - X @ coef
@@ -108,7 +115,7 @@ def _group_residuals(design):
         df = len(v) - len(sizes) - np.linalg.matrix_rank(gc)
     sds = [np.std(r[g == i], ddof=1) if np.sum(g == i) > 1 else np.nan for i in range(k)]
     what = "group standard deviations, largest over smallest"
-    if design.blocks is not None:
+    if getattr(design, "blocks", None) is not None:
         what = "residual standard deviations of the groups (additive fit), largest over smallest"
     return r, df, _ratio(sds), what
 

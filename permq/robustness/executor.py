@@ -97,6 +97,11 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
                    cover_level=None if no_cover else level)
     picture = null_picture(design, observed.outcome, int(seed))
     warnings = list(design.warnings) + [why for _, why in problem.check.leaves_out]
+    from .control import spread_note
+    from .spread import unequal_spread_test
+
+    warnings += [note for note in (spread_note(problem, sim, unequal_spread_test(design)),)
+                 if note]
     if problem.kind == "paired":
         warnings.append("pairs are simulated as two values from the law, so their differences "
                         "are symmetric under the null, as random order within a pair makes them")
@@ -160,6 +165,8 @@ def _observed(design, text, progress, check):
     """The statement's own analysis of the data as they are, with its diagnostics."""
     handler = family_for(design)
     observed = handler.execute(design, handler.plan(design), progress, text)
+    if not hasattr(observed, "outcome"):   # several tests at once: the family's global test
+        observed = handler.extra["global_test"](design, observed)
     attach_diagnostics(design, observed, check.alpha)
     return observed
 

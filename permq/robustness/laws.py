@@ -251,7 +251,7 @@ def breaks_exactness(law: ErrorLaw, kind: str, centre: str, form: str = "",
                 "under every law" + also)
     if law.spread == "groups" and kind == "blocked":
         return "unequal spread breaks exchangeability of treatments within blocks"
-    if law.spread == "groups" and kind in ("two-sample", "k-sample", "ordered"):
+    if law.spread == "groups" and kind in ("two-sample", "k-sample", "ordered", "control"):
         return "unequal spread breaks exchangeability between groups"
     if law.spread == "x":
         return "spread growing with x breaks exchangeability of y against x"

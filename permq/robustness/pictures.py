@@ -76,6 +76,9 @@ def internal(problem: Problem, a: np.ndarray, matrix: np.ndarray) -> np.ndarray:
     sum w a) for each arrangement row of `matrix`."""
     if problem.form == "pairs":
         return matrix @ pair_signs(a[None, :])[0]
+    if problem.form == "recomputed":     # a statistic without spread stands as +-1e300 there
+        t = problem.check.recompute(problem, a[None, :], matrix)[0]
+        return np.where(np.abs(t) >= 1e299, np.sign(t) * np.inf, t)
     t = matrix @ a
     if problem.form == "residual":
         cols = problem.basis.shape[1]

@@ -83,6 +83,10 @@ def problem_for(design) -> Problem:
         pb = _groups(design, check)
     elif isinstance(design, designs.AssociationDesign):
         pb = _slope(design, check)
+    elif isinstance(design, designs.ControlDesign):
+        from .control import control_problem
+
+        pb = control_problem(design, check)
     elif isinstance(design, designs.AdjustedDesign):
         pb = _adjusted(design, check)
     else:
@@ -332,6 +336,6 @@ def data_row(design) -> np.ndarray:
         return np.r_[design.x, design.y]
     if isinstance(design, designs.OneSampleDesign):
         return np.asarray(design.d, dtype=float)
-    if isinstance(design, (designs.GroupsDesign, designs.AdjustedDesign)):
+    if isinstance(design, (designs.GroupsDesign, designs.ControlDesign, designs.AdjustedDesign)):
         return np.asarray(design.values, dtype=float)
     return np.asarray(design.y, dtype=float)

@@ -23,7 +23,10 @@ and runs both tests on each. A `Check` says, for the family:
 - `reversed`: the family's `alternative higher` is the lower tail of its statistic (the
   Ansari-Bradley AB is small when the first group is the more spread out);
 - `leaves_out`: laws of the panel the check leaves out, each with the reason (for a test of
-  spread, unequal spread is its alternative, not a breach of its null).
+  spread, unequal spread is its alternative, not a breach of its null);
+- `recompute(problem, A, rows)`: for the form "recomputed" (a statistic that is no sum of
+  arranged scores: studentized, or the largest of several), the statistic of each data set
+  (rows of A) under each arrangement (rows of group codes), shape (data sets, arrangements).
 
 A family whose check needs a new piece writes it in its own module with the same signature.
 """
@@ -49,6 +52,7 @@ class Check:
     inverts: bool = False                # the family's exact interval inverts this very test
                                          # (its coverage is read off the simulated tests)
     matrix: Optional[Callable] = None    # "quadform": design -> M (groups x groups)
+    recompute: Optional[Callable] = None  # form "recomputed": (problem, A, rows) -> (D, R)
 
     def counterpart_name(self, problem) -> str:
         return self.counterpart(problem) if callable(self.counterpart) else self.counterpart

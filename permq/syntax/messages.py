@@ -79,7 +79,7 @@ _OPTIONS_OF = {"datasets": ("robustness", "power"), "shift": ("robustness", "pow
                "rows": ("count",), "columns": ("count",),
                "within": ("compare", "count"), "ordered": ("compare", "count"),
                "scores": ("compare", "count"),
-               "paired": ("compare", "count")}
+               "paired": ("compare", "count"), "against": ("compare",)}
 
 
 def _statement_words(text: str) -> set:

@@ -440,6 +440,9 @@ class _ToNodes(Transformer):
 
     def margin(self, meta, ch):
         return self._opt(meta, "margin", ch[0].value)
+    def against(self, meta, ch):
+        # (level, its span): the control level the other levels are compared with
+        return self._opt(meta, "against", (ch[0].value, ch[0].span))
 
 
 def one_line(statement: str) -> str:

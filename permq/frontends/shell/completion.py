@@ -4,7 +4,7 @@
 after `load` and `save`). It lexes the statement up to the word being typed with lark's
 interactive parser, asks which terminals the parser accepts next, and turns each into words:
 keywords and keyword sets from the grammar, table names, the columns of the table in use
-(or the one named by `in`), the levels of the group column after `levels` / `ordered`,
+(or the one named by `in`), the levels of the group column after `levels` / `ordered` / `against`,
 file paths after `load`. Each suggestion replaces the word being typed.
 """
 from __future__ import annotations
@@ -183,7 +183,7 @@ class _Context:
             return self.paths((".html",)) or [('"report.html"', "report page to write")]
         if prev in ("ROWS", "COLUMNS"):
             return []
-        if prev in ("LEVELS", "ORDERED", "COMMA", "LESSTHAN"):
+        if prev in ("LEVELS", "ORDERED", "COMMA", "LESSTHAN", "AGAINST"):
             return self.levels()
         if prev == "SETTING":
             return []                   # setting values are offered by words()

@@ -68,6 +68,7 @@ KEYWORDS = {
     "paired": "paired columns",
     "in": "take the columns from a table",
     "adjusting": "covariates (groups or a slope)",
+    "against": "every other level against this control",
     "and": "a second factor, crossed with the first",
     "fresh": "a new seed on this run",
     "delimiter": "field separator of a text file",
