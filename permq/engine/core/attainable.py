@@ -94,10 +94,16 @@ def from_law(support, probs, rule: str) -> Attainable:
 def from_count(arrangements: float, symmetric: bool, rule: str) -> Attainable:
     """A uniform reference set of `arrangements`: at least 1 / N (2 / N two-sided when the
     layout mirrors its extremes)."""
-    one = clip(1.0 / float(arrangements))
+    from fractions import Fraction
+
+    def share(k):             # k / N, also for counts past the float range (exact integers)
+        return float(Fraction(int(k), int(arrangements))) if isinstance(arrangements, int) \
+            else k / float(arrangements)
+
+    one = clip(share(1))
     two = None
     if rule in ("linear", "doubling"):
-        two = clip((2.0 if symmetric else 1.0) / float(arrangements))
+        two = clip(share(2 if symmetric else 1))
     elif rule == "upper":
         two = one
     mirrored = symmetric and rule in ("linear", "doubling")
@@ -122,6 +128,10 @@ def warning(att: Attainable, alternative: str, alpha: float) -> str:
             f"{side} p-value is {at_least}{this:.3g}; more units are needed")
 
 
-def _count(v: float) -> str:
+def _count(v) -> str:
+    from ...plan.sizes import words
+
+    if isinstance(v, int) and v >= 10 ** 15:
+        return words(v)                    # past the float range too
     v = float(v)
     return f"{int(v):,}" if v < 1e15 else f"{v:.3g}"

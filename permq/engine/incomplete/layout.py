@@ -39,6 +39,7 @@ from typing import Callable
 import numpy as np
 
 from ...errors import BindError, DataError
+from ..core.grid import MAX_DECIMALS
 
 TESTS = ("within-block-f", "skillings-mack", "durbin")
 STATISTIC_NAMES = {
@@ -47,7 +48,6 @@ STATISTIC_NAMES = {
     "skillings-mack": "Skillings-Mack statistic (mid-ranks within blocks, tie-corrected)",
     "durbin": "Durbin's statistic (mid-ranks within blocks)",
 }
-MAX_DECIMALS = 6
 
 
 @dataclass(frozen=True)
@@ -147,9 +147,9 @@ def _decimal_ints(v):
 
 
 def _midranks(x):
-    from scipy.stats import rankdata
+    from ..core.scores import midranks
 
-    return rankdata(x, method="average")
+    return midranks(x)
 
 
 def prepare(test, values, groups, blocks, n_groups=None) -> Layout:
