@@ -43,6 +43,7 @@ from ..plan.cost import Candidate
 from ..plan.sizes import big
 from ..result import EngineOutcome
 from . import ksample_dense
+from .tables import halves
 from .core import pvalues
 from .core.counting import multinomial, multinomial_weights
 from .core.grid import Grid, centred, integer_grid, is_constant
@@ -404,15 +405,24 @@ class QuadraticFamily:
     counting_words: str = ""
 
     def candidates(self, values, groups, draws: int = DEFAULT_DRAWS) -> list[Candidate]:
-        x, _, sizes = design(values, groups)
+        x, g, sizes = design(values, groups)
         arr = multinomial(sizes)
         out = [enumeration_candidate(arr, len(x), len(sizes))]
         out.append(self._counting_candidate(x, sizes, arr))
         dense = self._dense_candidate(x, sizes, arr)
         if dense is not None:
             out.append(dense)
+        table = self._table_candidate(x, g, arr)
+        if table is not None:
+            out.append(table)
         out.append(monte_carlo_candidate(len(x), arr, draws))
         return out
+
+    def _table_candidate(self, x, g, arr) -> Optional[Candidate]:
+        """Three or four groups on few distinct values, scores on a grid: the exact law over
+        the groups x categories table (tables/halves)."""
+        grid = self.grid(x) if self.grid else None
+        return None if grid is None else halves.candidate(x, g, grid.integers, arr)
 
     def _dense_candidate(self, x, sizes, arr) -> Optional[Candidate]:
         """Three groups with scores on a grid: dense tables of score sums (ksample_dense)."""
@@ -458,11 +468,12 @@ class QuadraticFamily:
             notes.append("each group has one value: every assignment gives the same statistic")
         run = {"enumeration": self._enumerate, "monte-carlo": self._sample,
                "dp-sums": self._count, "dp-hypergeometric": self._count_medians,
-               "dp-dense": self._count}.get(algorithm)
+               "dp-dense": self._count, halves.HALVES: self._table}.get(algorithm)
         dense_ok = (algorithm == "dp-dense" and self.grid is not None
                     and ksample_dense.applies(sizes))
+        table_ok = algorithm == halves.HALVES and self.grid is not None
         if run is None or (algorithm.startswith("dp-") and algorithm != self.counting
-                           and not dense_ok):
+                           and not dense_ok) or (algorithm == halves.HALVES and not table_ok):
             raise PlanError(f"the {self.key} family has no algorithm '{algorithm}'",
                             hint=f"use enumeration, {self.counting} or monte-carlo")
         parts = run(x=x, g=g, sizes=sizes, a=a, sst=sst, ssb_obs=ssb_obs, draws=draws, seed=seed,
@@ -538,6 +549,10 @@ class QuadraticFamily:
         words = DENSE_WORDS if dense else self.counting_words
         return dict(p_value=pvalues.clip(p), method="exact", algorithm=words,
                     **self._law(support / lcm, ways, z, sizes))
+
+    def _table(self, x, g, progress, **_):
+        p = halves.p_value(x, g, self.grid(x).integers, progress)
+        return dict(p_value=pvalues.clip(p), method="exact", algorithm=halves.WORDS)
 
     def _law(self, q, ways, z, sizes) -> dict:
         if len(q) > NULL_KEEP_MAX:
