@@ -125,6 +125,10 @@ def test_same_p_as_the_engines_it_stands_in_for(family, sizes, categories, algor
     assert route.method == "exact" and route.algorithm == H.WORDS
     assert route.p_value == pytest.approx(other.p_value, rel=1e-12, abs=1e-13)
     assert route.statistic == pytest.approx(other.statistic, rel=1e-12)
+    if other.null_support is not None:                 # the whole law, for the picture
+        assert route.null_probs.sum() == pytest.approx(1.0, abs=1e-12)
+        np.testing.assert_allclose(route.null_support, other.null_support, rtol=1e-9)
+        np.testing.assert_allclose(route.null_probs, other.null_probs, rtol=1e-9, atol=1e-15)
 
 
 def test_relabelling_offsets_and_scale_leave_p_alone():

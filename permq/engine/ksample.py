@@ -550,9 +550,12 @@ class QuadraticFamily:
         return dict(p_value=pvalues.clip(p), method="exact", algorithm=words,
                     **self._law(support / lcm, ways, z, sizes))
 
-    def _table(self, x, g, progress, **_):
-        p = halves.p_value(x, g, self.grid(x).integers, progress)
-        return dict(p_value=pvalues.clip(p), method="exact", algorithm=halves.WORDS)
+    def _table(self, x, g, sizes, progress, **_):
+        z = self.grid(x).integers
+        p = halves.p_value(x, g, z, progress)
+        law = halves.null_law(x, g, z, NULL_KEEP_MAX)
+        out = dict(p_value=pvalues.clip(p), method="exact", algorithm=halves.WORDS)
+        return out if law is None else {**out, **self._law(law[0], law[1], z, sizes)}
 
     def _law(self, q, ways, z, sizes) -> dict:
         if len(q) > NULL_KEEP_MAX:

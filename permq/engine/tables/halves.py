@@ -189,3 +189,25 @@ def p_value(x, g, z_units, progress: Progress = NO_PROGRESS) -> float:
     if abs(tot - 1.0) > 1e-9:
         raise ArithmeticError("the table law lost probability mass; no exact p-value")
     return float(ext)
+
+
+def null_law(x, g, z_units, keep: int) -> tuple | None:
+    """The whole null law of Q / L (L the lcm of the sizes; Q as in the module's note):
+    (sorted values, probabilities), or None when it has more than `keep` entries to add up
+    (for pictures; the p-value never needs it)."""
+    lay = layout(x, g, z_units)
+    kernels = loops()
+    if lay is None or kernels is None:
+        return None
+    cols, z = lay.cols.astype(np.int64), lay.z.astype(np.int64)
+    if kernels.law_bound(cols, z, lay.left, lay.right) > keep:
+        return None
+    lf = gammaln(np.arange(int(lay.cols.sum()) + 2, dtype=float) + 1.0)
+    qs, ws, n = kernels.law_entries(lay.cols.astype(np.int64), lay.z.astype(np.int64), lay.left,
+                                    lay.aleft, lay.right, lay.aright, lf, int(keep))
+    if n < 0:
+        return None
+    support, inverse = np.unique(qs, return_inverse=True)
+    probs = np.bincount(inverse.ravel(), weights=ws)
+    lcm = math.lcm(*lay.sizes)
+    return support / lcm, probs / probs.sum()

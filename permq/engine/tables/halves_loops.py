@@ -250,3 +250,85 @@ def extreme_mass(c, z, left, aleft, right, aright, q, lf):
         extreme += wu * part
         total += wu * ml * mr
     return extreme, total
+
+
+@njit
+def law_entries(c, z, left, aleft, right, aright, lf, cap):
+    """Every (Q, mass) of the tables with column margins c, one entry per (u, left sum, right
+    sum), at most `cap` entries: (Q values, masses, count); count -1 when there are more."""
+    K = c.shape[0]
+    N = 0
+    ztot = 0
+    for j in range(K):
+        N += c[j]
+        ztot += c[j] * z[j]
+    nl = left[0] + left[1]
+    us = compositions(c, nl)
+    width = (N + 1) * (z[K - 1] + 1) + 2
+    dl = np.zeros(width)
+    dr = np.zeros(width)
+    qs = np.zeros(cap, np.int64)
+    ws = np.zeros(cap)
+    r = np.zeros(K, np.int64)
+    base = _lchoose(lf, N, nl)
+    n = 0
+    for m in range(us.shape[0]):
+        u = us[m]
+        lw = -base
+        U = 0
+        for j in range(K):
+            lw += _lchoose(lf, c[j], u[j])
+            U += u[j] * z[j]
+            r[j] = c[j] - u[j]
+        wu = np.exp(lw)
+        T = ztot - U
+        if left[1] == 0:
+            llo = lhi = U
+            dl[0] = 1.0
+        else:
+            llo, lhi = _range(u, left[0], z)
+            for i in range(lhi - llo + 1):
+                dl[i] = 0.0
+            _law(u, left[0], z, lf, dl, llo)
+        rlo, rhi = _range(r, right[0], z)
+        for i in range(rhi - rlo + 1):
+            dr[i] = 0.0
+        _law(r, right[0], z, lf, dr, rlo)
+        for i in range(lhi - llo + 1):
+            if dl[i] == 0.0:
+                continue
+            s = llo + i
+            if left[1] == 0:
+                fl = aleft[0] * s * s
+            else:
+                fl = _f(aleft[0], aleft[1], s, U)
+            for j in range(rhi - rlo + 1):
+                if dr[j] == 0.0:
+                    continue
+                if n == cap:
+                    return qs, ws, -1
+                qs[n] = fl + _f(aright[0], aright[1], rlo + j, T)
+                ws[n] = wu * dl[i] * dr[j]
+                n += 1
+    return qs[:n], ws[:n], n
+
+
+@njit
+def law_bound(c, z, left, right):
+    """An upper bound on the entries of `law_entries`: over every u, the widths of the
+    ranges of the two halves' sums multiplied (read before any law is worked out)."""
+    K = c.shape[0]
+    us = compositions(c, left[0] + left[1])
+    r = np.zeros(K, np.int64)
+    total = 0.0
+    for m in range(us.shape[0]):
+        u = us[m]
+        for j in range(K):
+            r[j] = c[j] - u[j]
+        width = 1
+        if left[1] != 0:
+            llo, lhi = _range(u, left[0], z)
+            width = lhi - llo + 1
+        rlo, rhi = _range(r, right[0], z)
+        total += float(width) * float(rhi - rlo + 1)
+    return total
