@@ -38,6 +38,8 @@ WORDS = ("exact law over the groups x categories table, both margins fixed (the 
 # Offered for this many groups, and when the data take at most this many distinct values.
 GROUPS = (3, 4)
 MAX_CATEGORIES = 30
+# Binomials up to C(MAX_UNITS, MAX_UNITS / 2) stay finite as floats.
+MAX_UNITS = 1000
 # Q must stay an exact integer well inside int64.
 Q_LIMIT = 2 ** 61
 
@@ -49,15 +51,25 @@ def loops():
         from . import halves_loops
 
         c = np.array([1, 1, 1], np.int64)
-        lf = gammaln(np.arange(6, dtype=float) + 1.0)
+        lf, ch = _tables(3)
         ext, tot = halves_loops.extreme_mass(c, np.array([0, 1, 2], np.int64),
                                              np.array([1, 0], np.int64), np.array([1, 0], np.int64),
                                              np.array([1, 1], np.int64), np.array([1, 1], np.int64),
-                                             0, lf)
+                                             0, lf, ch)
         assert abs(tot - 1.0) < 1e-12 and abs(ext - 1.0) < 1e-12
         return halves_loops
     except Exception:                      # no numba, or it cannot compile here
         return None
+
+
+def _tables(N: int):
+    """Log factorials 0..N + 1 and the binomials C(a, b), a, b <= N, as floats (finite for
+    N <= MAX_UNITS)."""
+    lf = gammaln(np.arange(N + 2, dtype=float) + 1.0)
+    a = np.arange(N + 1)
+    with np.errstate(invalid="ignore"):
+        ch = np.exp(lf[a][:, None] - lf[a][None, :] - lf[np.maximum(a[:, None] - a[None, :], 0)])
+    return lf, np.where(a[None, :] <= a[:, None], np.round(ch) if N <= 60 else ch, 0.0)
 
 
 @dataclass(frozen=True)
@@ -83,7 +95,8 @@ def layout(x, g, z_units) -> Layout | None:
     zu = np.asarray(z_units, np.int64)
     k = int(g.max()) + 1
     cats, first, codes = np.unique(x, return_index=True, return_inverse=True)
-    if k not in GROUPS or not 2 <= cats.size <= MAX_CATEGORIES or cats.size >= x.size:
+    if (k not in GROUPS or not 2 <= cats.size <= MAX_CATEGORIES or cats.size >= x.size
+            or x.size > MAX_UNITS):
         return None
     z = zu[first]
     order = np.argsort(z, kind="stable")
@@ -181,10 +194,10 @@ def p_value(x, g, z_units, progress: Progress = NO_PROGRESS) -> float:
     kernels = loops()
     if kernels is None:
         raise RuntimeError("the table route needs numba's compiled loops")
-    lf = gammaln(np.arange(int(lay.cols.sum()) + 2, dtype=float) + 1.0)
+    lf, ch = _tables(int(lay.cols.sum()))
     progress.step(0.0, "tables")
     ext, tot = kernels.extreme_mass(lay.cols.astype(np.int64), lay.z.astype(np.int64),
-                                    lay.left, lay.aleft, lay.right, lay.aright, int(lay.q), lf)
+                                    lay.left, lay.aleft, lay.right, lay.aright, int(lay.q), lf, ch)
     progress.step(1.0, "tables")
     if abs(tot - 1.0) > 1e-9:
         raise ArithmeticError("the table law lost probability mass; no exact p-value")
@@ -202,9 +215,9 @@ def null_law(x, g, z_units, keep: int) -> tuple | None:
     cols, z = lay.cols.astype(np.int64), lay.z.astype(np.int64)
     if kernels.law_bound(cols, z, lay.left, lay.right) > keep:
         return None
-    lf = gammaln(np.arange(int(lay.cols.sum()) + 2, dtype=float) + 1.0)
-    qs, ws, n = kernels.law_entries(lay.cols.astype(np.int64), lay.z.astype(np.int64), lay.left,
-                                    lay.aleft, lay.right, lay.aright, lf, int(keep))
+    lf, ch = _tables(int(lay.cols.sum()))
+    qs, ws, n = kernels.law_entries(cols, z, lay.left, lay.aleft, lay.right, lay.aright, lf, ch,
+                                    int(keep))
     if n < 0:
         return None
     support, inverse = np.unique(qs, return_inverse=True)

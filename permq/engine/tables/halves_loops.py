@@ -80,24 +80,52 @@ def _range(r, n, z):
 
 
 @njit
-def _law(r, n, z, lf, dense, low):
-    """The law of the score sum of n units drawn from r, added into dense[S - low]; its mass."""
-    xs = compositions(r, n)
+def _law(r, n, z, ch, dense, low):
+    """The law of the score sum of n units drawn from r, added into dense[S - low]; its mass.
+    ch[a, b] = C(a, b) as a float. The cells are walked as an odometer carrying the partial
+    sum and the partial product of binomials, so nothing is allocated per draw."""
     K = r.shape[0]
     total = 0
     for j in range(K):
         total += r[j]
-    base = _lchoose(lf, total, n)
+    if n < 0 or n > total:
+        return 0.0
+    inv = 1.0 / ch[total, n]
+    suffix = np.zeros(K + 1, np.int64)
+    for j in range(K - 1, -1, -1):
+        suffix[j] = suffix[j + 1] + r[j]
+    x = np.zeros(K, np.int64)
+    rem = np.zeros(K + 1, np.int64)
+    sp = np.zeros(K + 1, np.int64)
+    wp = np.ones(K + 1)
+    rem[0] = n
     mass = 0.0
-    for m in range(xs.shape[0]):
-        s = 0
-        lw = -base
-        for j in range(K):
-            s += xs[m, j] * z[j]
-            lw += _lchoose(lf, r[j], xs[m, j])
-        w = np.exp(lw)
-        dense[s - low] += w
+    j = 0
+    while True:
+        while j < K - 1:
+            lo = rem[j] - suffix[j + 1]
+            x[j] = lo if lo > 0 else 0
+            rem[j + 1] = rem[j] - x[j]
+            sp[j + 1] = sp[j] + x[j] * z[j]
+            wp[j + 1] = wp[j] * ch[r[j], x[j]]
+            j += 1
+        last = rem[K - 1]
+        w = wp[K - 1] * ch[r[K - 1], last] * inv
+        dense[sp[K - 1] + last * z[K - 1] - low] += w
         mass += w
+        j = K - 2
+        while j >= 0:
+            hi = r[j] if r[j] < rem[j] else rem[j]
+            if x[j] < hi:
+                break
+            j -= 1
+        if j < 0:
+            break
+        x[j] += 1
+        rem[j + 1] = rem[j] - x[j]
+        sp[j + 1] = sp[j] + x[j] * z[j]
+        wp[j + 1] = wp[j] * ch[r[j], x[j]]
+        j += 1
     return mass
 
 
@@ -175,7 +203,7 @@ def _tail(cum, low, high, a0, a1, tot, t):
 
 
 @njit
-def extreme_mass(c, z, left, aleft, right, aright, q, lf):
+def extreme_mass(c, z, left, aleft, right, aright, q, lf, ch):
     """P(Q >= q) over the tables with column margins c and the groups' sizes, where
     Q = sum_g a_g S_g^2. `left` holds one or two group sizes (a second size 0: one group),
     `right` two; both with their weights a_g. The units of the left groups are a vector u
@@ -228,7 +256,7 @@ def extreme_mass(c, z, left, aleft, right, aright, q, lf):
         span = rhi - rlo + 1
         for i in range(span):
             dr[i] = 0.0
-        mr = _law(r, right[0], z, lf, dr, rlo)
+        mr = _law(r, right[0], z, ch, dr, rlo)
         acc = 0.0
         for i in range(span):
             acc += dr[i]
@@ -240,7 +268,7 @@ def extreme_mass(c, z, left, aleft, right, aright, q, lf):
         lspan = lhi - llo + 1
         for i in range(lspan):
             dl[i] = 0.0
-        ml = _law(u, left[0], z, lf, dl, llo)
+        ml = _law(u, left[0], z, ch, dl, llo)
         part = 0.0
         for i in range(lspan):
             if dl[i] > 0.0:
@@ -253,7 +281,7 @@ def extreme_mass(c, z, left, aleft, right, aright, q, lf):
 
 
 @njit
-def law_entries(c, z, left, aleft, right, aright, lf, cap):
+def law_entries(c, z, left, aleft, right, aright, lf, ch, cap):
     """Every (Q, mass) of the tables with column margins c, one entry per (u, left sum, right
     sum), at most `cap` entries: (Q values, masses, count); count -1 when there are more."""
     K = c.shape[0]
@@ -289,11 +317,11 @@ def law_entries(c, z, left, aleft, right, aright, lf, cap):
             llo, lhi = _range(u, left[0], z)
             for i in range(lhi - llo + 1):
                 dl[i] = 0.0
-            _law(u, left[0], z, lf, dl, llo)
+            _law(u, left[0], z, ch, dl, llo)
         rlo, rhi = _range(r, right[0], z)
         for i in range(rhi - rlo + 1):
             dr[i] = 0.0
-        _law(r, right[0], z, lf, dr, rlo)
+        _law(r, right[0], z, ch, dr, rlo)
         for i in range(lhi - llo + 1):
             if dl[i] == 0.0:
                 continue
