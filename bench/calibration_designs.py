@@ -75,7 +75,8 @@ def fitting(rng) -> list:
     for n in (14, 18, 20):
         out.append((f"compare {lst(rng.normal(size=n))} vs 0 exact", None))
     for sizes, ties in (((5, 5, 5), 9), ((8, 8, 8), 9), ((10, 12, 9), None), ((15, 15, 15), None),
-                        ((4, 5, 4, 5), 9), ((6, 6, 6, 6), 6), ((40, 40, 40), None)):
+                        ((4, 5, 4, 5), 9), ((6, 6, 6, 6), 6), ((40, 40, 40), None),
+                        ((25, 25, 25, 25), 4), ((30, 25, 20), 5)):   # few categories: the table
         tables = _groups_table(rng, sizes, 1, ties)
         for opts in ("using ranks", "", "using medians", "using normal-scores",
                      "sampled 20000 seed 1", f"ordered {_levels(len(sizes))} using ranks",

@@ -173,6 +173,31 @@ def test_k_sample_p_keeps_every_invariance(sizes, data, tr, relabel):
                 assert ps[0] == pytest.approx(want, rel=1e-9), (key, algorithm)
 
 
+sizes4 = st.lists(st.integers(2, 3), min_size=4, max_size=4).filter(lambda s: sum(s) <= 10)
+
+
+@BOUNDED
+@given(sizes4, st.data(), transforms(), st.permutations([0, 1, 2, 3]))
+def test_k_sample_table_route_keeps_every_invariance(sizes, data, tr, relabel):
+    from permq.engine.tables import halves
+
+    decimals, offset, power = tr
+    ks = data.draw(small(sum(sizes), sum(sizes), lo=-2, hi=1))      # at most 4 categories
+    groups = np.repeat(np.arange(4), sizes)
+    base, vs = versions(ks, decimals, offset, power)
+    if len(set(ks)) < 2:
+        return
+    order = np.random.default_rng(len(ks)).permutation(len(ks))
+    for key in ("means", "ranks"):
+        fam = ksample.FAMILIES[key]
+        want = float(brute.k_sample_p(key, base, groups))
+        ps = [fam.run(v, groups, "two-sided", halves.HALVES).p_value for v in vs]
+        ps.append(fam.run(vs[1][order], np.array(relabel)[groups][order], "two-sided",
+                          halves.HALVES).p_value)
+        assert same(ps), (key, ps)
+        assert ps[0] == pytest.approx(want, rel=1e-9), key
+
+
 @BOUNDED
 @given(sizes3, st.data(), transforms(), st.sampled_from(ALTERNATIVES))
 def test_ordered_p_keeps_every_invariance(sizes, data, tr, alternative):
