@@ -155,7 +155,7 @@ def test_offered_only_for_three_or_four_groups_on_few_values(monkeypatch):
     assert H.candidate(y, g, _rank_z(y)) is None
     names = [c.algorithm for c in ksample.NORMAL_SCORES.candidates(x, g)]
     assert H.HALVES not in names                       # its scores lie on no grid
-    monkeypatch.setattr(H, "loops", lambda: None)
+    monkeypatch.setattr(H, "compilable", lambda: False)
     c = H.candidate(x, g, _rank_z(x))
     assert not c.feasible and "numba" in c.note
 
