@@ -13,7 +13,7 @@ import numpy as np
 
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
-from .registry import Family, Kind, family_for
+from .registry import Family, Kind, Reported, family_for
 
 KINDS = {"control": Kind("compare", "levels against a control",
                          "add 'against \"LEVEL\"' (the control)")}
@@ -191,4 +191,9 @@ FAMILIES = [
            "Hodges-Lehmann shift per level, with simultaneous intervals",
            robustness=_robustness, help=_HELP, extra={"global_test": global_test,
                                                       "ranked": True}),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(("many-to-one",), "z: the pair's Mann-Whitney", sources=("steel-1959",)),
 ]
