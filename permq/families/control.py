@@ -184,7 +184,7 @@ FAMILIES = [
            plan, execute, "Dunnett's many-to-one t (pooled variance)",
            "difference in means per level, with simultaneous intervals",
            robustness=_robustness, default_in=("control",), help=_HELP,
-           extra={"global_test": global_test, "ranked": False}),
+           extra={"global_test": global_test, "ranked": False, "values_per_level": 2}),
     Family("ranks", ("control",), "many-to-one rank sums (re-ranked per pair), all units "
            "permuted together (Westfall-Young max-T)", "levels against a control, by ranks",
            plan, execute, "normal approximation to the pairwise-ranked sums",

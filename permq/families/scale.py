@@ -138,7 +138,7 @@ FAMILIES = [
            "Ansari-Bradley test of spread", plan, execute,
            "normal approximation to the Ansari-Bradley statistic (tie-corrected)",
            "ratio of interquartile ranges (no exact interval)", robustness=_check,
-           effect_sizes=effect_pieces(), extra={"unequal_spread_test": "welch"},
+           effect_sizes=effect_pieces(),
            help="  a difference in spread between two groups with the same centre:\n"
                 "  compare mass by recipe levels \"A\", \"B\" using ansari-bradley\n"
                 "  'alternative higher': the first group is the more spread out"),
