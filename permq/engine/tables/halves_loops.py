@@ -137,7 +137,7 @@ def _f(a0, a1, s, tot):
 @njit
 def _fmin(a0, a1, tot, low, high):
     """Least of a0 s^2 + a1 (tot - s)^2 over the integers low..high."""
-    v = a1 * tot / (a0 + a1)
+    v = float(a1) * float(tot) / float(a0 + a1)
     s = int(np.floor(v))
     best = _f(a0, a1, high, tot)
     other = _f(a0, a1, low, tot)
@@ -169,9 +169,9 @@ def _tail(cum, low, high, a0, a1, tot, t):
     if _fmax(a0, a1, tot, low, high) < t:
         return 0.0
     A = float(a0 + a1)
-    v = a1 * tot / A
+    v = float(a1) * float(tot) / A
     fv = int(np.floor(v))
-    disc = (a1 * tot) * (a1 * tot) / A / A - (a1 * tot * tot - t) / A
+    disc = v * v - (float(a1) * float(tot) * float(tot) - float(t)) / A   # in floats: no overflow
     root = np.sqrt(disc) if disc > 0 else 0.0
     # left tail: the largest s <= fv with f(s) >= t
     s1 = int(np.floor(v - root))
