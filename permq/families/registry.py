@@ -22,8 +22,8 @@ from typing import Callable, Optional
 # adding its module here.
 MODULES = ("two_sample", "one_sample", "k_sample", "ordered", "blocked", "association",
            "tables", "paired_counts", "two_proportions", "strata", "rates", "dose_response",
-           "many", "scale", "factorial", "adjusted", "events", "incomplete_blocks", "control",
-           "dose_finding", "studentized")
+           "many", "scale", "factorial", "adjusted", "events", "events_strata", "events_groups",
+           "incomplete_blocks", "control", "dose_finding", "studentized")
 
 
 @dataclass(frozen=True)
