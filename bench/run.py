@@ -141,7 +141,8 @@ def previous_cases():
     import pandas as pd
 
     import previous
-    from permq.engine import ksample_dense, rankintervals
+    from permq.engine import rankintervals
+    from permq.engine.ksample import dense as ksample_dense
     from permq.engine.association import inversions
 
     rng = np.random.default_rng(20261204)

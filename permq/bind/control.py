@@ -16,7 +16,6 @@ from .designs import ControlDesign
 
 FORMS = {"control": "comparisons against a control",
          "dose-finding": "doses in order against a control"}
-MIN_VALUES = {"means": 2}         # values each level needs (a spread of its own); others 1
 
 
 def bind_against(node, subject, opts, catalog, defaults) -> ControlDesign:
@@ -45,7 +44,7 @@ def bind_against(node, subject, opts, catalog, defaults) -> ControlDesign:
                         hint=f"levels found: {', '.join(present)}")
     chosen = g.isin(levels).to_numpy()
     y, g = y[chosen], g[chosen]
-    _check_counts(g, levels, s.family if kind == "control" else "", subject)
+    _check_counts(g, levels, kind, s.family, subject)
     codes = np.array([levels.index(v) for v in g], dtype=np.int64)
     values = y.to_numpy(float)
     if np.ptp(values) == 0:
@@ -132,8 +131,12 @@ def _ordered_levels(opts, present, g, subject, table, control) -> list:
     return list(levels)
 
 
-def _check_counts(g, levels, family, subject) -> None:
-    need = MIN_VALUES.get(family, 1)
+def _check_counts(g, levels, kind, family, subject) -> None:
+    """Every level keeps the values its family needs (`values_per_level` in its declaration's
+    extra: 2 where each level needs a spread of its own; else 1)."""
+    from ..families import registry
+
+    need = registry.find(kind, family).extra.get("values_per_level", 1)
     counts = g.value_counts()
     for lev in levels:
         have = int(counts.get(lev, 0))

@@ -43,11 +43,11 @@ def pooled_scores(kind: str, time, event) -> Scores:
 
 @lru_cache(maxsize=None)
 def _family(kind: str):
-    from . import ksample
+    from .ksample import quadratic
 
-    return ksample.QuadraticFamily(
+    return quadratic.QuadraticFamily(
         "censored-" + kind, STATISTIC_NAMES[kind], score=lambda x: np.asarray(x, dtype=float),
-        statistic_of=ksample.scaled_statistic(lambda N: N - 1), grid=ksample.value_grid,
+        statistic_of=quadratic.scaled_statistic(lambda N: N - 1), grid=quadratic.value_grid,
         counting_words="dynamic programming over group score sums (scores as exact integers)")
 
 

@@ -13,7 +13,7 @@ from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
 from .events import WEIGHTS, group_summary
-from .registry import Family, Kind
+from .registry import Family, Kind, Reported
 
 engine = module("permq.engine.events_groups")
 normal = module("permq.normal.events_groups")
@@ -73,3 +73,22 @@ FAMILIES = [
            no_robustness=NO_CHECK, default_in=("events-groups",) if word == "log-rank" else (),
            help=HELP + note)
     for word, (title, short, counterpart, note) in WEIGHTS.items()]
+
+# How reports name the tests (registry.Reported); the sources are in families/events.py
+# and below
+REPORTED = [
+    Reported(("events",), "k-sample log-rank", "k-sample log-rank test by permutation",
+             ('mantel-1966', 'klein-moeschberger-2003')),
+    Reported(("events",), "k-sample Gehan", "k-sample Gehan's generalised Wilcoxon test by permutation",
+             ('gehan-1965', 'klein-moeschberger-2003')),
+    Reported(("events",), "k-sample Tarone-Ware", "k-sample Tarone-Ware test by permutation",
+             ('tarone-ware-1977', 'klein-moeschberger-2003')),
+    Reported(("events",), "k-sample Peto-Prentice", "k-sample Peto-Prentice generalised Wilcoxon test by permutation",
+             ('peto-peto-1972', 'prentice-1978', 'klein-moeschberger-2003')),
+]
+# Standard citation, given from memory
+BIBLIOGRAPHY = {
+    "klein-moeschberger-2003": "Klein, J. P. and Moeschberger, M. L. (2003). Survival "
+                               "Analysis: Techniques for Censored and Truncated Data, 2nd ed. "
+                               "Springer, New York.",
+}
