@@ -12,7 +12,7 @@ from __future__ import annotations
 from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
-from .events import WEIGHTS, group_summary
+from .events import REPORTED as TWO_GROUPS_REPORTED, WEIGHTS, group_summary
 from .registry import Family, Kind, Reported
 
 engine = module("permq.engine.events_groups")
@@ -74,18 +74,11 @@ FAMILIES = [
            help=HELP + note)
     for word, (title, short, counterpart, note) in WEIGHTS.items()]
 
-# How reports name the tests (registry.Reported); the sources are in families/events.py
-# and below
-REPORTED = [
-    Reported(("events",), "k-sample log-rank", "k-sample log-rank test by permutation",
-             ('mantel-1966', 'klein-moeschberger-2003')),
-    Reported(("events",), "k-sample Gehan", "k-sample Gehan's generalised Wilcoxon test by permutation",
-             ('gehan-1965', 'klein-moeschberger-2003')),
-    Reported(("events",), "k-sample Tarone-Ware", "k-sample Tarone-Ware test by permutation",
-             ('tarone-ware-1977', 'klein-moeschberger-2003')),
-    Reported(("events",), "k-sample Peto-Prentice", "k-sample Peto-Prentice generalised Wilcoxon test by permutation",
-             ('peto-peto-1972', 'prentice-1978', 'klein-moeschberger-2003')),
-]
+# How reports name the tests (registry.Reported): the two-group names with their sources
+REPORTED = [Reported(("events",), "k-sample " + r.statistic,
+                     f"k-sample {r.name.removesuffix(' by permutation')} by permutation",
+                     r.sources + ("klein-moeschberger-2003",))
+            for r in TWO_GROUPS_REPORTED]
 # Standard citation, given from memory
 BIBLIOGRAPHY = {
     "klein-moeschberger-2003": "Klein, J. P. and Moeschberger, M. L. (2003). Survival "

@@ -15,7 +15,7 @@ from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
-from .events import WEIGHTS, group_summary
+from .events import REPORTED as TWO_GROUPS_REPORTED, WEIGHTS, group_summary
 from .registry import Family, Kind, Reported
 
 engine = module("permq.engine.events_strata")
@@ -92,18 +92,12 @@ FAMILIES = [
            help=HELP + note)
     for word, (title, short, counterpart, note) in WEIGHTS.items()]
 
-# How reports name the tests (registry.Reported); the sources are in families/events.py
-# and below
-REPORTED = [
-    Reported(("events",), "stratified log-rank", "stratified log-rank test by permutation within strata",
-             ('mantel-1966', 'kalbfleisch-prentice-1980')),
-    Reported(("events",), "stratified Gehan", "stratified Gehan's generalised Wilcoxon test by permutation within strata",
-             ('gehan-1965', 'kalbfleisch-prentice-1980')),
-    Reported(("events",), "stratified Tarone-Ware", "stratified Tarone-Ware test by permutation within strata",
-             ('tarone-ware-1977', 'kalbfleisch-prentice-1980')),
-    Reported(("events",), "stratified Peto-Prentice", "stratified Peto-Prentice generalised Wilcoxon test by permutation within strata",
-             ('peto-peto-1972', 'prentice-1978', 'kalbfleisch-prentice-1980')),
-]
+# How reports name the tests (registry.Reported): the two-group names with their sources
+REPORTED = [Reported(("events",), "stratified " + r.statistic,
+                     f"stratified {r.name.removesuffix(' by permutation')} by permutation "
+                     "within strata",
+                     r.sources + ("kalbfleisch-prentice-1980",))
+            for r in TWO_GROUPS_REPORTED]
 # Standard citation, given from memory
 BIBLIOGRAPHY = {
     "kalbfleisch-prentice-1980": "Kalbfleisch, J. D. and Prentice, R. L. (1980). The "
