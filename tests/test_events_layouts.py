@@ -220,7 +220,7 @@ def test_strata_statement_end_to_end():
     d_ = r.to_dict()
     assert d_["normal_interval"]["interval"][0] < d_["estimate"]["value"]
     assert "normal-theory interval" in r.sentence() and "within strata" in r.sentence()
-    assert [row["stratum"] for row in r.extra["event_strata"]] == ["middle", "older", "young"]
+    assert [row["stratum"] for row in r.extra["strata"]] == ["middle", "older", "young"]
 
 
 def test_groups_statement_end_to_end():

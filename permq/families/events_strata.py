@@ -57,7 +57,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                   effect=f"hazard of {a} against {b} within strata of {design.names[3]} "
                          f"(higher: {a} has the events sooner); event: {design.event_words}",
                   two_sided_rule=TWO_SIDED_LINEAR, warnings=list(design.warnings),
-                  also_normal=also, extra={"survival": survival, "event_strata": _rows(design)})
+                  also_normal=also, extra={"survival": survival, "strata": _rows(design)})
 
 
 def _rows(design) -> list:
