@@ -223,9 +223,14 @@ def test_no_events_and_negative_times_are_refused():
     assert isinstance(out, permq.Failure) and "negative time (row 5" in str(out)
 
 
-def test_robustness_says_why_there_is_none():
-    out = permq.run("robustness compare weeks by drug event relapse", tables={"leuk": frame()})
-    assert isinstance(out[-1], permq.Failure) and "censored times" in str(out[-1])
+def test_robustness_checks_the_censoring_schemes():
+    out = permq.run("robustness compare weeks by drug event relapse datasets 200 seed 2",
+                    tables={"leuk": frame()})[-1]
+    assert not isinstance(out, permq.Failure), out
+    assert out.counts and len(out.rows) == 8 and out.rows[-1].not_exact
+    assert "hazard ratio" in out.shift_words
+    d = out.to_dict()
+    assert d["analysis"]["family"] == "events" and len(d["laws"]) == 8
 
 
 def test_help_and_completion_know_the_form():

@@ -65,8 +65,11 @@ def group_summary(name, time, event) -> dict:
             "censored": int(len(time) - sum(event)), "median": km_median(time, event)}
 
 
-NO_CHECK = ("censored times are not a response under the check's panel of error laws, and "
-            "the check has no censoring scheme: there is no robustness form for them yet")
+def censored_check(design):
+    """The robustness check of censored times (robustness/censored), with this weight."""
+    from ..robustness.spec import CensoredCheck
+
+    return CensoredCheck(design.settings.family)
 
 HELP = """  censored times to an event, two groups:
   compare days by supplier event failed in lamps    failed: 1 = the event, 0 = censored then
@@ -100,7 +103,7 @@ FAMILIES = [
            short if word != "log-rank" else "log-rank test of censored times", plan, execute,
            counterpart,
            "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
-           no_robustness=NO_CHECK, default_in=("events",) if word == "log-rank" else (),
+           robustness=censored_check, default_in=("events",) if word == "log-rank" else (),
            help=HELP + note)
     for word, (title, short, counterpart, note) in WEIGHTS.items()]
 

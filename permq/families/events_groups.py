@@ -12,7 +12,7 @@ from __future__ import annotations
 from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
-from .events import REPORTED as TWO_GROUPS_REPORTED, WEIGHTS, group_summary
+from .events import REPORTED as TWO_GROUPS_REPORTED, WEIGHTS, censored_check, group_summary
 from .registry import Family, Kind, Reported
 
 engine = module("permq.engine.events_groups")
@@ -56,8 +56,6 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                   also_normal=also, extra={"survival": survival})
 
 
-NO_CHECK = ("censored times are not a response under the check's panel of error laws, and "
-            "the check has no censoring scheme: there is no robustness form for them yet")
 
 HELP = """  censored times, three or more groups:
   compare days by supplier event failed in lamps      (supplier with 3 or more levels)
@@ -70,7 +68,7 @@ FAMILIES = [
            f"k-sample {short} of censored times", plan, execute,
            f"{counterpart}, k - 1 df",
            "none for k groups: observed and expected events per group",
-           no_robustness=NO_CHECK, default_in=("events-groups",) if word == "log-rank" else (),
+           robustness=censored_check, default_in=("events-groups",) if word == "log-rank" else (),
            help=HELP + note)
     for word, (title, short, counterpart, note) in WEIGHTS.items()]
 

@@ -15,7 +15,7 @@ from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
-from .events import REPORTED as TWO_GROUPS_REPORTED, WEIGHTS, group_summary
+from .events import REPORTED as TWO_GROUPS_REPORTED, WEIGHTS, censored_check, group_summary
 from .registry import Family, Kind, Reported
 
 engine = module("permq.engine.events_strata")
@@ -71,8 +71,6 @@ def _rows(design) -> list:
     return rows
 
 
-NO_CHECK = ("censored times are not a response under the check's panel of error laws, and "
-            "the check has no censoring scheme: there is no robustness form for them yet")
 
 
 HELP = """  censored times, two groups within strata:
@@ -88,7 +86,7 @@ FAMILIES = [
            f"stratified {counterpart}",
            "stratified hazard ratio exp(U / V) with its normal-theory interval (no exact "
            "interval: the permutation law tests equal hazards only)",
-           no_robustness=NO_CHECK, default_in=("events-strata",) if word == "log-rank" else (),
+           robustness=censored_check, default_in=("events-strata",) if word == "log-rank" else (),
            help=HELP + note)
     for word, (title, short, counterpart, note) in WEIGHTS.items()]
 

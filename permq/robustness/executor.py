@@ -25,6 +25,7 @@ from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
 from .problem import pattern_for, problem_for
 from .simulate import BLOCK, PERMUTATIONS, simulate
+from .spec import CensoredCheck
 
 OPTIONS = ("datasets", "shift", "significance")
 DEFAULT_DATASETS = 2000
@@ -79,6 +80,13 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
     design = bind(without_check_options(inner), catalog, defaults)
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
+    if isinstance(_declared_check(design), CensoredCheck):
+        from .censored.check import check_events
+
+        observed = _observed(design, text, progress, check)
+        return check_events(text, design, observed, check, int(seed), progress,
+                            null_picture(design, observed.outcome, int(seed)),
+                            list(design.warnings))
     counts = event_check.view(design)       # the event forms, seen as tables of counts
     if counts is not None or isinstance(design, designs.TableDesign):
         target = design if counts is None else counts
@@ -146,6 +154,12 @@ def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note
                 {"plan": str(the_plan), "method": the_plan.method,
                  "algorithm": the_plan.chosen.description, "check": what,
                  "estimated_seconds": seconds})
+
+
+def _declared_check(design):
+    """The family's declared check, or None where it has none (check_for says why)."""
+    family = family_for(design)
+    return family.robustness(design) if family.robustness is not None else None
 
 
 def _table_effect(design, check, inner):
