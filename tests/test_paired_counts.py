@@ -185,3 +185,39 @@ def test_robustness_of_paired_categories(using):
     assert [r.permutation_rate for r in again.rows] == [r.permutation_rate for r in out.rows]
     out = permq.run(statement + " shift 2", tables=frame())[-1]
     assert isinstance(out, permq.Failure) and "observed table" in str(out)
+
+
+def test_cochran_checks_exact_p_is_the_blocked_engines_on_simulated_tables():
+    """Cochran's Q is Friedman's tie-corrected statistic on 0/1 data: every simulated table's
+    exact p from the law of the column totals is the blocked engine's exact p."""
+    from permq.engine import blocks
+    from permq.robustness.tables import several_paired as SP
+
+    y = np.array(D)
+    v = SP.SeveralView(y, (), ("d1", "d2", "d3"), None)
+    tests = SP.tests_for(v)
+    for scheme in SP.panel(y)[:2]:
+        tables = scheme.null(np.random.default_rng(5), 12)
+        got = tests.exact_p(tables)
+        for i, t in enumerate(tables):
+            rows = t.sum(axis=1)
+            keep = (rows > 0) & (rows < 3)
+            if not keep.any():
+                assert got[i] == 1.0
+                continue
+            values = t[keep].ravel().astype(float)
+            groups = np.tile(np.arange(3), int(keep.sum()))
+            units = np.repeat(np.arange(int(keep.sum())), 3)
+            want = blocks.run("friedman", values, groups, units, "two-sided", "dp-vector",
+                              n_groups=3).p_value
+            assert got[i] == pytest.approx(want, rel=1e-9), (scheme.key, t)
+
+
+def test_robustness_of_several_paired_outcomes():
+    statement = "robustness count d1 vs d2 vs d3 paired in u datasets 200 seed 3"
+    out = permq.run(statement, tables=frame())[-1]
+    assert not isinstance(out, permq.Failure), out
+    assert [r.key for r in out.rows] == ["independent-outcomes", "totals-fixed",
+                                        "clustered-units"]
+    assert out.rows[1].permutation_rate <= 0.05 + 3 * out.rows[1].permutation_se
+    assert [r.key for r in out.rows if r.not_exact] == ["clustered-units"]

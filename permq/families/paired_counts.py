@@ -132,6 +132,13 @@ def cochran_q(y: np.ndarray) -> float:
 
 # ---------------------------------------------------------------- declarations
 
+def _several_check(design):
+    """The count check of several yes/no outcomes (robustness/tables/several_paired.py)."""
+    from ..robustness.spec import CountCheck
+
+    return CountCheck("several-paired")
+
+
 def _categories_check(statistic: str):
     """The count check of paired categories (robustness/tables/paired_categories.py) with
     the engine's statistic."""
@@ -160,7 +167,7 @@ FAMILIES = [
            "Cochran's Q test by permutation within units",
            "Cochran's Q (several yes/no outcomes)", plan_cochran, execute_cochran,
            "chi-square approximation to Cochran's Q", "range of the column proportions",
-           no_robustness="no sampling scheme for several paired outcomes yet",
+           robustness=_several_check,
            default_in=("several-paired",), effect_sizes=effect_pieces()),
 ]
 

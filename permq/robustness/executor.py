@@ -20,6 +20,7 @@ from ..syntax import nodes as n
 from . import coverage, laws, report
 from .tables import check as table_check
 from .tables import events as event_check
+from .tables import several_paired
 from .arrangements import EXACT_LIMIT, reference_size
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
@@ -87,12 +88,14 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
         return check_events(text, design, observed, check, int(seed), progress,
                             null_picture(design, observed.outcome, int(seed)),
                             list(design.warnings))
-    counts = event_check.view(design)       # the event forms, seen as tables of counts
+    several = several_paired.view(design)   # several yes/no outcomes, units x columns
+    counts = several if several is not None else event_check.view(design)  # event forms too
     if counts is not None or isinstance(design, designs.TableDesign):
         target = design if counts is None else counts
         effect = _table_effect(target, check, inner)    # before the analysis runs
         observed = _observed(design, text, progress, check)
-        tests = None if counts is None else event_check.tests_for(counts, (check.alpha,))
+        tests = (None if counts is None else several_paired.tests_for(counts)
+                 if several is not None else event_check.tests_for(counts, (check.alpha,)))
         return table_check.check_table(text, target, observed, check, int(seed), progress,
                                        null_picture(design, observed.outcome, int(seed)),
                                        list(design.warnings), effect, tests)
@@ -165,6 +168,8 @@ def _declared_check(design):
 def _table_effect(design, check, inner):
     """The effect of a count design's check; a `shift` that does not fit is marked."""
     try:
+        if isinstance(design, several_paired.SeveralView):
+            return several_paired.effect_for(design, check.shift)
         if event_check.is_view(design):
             return event_check.effect_for(design, check.shift)
         return table_check.effect_for(design, check.shift)

@@ -33,6 +33,9 @@ WHY_EXACT = {
     "paired-categories": "the units are independent there and each unit's two outcomes are "
                          "in either order with chance 1/2, so given the pair totals the swaps "
                          "are the law the test conditions on",
+    "several-paired": "the units are independent there and each unit's outcomes are "
+                      "exchangeable across the columns, so given its total its yeses fall on "
+                      "the columns as a random choice, the law the test conditions on",
     "strata": "the units are independent there, so given its margins every stratum's table is "
               "hypergeometric, the law the test conditions on",
     "ordered-strata": "the units are independent there, so given its margins every stratum's "
@@ -40,6 +43,7 @@ WHY_EXACT = {
 }
 MAIN_SCHEME = {"table": "rows-fixed", "paired": "independent-pairs",
                "paired-categories": "independent-units",
+               "several-paired": "independent-outcomes",
                "proportion": "independent-trials", "rates": "poisson",
                "two-proportions": "rows-fixed", "dose-response": "rows-fixed",
                "strata": "rows-fixed", "ordered-strata": "rows-fixed"}
@@ -59,6 +63,10 @@ def counts_words(design) -> str:
         return f"{int(t[0, 1] + t[1, 0])} discordant pairs"
     if design.form == "paired-categories":
         return f"{int(t.sum() - np.trace(t))} units that changed category"
+    if design.form == "several-paired":
+        rows = t.sum(axis=1)
+        return (f"{int(((rows > 0) & (rows < t.shape[1])).sum())} of {t.shape[0]} units "
+                "with both outcomes")
     if design.form == "rates":
         return "events " + ", ".join(str(int(v)) for v in t.ravel())
     if design.form in ("strata", "ordered-strata"):
@@ -81,6 +89,8 @@ def design_words(design) -> str:
     if design.form == "paired":
         return (f"{int(t.sum())} pairs, {int(t[0, 1] + t[1, 0])} discordant "
                 f"(b = {int(t[0, 1])}, c = {int(t[1, 0])})")
+    if design.form == "several-paired":
+        return f"{t.shape[0]} units, {t.shape[1]} yes/no outcomes each"
     if design.form == "paired-categories":
         return (f"{t.shape[0]} x {t.shape[0]} paired categories, {int(t.sum())} units, "
                 f"{int(t.sum() - np.trace(t))} changed")
