@@ -65,8 +65,13 @@ def hazard_ratio(time1, event1, time2, event2, level: float, labels) -> Estimate
     """Peto's one-step estimate exp(U / V) of the hazard ratio first / second (U, V of the
     log-rank test); its interval is normal theory (`hazard_interval`), none is exact."""
     a, b = labels
-    name = f"hazard ratio {a} / {b} (log-rank one-step, exp(U / V))"
     u, v = score_and_variance("log-rank", time1, event1, time2, event2)
+    return one_step_estimate(u, v, level,
+                             f"hazard ratio {a} / {b} (log-rank one-step, exp(U / V))")
+
+
+def one_step_estimate(u: float, v: float, level: float, name: str) -> Estimate:
+    """exp(U / V) of the log-rank U and V (NaN where V is zero), with no exact interval."""
     value = math.exp(u / v) if v > 0 else float("nan")
     return Estimate(name, value, None, level,
                     "no exact interval: the permutation law tests equal hazards only")

@@ -13,7 +13,7 @@ import math
 import numpy as np
 
 from ..result import Estimate, NormalTheory
-from .events import NAMES, one_step_interval, score_and_variance
+from .events import NAMES, one_step_estimate, one_step_interval, score_and_variance
 from .tails import p_from_z
 
 
@@ -58,8 +58,6 @@ def hazard_ratio(time, event, groups, strata, level, labels) -> Estimate:
     """exp(U / V) of the stratified log-rank U and V; its interval is normal theory (in
     `chi_square`), none is exact."""
     a, b = labels
-    name = f"hazard ratio {a} / {b} within strata (stratified log-rank one-step, exp(U / V))"
-    u, v = parts("log-rank", time, event, groups, strata)
-    value = math.exp(u / v) if v > 0 else float("nan")
-    return Estimate(name, value, None, level,
-                    "no exact interval: the permutation law tests equal hazards only")
+    return one_step_estimate(*parts("log-rank", time, event, groups, strata), level,
+                             f"hazard ratio {a} / {b} within strata (stratified log-rank "
+                             "one-step, exp(U / V))")

@@ -195,14 +195,5 @@ def summary(table, alpha, normal_test, shift_words, null_effect) -> list:
             lines.append(f"Under {r.name} it is not exact ({r.not_exact}): its rate is "
                          f"{r.permutation_rate:.3f} ± {r.permutation_se:.3f}, "
                          f"{r.permutation_verdict.split(', ', 1)[-1]}.")
-    main = table[0]
-    lines.append(f"Power at {shift_words}: under {main.name}, {main.normal_power:.2f} "
-                 f"({normal_test}) and {main.permutation_power:.2f} (permutation test).")
-    if null_effect:
-        lines.append("That effect is no effect at all: the power columns repeat the rates "
-                     "under the null.")
-        return lines
-    fair = [r for r in table if r.normal_verdict != "too liberal"
-            and "liberal" not in r.permutation_verdict and "above" not in r.permutation_verdict]
-    lines.extend(report.power_comparison(fair, "permutation test"))
-    return lines
+    return lines + report.power_lines(table[0], table, normal_test, shift_words, null_effect,
+                                      "permutation test")

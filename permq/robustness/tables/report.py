@@ -166,18 +166,7 @@ def _exact_lines(table, alpha, form) -> list:
 
 def _power_lines(table, form, normal_test, shift_words, null_effect) -> list:
     main = next((r for r in table if r.key == MAIN_SCHEME[form]), table[0])
-    out = [f"Power at {shift_words}: under {main.name}, {main.normal_power:.2f} "
-           f"({normal_test}) and {main.permutation_power:.2f} (exact test)."]
-    if null_effect:
-        out.append("That effect is no effect at all: the power columns repeat the rates under "
-                   "the null.")
-        return out
-    fair = [r for r in table if r.normal_verdict != "too liberal"
-            and "liberal" not in r.permutation_verdict and "above" not in r.permutation_verdict]
-    out.extend(report.power_comparison(fair, "exact test"))
-    if len(fair) < len(table):
-        out.append("Power is compared only where neither test is too liberal.")
-    return out
+    return report.power_lines(main, table, normal_test, shift_words, null_effect, "exact test")
 
 
 def degenerate(design):
