@@ -135,3 +135,10 @@ def test_every_stratum_has_the_share_censored():
         _, e = SC.drawer(scheme, first, strata, 3).draw(np.random.default_rng(2), 40)
         for s in range(3):
             assert 1 - e[:, strata == s].mean() == pytest.approx(0.3, abs=0.03), scheme.key
+
+
+def test_explain_names_the_check_without_running_it():
+    out = permq.run("explain robustness compare days by arm event dead within age",
+                    tables={"heart": frame()})[-1]
+    assert not isinstance(out, permq.Failure), out
+    assert "scheme of event times and censoring" in str(out)

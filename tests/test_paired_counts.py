@@ -221,3 +221,11 @@ def test_robustness_of_several_paired_outcomes():
                                         "clustered-units"]
     assert out.rows[1].permutation_rate <= 0.05 + 3 * out.rows[1].permutation_se
     assert [r.key for r in out.rows if r.not_exact] == ["clustered-units"]
+
+
+@pytest.mark.parametrize("statement", ["explain robustness count d1 vs d2 vs d3 paired in u",
+                                       "explain robustness count before vs after paired in t"])
+def test_explain_names_the_count_check(statement):
+    out = permq.run(statement, tables=frame())[-1]
+    assert not isinstance(out, permq.Failure), out
+    assert "simulated tables a sampling scheme" in str(out)

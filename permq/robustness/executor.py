@@ -134,8 +134,13 @@ def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings, seed=seed))
     the_plan = family_for(design).plan(design)
     seconds = None
-    counts = event_check.view(design)
-    if counts is not None or isinstance(design, designs.TableDesign):
+    several = several_paired.view(design)
+    counts = several if several is not None else event_check.view(design)
+    if isinstance(_declared_check(design), CensoredCheck):
+        what = (f"the check: {check.datasets:,} simulated data sets a scheme of event times "
+                "and censoring, under the null and at a hazard ratio, each given both tests on "
+                "its own risk sets; not estimated")
+    elif counts is not None or isinstance(design, designs.TableDesign):
         _table_effect(design if counts is None else counts, check, inner)
         what = (f"the check: {check.datasets:,} simulated tables a sampling scheme, under the "
                 "null and at the effect, each given the exact test; its time depends on how "
