@@ -77,9 +77,11 @@ censored times to an event (try them on the demo's lamps and bulbs)
   compare days by supplier event failed       log-rank test, exact over the labels; failed: 1 / 0
   compare days by supplier event state "out"  your text column: that value marks the event
   ... using gehan | tarone-ware | peto-prentice   weighted forms; the chi-square beside each
-  compare days by supplier event failed within house   two suppliers, each house its own
-                                              risk sets, labels permuted within houses
-  compare days by supplier event failed       with 3 or more suppliers: the k-sample test""",
+  compare days by supplier event failed levels "Corvo", "Halden" within house in bulbs
+                                              two suppliers, each house its own risk sets,
+                                              labels permuted within houses
+  compare days by supplier event failed in bulbs   3 suppliers: the k-sample log-rank test
+  robustness compare days by supplier event failed in lamps   event-time laws, censoring""",
     "many": """several responses or comparisons at once, permuted together
   compare mass, light by recipe levels "A", "B" adjust max-t step-down
   compare every numeric except tray by recipe adjust max-t
