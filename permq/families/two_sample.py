@@ -83,6 +83,11 @@ def _estimate(design, interval, method, the_draws=0):
         how = ("order statistics of the pairwise differences at the exact rank-sum quantiles "
                "(no-ties law)" if exact else "order statistics at normal-approximation ranks")
         return Estimate(f"Hodges-Lehmann shift {design.effect}", est, iv, s.level, how)
+    if s.family == "normal-scores":    # the shift the test is for; its interval is the rank sum's
+        est, _, _ = rankintervals.hodges_lehmann_two_sample(x, y, s.level, s.alternative)
+        return Estimate(f"Hodges-Lehmann shift {design.effect}", est, None, s.level,
+                        "no exact interval for this family ('using ranks' gives this shift "
+                        "with the rank-sum test's exact interval)")
     return Estimate(f"difference in medians {design.effect}",
                     float(np.median(x) - np.median(y)), None, s.level,
                     "no exact interval for this family")
