@@ -68,7 +68,8 @@ def _sorted_ends(jumps, identity, total, level, alternative):
 
 
 @pytest.mark.parametrize("alternative", ["two-sided", "higher", "lower"])
-@pytest.mark.parametrize("kind", ["continuous", "grid", "near-ties", "one-group-at-the-end"])
+@pytest.mark.parametrize("kind", ["continuous", "grid", "near-ties", "one-group-at-the-end",
+                                  "long-chain"])
 @pytest.mark.parametrize("level", [0.95, 0.9, 0.999])
 def test_sampled_jumps_read_from_their_ends_give_the_ends_of_the_full_sort(alternative, kind,
                                                                            level):
@@ -84,6 +85,9 @@ def test_sampled_jumps_read_from_their_ends_give_the_ends_of_the_full_sort(alter
     elif kind == "near-ties":                  # equal jumps written one ulp apart
         base = np.round(rng.normal(size=n), 2)
         jumps = np.where(rng.random(n) < 0.5, base, np.nextafter(base, np.inf))
+    elif kind == "long-chain":                 # jumps 0.9 tolerance apart: one wide group
+        jumps = 1.0 + np.arange(n) * 0.9e-12 * (1.0 + n * 1e-12)
+        jumps[: n // 2] = -np.abs(rng.normal(size=n // 2))     # the chain is the top
     else:                                      # every jump near the cut in one group
         jumps = rng.normal(size=n)
         order = np.sort(jumps)

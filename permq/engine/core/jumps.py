@@ -59,31 +59,54 @@ def _ends_of_sampled(values, identity, total, level, alternative):
     if values.size < 8 * need + 1024:
         return None
     scale = max(float(np.max(np.abs(values))), 1e-300)
+    n = values.size
+    split = np.partition(values, [need - 1, n - need])   # the need smallest, ..., the need largest
     lo, hi = -np.inf, np.inf
     if alternative in ("two-sided", "higher"):
-        part = _smallest_whole_groups(values, need, scale)
+        part = _whole_groups(split[:need], split[need:], scale, low=True)
         v, c = _merge_equal(part, np.ones(part.size), scale)
         lo = _end(v, c, identity, total, side, -np.inf, np.inf)
     if alternative in ("two-sided", "lower"):
-        part = -_smallest_whole_groups(-values, need, scale)[::-1]      # ascending
+        part = _whole_groups(split[n - need:], split[:n - need], scale, low=False)
         v, c = _merge_equal(part, np.ones(part.size), scale)
         hi = _end(v[::-1], c[::-1], identity, total, side, np.inf, -np.inf)
     return lo, hi
 
 
-def _smallest_whole_groups(values, k: int, scale: float) -> np.ndarray:
-    """The k smallest values, sorted, with every value of the last one's group of equal jumps
-    (consecutive sorted values within 1e-12 * scale, as _merge_equal groups them)."""
+WINDOW = 64          # tolerances searched past the cut for the rest of its group
+
+
+def _whole_groups(part, rest, scale: float, low: bool) -> np.ndarray:
+    """`part` (the smallest, or the largest, values) with the values of `rest` in the group of
+    equal jumps at its edge (consecutive sorted values within 1e-12 * scale, as _merge_equal
+    groups them), sorted ascending."""
     tol = 1e-12 * scale
-    t = np.partition(values, k - 1)[k - 1]
-    while True:
-        above = values[values > t]
-        if above.size == 0:
-            return np.sort(values)
-        nearest = above.min()
-        if nearest - t > tol:           # a new group starts past t: the part ends at t
-            return np.sort(values[values <= t])
-        t = nearest
+    edge = part.max() if low else part.min()
+    near = rest[rest - edge <= WINDOW * tol] if low else rest[edge - rest <= WINDOW * tol]
+    near = np.sort(near) if low else np.sort(near)[::-1]
+    walk = np.concatenate([[edge], near])
+    steps = walk[1:] - walk[:-1] if low else walk[:-1] - walk[1:]   # upper - lower, as np.diff
+    breaks = np.flatnonzero(steps > tol)
+    taken = int(breaks[0]) if breaks.size else near.size
+    if taken == near.size and abs(walk[-1] - edge) >= (WINDOW - 1) * tol:
+        # the group may run past the window: the slow way
+        return _sorted_whole_groups(np.concatenate([part, rest]), part.size, scale, low)
+    return np.sort(np.concatenate([part, near[:taken]]))
+
+
+def _sorted_whole_groups(values, k: int, scale: float, low: bool) -> np.ndarray:
+    """_whole_groups the slow way (a group of near-equal jumps wider than the window)."""
+    values = np.sort(values)
+    tol = 1e-12 * scale
+    if low:
+        i = k
+        while i < values.size and values[i] - values[i - 1] <= tol:
+            i += 1
+        return values[:i]
+    i = values.size - k
+    while i > 0 and values[i] - values[i - 1] <= tol:
+        i -= 1
+    return values[i:]
 
 
 def _end(values, counts, identity, total, side, open_end, empty):
