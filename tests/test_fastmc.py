@@ -59,10 +59,18 @@ def test_subset_sums_agree_on_every_path(decimals, n1):
 
 @pytest.mark.parametrize("n1, N, size", [(3, 23, 500), (20, 23, 257), (100, 200, 1001),
                                          (1, 4, 3), (7, 60, 2)])
-def test_subset_sums_drawn_in_the_loop_match_drawing_first(n1, N, size):
+@pytest.mark.parametrize("scores", ["decimals", "whole", "whole-negative", "huge"])
+def test_subset_sums_drawn_in_the_loop_match_drawing_first(n1, N, size, scores):
     # the C loops step numpy's PCG64 themselves: the same integers as random_u32, the same
-    # numbers as the numpy path, and the generator left where random_u32 leaves it
+    # numbers as the numpy path, and the generator left where random_u32 leaves it; whole
+    # scores take the packed integer loop where every sum is exact
     a = np.round(np.random.default_rng(n1).normal(size=N), 2)
+    if scores == "whole":
+        a = np.round(a * 300); a -= a.min()
+    elif scores == "whole-negative":
+        a = np.round(a * 300)
+    elif scores == "huge":                  # sums past 2^53: the floating-point loop
+        a = np.round(a * 1e15)
     for sums_only in (True, False):
         def fresh():
             return np.random.Generator(np.random.PCG64(np.random.SeedSequence(9, spawn_key=(4,))))

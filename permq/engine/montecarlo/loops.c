@@ -145,16 +145,45 @@ EXPORT int permq_subset_sums(const double *a, int64_t N, int64_t n1, const uint3
 typedef unsigned __int128 u128;
 #define PCG64_MULT (((u128)2549297995355413924ULL << 64) + 4865540595714422341ULL)
 
-static inline uint64_t pcg64_next(u128 *st, u128 inc) {
-    *st = *st * PCG64_MULT + inc;
-    uint64_t x = (uint64_t)(*st >> 64) ^ (uint64_t)*st;
-    unsigned rot = (unsigned)(*st >> 122);
+
+static inline uint64_t pcg64_output(u128 s) {
+    uint64_t x = (uint64_t)(s >> 64) ^ (uint64_t)s;
+    unsigned rot = (unsigned)(s >> 122);
     return (x >> rot) | (x << ((64 - rot) & 63));
+}
+
+/* The next `count` values of the stream, as random_raw gives them: every fourth
+ * step runs as one of four chains (state_{k+4} = A^4 state_k + c (1 + A + A^2 + A^3)), which the
+ * processor overlaps, instead of one chain of 128-bit multiplications */
+static void pcg64_fill(u128 *st, u128 inc, uint64_t *out, int64_t count) {
+    if (count <= 0) return;
+    const u128 m = PCG64_MULT, m2 = m * m;
+    const u128 a4 = m2 * m2, c4 = inc * (1 + m + m2 + m2 * m);
+    u128 s0 = *st * m + inc, s1 = s0 * m + inc, s2 = s1 * m + inc, s3 = s2 * m + inc;
+    u128 last = *st;
+    int64_t i = 0;
+    for (; i + 3 < count; i += 4) {
+        out[i] = pcg64_output(s0);
+        out[i + 1] = pcg64_output(s1);
+        out[i + 2] = pcg64_output(s2);
+        out[i + 3] = pcg64_output(s3);
+        last = s3;
+        s0 = s0 * a4 + c4;
+        s1 = s1 * a4 + c4;
+        s2 = s2 * a4 + c4;
+        s3 = s3 * a4 + c4;
+    }
+    u128 rest[3] = {s0, s1, s2};
+    for (int64_t k = 0; i < count; i++, k++) {
+        out[i] = pcg64_output(rest[k]);
+        last = rest[k];
+    }
+    *st = last;
 }
 
 EXPORT int permq_pcg64_raw(uint64_t *state, int64_t count, uint64_t *out) {
     u128 st = ((u128)state[0] << 64) | state[1], inc = ((u128)state[2] << 64) | state[3];
-    for (int64_t i = 0; i < count; i++) out[i] = pcg64_next(&st, inc);
+    pcg64_fill(&st, inc, out, count);
     state[0] = (uint64_t)(st >> 64); state[1] = (uint64_t)st;
     return 0;
 }
@@ -174,7 +203,7 @@ EXPORT int permq_subset_sums_pcg(const double *a, int64_t N, int64_t n1, uint64_
         u128 st = ((u128)state[0] << 64) | state[1], inc = ((u128)state[2] << 64) | state[3];
         for (int64_t done = 0; done < size; done += PCG_ROWS) {
             int64_t rows = size - done < PCG_ROWS ? size - done : PCG_ROWS;
-            for (int64_t i = 0; i < rows * per_row; i++) raw[i] = pcg64_next(&st, inc);
+            pcg64_fill(&st, inc, raw, rows * per_row);
             subset_rows(&ka, &kb, a, second0, N, n1, (const uint32_t *)raw, 2 * per_row, rows,
                         s_out + done, u_out ? u_out + done : NULL);
         }
@@ -183,6 +212,52 @@ EXPORT int permq_subset_sums_pcg(const double *a, int64_t N, int64_t n1, uint64_
     }
     subset_work_free(&ka); subset_work_free(&kb); free(second0); free(raw);
     return status;
+}
+
+/* The same draws for scores that are whole numbers (a grid's integers) with every sum exact:
+ * v[i] = score_i * 2^shift, plus 1 for the second group's items when u_out is given, so one
+ * 64-bit sum carries both the score sum (its high bits) and the count u (its low bits). Exact
+ * integer sums are the floating-point sums of permq_subset_sums, bit for bit, when the caller
+ * has checked that every partial sum stays below 2^53 (and the packed ones below 2^62). */
+EXPORT int permq_subset_sums_pcg_int(const int64_t *v, int64_t N, int64_t n1, int64_t shift,
+                                     uint64_t *state, int64_t size, double *s_out,
+                                     int64_t *u_out) {
+    int64_t per_row = (n1 + 1) / 2;
+    int64_t *w = malloc(sizeof(int64_t) * (size_t)(N > 0 ? N : 1));
+    int64_t *js = malloc(sizeof(int64_t) * (size_t)(n1 > 0 ? n1 : 1));
+    uint64_t *raw = malloc(sizeof(uint64_t) * (size_t)(per_row > 0 ? per_row : 1) * PCG_ROWS);
+    if (!w || !js || !raw) { free(w); free(js); free(raw); return -1; }
+    memcpy(w, v, sizeof(int64_t) * (size_t)N);
+    int copy = N <= 4 * n1;
+    int64_t low = ((int64_t)1 << shift) - 1;
+    u128 st = ((u128)state[0] << 64) | state[1], inc = ((u128)state[2] << 64) | state[3];
+    for (int64_t done = 0; done < size; done += PCG_ROWS) {
+        int64_t rows = size - done < PCG_ROWS ? size - done : PCG_ROWS;
+        pcg64_fill(&st, inc, raw, rows * per_row);
+        for (int64_t row = 0; row < rows; row++) {
+            const uint32_t *rr = (const uint32_t *)raw + row * 2 * per_row;
+            int64_t t = 0;
+            for (int64_t i = 0; i < n1; i++) {
+                int64_t j = pick(rr[i], i, N - i);
+                js[i] = j;
+                int64_t x = w[i]; w[i] = w[j]; w[j] = x;
+                t += w[i];
+            }
+            s_out[done + row] = (double)(t >> shift);     /* floor: exact for negative sums */
+            if (u_out) u_out[done + row] = t & low;
+            if (copy) {
+                memcpy(w, v, sizeof(int64_t) * (size_t)N);
+            } else {
+                for (int64_t i = n1 - 1; i >= 0; i--) {
+                    int64_t j = js[i];
+                    int64_t x = w[i]; w[i] = w[j]; w[j] = x;
+                }
+            }
+        }
+    }
+    state[0] = (uint64_t)(st >> 64); state[1] = (uint64_t)st;
+    free(w); free(js); free(raw);
+    return 0;
 }
 #endif
 

@@ -40,6 +40,7 @@ SIGNATURES = {
 OPTIONAL = {
     "permq_pcg64_raw": (_P, _I, _P),
     "permq_subset_sums_pcg": (_P, _I, _I, _P, _I, _P, _P),
+    "permq_subset_sums_pcg_int": (_P, _I, _I, _I, _P, _I, _P, _P),
 }
 
 
