@@ -13,6 +13,7 @@ from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import EngineOutcome, Estimate, Result
 from .registry import Family, effect_pieces, family_for
+from ..engine.core.scores import median
 
 ranked = module("permq.engine.tables.ranked")       # the table route, loaded when it runs
 
@@ -85,13 +86,13 @@ def _estimate(design, interval, method, the_draws=0):
                "(no-ties law)" if exact else "order statistics at normal-approximation ranks")
         return Estimate(f"Hodges-Lehmann shift {design.effect}", est, iv, s.level, how)
     return Estimate(f"difference in medians {design.effect}",
-                    float(np.median(x) - np.median(y)), None, s.level,
+                    float(median(x) - median(y)), None, s.level,
                     "no exact interval for this family")
 
 
 def _summary(name, v):
     return {"name": name, "n": int(len(v)), "mean": float(np.mean(v)),
-            "median": float(np.median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
+            "median": float(median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
 
 
 def _sampled_words(method, draws, what):
