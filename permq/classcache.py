@@ -23,7 +23,7 @@ from pathlib import Path
 
 MAX_ENTRIES = 4000          # beyond this the file keeps only the texts the last run used
 _LOCK = threading.RLock()
-_state = {"depth": 0, "codes": None, "used": set(), "changed": False}
+_state = {"depth": 0, "codes": None, "used": set(), "changed": False, "before": None}
 
 
 def cache_file() -> Path:
@@ -77,6 +77,7 @@ def active():
         if _state["depth"] == 0:
             if _state["codes"] is None:
                 _state["codes"] = _read()
+            _state["before"] = dataclasses.__dict__.get("exec")    # (normally none)
             dataclasses.exec = _exec      # a module global shadows the builtin for dataclasses
         _state["depth"] += 1
     try:
@@ -85,7 +86,10 @@ def active():
         with _LOCK:
             _state["depth"] -= 1
             if _state["depth"] == 0:
-                del dataclasses.exec
+                if _state["before"] is None:
+                    del dataclasses.exec
+                else:
+                    dataclasses.exec = _state["before"]
                 if _state["changed"]:
                     _write(_state["codes"], _state["used"])
                     _state["changed"] = False
