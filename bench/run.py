@@ -663,7 +663,9 @@ def main():
                "of a few runs in one warm process, the whole-process one `permq run` on the "
                "statement, its tables loaded from CSV, best of two):\n\n")
     if args.startup:
-        text = heading + process.table(process.figures(args.python))
+        text = (heading.replace("):\n\n", "; this table alone measured by `bench/run.py "
+                                "--startup`, in a later run than the one above):\n\n")
+                + process.table(process.figures(args.python)))
         print(text)
         if args.readme:
             readme = ROOT / "README.md"
