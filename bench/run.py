@@ -4,6 +4,7 @@
     python bench/run.py --process  # also each statement in a fresh process, and the
                                    # start-up, first-call and steady figures (bench/process.py)
     python bench/run.py --readme   # also write it into README.md's performance section
+    python bench/run.py --startup  # only the whole-process start-up and Monte Carlo figures
 
 Data are generated with fixed seeds (benchmark inputs, not checks). Each case is timed through
 the same pipeline users run (`permq.run` on inline data), best of a few repeats.
@@ -684,14 +685,28 @@ def main():
                     help="also time every statement, and start-up, in fresh processes")
     ap.add_argument("--python", default=sys.executable,
                     help="the interpreter of the whole-process runs (one with permq installed)")
+    ap.add_argument("--startup", action="store_true",
+                    help="only the whole-process start-up, first-call and Monte Carlo figures "
+                         "(with --readme: only that table is rewritten)")
     args = ap.parse_args()
+    heading = ("Start-up, the first call and the steady state, each process timed from "
+               "outside (`bench/run.py --process`; the in-process column above is the best "
+               "of a few runs in one warm process, the whole-process one `permq run` on the "
+               "statement, its tables loaded from CSV, best of two):\n\n")
+    if args.startup:
+        text = (heading.replace("):\n\n", "; this table alone measured by `bench/run.py "
+                                "--startup`, in a later run than the one above):\n\n")
+                + process.table(process.figures(args.python)))
+        print(text)
+        if args.readme:
+            readme = ROOT / "README.md"
+            body = readme.read_text()
+            readme.write_text(re.sub(r"Start-up, the first call and the steady state, .*?\n(?=\n## )",
+                                     lambda m: text + "\n", body, flags=re.S))
+        return
     text = table(cases(), whole=args.process)
     if args.process:
-        text += ("\n\nStart-up, the first call and the steady state, each process timed from "
-                 "outside (`bench/run.py --process`; the in-process column above is the best "
-                 "of a few runs in one warm process, the whole-process one `permq run` on the "
-                 "statement, its tables loaded from CSV, best of two):\n\n"
-                 + process.table(process.figures(args.python)))
+        text += "\n\n" + heading + process.table(process.figures(args.python))
     print(text)
     if args.readme:
         readme = ROOT / "README.md"

@@ -13,6 +13,7 @@ from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import EngineOutcome, Estimate, Result
 from .registry import Family, Reported, effect_pieces, family_for
+from ..engine.core.scores import median
 
 ranked = module("permq.engine.tables.ranked")       # the table route, loaded when it runs
 
@@ -35,7 +36,8 @@ def plan(design):
 
 def execute(design, the_plan, progress, statement: str = "") -> Result:
     s = design.settings
-    if the_plan.chosen.algorithm == ranked.TABLE:
+    if (family_for(design).extra.get("table_route", False)     # (the table route alone loads
+            and the_plan.chosen.algorithm == ranked.TABLE):     # the table engine)
         outcome, interval = _table_route(design, progress), None
     else:
         outcome, interval = twosample.run(s.family, design.x, design.y, s.alternative,
@@ -89,13 +91,13 @@ def _estimate(design, interval, method, the_draws=0):
                         "no exact interval for this family ('using ranks' gives this shift "
                         "with the rank-sum test's exact interval)")
     return Estimate(f"difference in medians {design.effect}",
-                    float(np.median(x) - np.median(y)), None, s.level,
+                    float(median(x) - median(y)), None, s.level,
                     "no exact interval for this family")
 
 
 def _summary(name, v):
     return {"name": name, "n": int(len(v)), "mean": float(np.mean(v)),
-            "median": float(np.median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
+            "median": float(median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
 
 
 def _sampled_words(method, draws, what):
