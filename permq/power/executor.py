@@ -24,7 +24,7 @@ from ..robustness.executor import significance_value
 from ..robustness.problem import data_row, problem_for
 from ..syntax import nodes as n
 from ..bind.common import suggest
-from . import layout as lay
+from . import counts, layout as lay
 from .result import PowerResult
 from .simulate import floor_of, power_at, search
 
@@ -66,6 +66,9 @@ def _options(opts: dict, described: bool):
 def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> PowerResult:
     inner = node.analysis
     described = isinstance(inner, n.Layout)
+    if described and inner.shape in counts.SHAPES:
+        _, alpha, _, target, sizes, _ = _options(n.options_of(inner), False)
+        return counts.run(node, text, catalog, defaults, progress, alpha, target, sizes)
     analysis = lay.described(inner) if described else inner
     opts = n.options_of(analysis)
     datasets, alpha, law_key, target, sizes, shift = _options(opts, described)
@@ -76,10 +79,13 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
                         opts["shift"].span, hint=f"give it in sd: shift {shift[0]:g} sd")
     design = bind(dataclasses.replace(analysis, options=tuple(
         o for o in analysis.options if o.key not in OPTIONS)), catalog, defaults)
+    if counts.is_count(design):
+        return counts.run(node, text, catalog, defaults, progress, alpha, target, sizes, design)
     if not isinstance(design, (designs.TwoSampleDesign, designs.OneSampleDesign,
                                designs.GroupsDesign, designs.AssociationDesign)):
         raise PlanError(f"power is not available for {design.kind} analyses here",
-                        hint="it covers two samples, pairs, one sample, groups and slopes")
+                        hint="it covers two samples, pairs, one sample, groups, slopes, "
+                             "two proportions and one proportion")
     if (sizes is not None or target is not None) and lay.can_resize(design):
         raise PlanError(lay.can_resize(design), span=(opts.get("sizes") or opts["target"]).span)
     base = problem_for(design)
