@@ -142,7 +142,8 @@ def run(node: n.Power, text, catalog, defaults, progress, alpha, target, sizes,
                        source, d0.settings.alternative, alpha, "binomial",
                        "binomial outcomes, every one summed", 0.0, _effect_words(shape, props),
                        0, 0, rows, target, needed, warnings, method="summation",
-                       formula_words="arcsine normal approximation (Cohen 1988, ch. 6)")
+                       formula_words="arcsine normal approximation (Cohen 1988, ch. 6)",
+                       allocation=[1.0, ratio] if target is not None and ratio != 1 else None)
 
 
 def summed(design, shape, props, alpha) -> AtN:

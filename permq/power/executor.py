@@ -109,16 +109,17 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
         law_words = law.words
     errors = lay.Errors(law, base.kind, base.check.centre, datasets, int(seed), residuals)
     warnings = list(design.warnings)
+    ratio = _allocation(design, sizes, described) if target is not None else ()
     if target is not None:
         def problem_at(k):
-            return problem_for(lay.resized(design, (k,)))
+            return problem_for(lay.resized(design, lay.allocated(k, ratio)))
         seen, needed = search(problem_at, pattern_of, errors, alpha, int(seed), target, progress)
         rows = [seen[k] for k in sorted(seen)]
         for which, k in needed.items():
             if k is None:
                 warnings.append(f"the {'permutation' if which == 'permutation' else 'normal-theory'} "
                                 f"test does not reach {target:.0%} power by {lay.MAX_UNITS} a group")
-        design_words = _shape_words(design, per_group_search=True)
+        design_words = _shape_words(design, per_group_search=True, ratio=ratio)
     else:
         problem = base if sizes is None else problem_for(lay.resized(design, sizes))
         rows = [power_at(problem, pattern_of, errors, alpha, int(seed), progress)]
@@ -145,7 +146,19 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
     return PowerResult(text, title, normal_test_name(base), design_words,
                        "described" if described else "pilot", base.alternative, alpha,
                        law_key, law_words, shift_sd, words, datasets, int(seed), rows, target,
-                       needed, warnings)
+                       needed, warnings, allocation=list(ratio) or None)
+
+
+def _allocation(design, sizes, described) -> tuple:
+    """The search's allocation: `n`'s sizes when it gives several, else a described layout's
+    own; a pilot's sizes are what the pilot happened to be, so its search is equal."""
+    if sizes is not None and len(sizes) > 1:
+        k = len(lay.sizes_of(design))
+        if len(sizes) != k:
+            raise BindError(f"'n' gives {len(sizes)} sizes for {k} groups; give one (every "
+                            f"group) or {k}")
+        return lay.allocation(sizes)
+    return lay.allocation(lay.sizes_of(design)) if described else ()
 
 
 def _effect(base, shift, described) -> tuple[float, str]:
@@ -180,11 +193,14 @@ def _pilot_residuals(design, base) -> np.ndarray:
     return r / np.sqrt(ms)
 
 
-def _shape_words(design, per_group_search: bool = False) -> str:
+def _shape_words(design, per_group_search: bool = False, ratio: tuple = ()) -> str:
     sizes = lay.sizes_of(design)
     if per_group_search:
         if isinstance(design, designs.OneSampleDesign):
             return "pairs" if design.kind == "paired" else "one sample"
+        if ratio:
+            return f"{len(sizes)} groups of " + " + ".join(
+                "n" if r == 1 else f"{r:.3g} n" for r in ratio)
         return f"{len(sizes)} groups of n each"
     if isinstance(design, designs.OneSampleDesign):
         return f"{sizes[0]} pairs" if design.kind == "paired" else f"one sample of {sizes[0]}"

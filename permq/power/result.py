@@ -28,6 +28,7 @@ class PowerResult:
     seed_source: str = ""
     method: str = "simulation"    # "simulation", or "summation" over every outcome (counts)
     formula_words: str = ""       # the closed form beside the tests (rows' `formula`), if any
+    allocation: Optional[list] = None   # a search's group sizes over the first's, if unequal
 
     def to_dict(self) -> dict:
         rows = [{"n": list(r.sizes), "power": r.permutation.value, "power_se": r.permutation.se,
@@ -45,7 +46,7 @@ class PowerResult:
                 "rows": rows, "target": self.target,
                 "needed": dict(self.needed) if self.target is not None else None,
                 "warnings": list(self.warnings), "method": self.method,
-                "formula": self.formula_words or None}
+                "formula": self.formula_words or None, "allocation": self.allocation}
 
     def sentence(self) -> str:
         from ..render.power import sentence

@@ -34,6 +34,9 @@ def text_block(pr) -> str:
         for which, words in (("permutation", "permutation test"), ("normal", "normal theory")):
             k = pr.needed.get(which)
             got = f"{k} a group" if k is not None else "not reached"
+            if k is not None and pr.allocation:
+                row = next((r for r in pr.rows if r.sizes[0] == k), None)
+                got = f"n = {_n(row.sizes)}" if row is not None else f"{k} in the first group"
             if k is not None and pr.design in ("pairs", "one sample"):
                 got = f"{k} {'pairs' if pr.design == 'pairs' else 'units'}"
             lines.append(f"  {'n for ' + format(pr.target, '.0%'):<15}{words}: {got}")
@@ -96,8 +99,11 @@ def sentence(r: dict) -> str:
         need = r["needed"] or {}
 
         unit = {"pairs": " pairs", "one sample": " units"}.get(r["design"], " a group")
+        by_first = {row["n"][0]: row["n"] for row in r["rows"]}
 
         def got(k):
+            if k is not None and r.get("allocation") and k in by_first:
+                return f"n = {' + '.join(str(s) for s in by_first[k])}"
             return f"n = {k}{unit}" if k is not None else "not reached"
         return (f"{head}: {r['target']:.0%} power needs {got(need.get('permutation'))} "
                 f"for the permutation test and {got(need.get('normal'))} for "
