@@ -141,7 +141,8 @@ def previous_cases():
     import pandas as pd
 
     import previous
-    from permq.engine import ksample_dense, rankintervals
+    from permq.engine import rankintervals
+    from permq.engine.ksample import dense as ksample_dense
     from permq.engine.association import inversions
 
     rng = np.random.default_rng(20261204)
@@ -624,7 +625,10 @@ def table(rows, whole=False) -> str:
         out = [out[0].replace("| permq |", "| permq | whole process |"), out[1] + "---|"]
     for name, t, target, r, note in rows:
         o = getattr(r, "outcome", None)
-        if o is None:
+        if o is None and hasattr(r, "rows"):        # several tests on one reference set
+            ref = (f"{r.arrangements:.3g} joint arrangements, {r.algorithm}"
+                   if r.method == "exact" else f"{r.draws:,} joint draws")
+        elif o is None:
             ref = getattr(r, "reference", "")
         else:
             ref = (f"{o.arrangements:.3g} arrangements, {o.algorithm}" if o.method == "exact"

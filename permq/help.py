@@ -24,6 +24,7 @@ options: using FAMILY, alternative higher|lower|two-sided, confidence 90%, exact
     "units": """the randomised unit, and blocks that lack a level (try them on the demo's litters, varieties)
   compare weight by dose units litter                 litters randomised: whole litters moved, a litter's mean one value
   compare weight by dose ordered units litter         a trend over doses; also levels "0", "10" and using ranks
+  compare weight by dose against "0" units litter    each dose against the control (also ordered against)
   relate weight to dose units litter                  association, whole units moved
   count dead by dose units litter                     (your two-valued column) each unit's proportion of events
   compare yield by variety within block in varieties  a lost plot: the F within blocks, levels permuted among those present

@@ -57,16 +57,16 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     the_plan = whole_plan(handler, design, node)
     result = handler.execute(design, the_plan, progress, text)
     result.seed_source = choice.source
+    if getattr(design, "units", None) is not None:     # the randomised unit (bind/units.py)
+        result.extra["units"] = design.units.to_dict()
+    result.extra["estimated_seconds"] = round(the_plan.seconds, 4)   # what explain said
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
     if margin is not None:
         margins.attach(design, result, margin, handler, progress)
-    result.extra["estimated_seconds"] = round(the_plan.seconds, 4)   # what explain said
     if result.summary_decimals is None:      # a family may set its own (proportions)
         result.summary_decimals = decimals.for_design(design)
     result.design = design            # kept for the report's pictures (not in the JSON)
-    if getattr(design, "units", None) is not None:     # the randomised unit (bind/units.py)
-        result.extra["units"] = design.units.to_dict()
     diagnostics.attach(design, result)
     effects.attach(design, result)
     smallest.attach(design, result)

@@ -121,6 +121,16 @@ def test_robustness_check_runs_and_leaves_out_unequal_spread():
     assert any("unequal spread is left out" in w for w in out.warnings)
 
 
+def test_a_spread_difference_is_no_cue_for_a_location_test():
+    """Unequal spread is what this test looks for: no note points to Welch or Brunner-Munzel."""
+    sd = np.std(WIDE, ddof=1) / np.std(TIGHT, ddof=1)
+    assert sd > 2           # the two-sample tests would add the note here
+    out = result_of(f"compare {inline(WIDE)} vs {inline(TIGHT)} using ansari-bradley")
+    assert not any("spreads differ" in w for w in out.warnings)
+    plain = result_of(f"compare {inline(WIDE)} vs {inline(TIGHT)}")
+    assert any("spreads differ" in w for w in plain.warnings)
+
+
 def test_help_and_completion_know_the_family():
     from permq.frontends.shell.completion import suggest
     from permq.help import help_text

@@ -345,3 +345,62 @@ def test_the_shift_interval_inverts_the_test_over_unit_arrangements():
         assert min(one_sided(inside)) > 0.1
     for outside in (lo - eps, hi + eps):
         assert min(one_sided(outside)) <= 0.1
+
+
+# ---------------------------------------------------------------- against a control
+
+def _three_doses():
+    frame = PUPS.copy()
+    frame["dose"] = ["0"] * 5 + ["5"] * 5 + ["10"] * 4      # litters a, b | c, d | e, f
+    return frame
+
+
+def test_against_a_control_moves_whole_units_brute_force():
+    """Welch-type t of each dose against the control on litter means, over every assignment of
+    the six litters to the three doses (90), in exact fractions (t squared)."""
+    units = _unit_values(_three_doses(), "w", "litter", "dose")
+    means = [m for m, _ in units]
+    labels = [d for _, d in units]
+
+    def t2(assign, level):
+        a = [m for m, d in zip(means, assign) if d == level]
+        c = [m for m, d in zip(means, assign) if d == "0"]
+        var = lambda v: sum((x - sum(v) / 2) ** 2 for x in v)     # n = 2: s^2 = sum of squares
+        return (sum(a) / 2 - sum(c) / 2) ** 2 / (var(a) / 2 + var(c) / 2)
+
+    every = sorted(set(itertools.permutations(labels)))
+    assert len(every) == 90
+    r = permq.run('compare w by dose against "0" units litter adjust max-t single-step',
+                  tables={"p": _three_doses()})[0]
+    assert r.method == "exact" and r.arrangements == 90
+    assert r.extra["units"]["units"] == 6 and r.extra["units"]["rows"] == 14
+    largest = [max(t2(a, "5"), t2(a, "10")) for a in every]
+    for row in r.rows:
+        level = row.name.split(" - ")[0]
+        obs = t2(labels, level)
+        raw = Fraction(sum(t2(a, level) >= obs for a in every), 90)
+        single = Fraction(sum(v >= obs for v in largest), 90)
+        assert row.p_value == pytest.approx(float(raw), rel=1e-12)
+        assert row.p_adjusted == pytest.approx(float(single), rel=1e-12)
+        assert row.statistic ** 2 == pytest.approx(float(obs), rel=1e-9)
+
+
+def test_against_a_control_with_units_says_so_and_checks_the_units():
+    r = permq.run('compare w by dose ordered against "0" units litter alternative higher',
+                  tables={"p": _three_doses()})[0]
+    assert r.arrangements == 90 and r.extra["units"]["column"] == "litter"
+    text = render([r], "text")
+    assert "units          6 units of 'litter', 14 rows (2 to 3 a unit)" in text
+    d = json.loads(render([r], "json"))[0]
+    jsonschema = pytest.importorskip("jsonschema")
+    from permq.contract import schema
+
+    jsonschema.Draft202012Validator(schema()).validate([d])
+    frame = _three_doses()
+    frame.loc[5, "dose"] = "0"           # a pup of litter 'c' put with the control
+    f = _fails('compare w by dose against "0" units litter', frame)
+    assert "unit 'c' of 'litter' has rows with 2 values of 'dose'" in f.message
+    f = _fails('compare w by dose against "0" units litter levels "0", "5"',
+               _three_doses().iloc[[0, 1, 2, 3, 4, 5, 6]])
+    assert f.message == ("level \"5\" of 'dose' has 1 unit; 'means' needs 2 in each level "
+                         "(a spread of its own)")

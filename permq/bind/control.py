@@ -12,11 +12,11 @@ import numpy as np
 
 from ..errors import BindError
 from ..syntax import nodes as n
+from . import units as unit_rows
 from .designs import ControlDesign
 
 FORMS = {"control": "comparisons against a control",
          "dose-finding": "doses in order against a control"}
-MIN_VALUES = {"means": 2}         # values each level needs (a spread of its own); others 1
 
 
 def bind_against(node, subject, opts, catalog, defaults) -> ControlDesign:
@@ -25,12 +25,19 @@ def bind_against(node, subject, opts, catalog, defaults) -> ControlDesign:
 
     _check_form(subject, opts)
     table = resolve_table(opts, catalog, subject.span)
-    check_columns(table, [subject.response, subject.group])
+    check_columns(table, [subject.response, subject.group] +
+                  ([opts["units"].value] if "units" in opts else []))
     y = numeric_column(table, subject.response)
     g = table.frame[subject.group.text]
     keep = y.notna() & g.notna()
-    warnings = dropped_warning(int((~keep).sum()), names_of(subject.response, subject.group))
+    unit = unit_rows.column(table, opts)
+    if unit is not None:
+        keep &= unit.notna()
+    warnings = dropped_warning(int((~keep).sum()), names_of(subject.response, subject.group,
+                                                         opts.get("units")))
     y, g = y[keep], g[keep].map(level_text)
+    if unit is not None:
+        unit_rows.check_constant(unit[keep], {subject.group.text: g}, opts["units"])
     present = sorted(g.unique(), key=natural_key)
     control = _control(opts["against"], present, subject.group.text)
     ordered = "ordered" in opts
@@ -38,14 +45,18 @@ def bind_against(node, subject, opts, catalog, defaults) -> ControlDesign:
     levels = (_ordered_levels(opts, present, g, subject, table, control) if ordered
               else _levels(opts, present, subject.group.text, control))
     s = settings_for(node, opts, defaults, kind, FORMS[kind],
-                     ("levels", "ordered", "against") + (() if ordered else ("adjust",)))
+                     ("levels", "ordered", "against", "units") + (() if ordered else ("adjust",)))
     if len(levels) < 2:
         raise BindError(f"column '{subject.group.text}' has no level besides the control "
                         f"\"{control}\"", subject.group.span,
                         hint=f"levels found: {', '.join(present)}")
     chosen = g.isin(levels).to_numpy()
     y, g = y[chosen], g[chosen]
-    _check_counts(g, levels, s.family if kind == "control" else "", subject)
+    units = None
+    if unit is not None:
+        y, carried, units = unit_rows.collapse(y, unit[keep][chosen], {"g": g}, opts["units"])
+        g = carried["g"]
+    _check_counts(g, levels, kind, s.family, subject, units)
     codes = np.array([levels.index(v) for v in g], dtype=np.int64)
     values = y.to_numpy(float)
     if np.ptp(values) == 0:
@@ -61,8 +72,12 @@ def bind_against(node, subject, opts, catalog, defaults) -> ControlDesign:
         from .many import _adjustment
 
         adjustment, step = _adjustment(opts)
+    info = None
+    if units is not None:
+        info = units.info(y.index)
+        warnings += unit_rows.one_row_units_warning(info)
     return ControlDesign(values, codes, tuple(levels), subject.response.text, s, adjustment,
-                         step, scores, warnings, kind)
+                         step, scores, warnings, kind, units=info)
 
 
 def _check_form(subject, opts) -> None:
@@ -132,14 +147,20 @@ def _ordered_levels(opts, present, g, subject, table, control) -> list:
     return list(levels)
 
 
-def _check_counts(g, levels, family, subject) -> None:
-    need = MIN_VALUES.get(family, 1)
+def _check_counts(g, levels, kind, family, subject, units=None) -> None:
+    """Every level keeps the values its family needs (`values_per_level` in its declaration's
+    extra: 2 where each level needs a spread of its own; else 1); with units, a value is a
+    unit's mean."""
+    from ..families import registry
+
+    need = registry.find(kind, family).extra.get("values_per_level", 1)
     counts = g.value_counts()
+    one, many = ("value", "values") if units is None else ("unit", f"units of '{units.name}'")
     for lev in levels:
         have = int(counts.get(lev, 0))
         if have < need:
-            raise BindError(f"level \"{lev}\" of '{subject.group.text}' has {have} value"
-                            f"{'' if have == 1 else 's'}; '{family}' needs {need} in each level "
+            raise BindError(f"level \"{lev}\" of '{subject.group.text}' has {have} "
+                            f"{one if have == 1 else many}; '{family}' needs {need} in each level "
                             "(a spread of its own)" if need > 1 else
                             f"level \"{lev}\" of '{subject.group.text}' has no values left",
                             subject.group.span,

@@ -217,6 +217,7 @@ class ControlDesign:
     scores: Optional[np.ndarray] = None   # dose scores (ordered against): one per level
     warnings: tuple = ()
     kind: str = "control"            # "control" or "dose-finding"
+    units: Optional[UnitsInfo] = None    # `units COLUMN`: values are unit means
 
 
 @dataclass(frozen=True)

@@ -35,8 +35,9 @@ from .core.counting import multinomial, multinomial_weights
 from .core.grid import centred, integer_grid, is_constant
 from .core.limits import DEFAULT_DRAWS, EXACT_COUNT_LIMIT, NULL_KEEP_MAX, NO_LIMITS_GIVEN, Limits
 from .montecarlo import sampling
-from .ksample import (_compositions, _rescale_ways, design, enumerate_group_sums,
-                      enumeration_candidate, monte_carlo_candidate, sample_group_sums)
+from .ksample import (design, enumerate_group_sums, enumeration_candidate, monte_carlo_candidate,
+                      sample_group_sums)
+from .ksample.counting import compositions, rescale_ways
 from .core.progress import NO_PROGRESS, Progress
 from .tables import ranked
 
@@ -59,7 +60,7 @@ def count_linear(block_values, block_mults, sizes, increment, progress: Progress
     counts, t, ways = np.zeros((1, k), np.int64), np.zeros(1, np.int64), np.ones(1)
     radix = np.concatenate([[1], np.cumprod(sizes + 1)[:-1]]).astype(np.int64)
     for i, (v, m) in enumerate(zip(block_values, block_mults)):
-        xs = _compositions(int(m), sizes)
+        xs = compositions(int(m), sizes)
         parts = []
         for x, w in zip(xs, multinomial_weights(int(m), xs)):
             ok = np.all(counts + x <= sizes, axis=1)
@@ -67,7 +68,7 @@ def count_linear(block_values, block_mults, sizes, increment, progress: Progress
                 c = counts[ok]
                 parts.append((c + x, t[ok] + increment(c, x, v), ways[ok] * w))
         counts, t, ways = _merge(parts, radix, int(np.prod(sizes + 1)))
-        _rescale_ways(ways)
+        rescale_ways(ways)
         progress.step((i + 1) / len(block_values), "counting assignments")
     support, inverse = np.unique(t, return_inverse=True)
     return support, np.bincount(inverse.ravel(), weights=ways)

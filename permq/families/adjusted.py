@@ -9,7 +9,7 @@ from ..engine.core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC
 from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family, Kind
+from .registry import Family, Kind, Reported
 
 adjusted = module("permq.engine.adjusted")          # loaded when a statement first runs
 twosample = module("permq.engine.twosample")
@@ -157,4 +157,20 @@ FAMILIES = [
            "covariate-adjusted rank test", plan, execute,
            "analysis of covariance: t of the adjusted difference (two groups), F (more)",
            "no permutation interval", robustness=_check, options=("adjusting",)),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('adjusted',), 'difference in mean covariate-adjusted',
+             'covariate-adjusted randomisation test of the difference in means (Rosenbaum)',
+             ('rosenbaum-2002', 'pitman-1937')),
+    Reported(('adjusted',), 'rank sum',
+             'Wilcoxon rank-sum test of covariate-adjusted residuals (Rosenbaum)',
+             ('rosenbaum-2002', 'wilcoxon-1945')),
+    Reported(('adjusted',), 'F of the covariate-adjusted',
+             'covariate-adjusted randomisation F test (Rosenbaum)',
+             ('rosenbaum-2002', 'pitman-1938')),
+    Reported(('adjusted',), 'Kruskal-Wallis',
+             'Kruskal-Wallis test of covariate-adjusted residuals (Rosenbaum)',
+             ('rosenbaum-2002', 'kruskal-wallis-1952')),
 ]

@@ -5,7 +5,7 @@ from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family, effect_pieces
+from .registry import Family, Reported, effect_pieces
 
 association = module("permq.engine.association")  # loaded when a statement first runs
 normal_association = module("permq.normal.association")
@@ -100,4 +100,23 @@ FAMILIES = [
              _check("linear", "values", "least-squares t test of the slope", "slope_t", "slope",
                     inverts=True, width="slope_t"),
              options=("adjusting",), effect_sizes=effect_pieces("standardised_slope")),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('association',), 'Pearson',
+             "permutation test of Pearson's correlation",
+             ('pitman-1937b',)),
+    Reported(('association',), 'Spearman',
+             "permutation test of Spearman's rank correlation",
+             ('spearman-1904',)),
+    Reported(('association',), 'Kendall',
+             "permutation test of Kendall's tau",
+             ('kendall-1938',)),
+    Reported(('association',), 'least-squares slope',
+             'permutation test of the least-squares slope',
+             ('pitman-1937b',)),
+    Reported(('association',), 't of the slope',
+             'Freedman-Lane permutation test of the adjusted slope',
+             ('freedman-lane-1983',)),
 ]

@@ -6,7 +6,7 @@ from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR, TWO_SIDED_QUADRATIC
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family, effect_pieces
+from .registry import Family, Reported, effect_pieces
 
 blocks_engine = module("permq.engine.blocks")      # loaded when a statement first runs
 normal_blocks = module("permq.normal.blocks")
@@ -107,4 +107,23 @@ FAMILIES = [
            robustness=_check("linear", "ranks_within", "normal approximation to Page's L",
                              "page_z"),
            default_in=("ordered-blocked",), effect_sizes=effect_pieces("kendalls_w")),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('blocked',), 'Friedman',
+             'Friedman test',
+             ('friedman-1937',)),
+    Reported(('blocked',), 'Page',
+             "Page's test for ordered treatments",
+             ('page-1963',)),
+    Reported(('blocked',), 'F for treatments',
+             'permutation F test within blocks',
+             ('pitman-1938',)),
+    Reported(('blocked',), 'stratified sum',
+             'stratified permutation test of the difference in means (within-block permutation)',
+             ('pitman-1937',)),
+    Reported(('blocked',), 'stratified rank sum',
+             'stratified Wilcoxon rank-sum test (ranks within blocks)',
+             ('wilcoxon-1945', 'lehmann-1975')),
 ]

@@ -13,7 +13,7 @@ import numpy as np
 
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
-from .registry import Family, Kind, family_for
+from .registry import Family, Kind, Reported, family_for
 
 KINDS = {"control": Kind("compare", "levels against a control",
                          "add 'against \"LEVEL\"' (the control)")}
@@ -184,11 +184,16 @@ FAMILIES = [
            plan, execute, "Dunnett's many-to-one t (pooled variance)",
            "difference in means per level, with simultaneous intervals",
            robustness=_robustness, default_in=("control",), help=_HELP,
-           extra={"global_test": global_test, "ranked": False}),
+           extra={"global_test": global_test, "ranked": False, "values_per_level": 2}),
     Family("ranks", ("control",), "many-to-one rank sums (re-ranked per pair), all units "
            "permuted together (Westfall-Young max-T)", "levels against a control, by ranks",
            plan, execute, "normal approximation to the pairwise-ranked sums",
            "Hodges-Lehmann shift per level, with simultaneous intervals",
            robustness=_robustness, help=_HELP, extra={"global_test": global_test,
                                                       "ranked": True}),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(("many-to-one",), "z: the pair's Mann-Whitney", sources=("steel-1959",)),
 ]

@@ -14,7 +14,7 @@ import numpy as np
 
 from ..plan.planner import make_plan
 from ..result_many import ManyResult, ManyRow
-from .registry import Family, Kind, family_for
+from .registry import Family, Kind, Reported, family_for
 
 KINDS = {"dose-finding": Kind("compare", "doses in order against a control",
                               "add 'ordered against \"0\"' (the control, lowest dose first)")}
@@ -187,4 +187,10 @@ FAMILIES = [
            "Hodges-Lehmann shift, top dose of each step - control",
            robustness=_robustness, help=_HELP, extra={"global_test": global_test,
                                                       "ranked": True}),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(("lowest effective dose",), "", "step-down trend test",
+             ("tukey-ciminera-heyse-1985",)),
 ]

@@ -14,7 +14,7 @@ import math
 
 from ..plan.planner import make_plan
 from ..result import Estimate, NormalTheory, Result
-from .registry import Family, Kind
+from .registry import Family, Kind, Reported
 
 KINDS = {"dose-response": Kind("relate", "a binary response",
                                "relate Y to X with Y two-valued (0 / 1)")}
@@ -106,4 +106,12 @@ FAMILIES = [
            "logistic slope: conditional MLE (median unbiased under separation) with its exact "
            "interval", robustness=_count_check,
            default_in=("dose-response",), help=HELP),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('dose-response',), 'sum of',
+             'exact conditional logistic (score) test',
+             ('cox-1970', 'hirji-mehta-patel-1987'),
+             'over {n} choices of the event units given their number'),
 ]

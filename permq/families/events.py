@@ -14,7 +14,7 @@ from __future__ import annotations
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family, Kind
+from .registry import Family, Kind, Reported
 
 KINDS = {"events": Kind("compare", "censored times",
                         "compare days by supplier event failed (1 = event, 0 = censored)")}
@@ -102,3 +102,29 @@ FAMILIES = [
            help=HELP + "\n  peto-prentice: weights prod (1 - d / (n + 1)) over earlier event "
                        "times (Peto & Peto 1972; Prentice 1978)"),
 ]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(("events",), "log-rank", "log-rank test by permutation", ("mantel-1966",)),
+    Reported(("events",), "Gehan", "Gehan's generalised Wilcoxon test by permutation",
+             ("gehan-1965",)),
+    Reported(("events",), "Tarone-Ware", "Tarone-Ware test by permutation",
+             ("tarone-ware-1977",)),
+    Reported(("events",), "Peto-Prentice", "Peto-Prentice generalised Wilcoxon test by "
+             "permutation", ("peto-peto-1972", "prentice-1978")),
+]
+# Standard citations, given from memory
+BIBLIOGRAPHY = {
+    "mantel-1966": "Mantel, N. (1966). Evaluation of survival data and two new rank order "
+                   "statistics arising in its consideration. Cancer Chemotherapy Reports 50, "
+                   "163-170.",
+    "gehan-1965": "Gehan, E. A. (1965). A generalized Wilcoxon test for comparing arbitrarily "
+                  "singly-censored samples. Biometrika 52, 203-223.",
+    "tarone-ware-1977": "Tarone, R. E. and Ware, J. (1977). On distribution-free tests for "
+                        "equality of survival distributions. Biometrika 64, 156-160.",
+    "peto-peto-1972": "Peto, R. and Peto, J. (1972). Asymptotically efficient rank invariant "
+                      "test procedures. Journal of the Royal Statistical Society A 135, "
+                      "185-207.",
+    "prentice-1978": "Prentice, R. L. (1978). Linear rank tests with right censored data. "
+                     "Biometrika 65, 167-179.",
+}

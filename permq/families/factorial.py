@@ -9,7 +9,7 @@ from ..lazy import module
 from ..plan.cost import Candidate
 from ..plan.planner import make_plan
 from ..result_factorial import FactorialResult, TermRow
-from .registry import Family, Kind
+from .registry import Family, Kind, Reported
 
 engine = module("permq.engine.factorial")          # loaded when a statement first runs
 normal_factorial = module("permq.normal.factorial")
@@ -155,4 +155,11 @@ FAMILIES = [
                 "other factor\n(exact by listing, Anderson & ter Braak 2003), the interaction "
                 "by permuting residuals\nof the additive model (Freedman-Lane, Monte Carlo, "
                 "approximate); type II sums of squares"),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(("two factors",), "", "two-way permutation ANOVA (restricted permutation for the "
+             "main effects, Freedman-Lane residual permutation for the interaction)",
+             ("anderson-ter-braak-2003", "freedman-lane-1983")),
 ]

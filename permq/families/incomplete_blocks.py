@@ -13,7 +13,7 @@ from ..normal import incomplete as normal_incomplete
 from ..normal import ksample as normal_k
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family, Kind, effect_pieces
+from .registry import Family, Kind, Reported, effect_pieces
 
 KIND = "incomplete-blocked"
 KINDS = {KIND: Kind("compare", "incomplete blocks",
@@ -171,3 +171,19 @@ FAMILIES = [
                              chi_square_p, "as_is"), help=_HELP,
            effect_sizes=effect_pieces()),
 ]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(("blocked",), "Skillings-Mack", "Skillings-Mack test (mid-ranks within blocks)",
+             ("skillings-mack-1981",)),
+    Reported(("blocked",), "Durbin", "Durbin's test for incomplete blocks (mid-ranks)",
+             ("durbin-1951",)),
+]
+# Standard citations, given from memory
+BIBLIOGRAPHY = {
+    "skillings-mack-1981": "Skillings, J. H. and Mack, G. A. (1981). On the use of a "
+                           "Friedman-type statistic in balanced and unbalanced block designs. "
+                           "Technometrics 23, 171-177.",
+    "durbin-1951": "Durbin, J. (1951). Incomplete blocks in ranking experiments. British "
+                   "Journal of Psychology (Statistical Section) 4, 85-90.",
+}

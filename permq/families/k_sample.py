@@ -5,7 +5,7 @@ from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_QUADRATIC
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family, effect_pieces
+from .registry import Family, Reported, effect_pieces
 
 ksample = module("permq.engine.ksample")           # loaded when a statement first runs
 normal_k = module("permq.normal.ksample")
@@ -66,4 +66,20 @@ FAMILIES = [
              "van der Waerden chi-square approximation", "chi_square_of_scores"),
     _declare("medians", "Mood's median test for k groups", "median test chi-square approximation",
              "above_median", "median test chi-square approximation", "median_chi_square"),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('k-sample',), 'F',
+             'permutation F test (Pitman)',
+             ('pitman-1938',)),
+    Reported(('k-sample',), 'Kruskal-Wallis',
+             'Kruskal-Wallis test',
+             ('kruskal-wallis-1952',)),
+    Reported(('k-sample',), 'van der Waerden',
+             'van der Waerden normal-scores k-sample test',
+             ('van-der-waerden-1952',)),
+    Reported(('k-sample',), 'median test',
+             'k-sample median test',
+             ('mood-1950',)),
 ]

@@ -9,7 +9,7 @@ from ..normal import theory
 from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family, effect_pieces
+from .registry import Family, Reported, effect_pieces
 
 ZERO_RULE = ("zero differences carry no sign and are left out of the sign flips; for ranks they "
              "keep their place in the ranking (Pratt's rule)")
@@ -123,4 +123,17 @@ FAMILIES = [
              _check("signs", "normal approximation to the sign count", "sign_z",
                     "positive_sum", "median", "median"),
              ("standardised_mean_difference", "positive_share")),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('paired', 'one-sample'), 'mean difference',
+             'sign-flip permutation test of the mean (Fisher)',
+             ('fisher-1935',)),
+    Reported(('paired', 'one-sample'), 'signed-rank',
+             "Wilcoxon signed-rank test (zeros by Pratt's rule)",
+             ('wilcoxon-1945', 'pratt-1959')),
+    Reported(('paired', 'one-sample'), 'number of positive',
+             'sign test',
+             ('dixon-mood-1946',)),
 ]

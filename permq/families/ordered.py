@@ -5,7 +5,7 @@ from ..lazy import module
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family, effect_pieces
+from .registry import Family, Reported, effect_pieces
 
 ordered = module("permq.engine.ordered")           # loaded when a statement first runs
 normal_k = module("permq.normal.ksample")
@@ -69,4 +69,14 @@ FAMILIES = [
            "Jonckheere-Terpstra normal approximation (and the linear trend t)",
            "trend slope; exact interval by inversion", robustness=_jonckheere_check,
            effect_sizes=effect_pieces("epsilon_squared", "concordance_share")),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('ordered',), 'Jonckheere',
+             'Jonckheere-Terpstra test',
+             ('jonckheere-1954', 'terpstra-1952')),
+    Reported(('ordered',), 'linear trend',
+             'permutation test of a linear trend in the dose scores',
+             ('pitman-1938',)),
 ]

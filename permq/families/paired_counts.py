@@ -18,7 +18,7 @@ import numpy as np
 from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Estimate, NormalTheory, Result
-from .registry import Family, Kind, effect_pieces
+from .registry import Family, Kind, Reported, effect_pieces
 
 symmetry = module("permq.engine.tables.symmetry")
 blocks_engine = module("permq.engine.blocks")
@@ -155,3 +155,25 @@ FAMILIES = [
            no_robustness="no sampling scheme for several paired outcomes yet",
            default_in=("several-paired",), effect_sizes=effect_pieces()),
 ]
+
+# How reports name the tests (registry.Reported)
+SWAPS = "over the {n} ways of swapping the changed units' two outcomes"
+REPORTED = [
+    Reported(("table",), "Bowker", "exact test of symmetry (Bowker)", ("bowker-1948",), SWAPS),
+    Reported(("table",), "Stuart-Maxwell",
+             "exact test of marginal homogeneity (Stuart-Maxwell form)",
+             ("stuart-1955", "maxwell-1970"), SWAPS),
+    Reported(("blocked",), "Cochran's Q", "Cochran's Q test by permutation within units",
+             ("cochran-1950",)),
+]
+# Standard citations, given from memory
+BIBLIOGRAPHY = {
+    "bowker-1948": "Bowker, A. H. (1948). A test for symmetry in contingency tables. Journal "
+                   "of the American Statistical Association 43, 572-574.",
+    "stuart-1955": "Stuart, A. (1955). A test for homogeneity of the marginal distributions in "
+                   "a two-way classification. Biometrika 42, 412-416.",
+    "maxwell-1970": "Maxwell, A. E. (1970). Comparing the classification of subjects by two "
+                    "independent judges. British Journal of Psychiatry 116, 651-655.",
+    "cochran-1950": "Cochran, W. G. (1950). The comparison of percentages in matched samples. "
+                    "Biometrika 37, 256-266.",
+}

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family, Kind
+from .registry import Family, Kind, Reported
 
 KINDS = {"rate": Kind("count", "one rate", "count 7 events in 120.5 vs 0.05"),
          "two-rates": Kind("count", "two rates", "count 7 events in 120.5 vs 2 events in 98")}
@@ -80,4 +80,16 @@ FAMILIES = [
            "rate with Garwood's interval; rate ratio with its exact conditional interval",
            robustness=_count_check,
            default_in=("rate", "two-rates"), help=HELP, selectable=False),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('rates',), "first group's events",
+             'exact conditional test of the rate ratio',
+             (),
+             'over the {n} splits of the total (binomial)'),
+    Reported(('rates',), 'count of events',
+             'exact Poisson test',
+             (),
+             'from the Poisson law at the reference rate ({n} counts, from 0)'),
 ]

@@ -8,8 +8,9 @@ family words, the binder's checks and defaults, the planner's input, help and co
 come from here; no module outside a family's own declaration compares family names.
 
 To add a family, write a module in `permq/families/` whose `FAMILIES` lists its declarations
-(and whose `KINDS`, if it brings a new shape of data, names the kinds it adds), and add the
-module's name to `MODULES` below.
+(whose `KINDS`, if it brings a new shape of data, names the kinds it adds; whose `REPORTED`
+says how reports name its tests, with their sources; and whose `BIBLIOGRAPHY` adds any source
+the shared list lacks), and add the module's name to `MODULES` below.
 """
 from __future__ import annotations
 
@@ -57,6 +58,24 @@ BASE_KINDS = {
 
 
 @dataclass(frozen=True)
+class Reported:
+    """How reports name the test behind one statistic, read from a result's JSON object.
+
+    `records` are the values of the record's `family` field it appears under, `statistic` the
+    start of the statistic's name ("" for any); `name` is the test as a report writes it
+    ("" keeps the record's own `test`), `sources` the keys of its sources (render/methods.py's
+    SOURCES or a module's BIBLIOGRAPHY) and `over` how a sentence says what an exact p-value
+    is counted over ("over {n} tables with the observed margins"; `{n}` is the reference
+    set's size in words, `{trials}` one less). The first declaration that matches wins."""
+
+    records: tuple
+    statistic: str
+    name: str = ""
+    sources: tuple = ()
+    over: str = ""
+
+
+@dataclass(frozen=True)
 class Family:
     keyword: str                   # the word after `using`
     kinds: tuple                   # the design kinds (KINDS) it accepts
@@ -78,7 +97,7 @@ class Family:
 
 @lru_cache(maxsize=1)
 def _declared() -> tuple:
-    found, kinds = [], dict(BASE_KINDS)
+    found, kinds, reported, bibliography = [], dict(BASE_KINDS), [], {}
     for name in MODULES:
         module = import_module(f"{__package__}.{name}")
         for key, kind in getattr(module, "KINDS", {}).items():
@@ -86,12 +105,27 @@ def _declared() -> tuple:
                 raise ValueError(f"module '{name}' declares the kind '{key}' a second time")
             kinds[key] = kind
         found.extend(module.FAMILIES)
+        reported.extend(getattr(module, "REPORTED", ()))
+        for key, text in getattr(module, "BIBLIOGRAPHY", {}).items():
+            if bibliography.setdefault(key, text) != text:
+                raise ValueError(f"module '{name}' gives the source '{key}' a second text")
     _check(found, kinds)
-    return tuple(found), kinds
+    return tuple(found), kinds, tuple(reported), bibliography
 
 
 def families() -> tuple:
     return _declared()[0]
+
+
+def reported(record_family: str, statistic: str) -> Optional[Reported]:
+    """How reports name the test of a result record with this `family` and statistic name."""
+    return next((r for r in _declared()[2] if record_family in r.records
+                 and statistic.startswith(r.statistic)), None)
+
+
+def bibliography() -> dict:
+    """The sources the family modules add to the shared list."""
+    return _declared()[3]
 
 
 def kinds() -> dict:

@@ -24,7 +24,7 @@ from ..engine import twosample
 from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..plan.planner import make_plan
 from ..result import Estimate, NormalTheory, Result
-from .registry import Family, effect_pieces
+from .registry import Family, Reported, effect_pieces
 
 
 def ab_scores(pooled) -> np.ndarray:
@@ -138,8 +138,19 @@ FAMILIES = [
            "Ansari-Bradley test of spread", plan, execute,
            "normal approximation to the Ansari-Bradley statistic (tie-corrected)",
            "ratio of interquartile ranges (no exact interval)", robustness=_check,
-           effect_sizes=effect_pieces(), extra={"unequal_spread_test": "welch"},
+           effect_sizes=effect_pieces(),
            help="  a difference in spread between two groups with the same centre:\n"
                 "  compare mass by recipe levels \"A\", \"B\" using ansari-bradley\n"
                 "  'alternative higher': the first group is the more spread out"),
 ]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(("two-sample",), "Ansari-Bradley", "Ansari-Bradley test of equal spread (mid-scores)",
+             ("ansari-bradley-1960",)),
+]
+# Standard citations, given from memory
+BIBLIOGRAPHY = {
+    "ansari-bradley-1960": "Ansari, A. R. and Bradley, R. A. (1960). Rank-sum tests for "
+                           "dispersions. Annals of Mathematical Statistics 31, 1174-1189.",
+}

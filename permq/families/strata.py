@@ -19,7 +19,7 @@ from ..engine.counts.conditional import RULE_LINEAR, RULE_PROBABILITY
 from ..plan.cost import OPS_PER_SECOND
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family, Kind
+from .registry import Family, Kind, Reported
 from .results import also_test, strata_rows
 
 KINDS = {"strata": Kind("count", "two groups within strata", "count Y by G within S, G with two "
@@ -198,4 +198,20 @@ FAMILIES = [
            "stratified Cochran-Armitage z",
            "common logistic slope per unit of dose with its exact interval",
            robustness=_count_check, default_in=("ordered-strata",), help=HELP),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('strata',), 'sum over strata',
+             'exact conditional test of a common odds ratio',
+             ('birch-1964', 'mehta-patel-gray-1985'),
+             "over {n} values of the statistic given every stratum's margins"),
+    Reported(('strata',), 'probability of the strata',
+             "Zelen's exact test of homogeneous odds ratios",
+             ('zelen-1971',),
+             'over the {n} configurations with the observed total'),
+    Reported(('strata',), 'sum of the dose scores',
+             'exact conditional trend test within strata',
+             ('cochran-1954', 'armitage-1955', 'mantel-1963'),
+             'over {n} choices of the event units within the strata'),
 ]

@@ -7,7 +7,7 @@ import math
 
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family
+from .registry import Family, Reported
 
 RULE = "two-sided p = P(|T| >= |t|) under the null (T studentized: no centring needed)"
 
@@ -97,4 +97,14 @@ FAMILIES = [
            help="""compare weight by dose levels "40", "0" in doses using brunner-munzel
   the rank counterpart of 'welch': tests P(A > B) + 1/2 P(A = B) = 1/2 without assuming
   equal spread (Neubert and Brunner 2007), and estimates it with an interval"""),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('two-sample',), 'Welch t',
+             'studentized permutation test of the Welch t',
+             ('janssen-1997', 'chung-romano-2013')),
+    Reported(('two-sample',), 'Brunner-Munzel',
+             'Brunner-Munzel test by permutation',
+             ('brunner-munzel-2000', 'neubert-brunner-2007')),
 ]

@@ -7,7 +7,7 @@ from ..errors import BindError
 from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
-from .registry import Family
+from .registry import Family, Reported
 
 # loaded when a statement first runs
 tables, tables_2x2 = module("permq.engine.tables.rxc"), module("permq.engine.tables.twobytwo")
@@ -139,4 +139,36 @@ FAMILIES = [
            execute, "normal approximation to the binomial (score test)",
            "proportion with its Clopper-Pearson interval", robustness=_count_check,
            default_in=("proportion",), selectable=False),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('table',), 'top-left count',
+             "Fisher's exact test",
+             ('fisher-1935b',),
+             'over {n} tables with the observed margins'),
+    Reported(('table',), 'table probability',
+             'Fisher-Freeman-Halton exact test',
+             ('freeman-halton-1951',),
+             'over {n} tables with the observed margins'),
+    Reported(('table',), 'Pearson chi-square',
+             "exact test of Pearson's chi-square",
+             ('pearson-1900',),
+             'over {n} tables with the observed margins'),
+    Reported(('table',), 'likelihood-ratio',
+             'exact likelihood-ratio test',
+             ('wilks-1938',),
+             'over {n} tables with the observed margins'),
+    Reported(('table',), 'linear-by-linear',
+             'exact linear-by-linear trend test (Cochran-Armitage for 2 x k)',
+             ('cochran-1954', 'armitage-1955'),
+             'over {n} tables with the observed margins'),
+    Reported(('table',), 'discordant pairs',
+             "McNemar's exact test",
+             ('mcnemar-1947',),
+             'from the binomial law of the {trials} discordant pairs'),
+    Reported(('table',), 'count of successes',
+             'exact binomial test',
+             (),
+             'from the binomial law of the {trials} trials'),
 ]

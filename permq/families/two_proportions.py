@@ -20,7 +20,7 @@ import math
 from ..plan.cost import OPS_PER_SECOND
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
-from .registry import Family, Kind
+from .registry import Family, Kind, Reported
 from .results import also_estimate, also_test
 
 KINDS = {"two-proportions": Kind("count", "two proportions", "count 3 of 20 vs 9 of 21")}
@@ -180,4 +180,20 @@ FAMILIES = [
            "Fisher's exact test", plan, execute, NORMAL, ESTIMATE,
            robustness=_count_check,
            help=HELP),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('two-proportions',), "Fisher's exact p-value",
+             "Boschloo's exact unconditional test",
+             ('boschloo-1970',),
+             'over the {n} outcomes of the two samples, the largest over the common proportion'),
+    Reported(('two-proportions',), 'score z',
+             "Barnard's exact unconditional test",
+             ('barnard-1945',),
+             'over the {n} outcomes of the two samples, the largest over the common proportion'),
+    Reported(('two-proportions',), 'top-left count',
+             "Fisher's exact test",
+             ('fisher-1935b',),
+             'over {n} tables with the observed margins'),
 ]

@@ -12,7 +12,7 @@ from ..normal import theory
 from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import EngineOutcome, Estimate, Result
-from .registry import Family, effect_pieces, family_for
+from .registry import Family, Reported, effect_pieces, family_for
 
 ranked = module("permq.engine.tables.ranked")       # the table route, loaded when it runs
 
@@ -149,4 +149,20 @@ FAMILIES = [
              _check("above_median", "normal approximation to the count above the median",
                     "score_sum_z", "as_is", "median_difference"),
              ("standardised_difference",), extra={"unequal_spread_test": "brunner-munzel"}),
+]
+
+# How reports name the tests (registry.Reported)
+REPORTED = [
+    Reported(('two-sample',), 'difference in means',
+             'permutation test of the difference in means (Pitman)',
+             ('pitman-1937',)),
+    Reported(('two-sample',), 'rank sum',
+             'Wilcoxon rank-sum test',
+             ('wilcoxon-1945', 'mann-whitney-1947')),
+    Reported(('two-sample',), 'normal-scores',
+             'van der Waerden normal-scores test',
+             ('van-der-waerden-1952',)),
+    Reported(('two-sample',), 'count of the first group above',
+             "Mood's median test",
+             ('mood-1950',)),
 ]

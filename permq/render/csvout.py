@@ -4,6 +4,7 @@ from __future__ import annotations
 import csv
 import io
 
+from ..contract.forms import form_of
 from . import factorial, many
 from .jsonout import records
 from .robustness import csv_row
@@ -19,12 +20,13 @@ COLUMNS += many.CSV_EXTRA       # several tests at once: one line per row
 def flatten(d: dict) -> dict:
     row = {k: "" for k in COLUMNS}
     row["statement"] = d["statement"]
-    if "error" in d:
+    form = form_of(d)
+    if form == "failure":
         row["error"] = d["error"]["message"]
         return row
-    if d.get("family") == "robustness":
+    if form == "robustness":
         return csv_row(d, COLUMNS)
-    if "plan" in d:
+    if form == "plan":
         row["algorithm"] = d["plan"].get("algorithm", "")
         row["method"] = d["plan"].get("method", "")
         return row
@@ -56,14 +58,15 @@ def render(outputs) -> str:
     w = csv.DictWriter(buf, fieldnames=COLUMNS, lineterminator="\n")
     w.writeheader()
     for d in records(outputs):
-        if d.get("family") == factorial.FAMILY:
+        form = form_of(d)
+        if form == "factorial":
             rows = factorial.csv_rows(d, COLUMNS)
-        elif d.get("family") == "power":
+        elif form == "power":
             from .power import csv_rows
 
             rows = csv_rows(d, COLUMNS)
         else:
-            rows = many.csv_rows(d, COLUMNS) if "rows" in d else [flatten(d)]
+            rows = many.csv_rows(d, COLUMNS) if form == "several" else [flatten(d)]
         for row in rows:
             w.writerow(row)
     return buf.getvalue()

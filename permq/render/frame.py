@@ -13,11 +13,11 @@ from __future__ import annotations
 
 import math
 
+from ..contract.forms import form_of
+
 ROW_FIELDS = {"name": "row.name", "n": "row.n", "statistic": "statistic.value",
               "p_value": "p_value", "p_adjusted": "p_adjusted", "estimate": "estimate.value",
               "interval": "estimate.interval", "note": "row.note"}
-SEVERAL = ("several responses", "for each", "pairwise", "many-to-one", "lowest effective dose")
-TERMS = "two factors"        # one row per term: its fields under `term.`, p_value beside them
 
 
 def rows(records) -> list:
@@ -26,13 +26,14 @@ def rows(records) -> list:
         if "plan" in r:
             continue
         base = {"record": i, "kind": _kind(r)}
-        if r.get("family") in SEVERAL:
+        form = form_of(r)
+        if form == "several":
             head = flatten({k: v for k, v in r.items() if k != "rows"})
             for row in r["rows"]:
                 line = dict(base, **head)
                 line.update({ROW_FIELDS.get(k, f"row.{k}"): v for k, v in row.items()})
                 out.append(line)
-        elif r.get("family") == TERMS:
+        elif form == "factorial":     # one row per term: its fields under `term.`
             head = flatten({k: v for k, v in r.items() if k != "terms"})
             for term in r["terms"]:
                 line = dict(base, **head, kind="term")
@@ -46,11 +47,8 @@ def rows(records) -> list:
 
 
 def _kind(r) -> str:
-    if "error" in r:
-        return "failure"
-    if r.get("family") in SEVERAL:
-        return "several"
-    return "robustness" if r.get("family") == "robustness" else "result"
+    form = form_of(r)
+    return form if form in ("failure", "several", "robustness") else "result"
 
 
 def flatten(d: dict, prefix: str = "") -> dict:

@@ -8,7 +8,8 @@ from __future__ import annotations
 from html import escape
 
 from . import numbers as fmt
-from .sentences import SEVERAL, sentence
+from ..contract.forms import form_of
+from .sentences import sentence
 
 STYLE = """
 .permq-result{font-family:system-ui,-apple-system,'Segoe UI',sans-serif;font-size:13px;
@@ -36,22 +37,23 @@ def output_html(output) -> str:
 def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
     ident = f' id="{escape(anchor)}"' if anchor else ""
     head = f"<h3>{escape(fmt.one_line(record['statement']))}</h3>"
-    if "error" in record:
+    form = form_of(record)
+    if form == "failure":
         e = record["error"]
         where = f" (line {e['line']}, column {e['column']})" if e.get("line") else ""
         return (f'<div class="permq-result"{ident}>{head}<p class="error">'
                 f"{escape(e['message'])}{where}</p></div>")
-    if record.get("family") in SEVERAL:
+    if form == "several":
         body = several_table(record)
-    elif record.get("family") == "two factors":
+    elif form == "factorial":
         from .factorial import html_table
 
         body = html_table(record)
-    elif record.get("family") == "power":
+    elif form == "power":
         from .power import html_table as power_table
 
         body = power_table(record)
-    elif record.get("family") == "robustness":
+    elif form == "robustness":
         body = robustness_table(record)
         if pictures:
             from .svg import law_rates
@@ -63,12 +65,12 @@ def section(record: dict, pictures: bool = True, anchor: str = "") -> str:
         from .svg import null_distribution
 
         body += null_distribution(record["null_picture"])
-    elif pictures and record.get("family") not in SEVERAL + ("robustness", "two factors", "power"):
+    elif pictures and form == "result":
         body += ('<p class="note">no picture: the null distribution is not kept for this '
                  'method</p>')
 
     notes = "".join(f'<li class="note">{escape(w)}</li>' for w in record.get("warnings", []))
-    if record.get("family") == "robustness":
+    if form == "robustness":
         notes = "".join(f"<li>{escape(s)}</li>" for s in record.get("summary", [])) + notes
     return (f'<div class="permq-result"{ident}>{head}'
             f'<p class="sentence">{escape(sentence(record))}</p>{body}'

@@ -21,9 +21,11 @@ def _head(r) -> list:
     unit = {"pairwise": "pairs", "for each": "features", "many-to-one": "comparisons",
             "lowest effective dose": "steps"}.get(r.family, "responses")
     tested = f"{r.tested:,} {unit}" + (f" ({r.untested:,} not tested)" if r.untested else "")
+    from .text import units_lines
+
     lines = [f"  {'adjustment':<15}{r.adjustment}: {r.adjustment_rule}",
              f"  {'method':<15}{how}",
-             f"  {'tested':<15}{tested}"]
+             f"  {'tested':<15}{tested}"] + units_lines(r.extra)
     if r.overall:
         o = r.overall
         lines.append(f"  {'overall':<15}{o['test']} = {fmt.num(o['statistic'])}, "

@@ -2,7 +2,9 @@
 
 `method_of(record)` reads a result's JSON object (the contract: family and statistic name)
 and gives a `Method`: the test's name as a report writes it, and the keys of its sources in
-SOURCES. `sources_for(records)` collects every source a list of records needs (tests,
+SOURCES (or in a family module's BIBLIOGRAPHY), as the family module declares them in its
+`REPORTED` (families/registry.py). `reference_words(record)` says what an exact p-value is
+counted over. `sources_for(records)` collects every source a list of records needs (tests,
 normal-theory counterparts, intervals, effect sizes, adjustments, Monte Carlo p-values).
 Nothing here computes.
 
@@ -207,102 +209,6 @@ class Method:
     what: str = ""             # one clause on what it tests, for the methods paragraph
 
 
-# (family, start of the statistic's name) -> Method; the first match wins
-_TESTS = [
-    (("two-sample",), "Welch t",
-     Method("studentized permutation test of the Welch t", ("janssen-1997",
-                                                            "chung-romano-2013"))),
-    (("two-sample",), "Brunner-Munzel",
-     Method("Brunner-Munzel test by permutation", ("brunner-munzel-2000",
-                                                   "neubert-brunner-2007"))),
-    (("two-sample",), "difference in means",
-     Method("permutation test of the difference in means (Pitman)", ("pitman-1937",))),
-    (("two-sample",), "rank sum",
-     Method("Wilcoxon rank-sum test", ("wilcoxon-1945", "mann-whitney-1947"))),
-    (("two-sample",), "normal-scores",
-     Method("van der Waerden normal-scores test", ("van-der-waerden-1952",))),
-    (("two-sample",), "count of the first group above",
-     Method("Mood's median test", ("mood-1950",))),
-    (("paired", "one-sample"), "mean difference",
-     Method("sign-flip permutation test of the mean (Fisher)", ("fisher-1935",))),
-    (("paired", "one-sample"), "signed-rank",
-     Method("Wilcoxon signed-rank test (zeros by Pratt's rule)",
-            ("wilcoxon-1945", "pratt-1959"))),
-    (("paired", "one-sample"), "number of positive",
-     Method("sign test", ("dixon-mood-1946",))),
-    (("k-sample",), "F", Method("permutation F test (Pitman)", ("pitman-1938",))),
-    (("k-sample",), "Kruskal-Wallis",
-     Method("Kruskal-Wallis test", ("kruskal-wallis-1952",))),
-    (("k-sample",), "van der Waerden",
-     Method("van der Waerden normal-scores k-sample test", ("van-der-waerden-1952",))),
-    (("k-sample",), "median test", Method("k-sample median test", ("mood-1950",))),
-    (("ordered",), "Jonckheere",
-     Method("Jonckheere-Terpstra test", ("jonckheere-1954", "terpstra-1952"))),
-    (("ordered",), "linear trend",
-     Method("permutation test of a linear trend in the dose scores", ("pitman-1938",))),
-    (("blocked",), "Friedman", Method("Friedman test", ("friedman-1937",))),
-    (("blocked",), "Page", Method("Page's test for ordered treatments", ("page-1963",))),
-    (("blocked",), "F for treatments",
-     Method("permutation F test within blocks", ("pitman-1938",))),
-    (("blocked",), "stratified sum",
-     Method("stratified permutation test of the difference in means (within-block "
-            "permutation)", ("pitman-1937",))),
-    (("blocked",), "stratified rank sum",
-     Method("stratified Wilcoxon rank-sum test (ranks within blocks)",
-            ("wilcoxon-1945", "lehmann-1975"))),
-    (("association",), "Pearson",
-     Method("permutation test of Pearson's correlation", ("pitman-1937b",))),
-    (("association",), "Spearman",
-     Method("permutation test of Spearman's rank correlation", ("spearman-1904",))),
-    (("association",), "Kendall",
-     Method("permutation test of Kendall's tau", ("kendall-1938",))),
-    (("association",), "least-squares slope",
-     Method("permutation test of the least-squares slope", ("pitman-1937b",))),
-    (("association",), "t of the slope",
-     Method("Freedman-Lane permutation test of the adjusted slope", ("freedman-lane-1983",))),
-    (("adjusted",), "difference in mean covariate-adjusted",
-     Method("covariate-adjusted randomisation test of the difference in means (Rosenbaum)",
-            ("rosenbaum-2002", "pitman-1937"))),
-    (("adjusted",), "rank sum", Method("Wilcoxon rank-sum test of covariate-adjusted residuals "
-                                       "(Rosenbaum)", ("rosenbaum-2002", "wilcoxon-1945"))),
-    (("adjusted",), "F of the covariate-adjusted",
-     Method("covariate-adjusted randomisation F test (Rosenbaum)",
-            ("rosenbaum-2002", "pitman-1938"))),
-    (("adjusted",), "Kruskal-Wallis",
-     Method("Kruskal-Wallis test of covariate-adjusted residuals (Rosenbaum)",
-            ("rosenbaum-2002", "kruskal-wallis-1952"))),
-    (("table",), "top-left count", Method("Fisher's exact test", ("fisher-1935b",))),
-    (("table",), "table probability",
-     Method("Fisher-Freeman-Halton exact test", ("freeman-halton-1951",))),
-    (("table",), "Pearson chi-square",
-     Method("exact test of Pearson's chi-square", ("pearson-1900",))),
-    (("table",), "likelihood-ratio",
-     Method("exact likelihood-ratio test", ("wilks-1938",))),
-    (("table",), "linear-by-linear",
-     Method("exact linear-by-linear trend test (Cochran-Armitage for 2 x k)",
-            ("cochran-1954", "armitage-1955"))),
-    (("table",), "discordant pairs", Method("McNemar's exact test", ("mcnemar-1947",))),
-    (("table",), "count of successes", Method("exact binomial test", ())),
-    (("two-proportions",), "Fisher's exact p-value",
-     Method("Boschloo's exact unconditional test", ("boschloo-1970",))),
-    (("two-proportions",), "score z", Method("Barnard's exact unconditional test",
-                                             ("barnard-1945",))),
-    (("two-proportions",), "top-left count", Method("Fisher's exact test", ("fisher-1935b",))),
-    (("strata",), "sum over strata",
-     Method("exact conditional test of a common odds ratio", ("birch-1964",
-                                                               "mehta-patel-gray-1985"))),
-    (("strata",), "probability of the strata",
-     Method("Zelen's exact test of homogeneous odds ratios", ("zelen-1971",))),
-    (("strata",), "sum of the dose scores",
-     Method("exact conditional trend test within strata", ("cochran-1954", "armitage-1955",
-                                                           "mantel-1963"))),
-    (("rates",), "first group's events",
-     Method("exact conditional test of the rate ratio", ())),
-    (("rates",), "count of events", Method("exact Poisson test", ())),
-    (("dose-response",), "sum of",
-     Method("exact conditional logistic (score) test", ("cox-1970", "hirji-mehta-patel-1987"))),
-]
-
 # normal-theory counterparts and intervals: (start of the words) -> source keys
 _NORMAL = [("Dunnett", ("dunnett-1955",)), ("Williams", ("williams-1971",)),
            ("Brunner-Munzel", ("brunner-munzel-2000",)),
@@ -331,29 +237,47 @@ _ADJUSTMENTS = [("max-t", ("westfall-young-1993",)), ("min-p", ("westfall-young-
 
 
 def method_of(record: dict) -> Method:
-    """The named test of a result record (its JSON object)."""
-    family = record.get("family", "")
-    if family in ("several responses", "for each", "pairwise", "many-to-one"):
-        extra = ("steel-1959",) if "rank sum" in record.get("test", "") else ()
-        return Method(record.get("test", "several tests"),
-                      _match(_ADJUSTMENTS, record.get("adjustment", "").lower()) + extra)
-    if family == "lowest effective dose":
-        return Method(record.get("test", "step-down trend test"),
-                      ("tukey-ciminera-heyse-1985",))
-    if family == "two factors":
-        return Method("two-way permutation ANOVA (restricted permutation for the main effects, "
-                      "Freedman-Lane residual permutation for the interaction)",
-                      ("anderson-ter-braak-2003", "freedman-lane-1983"))
-    if family == "robustness":
+    """The named test of a result record (its JSON object): the family module's `REPORTED`
+    declaration for its `family` and statistic name (families/registry.py)."""
+    from ..contract.forms import form_of
+    from ..families.registry import reported
+
+    form = form_of(record)
+    if form == "robustness":
         a = record.get("analysis", {})
         inner = method_of({"family": a.get("family", ""),
                            "statistic": {"name": a.get("statistic", "")}})
         return Method(f"robustness check of the {inner.name}", inner.sources)
     name = (record.get("statistic") or {}).get("name", "")
-    for families, start, method in _TESTS:
-        if family in families and name.startswith(start):
-            return method
-    return Method(f"permutation test of the {name}" if name else "permutation test", ())
+    declared = reported(record.get("family", ""), name)
+    sources = declared.sources if declared else ()
+    if form == "several":
+        return Method(record.get("test") or (declared.name if declared else "several tests"),
+                      _match(_ADJUSTMENTS, record.get("adjustment", "").lower()) + sources)
+    if declared is not None and declared.name:
+        return Method(declared.name, sources)
+    return Method(f"permutation test of the {name}" if name else "permutation test", sources)
+
+
+def reference_words(record: dict) -> str:
+    """What an exact p-value is counted over, in words: "over 924 arrangements"."""
+    from ..families.registry import reported
+    from .numbers import count
+
+    n = record.get("arrangements")
+    declared = reported(record.get("family", ""), record["statistic"]["name"])
+    words = declared.over if declared and declared.over else "over {n} arrangements"
+    trials = f"{int(n) - 1:,}" if isinstance(n, (int, float)) else "?"
+    return words.format(n=count(n), trials=trials)
+
+
+def source_text(key: str) -> str:
+    """A source's entry: the shared list's, or the one a family module declares."""
+    if key in SOURCES:
+        return SOURCES[key]
+    from ..families.registry import bibliography
+
+    return bibliography().get(key, "")
 
 
 def normal_sources(words: str) -> tuple:
@@ -387,14 +311,14 @@ def sources_for(records) -> list:
             keys.append("joanes-gill-1998")
     seen = []
     for k in keys:
-        if k not in seen and SOURCES.get(k):
+        if k not in seen and source_text(k):
             seen.append(k)
     return seen
 
 
 def short_citation(key: str) -> str:
     """"Mann and Whitney, 1947" from the source's entry."""
-    text = SOURCES.get(key, "")
+    text = source_text(key)
     if "(" not in text:
         return ""
     authors, rest = text.split(" (", 1)

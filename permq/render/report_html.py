@@ -11,7 +11,7 @@ from html import escape
 
 from ..syntax.parser import one_line
 from .html import STYLE, section
-from .methods import SOURCES, method_of, normal_sources, short_citation, sources_for
+from .methods import method_of, normal_sources, short_citation, source_text, sources_for
 from .sentences import sentence
 
 PAGE_STYLE = """
@@ -73,7 +73,7 @@ def _statements(data) -> str:
 
 
 def _cite(keys) -> str:
-    cites = [short_citation(k) for k in keys if SOURCES.get(k)]
+    cites = [short_citation(k) for k in keys if source_text(k)]
     return f" ({'; '.join(cites)})" if cites else ""
 
 
@@ -122,7 +122,7 @@ def _join(items) -> str:
 def _methods(records) -> str:
     text = methods_paragraph(records)
     keys = sources_for(records)
-    refs = "".join(f"<li>{escape(SOURCES[k])}</li>" for k in keys)
+    refs = "".join(f"<li>{escape(source_text(k))}</li>" for k in keys)
     return ("<h2>Methods</h2>" + (f"<p class=\"methods\">{escape(text)}</p>" if text else "")
             + (f'<h3>References</h3><ul class="refs">{refs}</ul>' if refs else ""))
 

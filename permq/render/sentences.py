@@ -15,9 +15,9 @@ import math
 
 from ..syntax.parser import one_line
 from . import numbers as fmt
-from .methods import method_of
+from ..contract.forms import form_of
+from .methods import method_of, reference_words
 
-SEVERAL = ("several responses", "for each", "pairwise", "many-to-one", "lowest effective dose")
 ROWS_NAMED = 5            # rows of a several-tests result named in its sentence
 SHORT_NAMES = {"d": "standardised difference d", "dz": "standardised mean difference d_z",
                "superiority": "probability of superiority",
@@ -40,19 +40,20 @@ def render(outputs) -> str:
 def sentence(record: dict) -> str:
     """The sentence for one record (a result, a several-tests result, a robustness check or a
     failure); "" for a plan."""
-    if "error" in record:
+    form = form_of(record)
+    if form == "failure":
         return f"'{one_line(record['statement'])}' did not run: {record['error']['message']}"
-    if "plan" in record:
+    if form == "plan":
         return ""
-    if record.get("family") in SEVERAL:
+    if form == "several":
         return _several(record)
-    if record.get("family") == "two factors":
+    if form == "factorial":
         from .factorial import sentence as factorial_sentence
 
         return factorial_sentence(record)
-    if record.get("family") == "robustness":
+    if form == "robustness":
         return _robustness(record)
-    if record.get("family") == "power":
+    if form == "power":
         from .power import sentence as power_sentence
 
         return power_sentence(record)
@@ -172,45 +173,10 @@ def _test_clause(r: dict, lead: bool) -> str:
 def _p_words(r: dict) -> str:
     side = "two-sided" if r["alternative"] == "two-sided" else f"one-sided ({r['alternative']})"
     if r["method"] == "exact":
-        return f"exact {side} p = {fmt.p(r['p_value'])} {_reference_words(r)}"
+        return f"exact {side} p = {fmt.p(r['p_value'])} {reference_words(r)}"
     lo, hi = r.get("p_interval") or (None, None)
     return (f"Monte Carlo {side} p = {fmt.p(r['p_value'])} from {r['draws']:,} random "
             f"arrangements (seed {r['seed']}; 99% interval for p {fmt.p(lo)} to {fmt.p(hi)})")
-
-
-def _reference_words(r: dict) -> str:
-    n = r.get("arrangements")
-    name = r["statistic"]["name"]
-    if r["family"] == "table":
-        if name.startswith("count of successes"):
-            return f"from the binomial law of the {n - 1:,} trials"
-        if name.startswith("discordant pairs"):
-            return f"from the binomial law of the {n - 1:,} discordant pairs"
-        return f"over {fmt.count(n)} tables with the observed margins"
-    words = _event_reference(r["family"], name, n)
-    return words if words else f"over {fmt.count(n)} arrangements"
-
-
-def _event_reference(family: str, name: str, n) -> str:
-    """How the count forms' exact tests reach their p-values, in words."""
-    if family == "two-proportions":
-        if name.startswith("top-left count"):
-            return f"over {fmt.count(n)} tables with the observed margins"
-        return (f"over the {fmt.count(n)} outcomes of the two samples, the largest over the "
-                "common proportion")
-    if family == "strata":
-        if name.startswith("probability of the strata"):
-            return f"over the {fmt.count(n)} configurations with the observed total"
-        if name.startswith("sum of the dose scores"):
-            return f"over {fmt.count(n)} choices of the event units within the strata"
-        return f"over {fmt.count(n)} values of the statistic given every stratum's margins"
-    if family == "rates":
-        if name.startswith("first"):
-            return f"over the {fmt.count(n)} splits of the total (binomial)"
-        return f"from the Poisson law at the reference rate ({fmt.count(n)} counts, from 0)"
-    if family == "dose-response":
-        return f"over {fmt.count(n)} choices of the event units given their number"
-    return ""
 
 
 def _effects_clause(r: dict) -> str:
@@ -269,14 +235,14 @@ def _several(r: dict) -> str:
 def _robustness(r: dict) -> str:
     a = r["analysis"]
     laws = r["laws"]
-    word = "scheme" if a["family"] == "table" else "law"
+    word = "scheme" if a.get("counts") else "law"
     name = method_of(r).name.replace("robustness check of the ", "")
     name = name if name[:1].isupper() else "the " + name
     head = (f"Robustness of {name} for {a['design']}, {r['datasets']:,} data sets a {word} at "
             f"{r['significance'] * 100:g}% (seed {r['seed']})")
     normal = _grouped(laws, "normal_theory")
     perm = _grouped(laws, "permutation")
-    test = "the exact test" if a["family"] == "table" else "the permutation test"
+    test = "the exact test" if a.get("counts") else "the permutation test"
     return f"{head}: {a['normal_test']}: {normal}; {test}: {perm}."
 
 

@@ -60,18 +60,24 @@ def _c(s, code, color):
     return f"{code}{s}{RESET}" if color else s
 
 
+def units_lines(extra: dict) -> list:
+    """The randomised unit's two lines (`units COLUMN`), or none."""
+    if "units" not in extra:
+        return []
+    u = extra["units"]
+    low, high = u["rows_per_unit"]["min"], u["rows_per_unit"]["max"]
+    per = f"{low}" if low == high else f"{low} to {high}"
+    return [f"  {'units':<15}{u['units']} units of '{u['column']}', {u['rows']} rows "
+            f"({per} a unit), arrangements move whole units",
+            f"  {'':<15}a unit's value: the {u['unit_value']}"]
+
+
 def result_block(r: Result, color: bool = False) -> str:
     o, nt, est = r.outcome, r.normal, r.estimate
     lines = [_c(fmt.heading(r.statement), BOLD, color)]
     lines.append(f"{r.family} · {o.statistic_name} · effect: {r.effect}")
     lines.extend(group_lines(r))
-    if "units" in r.extra:
-        u = r.extra["units"]
-        low, high = u["rows_per_unit"]["min"], u["rows_per_unit"]["max"]
-        per = f"{low}" if low == high else f"{low} to {high}"
-        lines.append(f"  {'units':<15}{u['units']} units of '{u['column']}', {u['rows']} rows "
-                     f"({per} a unit), arrangements move whole units")
-        lines.append(f"  {'':<15}a unit's value: the {u['unit_value']}")
+    lines.extend(units_lines(r.extra))
     if "table" in r.extra:
         lines.extend(table_lines(r.extra["table"]))
     lines.extend(data_lines(r))

@@ -96,7 +96,7 @@ class RobustnessResult:
             "family": "robustness",
             "analysis": {"family": self.family, "design": self.design,
                          "statistic": self.statistic, "normal_test": self.normal_test,
-                         "alternative": self.alternative},
+                         "alternative": self.alternative, "counts": self.counts},
             "significance": self.significance,
             "datasets": self.datasets,
             "seed": self.seed,

@@ -20,7 +20,7 @@ import math
 
 import numpy as np
 
-from .core.progress import NO_PROGRESS, Progress
+from ..core.progress import NO_PROGRESS, Progress
 
 RESCALE_AT = 800
 MAX_CELLS = 2e9              # past this many cells in one step the tables are not even priced
