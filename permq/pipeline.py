@@ -59,7 +59,8 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     result.seed_source = choice.source
     if getattr(design, "units", None) is not None:     # the randomised unit (bind/units.py)
         result.extra["units"] = design.units.to_dict()
-    result.extra["estimated_seconds"] = round(the_plan.seconds, 4)   # what explain said
+    if hasattr(result, "extra"):          # a two-factor record carries no extra
+        result.extra["estimated_seconds"] = round(the_plan.seconds, 4)   # what explain said
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result
     if margin is not None:
@@ -201,6 +202,11 @@ class Session:
 
                 note = robustness.explain(node.analysis, st.text, self.catalog, self.defaults,
                                           seed_for(node, st.text, self.defaults).seed)
+            elif isinstance(node.analysis, n.Power):
+                from .power.explain import explain as explain_power
+
+                note = explain_power(node.analysis, st.text, self.catalog, self.defaults,
+                                     seed_for(node, st.text, self.defaults).seed)
             else:
                 note = explain(node.analysis, st.text, self.catalog, self.defaults)
             note.line = st.line

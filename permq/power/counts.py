@@ -46,6 +46,10 @@ NOT_FOR_COUNTS = ("datasets", "law", "shift")
 SHAPES = ("proportions", "proportion")
 
 
+def is_two(design) -> bool:
+    return isinstance(design, designs.TwoProportionsDesign)
+
+
 def is_count(design) -> bool:
     return isinstance(design, designs.TwoProportionsDesign) or (
         isinstance(design, designs.TableDesign) and design.form == "proportion")
@@ -64,19 +68,19 @@ def described_node(layout: n.Layout) -> tuple[n.Count, tuple]:
     p, q = (_proportion(v, layout.span, w) for v, w in zip(layout.values, ("proportion", "the second proportion")))
     sizes = n.options_of(layout).get("sizes")
     first = sizes.value if sizes is not None else (10,)
-    return _count_node(layout.span, layout.shape, first, q, layout.options), (p, q)
+    return count_node(layout.span, layout.shape, first, q, layout.options), (p, q)
 
 
-def _count_node(span, shape, sizes, null_value, options) -> n.Count:
+def count_node(span, shape, sizes, null_value, options) -> n.Count:
     if shape == "proportions":
         n1, n2 = (sizes[0], sizes[0]) if len(sizes) == 1 else sizes[:2]
         subject = n.CountTwoProportions(span, (n1 // 2, n1), (n2 // 2, n2))
     else:
         subject = n.CountProportion(span, sizes[0] // 2, sizes[0], null_value)
-    return n.Count(span, subject, tuple(o for o in options if o.key not in _POWER_KEYS))
+    return n.Count(span, subject, tuple(o for o in options if o.key not in POWER_KEYS))
 
 
-_POWER_KEYS = ("datasets", "shift", "significance", "sizes", "law", "target", "seed")
+POWER_KEYS = ("datasets", "shift", "significance", "sizes", "law", "target", "seed")
 
 
 def run(node: n.Power, text, catalog, defaults, progress, alpha, target, sizes,
@@ -93,16 +97,16 @@ def run(node: n.Power, text, catalog, defaults, progress, alpha, target, sizes,
         if sizes is None and target is None:
             raise BindError("a described count design needs its size or a target: n 20, "
                             "or for power 80%", inner.span)
-        count_node, props = described_node(inner)
+        analysis, props = described_node(inner)
         shape, source = inner.shape, "described"
     else:
-        count_node = dataclasses.replace(inner, options=tuple(
-            o for o in inner.options if o.key not in _POWER_KEYS))
+        analysis = dataclasses.replace(inner, options=tuple(
+            o for o in inner.options if o.key not in POWER_KEYS))
         shape, source = ("proportions" if isinstance(design, designs.TwoProportionsDesign)
                          else "proportion"), "pilot"
-        props = _pilot_proportions(design)
+        props = pilot_proportions(design)
         if sizes is None and target is None:
-            sizes = _pilot_sizes(design)
+            sizes = pilot_sizes(design)
     want = 2 if shape == "proportions" else 1
     if sizes is not None and len(sizes) > want:
         raise BindError(f"'n' gives {len(sizes)} sizes for {want} "
@@ -113,7 +117,7 @@ def run(node: n.Power, text, catalog, defaults, progress, alpha, target, sizes,
     null = props[1] if shape == "proportion" else None
 
     def at(ns: tuple):
-        d = bind(_count_node(inner.span, shape, ns, null, count_node.options), catalog, defaults)
+        d = bind(count_node(inner.span, shape, ns, null, analysis.options), catalog, defaults)
         return summed(d, shape, props, alpha)
 
     warnings = []
@@ -135,9 +139,9 @@ def run(node: n.Power, text, catalog, defaults, progress, alpha, target, sizes,
             elif dips.get(which):
                 warnings.append(f"the {words}'s power dips below {target:.0%} again at n = "
                                 f"{dips[which]} (exact power saw-tooths with n)")
-    d0 = bind(_count_node(inner.span, shape, rows[0].sizes, null, count_node.options),
+    d0 = bind(count_node(inner.span, shape, rows[0].sizes, null, analysis.options),
               catalog, defaults)
-    test, normal_test = _test_words(d0)
+    test, normal_test = test_words(d0)
     return PowerResult(text, test, normal_test, _design_words(shape, rows, target, ratio),
                        source, d0.settings.alternative, alpha, "binomial",
                        "binomial outcomes, every one summed", 0.0, _effect_words(shape, props),
@@ -227,7 +231,7 @@ def _thin(rows, needed):
     return [rows[i] for i in sorted(keep)]
 
 
-def _pilot_proportions(design) -> tuple:
+def pilot_proportions(design) -> tuple:
     if isinstance(design, designs.TwoProportionsDesign):
         x1, n1, x2, n2 = design.counts
         return (x1 / n1, x2 / n2)
@@ -235,13 +239,13 @@ def _pilot_proportions(design) -> tuple:
     return (float(t[0, 0]) / float(t.sum()), float(design.reference))
 
 
-def _pilot_sizes(design) -> tuple:
+def pilot_sizes(design) -> tuple:
     if isinstance(design, designs.TwoProportionsDesign):
         return (design.counts[1], design.counts[3])
     return (int(design.table.sum()),)
 
 
-def _test_words(design) -> tuple:
+def test_words(design) -> tuple:
     from ..families import registry
 
     family = registry.find(design.settings.kind, design.settings.family)

@@ -12,6 +12,7 @@ data's units (a pilot's sd), or, with a pilot and no shift, the pilot's observed
 from __future__ import annotations
 
 import dataclasses
+from typing import Callable, Optional
 
 import numpy as np
 
@@ -63,12 +64,43 @@ def _options(opts: dict, described: bool):
     return datasets, alpha, law, target, sizes, shift
 
 
-def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> PowerResult:
+@dataclasses.dataclass
+class Setup:
+    """A power statement taken apart: what `run` simulates and `explain` describes."""
+
+    design: object
+    base: object                  # the robustness problem at the design's own sizes
+    described: bool
+    alpha: float
+    target: Optional[float]
+    sizes: Optional[tuple]
+    datasets: int
+    law_key: str
+    law_words: str
+    shift_sd: float
+    words: str
+    errors: object
+    pattern_of: Callable
+    ratio: tuple                  # a search's allocation (layout.allocation), () for equal
+
+
+@dataclasses.dataclass
+class CountSetup:
+    """A count design's power statement: summed, not simulated (power/counts.py)."""
+
+    alpha: float
+    target: Optional[float]
+    sizes: Optional[tuple]
+    design: object = None         # a pilot's, bound; None for a described one
+
+
+def prepare(node: n.Power, catalog, defaults, seed: int):
+    """The statement's options checked, its analysis bound, its effect and errors set up."""
     inner = node.analysis
     described = isinstance(inner, n.Layout)
     if described and inner.shape in counts.SHAPES:
         _, alpha, _, target, sizes, _ = _options(n.options_of(inner), False)
-        return counts.run(node, text, catalog, defaults, progress, alpha, target, sizes)
+        return CountSetup(alpha, target, sizes)
     analysis = lay.described(inner) if described else inner
     opts = n.options_of(analysis)
     datasets, alpha, law_key, target, sizes, shift = _options(opts, described)
@@ -80,7 +112,7 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
     design = bind(dataclasses.replace(analysis, options=tuple(
         o for o in analysis.options if o.key not in OPTIONS)), catalog, defaults)
     if counts.is_count(design):
-        return counts.run(node, text, catalog, defaults, progress, alpha, target, sizes, design)
+        return CountSetup(alpha, target, sizes, design)
     if not isinstance(design, (designs.TwoSampleDesign, designs.OneSampleDesign,
                                designs.GroupsDesign, designs.AssociationDesign)):
         raise PlanError(f"power is not available for {design.kind} analyses here",
@@ -108,8 +140,22 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
         law = L.BY_KEY[law_key]
         law_words = law.words
     errors = lay.Errors(law, base.kind, base.check.centre, datasets, int(seed), residuals)
-    warnings = list(design.warnings)
     ratio = _allocation(design, sizes, described) if target is not None else ()
+    return Setup(design, base, described, alpha, target, sizes, datasets, law_key, law_words,
+                 shift_sd, words, errors, pattern_of, ratio)
+
+
+def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> PowerResult:
+    s = prepare(node, catalog, defaults, seed)
+    if isinstance(s, CountSetup):
+        return counts.run(node, text, catalog, defaults, progress, s.alpha, s.target, s.sizes,
+                          s.design)
+    design, base, described, alpha, target, sizes = (s.design, s.base, s.described, s.alpha,
+                                                      s.target, s.sizes)
+    pattern_of, errors, ratio = s.pattern_of, s.errors, s.ratio
+    datasets, law_key, law_words, shift_sd, words = (s.datasets, s.law_key, s.law_words,
+                                                     s.shift_sd, s.words)
+    warnings = list(design.warnings)
     if target is not None:
         def problem_at(k):
             return problem_for(lay.resized(design, lay.allocated(k, ratio)))
