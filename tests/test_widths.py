@@ -4,6 +4,9 @@
   shift-linear permutation test) equals the width of the interval the analysis itself reports,
   for two samples, pairs, one sample and a slope; and a brute force written here (every
   arrangement of a 4 + 4 design, the test inverted on a fine grid) gives the same interval.
+- Groups adjusted for a covariate: the exact width (the engine's confidence set over the same
+  assignments, one data set at a time) equals the analysis's interval width, and the ANCOVA t
+  width equals statsmodels' OLS interval for the group coefficient.
 - The normal-theory widths equal scipy's Welch and one-sample t intervals
   (scipy.stats.ttest_ind(..., equal_var=False).confidence_interval, ttest_1samp) and
   statsmodels' OLS interval for the slope.
@@ -146,3 +149,45 @@ def test_unbounded_exact_intervals_are_counted_apart():
     rr = permq.run("robustness compare [4.1, 5.3, 4.8] vs [6.0, 5.9, 7.2] datasets 200 seed 1")[-1]
     # 20 arrangements: no one-sided p can be at or below 0.025, every exact interval unbounded
     assert all(r.unbounded == 1 and r.width_ratio is None for r in rr.coverage)
+
+
+def _adjusted_table(seed, n1):
+    import pandas as pd
+
+    rng = np.random.default_rng(seed)
+    z = np.round(rng.normal(size=2 * n1), 3)
+    g = np.repeat(["a", "b"], n1)
+    y = np.round(0.8 * z + rng.normal(size=2 * n1) + (g == "a"), 3)
+    return {"t": pd.DataFrame({"y": y, "g": g, "z": z})}
+
+
+@pytest.mark.parametrize("seed, n1", [(4, 5), (9, 7)])
+def test_adjusted_widths_are_the_analysis_intervals_and_statsmodels(seed, n1):
+    import statsmodels.api as sm
+
+    tables = _adjusted_table(seed, n1)
+    text = "compare y by g adjusting for z exact in t"
+    r = Session(tables=tables).run(text)[-1]
+    lo, hi = r.estimate.interval
+    d, pb = _problem(text, tables)
+    A = pb.check.scores(pb, d.values[None, :])
+    assert pb.check.exact_width(pb, A, exact_reference(pb), 0.95)[0] == pytest.approx(hi - lo,
+                                                                                    rel=1e-9)
+    frame = tables["t"]
+    X = sm.add_constant(np.column_stack([(frame.g == "a").astype(float), frame.z]))
+    a, b = sm.OLS(frame.y.to_numpy(), X).fit().conf_int(0.05)[1]
+    assert pb.check.width(pb, d.values[None, :], 0.95)[0] == pytest.approx(b - a)
+
+
+def test_adjusted_robustness_gives_the_width_ratio_on_its_first_data_sets():
+    from permq.robustness.widths import ONE_BY_ONE
+
+    tables = _adjusted_table(2, 8)
+    rr = Session(tables=tables).run(
+        "robustness compare y by g adjusting for z in t datasets 600 seed 3")[-1]
+    assert isinstance(rr, RobustnessResult)
+    normal = next(r for r in rr.coverage if r.law == "normal")
+    assert normal.width_datasets == ONE_BY_ONE
+    assert 0.85 < normal.width_ratio < 1.15 and normal.width_ratio_se < 0.02
+    assert f"over {ONE_BY_ONE} data sets a law" in str(rr)
+    jsonschema.validate([rr.to_dict()], schema())

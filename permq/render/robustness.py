@@ -93,8 +93,9 @@ def _coverage_table(rr, color) -> list:
                    f"{f'{r.normal_above:.3f} / {r.normal_below:.3f}':<18}"
                    f"{ratio}{r.exact_verdict}; {r.normal_verdict}")
     if widths:
+        seen = max(r.width_datasets for r in rr.coverage)
         out.append(f"  {'':<{law_w}}width ratio: mean of exact / normal-theory interval width "
-                   "over the data sets")
+                   f"over {seen:,} data sets a law")
     return out
 
 

@@ -88,6 +88,7 @@ class CoverageRow:
     width_ratio: Optional[float] = None      # mean of exact / normal-theory width
     width_ratio_se: Optional[float] = None
     unbounded: float = 0.0                   # share of data sets whose exact interval is unbounded
+    width_datasets: int = 0                  # data sets a law the widths were found on
 
     def to_dict(self) -> dict:
         return {"law": self.law, "name": self.name,
@@ -100,7 +101,7 @@ class CoverageRow:
                                   "verdict": self.normal_verdict},
                 "width_ratio": None if self.width_ratio is None else {
                     "mean": self.width_ratio, "se": self.width_ratio_se,
-                    "unbounded": self.unbounded}}
+                    "unbounded": self.unbounded, "datasets": self.width_datasets}}
 
 
 def verdict(cov: float, level: float, datasets: int, not_exact: str = "") -> str:
@@ -122,14 +123,15 @@ def rows(rates, level: float, datasets: int) -> list:
             continue
         ea, eb, na, nb = (m.value for m in r.misses)
         ec, nc = 1 - ea - eb, 1 - na - nb
-        ratio, ratio_se, unbounded = None, None, 0.0
+        ratio, ratio_se, unbounded, seen = None, None, 0.0, 0
         if r.widths is not None:
             ratio, ratio_se, finite, infinite = r.widths
-            unbounded = infinite / max(finite + infinite, 1)
+            seen = finite + infinite
+            unbounded = infinite / max(seen, 1)
         out.append(CoverageRow(r.law.key, r.law.name, ec, _se(ec, datasets), ea, eb,
                                nc, _se(nc, datasets), na, nb,
                                verdict(ec, level, datasets, r.not_exact or ""),
-                               verdict(nc, level, datasets), ratio, ratio_se, unbounded))
+                               verdict(nc, level, datasets), ratio, ratio_se, unbounded, seen))
     return out
 
 

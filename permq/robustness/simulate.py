@@ -126,6 +126,7 @@ def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutation
     the block's size, then (with `cover_level`) the intervals' misses on the null data sets."""
     f = factors(problem, law)
     rows = []
+    done = 0
     for _, size, rng in sampling.blocks(seed, datasets, BLOCK):
         tracker.check()
         e = errors(problem, law, rng, size, f)
@@ -140,8 +141,10 @@ def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutation
         extra = [] if cover_level is None else coverage.misses(problem, e, null_scores, ref,
                                                                cover_level)
         if cover_level is not None and W.applies(problem):
-            extra += W.ratios(problem, e, null_scores, ref, cover_level)
+            extra += (W.ratios(problem, e, null_scores, ref, cover_level)
+                      if W.wanted(problem, done) else [0.0, 0.0, 0, 0])
         rows.append(row + [size] + extra)
+        done += size
         tracker.add(size)
     return np.array(rows)
 
