@@ -57,9 +57,9 @@ def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Pro
     the_plan = whole_plan(handler, design, node)
     result = handler.execute(design, the_plan, progress, text)
     result.seed_source = choice.source
-    if getattr(design, "units", None) is not None:     # the randomised unit (bind/units.py)
-        result.extra["units"] = design.units.to_dict()
-    if hasattr(result, "extra"):          # a two-factor record carries no extra
+    if hasattr(result, "extra"):          # a two-factor result keeps its own terms
+        if getattr(design, "units", None) is not None:     # the randomised unit (bind/units.py)
+            result.extra["units"] = design.units.to_dict()
         result.extra["estimated_seconds"] = round(the_plan.seconds, 4)   # what explain said
     if not hasattr(result, "outcome"):      # several tests at once: rows, no single outcome
         return result

@@ -591,6 +591,22 @@ def test_subset_sum_counts_by_brute_force():
     np.testing.assert_array_equal(got, want)
 
 
+def test_top_row_counts_by_brute_force_and_their_work():
+    """only_top (smallest first, rows that can no longer reach the top left alone) gives the
+    same top row as listing every subset; top_row_work counts the cells it updates."""
+    from permq.engine.core.counting import top_row_work
+
+    rng = np.random.default_rng(11)
+    for _ in range(150):
+        n = int(rng.integers(1, 11))
+        m = int(rng.integers(0, n + 1))
+        q = rng.integers(0, 7, n)
+        got = counts_by_size(q, m, only_top=True)[m]
+        want = np.bincount([sum(c) for c in itertools.combinations(q, m)], minlength=len(got))
+        np.testing.assert_array_equal(got, want)
+        assert top_row_work(q, m) <= n * (m + 1) * (q.sum() + 1)
+
+
 def test_huge_reference_set_says_counts_are_floating():
     rng = np.random.default_rng(7)
     v = rng.normal(size=120).round(1)

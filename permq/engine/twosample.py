@@ -18,7 +18,7 @@ from ..plan.cost import Candidate
 from ..result import EngineOutcome
 from .core import pvalues
 from ..plan.sizes import big, words
-from .core.counting import convolve_counts, counts_by_size, layer_bytes
+from .core.counting import convolve_counts, counts_by_size, layer_bytes, top_row_work
 from .core.enumeration import CHUNK, combinations_chunks
 from .core.grid import Grid, integer_grid, reference_value
 from .core.jumps import JumpStream, collect_sampled, interval_from_jumps
@@ -74,10 +74,10 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
     grid = integer_grid(a)
     if grid is not None:
         width = float(np.sort(grid.integers)[::-1][:m].sum()) + 1
-        ops = N * (m + 1) * width / 2
+        ops = top_row_work(grid.integers, m)
         mem = 2 * layer_bytes(m + 1, width)          # the table and numpy's overlap copy
         if rule.mean_difference:   # the exact interval counts each group on its own as well
-            ops *= 2
+            ops += N * (m + 1) * width / 2
             mem *= 2
         note = ("scores are integers" if not rule.mean_difference
                 else f"data on a grid of {grid.step:g} ({grid.decimals} decimals)")
@@ -183,7 +183,7 @@ def _run_dp(fam, x, y, sc, alternative, level, t_obs, progress):
     if grid is None:
         raise PlanError("the scores do not lie on a decimal grid; use enumeration or Monte Carlo")
     q = grid.integers
-    counts = counts_by_size(q, m, progress)[m]
+    counts = counts_by_size(q, m, progress, only_top=True)[m]
     support = np.flatnonzero(counts)
     counts = counts[support]
     if m < n1:                                   # counted group 2: S1 = Q - S2

@@ -15,7 +15,7 @@ from ...plan.cost import Candidate
 from ...plan.sizes import big, words
 from ...result import EngineOutcome
 from ..core import pvalues
-from ..core.counting import counts_by_size, rescale
+from ..core.counting import counts_by_size, rescale, top_row_work
 from ..core.grid import MAX_DECIMALS, centred, integer_grid
 from ..core.limits import EXACT_COUNT_LIMIT
 from ..core.scores import midranks
@@ -122,7 +122,7 @@ def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
         ops, mem, acc = 0.0, 0.0, 1.0
         for b in prep.blocks:
             width = float(np.sort(b.ints)[::-1][:b.m].sum()) + 1
-            ops += b.n * (b.m + 1) * width
+            ops += top_row_work(b.ints, b.m)
             ops += acc * min(width, comb(b.n, b.m)) * 2
             acc += width - 1
             mem = max(mem, (b.m + 1) * width * 8, acc * 8 * 3)
@@ -156,7 +156,7 @@ def _stratified_dp(prep: Stratified, alternative, progress) -> EngineOutcome:
     acc = np.ones(1)
     s_obs, pairs = 0, []
     for i, b in enumerate(prep.blocks):
-        acc = convolve_exact(acc, counts_by_size(b.ints, b.m)[b.m])
+        acc = convolve_exact(acc, counts_by_size(b.ints, b.m, only_top=True)[b.m])
         rescale(acc)                       # exact powers of two: ratios are unchanged
         s_obs += int(b.ints[b.in_group0].sum())
         pairs.append((b.m * int(b.ints.sum()), b.n))

@@ -55,12 +55,20 @@ def rescale(table: np.ndarray) -> int:
 
 
 def counts_by_size(q, max_size: int, progress: Progress = NO_PROGRESS,
-                   with_exponent: bool = False):
+                   with_exponent: bool = False, only_top: bool = False):
     """table[k, s] = number of k-subsets (k <= max_size) of the integer scores q with sum s,
-    times 2^-e; with_exponent gives (table, e), else the table (e is 0 below 2^960)."""
+    times 2^-e; with_exponent gives (table, e), else the table (e is 0 below 2^960).
+
+    only_top: the caller reads the row k = max_size alone. The scores are then taken smallest
+    first (the sums reached grow slowly) and, once the items left cannot lift a row to
+    max_size, that row is no longer updated (its entries are then not counts: read row
+    max_size only). The row max_size is the same either way: it does not depend on the order
+    of the items."""
     q = np.asarray(q, dtype=np.int64)
     max_size = int(min(max_size, len(q)))
     width = int(np.sort(q)[::-1][:max_size].sum()) + 1
+    if only_top:
+        q = np.sort(q)
     table = np.zeros((max_size + 1, width))
     table[0, 0] = 1.0
     reach, exponent = 0, 0
@@ -68,17 +76,30 @@ def counts_by_size(q, max_size: int, progress: Progress = NO_PROGRESS,
     for i, v in enumerate(q):
         v = int(v)
         top = min(i + 1, max_size)
+        # rows below `low` after this item can no longer reach max_size with the n - 1 - i left
+        low = max(1, max_size - (n - 1 - i)) if only_top else 1
         reach = min(reach + v, width - 1)
         # Right-hand sides are read before writing (numpy buffers overlapping operands).
         if v == 0:
-            table[1:top + 1, :reach + 1] += table[0:top, :reach + 1]
+            table[low:top + 1, :reach + 1] += table[low - 1:top, :reach + 1]
         else:
-            table[1:top + 1, v:reach + 1] += table[0:top, :reach + 1 - v]
+            table[low:top + 1, v:reach + 1] += table[low - 1:top, :reach + 1 - v]
         if i % _RESCALE_EVERY == _RESCALE_EVERY - 1:
             exponent += rescale(table)
             progress.step((i + 1) / n, "counting")
     exponent += rescale(table)
     return (table, exponent) if with_exponent else table
+
+
+def top_row_work(q, max_size: int) -> float:
+    """Cells `counts_by_size(q, max_size, only_top=True)` updates: its cost, for the planner."""
+    q = np.sort(np.asarray(q, dtype=np.int64))
+    n, m = len(q), int(min(max_size, len(q)))
+    width = float(q[::-1][:m].sum()) + 1
+    i = np.arange(n)
+    rows = np.maximum(np.minimum(i + 1, m) - np.maximum(1, m - (n - 1 - i)) + 1, 0)
+    reach = np.minimum(np.cumsum(q, dtype=float), width - 1) + 1
+    return float((rows * reach).sum())
 
 
 def counts_all_subsets(q, progress: Progress = NO_PROGRESS) -> np.ndarray:
