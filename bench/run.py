@@ -4,6 +4,7 @@
     python bench/run.py --process  # also each statement in a fresh process, and the
                                    # start-up, first-call and steady figures (bench/process.py)
     python bench/run.py --readme   # also write it into README.md's performance section
+    python bench/run.py --startup  # only the whole-process start-up and Monte Carlo figures
 
 Data are generated with fixed seeds (benchmark inputs, not checks). Each case is timed through
 the same pipeline users run (`permq.run` on inline data), best of a few repeats.
@@ -400,6 +401,7 @@ def counts_cases(rng):
     rows.append(("binary dose response, n = 200, 8 doses, exact logistic slope", t, 2.0, out[0],
                  "statsmodels Logit is asymptotic; no exact conditional fit"))
     rows.append(events_case(rng))
+    rows.extend(events_layout_cases(rng))
     return rows
 
 
@@ -418,6 +420,36 @@ def events_case(rng):
                                   weight_type="gb"), 3)
     return ("censored times 30 + 30, Gehan, exact by counting", t, 1.0, out[0],
             f"statsmodels survdiff (asymptotic chi-square only): {ts * 1e3:.1f} ms")
+
+
+def events_layout_cases(rng):
+    """Censored times within 4 strata (4 + 4 each) and in 3 groups (8 each): Gehan's tests
+    exact by counting (stratified: per-stratum counts convolved; k-sample: group score sums)."""
+    import pandas as pd
+    from statsmodels.duration.survfunc import survdiff
+
+    days = np.ceil(rng.exponential(70, 32))
+    cut = np.ceil(rng.uniform(40, 200, 32))
+    frame = pd.DataFrame({"t": np.minimum(days, cut), "e": (days <= cut).astype(int),
+                          "g": np.tile(np.repeat(["a", "b"], 4), 4),
+                          "s": np.repeat(["s1", "s2", "s3", "s4"], 8)})
+    t, out = best(lambda: permq.run("compare t by g event e within s using gehan exact",
+                                    tables={"d": frame}), 3)
+    ts, _ = best(lambda: survdiff(frame.t.to_numpy(), frame.e.to_numpy(), frame.g.to_numpy(),
+                                  weight_type="gb", strata=frame.s.to_numpy()), 3)
+    rows = [("censored times within 4 strata, 4 + 4 each, Gehan, exact", t, 1.0, out[0],
+             f"statsmodels survdiff with strata (asymptotic only): {ts * 1e3:.1f} ms")]
+    days = np.ceil(rng.exponential(70, 24))
+    cut = np.ceil(rng.uniform(40, 200, 24))
+    frame = pd.DataFrame({"t": np.minimum(days, cut), "e": (days <= cut).astype(int),
+                          "g": np.repeat(["a", "b", "c"], 8)})
+    t, out = best(lambda: permq.run("compare t by g event e using gehan exact",
+                                    tables={"d": frame}), 3)
+    ts, _ = best(lambda: survdiff(frame.t.to_numpy(), frame.e.to_numpy(), frame.g.to_numpy(),
+                                  weight_type="gb"), 3)
+    rows.append(("censored times in 3 groups of 8, Gehan, exact", t, 2.0, out[0],
+                 f"statsmodels survdiff, 3 groups (asymptotic only): {ts * 1e3:.1f} ms"))
+    return rows
 
 
 def _robustness_row(label, text, tables=None):
@@ -673,7 +705,25 @@ def main():
                     help="the interpreter of the whole-process runs (one with permq installed)")
     ap.add_argument("--only", default="",
                     help="run one group of cases (power); with --readme, write only their rows")
+    ap.add_argument("--startup", action="store_true",
+                    help="only the whole-process start-up, first-call and Monte Carlo figures "
+                         "(with --readme: only that table is rewritten)")
     args = ap.parse_args()
+    heading = ("Start-up, the first call and the steady state, each process timed from "
+               "outside (`bench/run.py --process`; the in-process column above is the best "
+               "of a few runs in one warm process, the whole-process one `permq run` on the "
+               "statement, its tables loaded from CSV, best of two):\n\n")
+    if args.startup:
+        text = (heading.replace("):\n\n", "; this table alone measured by `bench/run.py "
+                                "--startup`, in a later run than the one above):\n\n")
+                + process.table(process.figures(args.python)))
+        print(text)
+        if args.readme:
+            readme = ROOT / "README.md"
+            body = readme.read_text()
+            readme.write_text(re.sub(r"Start-up, the first call and the steady state, .*?\n(?=\n## )",
+                                     lambda m: text + "\n", body, flags=re.S))
+        return
     if args.only:
         text = table(cases(args.only), whole=True, process_times=args.process)
         print(text)
@@ -682,11 +732,7 @@ def main():
         return
     text = table(cases(), whole=args.process)
     if args.process:
-        text += ("\n\nStart-up, the first call and the steady state, each process timed from "
-                 "outside (`bench/run.py --process`; the in-process column above is the best "
-                 "of a few runs in one warm process, the whole-process one `permq run` on the "
-                 "statement, its tables loaded from CSV, best of two):\n\n"
-                 + process.table(process.figures(args.python)))
+        text += "\n\n" + heading + process.table(process.figures(args.python))
     print(text)
     if args.readme:
         readme = ROOT / "README.md"

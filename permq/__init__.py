@@ -9,11 +9,14 @@
 """
 from __future__ import annotations
 
-from .api import Results, StatementFailed, compare, count, relate, run
-from .pipeline import Session
-from .result import Failure, Note, Result
-from .result_factorial import FactorialResult
-from .result_many import ManyResult
+from .classcache import active as _kept_classes
+
+with _kept_classes():       # the dataclasses' methods compiled once, not at every start
+    from .api import Results, StatementFailed, compare, count, relate, run
+    from .pipeline import Session
+    from .result import Failure, Note, Result
+    from .result_factorial import FactorialResult
+    from .result_many import ManyResult
 
 __version__ = "0.1.0"
 __all__ = ["run", "compare", "relate", "count", "Results", "StatementFailed", "Session",

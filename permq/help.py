@@ -73,10 +73,15 @@ two proportions, strata, rates, a binary response: help events""",
   count 7 events in 120.5 vs 2 events in 98   two rates: exact conditional test of the rate ratio
   relate wilted to dose                       a two-valued response: exact conditional logistic slope
 the event is the response's second value in natural order (1 of 0 / 1, "yes" of "no")
-censored times to an event, two groups (try them on the demo's lamps)
+censored times to an event (try them on the demo's lamps and bulbs)
   compare days by supplier event failed       log-rank test, exact over the labels; failed: 1 / 0
   compare days by supplier event state "out"  your text column: that value marks the event
-  ... using gehan | tarone-ware | peto-prentice   weighted forms; the chi-square beside each""",
+  ... using gehan | tarone-ware | peto-prentice   weighted forms; the chi-square beside each
+  compare days by supplier event failed levels "Corvo", "Halden" within house in bulbs
+                                              two suppliers, each house its own risk sets,
+                                              labels permuted within houses
+  compare days by supplier event failed in bulbs   3 suppliers: the k-sample log-rank test
+  robustness compare days by supplier event failed in lamps   event-time laws, censoring""",
     "many": """several responses or comparisons at once, permuted together
   compare mass, light by recipe levels "A", "B" adjust max-t step-down
   compare every numeric except tray by recipe adjust max-t

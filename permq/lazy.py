@@ -14,6 +14,8 @@ from __future__ import annotations
 
 import importlib
 
+from .classcache import active as _kept_classes
+
 
 class LazyModule:
     """Stands in for a module until one of its attributes is asked for."""
@@ -24,12 +26,19 @@ class LazyModule:
     def __getattr__(self, attr: str):
         if attr.startswith("__") and attr.endswith("__"):
             raise AttributeError(attr)           # copy, pickle and inspect probe these
-        value = getattr(importlib.import_module(self._lazy_name), attr)
+        value = getattr(_import(self._lazy_name), attr)
         self.__dict__[attr] = value
         return value
 
     def __repr__(self) -> str:
         return f"<module {self._lazy_name!r}, loaded on first use>"
+
+
+def _import(name: str):
+    if name.split(".")[0] != "permq":
+        return importlib.import_module(name)
+    with _kept_classes():          # permq's own dataclasses: their methods kept compiled
+        return importlib.import_module(name)
 
 
 def module(name: str) -> LazyModule:
@@ -43,7 +52,7 @@ def function(module: str, name: str):
 
     def call(*args, **kwargs):
         if not found:
-            found.append(getattr(importlib.import_module(module), name))
+            found.append(getattr(_import(module), name))
         return found[0](*args, **kwargs)
 
     call.__name__ = call.__qualname__ = name

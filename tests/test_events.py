@@ -198,7 +198,7 @@ def test_a_text_event_column_with_the_value_that_marks_the_event():
     ("compare weeks by drug event state", "is not 1 (event) / 0 (censored)"),
     ('compare weeks by drug event state "dead"', 'no value "dead"'),
     ("compare weeks by drug event relpase", "no column 'relpase'"),
-    ("compare weeks by drug event relapse within drug", "not in this version"),
+    ("compare weeks by drug event relapse within drug", "no stratum of 'drug' holds both"),
     ("compare weeks by drug event relapse using ranks", "not a test family for censored times"),
     ("compare weeks by drug event relapse pairwise", "does not apply to censored times"),
 ])
@@ -208,11 +208,11 @@ def test_bad_statements_get_clear_messages(statement, words):
     assert words in str(out)
 
 
-def test_three_groups_and_no_events_are_refused():
+def test_no_events_and_negative_times_are_refused():
     f = frame()
     f.loc[:5, "drug"] = "other"
-    out = permq.run("compare weeks by drug event relapse", tables={"leuk": f})[-1]
-    assert isinstance(out, permq.Failure) and "two groups" in str(out)
+    out = permq.run("compare weeks by drug event relapse within relapse", tables={"leuk": f})
+    assert isinstance(out[-1], permq.Failure) and "strata take two groups" in str(out[-1])
     f = frame()
     f["relapse"] = 0
     out = permq.run("compare weeks by drug event relapse", tables={"leuk": f})[-1]
@@ -223,9 +223,14 @@ def test_three_groups_and_no_events_are_refused():
     assert isinstance(out, permq.Failure) and "negative time (row 5" in str(out)
 
 
-def test_robustness_says_why_there_is_none():
-    out = permq.run("robustness compare weeks by drug event relapse", tables={"leuk": frame()})
-    assert isinstance(out[-1], permq.Failure) and "censored times" in str(out[-1])
+def test_robustness_checks_the_censoring_schemes():
+    out = permq.run("robustness compare weeks by drug event relapse datasets 200 seed 2",
+                    tables={"leuk": frame()})[-1]
+    assert not isinstance(out, permq.Failure), out
+    assert out.counts and len(out.rows) == 8 and out.rows[-1].not_exact
+    assert "hazard ratio" in out.shift_words
+    d = out.to_dict()
+    assert d["analysis"]["family"] == "events" and len(d["laws"]) == 8
 
 
 def test_help_and_completion_know_the_form():

@@ -57,6 +57,35 @@ def test_subset_sums_agree_on_every_path(decimals, n1):
         _same([fastmc.subset_sums(a, n1, r, compiled=p, sums_only=sums_only) for p in PATHS])
 
 
+@pytest.mark.parametrize("n1, N, size", [(3, 23, 500), (20, 23, 257), (100, 200, 1001),
+                                         (1, 4, 3), (7, 60, 2)])
+@pytest.mark.parametrize("scores", ["decimals", "whole", "whole-negative", "huge"])
+def test_subset_sums_drawn_in_the_loop_match_drawing_first(n1, N, size, scores):
+    # the C loops step numpy's PCG64 themselves: the same integers as random_u32, the same
+    # numbers as the numpy path, and the generator left where random_u32 leaves it; whole
+    # scores take the packed integer loop where every sum is exact
+    a = np.round(np.random.default_rng(n1).normal(size=N), 2)
+    if scores == "whole":
+        a = np.round(a * 300); a -= a.min()
+    elif scores == "whole-negative":
+        a = np.round(a * 300)
+    elif scores == "huge":                  # sums past 2^53: the floating-point loop
+        a = np.round(a * 1e15)
+    for sums_only in (True, False):
+        def fresh():
+            return np.random.Generator(np.random.PCG64(np.random.SeedSequence(9, spawn_key=(4,))))
+        drawn, first = fresh(), fresh()
+        got = [fastmc.subset_sums_drawn(a, n1, drawn, size, compiled=p, sums_only=sums_only)
+               for p in PATHS]
+        want = fastmc.subset_sums(a, n1, fastmc.random_u32(first, size * len(PATHS), n1),
+                                  compiled="numpy", sums_only=sums_only)
+        for k, (s, u) in enumerate(got):   # each call took the next `size` draws of the stream
+            np.testing.assert_array_equal(s, want[0][k * size:(k + 1) * size])
+            if not sums_only:
+                np.testing.assert_array_equal(u, want[1][k * size:(k + 1) * size])
+        assert drawn.bit_generator.random_raw() == first.bit_generator.random_raw()
+
+
 def test_subsets_are_uniform():
     # 5 items, choose 2: each of the 10 subsets has probability 1/10 (chi-square check)
     a = np.array([1.0, 2.0, 4.0, 8.0, 16.0])   # subset sums identify the subsets

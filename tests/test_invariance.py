@@ -352,3 +352,43 @@ def test_robustness_check_keeps_its_numbers_under_an_offset_and_a_power_of_ten()
                       law["permutation"]["power"], law["normal_theory"]["rejection_rate"])
                      for law in out.to_dict()["laws"]])
     assert rows[0] == rows[1] == rows[2]
+
+
+# ---------------------------------------------------------------- censored times
+
+@BOUNDED
+@given(st.integers(6, 9), st.data(), transforms(), st.sampled_from(ALTERNATIVES))
+def test_censored_times_keep_every_invariance(n, data, tr, alternative):
+    """Log-rank scores depend on the order of the times only: offsets, powers of ten and
+    reordering keep every p; swapping the groups flips the side. Two groups, within strata,
+    and three groups (the upper tail, which has no side)."""
+    from permq.engine import events, events_groups, events_strata
+    from test_events_layouts import brute_groups_p, brute_strata_p
+
+    decimals, offset, power = tr
+    ks = data.draw(small(n, n, 0, 8))
+    ev = np.array(data.draw(st.lists(st.integers(0, 1), min_size=n, max_size=n)))
+    ev[0] = 1
+    base, vs = versions(ks, decimals, offset, power)
+    groups = (np.arange(n) % 2).astype(np.int64)
+    strata = (np.arange(n) % 3 == 0).astype(np.int64)
+    order = np.arange(n)[::-1]
+    for kind in ("log-rank", "gehan"):
+        want = float(brute_strata_p(kind, base, ev, groups, strata, alternative))
+        for algorithm in exact_algorithms(events_strata.candidates(kind, vs[0], ev, groups,
+                                                                   strata, DRAWS)):
+            ps = [events_strata.run(kind, v, ev, groups, strata, alternative, algorithm).p_value
+                  for v in vs]
+            ps.append(events_strata.run(kind, vs[1][order], ev[order], 1 - groups[order],
+                                        strata[order], FLIP[alternative], algorithm).p_value)
+            assert same(ps) and ps[0] == pytest.approx(want, rel=1e-9), (kind, algorithm, ps)
+        data_of = [events.EventTimes(tuple(v[groups == 0]), tuple(ev[groups == 0]),
+                                     tuple(v[groups == 1]), tuple(ev[groups == 1])) for v in vs]
+        two = [events.run(kind, d, alternative, "enumeration", 0.95).p_value for d in data_of]
+        assert same(two)
+        g3 = (np.arange(n) % 3).astype(np.int64)
+        want3, _ = brute_groups_p(kind, base, ev, g3)
+        for algorithm in exact_algorithms(events_groups.candidates(kind, vs[0], ev, g3, DRAWS)):
+            ps = [events_groups.run(kind, v[order], ev[order], (2 - g3)[order], "two-sided",
+                                    algorithm).p_value for v in vs]
+            assert same(ps) and ps[0] == pytest.approx(float(want3), rel=1e-9), (kind, algorithm)

@@ -434,7 +434,7 @@ def test_help_examples_bind_on_the_demo():
 
     session = permq.Session(base_dir=ROOT / "demo")
     names = ("trays", "plots", "seedlings", "sprays", "beans", "lamps", "litters", "varieties",
-             "doses")
+             "doses", "bulbs")
     for name in names:
         assert isinstance(session.run(f'load "{name}.csv"')[0], permq.Note)
     seen = 0

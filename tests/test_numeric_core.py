@@ -299,3 +299,14 @@ def test_limits_come_from_the_settings_through_the_plan():
     design = bind(node, s.catalog, s.defaults)
     plan = family_for(design).plan(design)
     assert plan.limits == limits.Limits(memory_bytes=3e9, budget_seconds=2.0)
+
+
+def test_the_cores_median_is_numpys_median_to_the_bit():
+    from permq.engine.core.scores import median
+
+    rng = np.random.default_rng(4)
+    for n in (1, 2, 3, 4, 7, 10, 101, 1000):
+        for a in (rng.normal(size=n), np.round(rng.normal(size=n), 1), rng.integers(0, 3, n) * 0.1,
+                  rng.normal(size=(n, 3)) * 1e6):
+            assert np.float64(median(a)).tobytes() == np.float64(np.median(a)).tobytes()
+    assert np.isnan(median([])) and np.isnan(median([1.0, np.nan, 2.0]))

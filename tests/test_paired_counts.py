@@ -136,3 +136,96 @@ def test_several_outcomes_must_be_yes_no_and_paired():
     f = permq.run("count before vs after in t paired using fisher", tables=frame())[0]
     assert isinstance(f, permq.Failure)
     assert f.hint == "choose one of marginal-homogeneity, symmetry"
+
+
+# ---------------------------------------------------------------- the robustness check
+
+def test_the_checks_tests_are_the_engines_on_simulated_tables():
+    """Every simulated table's exact p is the engine's p for that table, its chi-square p
+    the family's counterpart."""
+    from permq.lazy import stats
+    from permq.robustness.tables import paired_categories as P
+
+    t = table_of(BEFORE, AFTER, ["low", "mid", "high"])
+    for statistic in S.STATISTICS:
+        draw = P.panel(t, statistic)[0].null
+        tables = draw(np.random.default_rng(3), 40)
+        tests = P.PairedCategoryTests(None, statistic)
+        got, normal = tests.exact_p(tables), tests.normal_p(tables)
+        for i, tab in enumerate(tables):
+            assert got[i] == pytest.approx(S.run(statistic, tab, "dp").p_value, rel=1e-12)
+            if statistic == "symmetry":
+                df, value = len(S.pairs(tab)), S.bowker(tab)
+            else:
+                value, df = S.stuart_maxwell(tab)
+            want = stats.chi2.sf(value, df) if df >= 1 else 1.0
+            assert normal[i] == pytest.approx(want, rel=1e-12)
+
+
+def test_the_cyclic_scheme_keeps_the_margins_and_breaks_symmetry():
+    from permq.robustness.tables import paired_categories as P
+
+    t = np.array([[5, 3, 2], [4, 6, 3], [1, 2, 4]])
+    p = P._cyclic(P._null_cells(t))
+    assert np.allclose(p.sum(axis=0), p.sum(axis=1)) and not np.allclose(p, p.T)
+    assert p.min() >= 0 and p.sum() == pytest.approx(1)
+    keys = [s.key for s in P.panel(t, "marginal-homogeneity")]
+    assert keys[-1] == "cyclic-changes" and "cyclic-changes" not in [
+        s.key for s in P.panel(t, "symmetry")]
+
+
+@pytest.mark.parametrize("using", ["", " using symmetry"])
+def test_robustness_of_paired_categories(using):
+    statement = f"robustness count before vs after paired in t datasets 200 seed 3{using}"
+    out = permq.run(statement, tables=frame())[-1]
+    assert not isinstance(out, permq.Failure), out
+    assert out.counts and out.rows[0].key == "independent-units"
+    assert [r.key for r in out.rows if r.not_exact][0] == "clustered-units"
+    again = permq.run(statement, tables=frame())[-1]
+    assert [r.permutation_rate for r in again.rows] == [r.permutation_rate for r in out.rows]
+    out = permq.run(statement + " shift 2", tables=frame())[-1]
+    assert isinstance(out, permq.Failure) and "observed table" in str(out)
+
+
+def test_cochran_checks_exact_p_is_the_blocked_engines_on_simulated_tables():
+    """Cochran's Q is Friedman's tie-corrected statistic on 0/1 data: every simulated table's
+    exact p from the law of the column totals is the blocked engine's exact p."""
+    from permq.engine import blocks
+    from permq.robustness.tables import several_paired as SP
+
+    y = np.array(D)
+    v = SP.SeveralView(y, (), ("d1", "d2", "d3"), None)
+    tests = SP.tests_for(v)
+    for scheme in SP.panel(y)[:2]:
+        tables = scheme.null(np.random.default_rng(5), 12)
+        got = tests.exact_p(tables)
+        for i, t in enumerate(tables):
+            rows = t.sum(axis=1)
+            keep = (rows > 0) & (rows < 3)
+            if not keep.any():
+                assert got[i] == 1.0
+                continue
+            values = t[keep].ravel().astype(float)
+            groups = np.tile(np.arange(3), int(keep.sum()))
+            units = np.repeat(np.arange(int(keep.sum())), 3)
+            want = blocks.run("friedman", values, groups, units, "two-sided", "dp-vector",
+                              n_groups=3).p_value
+            assert got[i] == pytest.approx(want, rel=1e-9), (scheme.key, t)
+
+
+def test_robustness_of_several_paired_outcomes():
+    statement = "robustness count d1 vs d2 vs d3 paired in u datasets 200 seed 3"
+    out = permq.run(statement, tables=frame())[-1]
+    assert not isinstance(out, permq.Failure), out
+    assert [r.key for r in out.rows] == ["independent-outcomes", "totals-fixed",
+                                        "clustered-units"]
+    assert out.rows[1].permutation_rate <= 0.05 + 3 * out.rows[1].permutation_se
+    assert [r.key for r in out.rows if r.not_exact] == ["clustered-units"]
+
+
+@pytest.mark.parametrize("statement", ["explain robustness count d1 vs d2 vs d3 paired in u",
+                                       "explain robustness count before vs after paired in t"])
+def test_explain_names_the_count_check(statement):
+    out = permq.run(statement, tables=frame())[-1]
+    assert not isinstance(out, permq.Failure), out
+    assert "simulated tables a sampling scheme" in str(out)

@@ -43,6 +43,9 @@ def test_a_result_sentence_has_the_method_and_the_numbers(kind):
         if est["interval"] and all(isinstance(v, float) for v in est["interval"]):
             lo, hi = est["interval"]
             assert f"interval {number(lo, d)} to {number(hi, d)}" in text
+        elif est["interval"] is None and (r.get("normal_interval") or {}).get("interval"):
+            lo, hi = r["normal_interval"]["interval"]
+            assert "normal-theory" in text and "no exact interval" in text
         elif est["interval"] is None:
             assert "no interval for this estimate" in text
     for s in r.get("effect_sizes", []):

@@ -101,6 +101,16 @@ def _not_a_family(opt, kind: str, form: str) -> BindError:
     elsewhere = [k for k in registry.kinds_of(word) if registry.kind(k).extends == kind]
     hint = "choose one of " + ", ".join(allowed) if allowed else (
         f"{form} has one test, {registry.default(kind).title}: drop 'using'")
+    # a word only of declared shapes the statement lacks a part of ('log-rank' on two groups
+    # without 'event'); a word of the base shapes too gets no such hint ('ranks' on censored
+    # times would ignore the censoring)
+    verb = registry.kind(kind).verb
+    theirs = [k for k in registry.kinds_of(word) if registry.kind(k).verb == verb]
+    other = [] if any(k in registry.BASE_KINDS for k in theirs) else [
+        k for k in theirs if not registry.kind(k).extends]
+    if other and not elsewhere:
+        hint = f"'{word}' is for {registry.kind(other[0]).words} " \
+               f"({registry.kind(other[0]).how}); here {hint}"
     if elsewhere:
         hint = f"'{word}' applies to {registry.kind(elsewhere[0]).words}: " \
                f"{registry.kind(elsewhere[0]).how}"

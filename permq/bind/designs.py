@@ -266,3 +266,36 @@ class EventsDesign:
     settings: Settings
     warnings: tuple = ()
     kind: str = "events"
+
+
+@dataclass(frozen=True)
+class EventsStrataDesign:
+    """Censored times in two groups within strata (`within S`): group 0 is the first level;
+    strata are codes 0..K-1 in `strata_labels` order."""
+
+    time: np.ndarray
+    event: np.ndarray
+    groups: np.ndarray       # 0 / 1
+    strata: np.ndarray       # codes
+    labels: tuple            # the two groups
+    strata_labels: tuple
+    names: tuple             # (time column, group column, event column, strata column)
+    event_words: str
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "events-strata"
+
+
+@dataclass(frozen=True)
+class EventsGroupsDesign:
+    """Censored times in three or more groups: group codes 0..k-1 in `labels` order."""
+
+    time: np.ndarray
+    event: np.ndarray
+    groups: np.ndarray
+    labels: tuple
+    names: tuple             # (time column, group column, event column)
+    event_words: str
+    settings: Settings
+    warnings: tuple = ()
+    kind: str = "events-groups"

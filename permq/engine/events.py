@@ -135,20 +135,25 @@ class Scores:
     integer: bool
 
 
-def engine_scores(kind: str, data: EventTimes) -> Scores:
-    t, d = data.pooled
-    a, fr = unit_scores(kind, t, d)
-    if fr is not None:
+def scaled(floats, fractions: Optional[list]) -> Scores:
+    """The scores as integers over their common denominator when that is exact and small
+    (`fractions`: the same scores as Fractions, or None where they are irrational)."""
+    if fractions is not None:
         den = 1
-        for f in fr:
+        for f in fractions:
             den = den * f.denominator // gcd(den, f.denominator)
             if den > _EXACT_INTEGER_LIMIT:
                 break
         if den <= _EXACT_INTEGER_LIMIT:
-            ints = [int(f * den) for f in fr]
+            ints = [int(f * den) for f in fractions]
             if sum(abs(v) for v in ints) < _EXACT_INTEGER_LIMIT:
                 return Scores(np.array(ints, dtype=float), den, True)
-    return Scores(a, 1, False)
+    return Scores(np.asarray(floats, dtype=float), 1, False)
+
+
+def engine_scores(kind: str, data: EventTimes) -> Scores:
+    t, d = data.pooled
+    return scaled(*unit_scores(kind, t, d))
 
 
 _RULE = twosample.ScoreRule("censored", "log-rank score", lambda a: a)

@@ -20,6 +20,7 @@ from ..normal.tails import normal_isf
 from .core.confidence import alpha_side, last_rejected
 from .core.counting import counts_all_subsets, rescale
 from .core.grid import common_grid, integer_grid
+from .core.scores import median
 
 # the exact no-ties laws are counted up to these sizes (two samples: EXACT_LAW_OPS below);
 # beyond, normal-approximation ranks
@@ -137,7 +138,7 @@ def hodges_lehmann_two_sample(x, y, level, alternative):
     x, y = np.asarray(x, float), np.asarray(y, float)
     n1, n2 = len(x), len(y)
     diffs = pairwise_differences(x, y)
-    est = float(np.median(diffs))
+    est = float(median(diffs))
     side = _side(level, alternative)
     exact = mann_whitney_ops(n1, n2) <= EXACT_LAW_OPS
     if exact:
@@ -169,7 +170,7 @@ def walsh_averages(d):
 def hodges_lehmann_one_sample(d, level, alternative):
     w = walsh_averages(d)
     n = len(d)
-    est = float(np.median(w))
+    est = float(median(w))
     side = _side(level, alternative)
     exact = n <= EXACT_ONE_SAMPLE_N
     if exact:
@@ -190,7 +191,7 @@ def median_interval(d, level, alternative):
     d = np.sort(np.asarray(d, float))
     n = len(d)
     c = binomial_critical(n, _side(level, alternative))
-    return float(np.median(d)), _interval_from_order(d, c, alternative)
+    return float(median(d)), _interval_from_order(d, c, alternative)
 
 
 def median_interval_normal(d, level, alternative):

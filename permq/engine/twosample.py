@@ -24,7 +24,7 @@ from .core.grid import Grid, integer_grid, reference_value
 from .core.jumps import JumpStream, collect_sampled, interval_from_jumps
 from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
 from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
-from .montecarlo.draws import random_u32, subset_sums
+from .montecarlo.draws import subset_sums_drawn
 from .core.progress import NO_PROGRESS, Progress
 from .montecarlo.sampling import iter_blocks
 from .core.scores import median_scores, midranks, normal_scores
@@ -279,7 +279,7 @@ def _run_monte_carlo(fam, x, y, sc, alternative, level, t_obs, draws, seed, prog
     means = fam.mean_difference
 
     def work(size, rng):
-        s, u = subset_sums(w, n1, random_u32(rng, size, n1), sums_only=not means)
+        s, u = subset_sums_drawn(w, n1, rng, size, sums_only=not means)
         b = _tail_count(sc, s, s_obs, n1, alternative)
         if not means:
             return b, None, 0

@@ -49,7 +49,8 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                                                                   s.alternative)]
     estimate = normal.hazard_ratio(*args, s.level, design.labels)
     a, b = design.labels
-    survival = [_group(a, design.time1, design.event1), _group(b, design.time2, design.event2)]
+    survival = [group_summary(a, design.time1, design.event1),
+                group_summary(b, design.time2, design.event2)]
     return Result(statement, "events", s.alternative, outcome, nt, estimate,
                   effect=f"hazard of {a} against {b} (higher: {a} has the events sooner); "
                          f"event: {design.event_words}",
@@ -57,15 +58,18 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
                   also_normal=also, extra={"survival": survival})
 
 
-def _group(name, time, event) -> dict:
+def group_summary(name, time, event) -> dict:
     from ..normal.events import km_median
 
     return {"name": name, "n": int(len(time)), "events": int(sum(event)),
             "censored": int(len(time) - sum(event)), "median": km_median(time, event)}
 
 
-NO_CHECK = ("censored times are not a response under the check's panel of error laws, and "
-            "the check has no censoring scheme: there is no robustness form for them yet")
+def censored_check(design):
+    """The robustness check of censored times (robustness/censored), with this weight."""
+    from ..robustness.spec import CensoredCheck
+
+    return CensoredCheck(design.settings.family)
 
 HELP = """  censored times to an event, two groups:
   compare days by supplier event failed in lamps    failed: 1 = the event, 0 = censored then
@@ -75,33 +79,33 @@ HELP = """  censored times to an event, two groups:
   given the times and censoring; beside it the textbook chi-square; hazard ratio exp(U / V);
   Kaplan-Meier medians. 'alternative higher': the first group has the higher hazard."""
 
+# each weight: (the test, its short name, the counterpart, the help's note on the weight)
+WEIGHTS = {
+    "log-rank": ("log-rank test", "log-rank test",
+                 "log-rank chi-square (hypergeometric variance)", ""),
+    "gehan": ("Gehan's generalised Wilcoxon test", "Gehan test: early differences weigh more",
+              "Gehan-Breslow weighted log-rank chi-square",
+              "\n  gehan: each event time weighted by the number at risk (Gehan 1965)"),
+    "tarone-ware": ("Tarone-Ware test", "Tarone-Ware test: root-at-risk weights",
+                    "Tarone-Ware weighted log-rank chi-square",
+                    "\n  tarone-ware: weights the square root of the number at risk "
+                    "(Tarone & Ware 1977)"),
+    "peto-prentice": ("Peto-Prentice generalised Wilcoxon test",
+                      "Peto-Prentice test: survival-estimate weights",
+                      "Peto-Prentice weighted log-rank chi-square",
+                      "\n  peto-prentice: weights prod (1 - d / (n + 1)) over earlier event "
+                      "times (Peto & Peto 1972; Prentice 1978)"),
+}
+
 FAMILIES = [
-    Family("log-rank", ("events",), "log-rank test (exact permutation law of O - E)",
-           "log-rank test of censored times", plan, execute,
-           "log-rank chi-square (hypergeometric variance)",
+    Family(word, ("events",), title + (" (exact permutation law of O - E)"
+                                        if word == "log-rank" else " (exact permutation law)"),
+           short if word != "log-rank" else "log-rank test of censored times", plan, execute,
+           counterpart,
            "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
-           no_robustness=NO_CHECK, default_in=("events",), help=HELP),
-    Family("gehan", ("events",), "Gehan's generalised Wilcoxon test (exact permutation law)",
-           "Gehan test: early differences weigh more", plan, execute,
-           "Gehan-Breslow weighted log-rank chi-square",
-           "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
-           no_robustness=NO_CHECK,
-           help=HELP + "\n  gehan: each event time weighted by the number at risk (Gehan 1965)"),
-    Family("tarone-ware", ("events",), "Tarone-Ware test (exact permutation law)",
-           "Tarone-Ware test: root-at-risk weights", plan, execute,
-           "Tarone-Ware weighted log-rank chi-square",
-           "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
-           no_robustness=NO_CHECK,
-           help=HELP + "\n  tarone-ware: weights the square root of the number at risk "
-                       "(Tarone & Ware 1977)"),
-    Family("peto-prentice", ("events",), "Peto-Prentice generalised Wilcoxon test (exact "
-           "permutation law)", "Peto-Prentice test: survival-estimate weights", plan, execute,
-           "Peto-Prentice weighted log-rank chi-square",
-           "hazard ratio exp(U / V) with its normal-theory interval; Kaplan-Meier medians",
-           no_robustness=NO_CHECK,
-           help=HELP + "\n  peto-prentice: weights prod (1 - d / (n + 1)) over earlier event "
-                       "times (Peto & Peto 1972; Prentice 1978)"),
-]
+           robustness=censored_check, default_in=("events",) if word == "log-rank" else (),
+           help=HELP + note)
+    for word, (title, short, counterpart, note) in WEIGHTS.items()]
 
 # How reports name the tests (registry.Reported)
 REPORTED = [

@@ -7,13 +7,15 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..engine import incomplete
 from ..engine.core.pvalues import TWO_SIDED_QUADRATIC
-from ..normal import incomplete as normal_incomplete
-from ..normal import ksample as normal_k
+from ..lazy import module
 from ..plan.planner import make_plan
 from ..result import Result
 from .registry import Family, Kind, Reported, effect_pieces
+
+incomplete = module("permq.engine.incomplete")
+normal_incomplete = module("permq.normal.incomplete")
+normal_k = module("permq.normal.ksample")
 
 KIND = "incomplete-blocked"
 KINDS = {KIND: Kind("compare", "incomplete blocks",

@@ -10,6 +10,7 @@ from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import Estimate, Result
 from .registry import Family, Reported, effect_pieces
+from ..engine.core.scores import median
 
 ZERO_RULE = ("zero differences carry no sign and are left out of the sign flips; for ranks they "
              "keep their place in the ranking (Pratt's rule)")
@@ -34,7 +35,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
         warnings.append(f"{zeros} zero difference{'s' if zeros > 1 else ''}: {ZERO_RULE}")
     d = design.d + design.reference
     groups = [{"name": design.effect if design.kind == "paired" else design.labels[0],
-               "n": int(len(d)), "mean": float(d.mean()), "median": float(np.median(d)),
+               "n": int(len(d)), "mean": float(d.mean()), "median": float(median(d)),
                "sd": float(d.std(ddof=1)) if len(d) > 1 else None}]
     return Result(statement, design.kind, s.alternative, outcome, normal, estimate,
                   effect=_effect_words(s.family, design), groups=groups,

@@ -132,27 +132,42 @@ def cochran_q(y: np.ndarray) -> float:
 
 # ---------------------------------------------------------------- declarations
 
+def _several_check(design):
+    """The count check of several yes/no outcomes (robustness/tables/several_paired.py)."""
+    from ..robustness.spec import CountCheck
+
+    return CountCheck("several-paired")
+
+
+def _categories_check(statistic: str):
+    """The count check of paired categories (robustness/tables/paired_categories.py) with
+    the engine's statistic."""
+    def check(design):
+        from ..robustness.spec import CountCheck
+
+        return CountCheck("paired-categories", statistic)
+    return check
+
+
 FAMILIES = [
     Family("marginal-homogeneity", ("paired-categories",),
            "exact test of marginal homogeneity (Stuart-Maxwell form)",
            "did the distribution change (paired categories)", plan_categories,
            execute_categories, "Stuart-Maxwell chi-square",
            "largest change of a marginal proportion (no exact interval)",
-           no_robustness="no sampling scheme for paired categories yet: the count check covers "
-                         "tables, paired yes/no outcomes and one proportion",
+           robustness=_categories_check("marginal-homogeneity"),
            default_in=("paired-categories",), effect_sizes=effect_pieces()),
     Family("symmetry", ("paired-categories",), "exact test of symmetry (Bowker)",
            "Bowker's symmetry of the changes (paired categories)", plan_categories,
            execute_categories, "Bowker's chi-square",
            "largest change of a marginal proportion (no exact interval)",
-           no_robustness="no sampling scheme for paired categories yet: the count check covers "
-                         "tables, paired yes/no outcomes and one proportion",
+           robustness=_categories_check("symmetry"),
            effect_sizes=effect_pieces()),
     Family("cochran", ("several-paired",),
            "Cochran's Q test by permutation within units",
            "Cochran's Q (several yes/no outcomes)", plan_cochran, execute_cochran,
            "chi-square approximation to Cochran's Q", "range of the column proportions",
-           no_robustness="no sampling scheme for several paired outcomes yet",
+           robustness=_several_check,
            default_in=("several-paired",), effect_sizes=effect_pieces()),
 ]
 

@@ -19,12 +19,14 @@ from functools import lru_cache
 from importlib import import_module
 from typing import Callable, Optional
 
+from ..classcache import active as _kept_classes
+
 # The modules that declare families, in the order their words are offered. Adding a family is
 # adding its module here.
 MODULES = ("two_sample", "one_sample", "k_sample", "ordered", "blocked", "association",
            "tables", "paired_counts", "two_proportions", "strata", "rates", "dose_response",
-           "many", "scale", "factorial", "adjusted", "events", "incomplete_blocks", "control",
-           "dose_finding", "studentized")
+           "many", "scale", "factorial", "adjusted", "events", "events_strata", "events_groups",
+           "incomplete_blocks", "control", "dose_finding", "studentized")
 
 
 @dataclass(frozen=True)
@@ -98,8 +100,9 @@ class Family:
 @lru_cache(maxsize=1)
 def _declared() -> tuple:
     found, kinds, reported, bibliography = [], dict(BASE_KINDS), [], {}
-    for name in MODULES:
-        module = import_module(f"{__package__}.{name}")
+    with _kept_classes():          # the family modules' dataclasses: methods kept compiled
+        modules = [import_module(f"{__package__}.{name}") for name in MODULES]
+    for name, module in zip(MODULES, modules):
         for key, kind in getattr(module, "KINDS", {}).items():
             if key in kinds:
                 raise ValueError(f"module '{name}' declares the kind '{key}' a second time")

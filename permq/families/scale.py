@@ -25,6 +25,7 @@ from ..engine.core.pvalues import TWO_SIDED_LINEAR
 from ..plan.planner import make_plan
 from ..result import Estimate, NormalTheory, Result
 from .registry import Family, Reported, effect_pieces
+from ..engine.core.scores import median
 
 
 def ab_scores(pooled) -> np.ndarray:
@@ -64,7 +65,7 @@ def execute(design, the_plan, progress, statement: str = "") -> Result:
     a, b = design.labels
     groups = [_summary(a, design.x), _summary(b, design.y)]
     warnings = list(design.warnings)
-    centres = abs(np.median(design.x) - np.median(design.y))
+    centres = abs(median(design.x) - median(design.y))
     spread = max(_iqr(design.x), _iqr(design.y))
     if spread > 0 and centres > spread:
         warnings.append("the group medians differ by more than the larger interquartile range: "
@@ -106,7 +107,7 @@ def _estimate(design) -> Estimate:
 
 def _summary(name, v):
     return {"name": name, "n": int(len(v)), "mean": float(np.mean(v)),
-            "median": float(np.median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
+            "median": float(median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
 
 
 # ---------------------------------------------------------------- the robustness check

@@ -13,6 +13,7 @@ from ..engine.core.limits import INTERVAL_DRAWS
 from ..plan.planner import make_plan
 from ..result import EngineOutcome, Estimate, Result
 from .registry import Family, Reported, effect_pieces, family_for
+from ..engine.core.scores import median
 
 ranked = module("permq.engine.tables.ranked")       # the table route, loaded when it runs
 
@@ -35,7 +36,8 @@ def plan(design):
 
 def execute(design, the_plan, progress, statement: str = "") -> Result:
     s = design.settings
-    if the_plan.chosen.algorithm == ranked.TABLE:
+    if (family_for(design).extra.get("table_route", False)     # (the table route alone loads
+            and the_plan.chosen.algorithm == ranked.TABLE):     # the table engine)
         outcome, interval = _table_route(design, progress), None
     else:
         outcome, interval = twosample.run(s.family, design.x, design.y, s.alternative,
@@ -83,14 +85,19 @@ def _estimate(design, interval, method, the_draws=0):
         how = ("order statistics of the pairwise differences at the exact rank-sum quantiles "
                "(no-ties law)" if exact else "order statistics at normal-approximation ranks")
         return Estimate(f"Hodges-Lehmann shift {design.effect}", est, iv, s.level, how)
+    if s.family == "normal-scores":    # the shift the test is for; its interval is the rank sum's
+        est, _, _ = rankintervals.hodges_lehmann_two_sample(x, y, s.level, s.alternative)
+        return Estimate(f"Hodges-Lehmann shift {design.effect}", est, None, s.level,
+                        "no exact interval for this family ('using ranks' gives this shift "
+                        "with the rank-sum test's exact interval)")
     return Estimate(f"difference in medians {design.effect}",
-                    float(np.median(x) - np.median(y)), None, s.level,
+                    float(median(x) - median(y)), None, s.level,
                     "no exact interval for this family")
 
 
 def _summary(name, v):
     return {"name": name, "n": int(len(v)), "mean": float(np.mean(v)),
-            "median": float(np.median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
+            "median": float(median(v)), "sd": float(np.std(v, ddof=1)) if len(v) > 1 else None}
 
 
 def _sampled_words(method, draws, what):

@@ -65,8 +65,13 @@ def hazard_ratio(time1, event1, time2, event2, level: float, labels) -> Estimate
     """Peto's one-step estimate exp(U / V) of the hazard ratio first / second (U, V of the
     log-rank test); its interval is normal theory (`hazard_interval`), none is exact."""
     a, b = labels
-    name = f"hazard ratio {a} / {b} (log-rank one-step, exp(U / V))"
     u, v = score_and_variance("log-rank", time1, event1, time2, event2)
+    return one_step_estimate(u, v, level,
+                             f"hazard ratio {a} / {b} (log-rank one-step, exp(U / V))")
+
+
+def one_step_estimate(u: float, v: float, level: float, name: str) -> Estimate:
+    """exp(U / V) of the log-rank U and V (NaN where V is zero), with no exact interval."""
     value = math.exp(u / v) if v > 0 else float("nan")
     return Estimate(name, value, None, level,
                     "no exact interval: the permutation law tests equal hazards only")
@@ -75,6 +80,12 @@ def hazard_ratio(time1, event1, time2, event2, level: float, labels) -> Estimate
 def hazard_interval(time1, event1, time2, event2, level: float, alternative: str):
     """exp(U / V +- z / sqrt(V)) (common practice), one-sided where the test is."""
     u, v = score_and_variance("log-rank", time1, event1, time2, event2)
+    return one_step_interval(u, v, level, alternative, "log-rank U and V")
+
+
+def one_step_interval(u: float, v: float, level: float, alternative: str, of: str):
+    """exp(U / V +- z / sqrt(V)) from the log-rank U and V, one-sided where the test is;
+    (None, "") when V is zero."""
     if not v > 0:
         return None, ""
     log_hr, se = u / v, 1 / math.sqrt(v)
@@ -85,7 +96,7 @@ def hazard_interval(time1, event1, time2, event2, level: float, alternative: str
         q = normal_isf(1 - level)
         iv = ((math.exp(log_hr - q * se), math.inf) if alternative == "higher"
               else (0.0, math.exp(log_hr + q * se)))
-    return iv, "exp(U / V +- z / sqrt(V)), log-rank U and V"
+    return iv, f"exp(U / V +- z / sqrt(V)), {of}"
 
 
 def kaplan_meier(time, event):

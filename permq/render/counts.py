@@ -45,7 +45,9 @@ def data_lines(r) -> list:
     for i, g in enumerate(r.extra.get("survival") or []):
         label = "groups" if i == 0 else ""
         median = "not reached" if g["median"] is None else fmt.num(g["median"])
-        out.append(f"  {label:<15}{g['name']}: n {g['n']}, {g['events']} events, "
+        expected = (f" (expected {fmt.num(g['expected'])})" if g.get("expected") is not None
+                    else "")
+        out.append(f"  {label:<15}{g['name']}: n {g['n']}, {g['events']} events{expected}, "
                    f"{g['censored']} censored; Kaplan-Meier median {median}")
     for i, g in enumerate(r.extra.get("rates") or []):
         label = "rates" if i == 0 else ""

@@ -12,6 +12,7 @@ statement that gives a result. Nothing here computes but the wording and the rou
 from __future__ import annotations
 
 import math
+from typing import Optional
 
 from ..syntax.parser import one_line
 from . import numbers as fmt
@@ -117,7 +118,7 @@ def _single(r: dict) -> str:
     parts = []
     est = r.get("estimate")
     if est is not None:
-        parts.append(_estimate_clause(est, r.get("effect", "")))
+        parts.append(_estimate_clause(est, r.get("effect", ""), r.get("normal_interval")))
     parts.append(_test_clause(r, lead=est is None))
     nt = r.get("normal_theory")
     if nt and nt.get("undefined"):
@@ -148,7 +149,9 @@ def _floor_clause(r: dict) -> str:
             f"{'at least ' if sp.get('lower_bound') else ''}{fmt.p(sp['this_test'])})")
 
 
-def _estimate_clause(est: dict, effect: str = "") -> str:
+def _estimate_clause(est: dict, effect: str = "", normal: Optional[dict] = None) -> str:
+    """The estimate with its interval; where it has no interval of its own, the
+    normal-theory interval for the same estimate when the record has one."""
     d = decimals_for(est["value"])
     base = est["name"].split(" (")[0]
     # the effect's words say more where they begin alike ("odds ratio of 'yes' in 'A' ...")
@@ -156,6 +159,10 @@ def _estimate_clause(est: dict, effect: str = "") -> str:
     text = f"{name} {number(est['value'], d)}"
     if est.get("interval") is not None:
         return text + f" ({interval_words(est['interval'], est['level'], d, _interval_kind(est.get('method', '')))})"
+    if normal and normal.get("interval") is not None:
+        words = interval_words(normal["interval"], normal.get("level", est["level"]), d,
+                               "normal-theory")
+        return text + f" ({words}; no exact interval)"
     return text + " (no interval for this estimate)"
 
 

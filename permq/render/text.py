@@ -1,6 +1,7 @@
 """Terminal text: one aligned block per result, the exact and normal-theory answers side by side."""
 from __future__ import annotations
 
+import math
 import re
 
 from ..result_factorial import FactorialResult
@@ -60,6 +61,16 @@ def _c(s, code, color):
     return f"{code}{s}{RESET}" if color else s
 
 
+def _interval_or_why(iv) -> str:
+    """An interval's ends; with no finite end, why (the reference set is too small for any
+    value to be rejected at this level)."""
+    if iv is None:
+        return "none"
+    if all(isinstance(v, float) and math.isinf(v) for v in iv):
+        return "unbounded (too few units)"
+    return fmt.interval(iv)
+
+
 def units_lines(extra: dict) -> list:
     """The randomised unit's two lines (`units COLUMN`), or none."""
     if "units" not in extra:
@@ -103,7 +114,7 @@ def result_block(r: Result, color: bool = False) -> str:
     if est is not None:
         lines.append(f"  {'estimate':<15}{est.name} = {fmt.num(est.value)}")
         lvl = f"{est.level * 100:g}% interval"
-        exact_iv = fmt.interval(est.interval) if est.interval is not None else "none"
+        exact_iv = _interval_or_why(est.interval)
         normal_iv = fmt.interval(nt.interval) if nt and nt.interval is not None else "-"
         lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
         lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
@@ -203,7 +214,7 @@ def effect_size_lines(r: Result) -> list:
         iv = ""
         if s.get("interval") is not None:
             lo, hi = (float(v) for v in s["interval"])
-            iv = f"  {s['level'] * 100:g}% interval {fmt.interval((lo, hi))}"
+            iv = f"  {s['level'] * 100:g}% interval {_interval_or_why((lo, hi))}"
         out.append(f"  {label:<15}{s['name']} = {fmt.num(s['value'])}{iv}")
     for i, arm in enumerate(r.extra.get("arm_proportions") or []):
         label = "proportions" if i == 0 else ""

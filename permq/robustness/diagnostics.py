@@ -21,6 +21,7 @@ from typing import Optional
 import numpy as np
 
 from ..bind import designs
+from ..engine.core.scores import median
 
 LEVEL = 0.05
 
@@ -143,7 +144,7 @@ def _line_residuals(design):
     coef, *_ = np.linalg.lstsq(X, y, rcond=None)
     r = y - X @ coef
     df = len(y) - np.linalg.matrix_rank(X)
-    upper = x > np.median(x)
+    upper = x > median(x)
     sds = [np.std(r[m], ddof=1) if m.sum() > 1 else np.nan for m in (upper, ~upper)]
     spread = None
     if all(np.isfinite(sds)) and sds[1] > 0:

@@ -20,11 +20,13 @@ from ..syntax import nodes as n
 from . import coverage, laws, report
 from .tables import check as table_check
 from .tables import events as event_check
+from .tables import several_paired
 from .arrangements import EXACT_LIMIT, reference_size
 from .diagnostics import attach as attach_diagnostics
 from .pictures import null_picture
 from .problem import pattern_for, problem_for
 from .simulate import BLOCK, PERMUTATIONS, simulate
+from .spec import CensoredCheck
 
 OPTIONS = ("datasets", "shift", "significance")
 DEFAULT_DATASETS = 2000
@@ -79,12 +81,21 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
     design = bind(without_check_options(inner), catalog, defaults)
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings,
                                                                       seed=int(seed)))
-    counts = event_check.view(design)       # the event forms, seen as tables of counts
+    if isinstance(_declared_check(design), CensoredCheck):
+        from .censored.check import check_events
+
+        observed = _observed(design, text, progress, check)
+        return check_events(text, design, observed, check, int(seed), progress,
+                            null_picture(design, observed.outcome, int(seed)),
+                            list(design.warnings))
+    several = several_paired.view(design)   # several yes/no outcomes, units x columns
+    counts = several if several is not None else event_check.view(design)  # event forms too
     if counts is not None or isinstance(design, designs.TableDesign):
         target = design if counts is None else counts
         effect = _table_effect(target, check, inner)    # before the analysis runs
         observed = _observed(design, text, progress, check)
-        tests = None if counts is None else event_check.tests_for(counts, (check.alpha,))
+        tests = (None if counts is None else several_paired.tests_for(counts)
+                 if several is not None else event_check.tests_for(counts, (check.alpha,)))
         return table_check.check_table(text, target, observed, check, int(seed), progress,
                                        null_picture(design, observed.outcome, int(seed)),
                                        list(design.warnings), effect, tests)
@@ -123,8 +134,13 @@ def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note
     design = dataclasses.replace(design, settings=dataclasses.replace(design.settings, seed=seed))
     the_plan = family_for(design).plan(design)
     seconds = None
-    counts = event_check.view(design)
-    if counts is not None or isinstance(design, designs.TableDesign):
+    several = several_paired.view(design)
+    counts = several if several is not None else event_check.view(design)
+    if isinstance(_declared_check(design), CensoredCheck):
+        what = (f"the check: {check.datasets:,} simulated data sets a scheme of event times "
+                "and censoring, under the null and at a hazard ratio, each given both tests on "
+                "its own risk sets; not estimated")
+    elif counts is not None or isinstance(design, designs.TableDesign):
         _table_effect(design if counts is None else counts, check, inner)
         what = (f"the check: {check.datasets:,} simulated tables a sampling scheme, under the "
                 "null and at the effect, each given the exact test; its time depends on how "
@@ -148,9 +164,17 @@ def explain(node: n.Robustness, text: str, catalog, defaults, seed: int) -> Note
                  "estimated_seconds": seconds})
 
 
+def _declared_check(design):
+    """The family's declared check, or None where it has none (check_for says why)."""
+    family = family_for(design)
+    return family.robustness(design) if family.robustness is not None else None
+
+
 def _table_effect(design, check, inner):
     """The effect of a count design's check; a `shift` that does not fit is marked."""
     try:
+        if isinstance(design, several_paired.SeveralView):
+            return several_paired.effect_for(design, check.shift)
         if event_check.is_view(design):
             return event_check.effect_for(design, check.shift)
         return table_check.effect_for(design, check.shift)

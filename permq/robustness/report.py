@@ -152,6 +152,24 @@ def power_comparison(fair: list, test_words: str) -> list:
     return out
 
 
+def power_lines(main, table, normal_test: str, shift_words: str, null_effect: bool,
+                test_words: str) -> list:
+    """Power at the effect under the design's main law or scheme, and which test is the more
+    powerful where neither is too liberal."""
+    out = [f"Power at {shift_words}: under {main.name}, {main.normal_power:.2f} "
+           f"({normal_test}) and {main.permutation_power:.2f} ({test_words})."]
+    if null_effect:
+        out.append("That effect is no effect at all: the power columns repeat the rates under "
+                   "the null.")
+        return out
+    fair = [r for r in table if r.normal_verdict != "too liberal"
+            and "liberal" not in r.permutation_verdict and "above" not in r.permutation_verdict]
+    out.extend(power_comparison(fair, test_words))
+    if len(fair) < len(table):
+        out.append("Power is compared only where neither test is too liberal.")
+    return out
+
+
 def precision_lines(sim, unit: str = "law") -> list:
     """A sentence when too few data sets were drawn for the verdicts to be sharp: a rate is
     called off the level only beyond Z standard errors, and with few data sets that band is

@@ -80,6 +80,15 @@ class CountCheck:
     ordered: bool = False       # said in the design's words ("3 x 4 table, ordered")
 
 
+@dataclass(frozen=True)
+class CensoredCheck:
+    """The check of censored times (robustness/censored): event-time laws and censoring
+    schemes on the design's layout, both tests on each data set's own risk sets; `weight`
+    is the family's (log-rank, gehan, tarone-ware, peto-prentice)."""
+
+    weight: str
+
+
 def check_for(design):
     """The family's check for this design (a Check, or a CountCheck for counts), or a
     PlanError saying why there is none."""

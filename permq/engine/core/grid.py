@@ -18,8 +18,6 @@ point can no longer tell the grid from data off it. A grid found is checked once
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import reduce
-from math import gcd
 from typing import Optional
 
 import numpy as np
@@ -99,7 +97,7 @@ def integer_grid(values, max_decimals: int = MAX_DECIMALS) -> Optional[Grid]:
         ints = rounded.astype(np.int64)
         low = int(ints.min())
         shifted = ints - low
-        unit = reduce(gcd, (int(v) for v in np.unique(shifted) if v), 0) or 1
+        unit = int(np.gcd.reduce(shifted)) or 1        # (zeros leave the gcd alone)
         anchor = int(np.round(ref_scaled)) + low          # the smallest value, in 10^-d units
         grid = Grid(shifted // unit, anchor / scale, unit, d, anchor)
         if _reproduces(grid, a, tol / scale):

@@ -23,6 +23,9 @@ def interval_from_jumps(values, counts, identity: float, total: float, level: fl
                         alternative: str) -> tuple[float, float]:
     values = np.asarray(values, dtype=float)
     if counts is None:                 # every jump counts once (sampled arrangements)
+        ends = _ends_of_sampled(values, identity, total, level, alternative)
+        if ends is not None:
+            return ends
         values = np.sort(values)
         counts = np.ones(values.size)
     else:
@@ -39,6 +42,71 @@ def interval_from_jumps(values, counts, identity: float, total: float, level: fl
     if alternative in ("two-sided", "lower"):
         hi = _end(values[::-1], counts[::-1], identity, total, side, np.inf, -np.inf)
     return lo, hi
+
+
+def _ends_of_sampled(values, identity, total, level, alternative):
+    """The ends of interval_from_jumps for jumps that count once each, read from the few
+    smallest and largest jumps instead of sorting them all (a million sampled jumps: a few
+    milliseconds in place of a sort); None when there are too few for that to pay.
+
+    Each end lies among the K = C - identity + 2 jumps nearest its side (C the largest rejected
+    count, as JumpStream keeps them). The part taken is widened to the end of its group of
+    equal jumps (jumps within the merging tolerance of the next one are taken with it), and
+    merged with the tolerance of the whole set, so its groups, their first values and their
+    counts are those of the full sort, and so are the ends."""
+    side = alpha_side(level, alternative)
+    need = int(max(0.0, rejected_up_to(side, total) - float(identity))) + 2
+    if values.size < 8 * need + 1024:
+        return None
+    scale = max(float(np.max(np.abs(values))), 1e-300)
+    n = values.size
+    split = np.partition(values, [need - 1, n - need])   # the need smallest, ..., the need largest
+    lo, hi = -np.inf, np.inf
+    if alternative in ("two-sided", "higher"):
+        part = _whole_groups(split[:need], split[need:], scale, low=True)
+        v, c = _merge_equal(part, np.ones(part.size), scale)
+        lo = _end(v, c, identity, total, side, -np.inf, np.inf)
+    if alternative in ("two-sided", "lower"):
+        part = _whole_groups(split[n - need:], split[:n - need], scale, low=False)
+        v, c = _merge_equal(part, np.ones(part.size), scale)
+        hi = _end(v[::-1], c[::-1], identity, total, side, np.inf, -np.inf)
+    return lo, hi
+
+
+WINDOW = 64          # tolerances searched past the cut for the rest of its group
+
+
+def _whole_groups(part, rest, scale: float, low: bool) -> np.ndarray:
+    """`part` (the smallest, or the largest, values) with the values of `rest` in the group of
+    equal jumps at its edge (consecutive sorted values within 1e-12 * scale, as _merge_equal
+    groups them), sorted ascending."""
+    tol = 1e-12 * scale
+    edge = part.max() if low else part.min()
+    near = rest[rest - edge <= WINDOW * tol] if low else rest[edge - rest <= WINDOW * tol]
+    near = np.sort(near) if low else np.sort(near)[::-1]
+    walk = np.concatenate([[edge], near])
+    steps = walk[1:] - walk[:-1] if low else walk[:-1] - walk[1:]   # upper - lower, as np.diff
+    breaks = np.flatnonzero(steps > tol)
+    taken = int(breaks[0]) if breaks.size else near.size
+    if taken == near.size and abs(walk[-1] - edge) >= (WINDOW - 1) * tol:
+        # the group may run past the window: the slow way
+        return _sorted_whole_groups(np.concatenate([part, rest]), part.size, scale, low)
+    return np.sort(np.concatenate([part, near[:taken]]))
+
+
+def _sorted_whole_groups(values, k: int, scale: float, low: bool) -> np.ndarray:
+    """_whole_groups the slow way (a group of near-equal jumps wider than the window)."""
+    values = np.sort(values)
+    tol = 1e-12 * scale
+    if low:
+        i = k
+        while i < values.size and values[i] - values[i - 1] <= tol:
+            i += 1
+        return values[:i]
+    i = values.size - k
+    while i > 0 and values[i] - values[i - 1] <= tol:
+        i -= 1
+    return values[i:]
 
 
 def _end(values, counts, identity, total, side, open_end, empty):
@@ -102,11 +170,13 @@ def _keep_smallest(kept: np.ndarray, new: np.ndarray, k: int) -> np.ndarray:
     return np.partition(both, k - 1)[:k]
 
 
-def _merge_equal(values, counts):
-    """Merge jumps that are equal up to floating-point noise (relative 1e-12 of the largest)."""
+def _merge_equal(values, counts, scale=None):
+    """Merge jumps that are equal up to floating-point noise (relative 1e-12 of the largest,
+    or of `scale`: the largest of the whole set a part was taken from)."""
     if values.size == 0:
         return values, counts
-    scale = max(float(np.max(np.abs(values))), 1e-300)
+    if scale is None:
+        scale = max(float(np.max(np.abs(values))), 1e-300)
     new_group = np.empty(values.size, dtype=bool)
     new_group[0] = True
     new_group[1:] = np.diff(values) > 1e-12 * scale

@@ -37,7 +37,19 @@ def normal_scores(x) -> np.ndarray:
     return stats.norm.ppf(midranks(x) / (len(x) + 1))
 
 
+def median(x) -> float:
+    """np.median of all the values, the same float (the middle one, or the two middle ones'
+    mean, (a + b) / 2), without np.median's first call loading numpy.ma (15 ms of a start)."""
+    v = np.asarray(x, dtype=float).ravel()
+    n = v.size
+    if n == 0 or np.isnan(v).any():
+        return float("nan")
+    m = n // 2
+    v = np.partition(v, [m - 1, m] if n % 2 == 0 else m)
+    return float(v[m]) if n % 2 else float((v[m - 1] + v[m]) / 2)
+
+
 def median_scores(x) -> np.ndarray:
     """1 for values above the pooled median, 0 otherwise (Mood's median test)."""
     x = np.asarray(x, dtype=float)
-    return (x > np.median(x)).astype(float)
+    return (x > median(x)).astype(float)

@@ -36,13 +36,13 @@ def _f_statistic(ssb, sst, N, k):
         return (np.asarray(ssb) / (k - 1)) / ((sst - np.asarray(ssb)) / (N - k))
 
 
-def _scaled(c: Callable[[int], float]):
+def scaled_statistic(c: Callable[[int], float]):
     def statistic(ssb, sst, N, k):
         return c(N) * np.asarray(ssb, dtype=float) / sst
     return statistic
 
 
-def _value_grid(x):
+def value_grid(x):
     return integer_grid(x)
 
 
@@ -273,18 +273,18 @@ def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item
 
 MEANS = QuadraticFamily(
     "means", "F", score=lambda x: np.asarray(x, dtype=float), statistic_of=_f_statistic,
-    grid=_value_grid,
+    grid=value_grid,
     counting_words="dynamic programming over tie blocks and group sums (values on a decimal grid)")
 RANKS = QuadraticFamily(
-    "ranks", "Kruskal-Wallis H", score=midranks, statistic_of=_scaled(lambda N: N - 1),
+    "ranks", "Kruskal-Wallis H", score=midranks, statistic_of=scaled_statistic(lambda N: N - 1),
     grid=_rank_grid,
     counting_words="dynamic programming over groups and rank sums (doubled mid-ranks, exact integers)")
 NORMAL_SCORES = QuadraticFamily(
     "normal-scores", "van der Waerden normal-scores statistic", score=normal_scores,
-    statistic_of=_scaled(lambda N: N - 1), grid=None,
+    statistic_of=scaled_statistic(lambda N: N - 1), grid=None,
     counting_words="dynamic programming over group score sums")
 MEDIANS = QuadraticFamily(
-    "medians", "median test chi-square", score=median_scores, statistic_of=_scaled(lambda N: N),
+    "medians", "median test chi-square", score=median_scores, statistic_of=scaled_statistic(lambda N: N),
     counting="dp-hypergeometric",
     counting_words="exact counting of tables of counts above the median "
                    "(multivariate hypergeometric, one group at a time)")

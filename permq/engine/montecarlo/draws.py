@@ -151,6 +151,67 @@ def subset_sums(a, n1: int, r: np.ndarray, compiled=True, sums_only: bool = Fals
     return _subset_sums_numpy(a, n1, r, sums_only)
 
 
+_MASK64 = (1 << 64) - 1
+
+
+def _pcg64_words(bits) -> np.ndarray:
+    """A PCG64's state and increment as four 64-bit words (high, low; high, low)."""
+    st = bits.state["state"]
+    s, inc = st["state"], st["inc"]
+    return np.array([s >> 64, s & _MASK64, inc >> 64, inc & _MASK64], dtype=np.uint64)
+
+
+def _set_pcg64_words(bits, words: np.ndarray) -> None:
+    state = bits.state
+    state["state"]["state"] = (int(words[0]) << 64) | int(words[1])
+    bits.state = state
+
+
+def subset_sums_drawn(a, n1: int, rng: np.random.Generator, size: int, compiled=True,
+                      sums_only: bool = False):
+    """subset_sums(a, n1, random_u32(rng, size, n1)): the same draws and numbers, and the
+    generator left where random_u32 leaves it. The C loops step numpy's PCG64 themselves, so
+    the random integers never pass through memory; other paths draw them first."""
+    path = backend(compiled)
+    bits = rng.bit_generator
+    lib = _c_library() if path == "c" else None
+    fused = getattr(lib, "permq_subset_sums_pcg", None) if lib is not None else None
+    if fused is None or type(bits) is not np.random.PCG64 or n1 < 1:
+        return subset_sums(a, n1, random_u32(rng, size, n1), compiled, sums_only)
+    a = np.ascontiguousarray(a, dtype=np.float64)
+    words = _pcg64_words(bits)
+    s = np.empty(size)
+    u = None if sums_only else np.empty(size, np.int64)
+    packed = _packed_integers(a, n1, sums_only)
+    if packed is not None and getattr(lib, "permq_subset_sums_pcg_int", None) is not None:
+        v, shift = packed
+        _check(lib.permq_subset_sums_pcg_int(_ptr(v), a.shape[0], n1, shift, _ptr(words), size,
+                                             _ptr(s), None if sums_only else _ptr(u)))
+    else:
+        _check(fused(_ptr(a), a.shape[0], n1, _ptr(words), size, _ptr(s),
+                     None if sums_only else _ptr(u)))
+    _set_pcg64_words(bits, words)
+    return s, u
+
+
+def _packed_integers(a: np.ndarray, n1: int, sums_only: bool):
+    """Whole-number scores as 64-bit integers, each shifted left past the bits of the count
+    of second-group items (plus 1 for those items), with the shift; None unless every sum of
+    them is exact in floating point (below 2^53) and the packed sums fit in 62 bits."""
+    if not np.all(np.isfinite(a)) or not np.array_equal(a, np.round(a)):
+        return None
+    bound = float(np.abs(a).sum())
+    if bound >= 2.0 ** 53:
+        return None
+    shift = 0 if sums_only else max(1, int(n1).bit_length())   # 2^shift > n1 >= u
+    if bound * 2.0 ** shift + n1 >= 2.0 ** 62:
+        return None
+    v = a.astype(np.int64) << shift
+    if not sums_only:
+        v[n1:] += 1
+    return np.ascontiguousarray(v), shift
+
+
 # ---------------------------------------------------------------- full shuffles (association)
 
 def _shuffled_numpy(moving, r):

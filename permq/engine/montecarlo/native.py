@@ -36,6 +36,12 @@ SIGNATURES = {
     "permq_group_sums": (_P, _I, _P, _I, _P, _I, _I, _P),
     "permq_kendall_s": (_P, _P, _P, _I, _I, _I, _P, _I, _I, _P),
 }
+# built where the compiler has 128-bit integers (numpy's PCG64 stepped inside the loop)
+OPTIONAL = {
+    "permq_pcg64_raw": (_P, _I, _P),
+    "permq_subset_sums_pcg": (_P, _I, _I, _P, _I, _P, _P),
+    "permq_subset_sums_pcg_int": (_P, _I, _I, _I, _P, _I, _P, _P),
+}
 
 
 def source_crc(source: Path = SOURCE) -> int:
@@ -89,6 +95,11 @@ def _load(path: Path):
             return None
         fn.argtypes = args
         fn.restype = ctypes.c_int
+    for name, args in OPTIONAL.items():
+        fn = getattr(lib, name, None)
+        if fn is not None:
+            fn.argtypes = args
+            fn.restype = ctypes.c_int
     lib.permq_source_crc.restype = ctypes.c_uint32
     return lib
 

@@ -176,6 +176,21 @@ def _w_of(d: np.ndarray, table) -> np.ndarray:
     return np.einsum("ni,ij,nj->n", d, vp, d)
 
 
+def null_law(name: str, table, progress: Progress = NO_PROGRESS):
+    """(values, probabilities) of the statistic over the swaps, by dynamic programming; it
+    depends on the table only through the pair totals m_ij = n_ij + n_ji."""
+    t = np.asarray(table, dtype=np.int64)
+    if name == "symmetry":
+        return _bowker_law(t, progress)
+    d, probs = _margin_law(t, progress)
+    return _merge(_w_of(d, t), probs, float(t.sum()))
+
+
+def law_states(name: str, table) -> float:
+    """The dynamic programme's states for this table (STATE_LIMIT bounds what is feasible)."""
+    return _states(name, np.asarray(table, dtype=np.int64))
+
+
 def run(name: str, table, algorithm: str, draws: Optional[int] = None,
         seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:
     t = np.asarray(table, dtype=np.int64)
@@ -187,11 +202,7 @@ def run(name: str, table, algorithm: str, draws: Optional[int] = None,
                              arrangements=1.0, warnings=("no discordant units: every unit "
                                                          "has the same outcome twice",))
     if algorithm == "dp":
-        if name == "symmetry":
-            values, probs = _bowker_law(t, progress)
-        else:
-            d, probs = _margin_law(t, progress)
-            values, probs = _merge(_w_of(d, t), probs, float(t.sum()))
+        values, probs = null_law(name, t, progress)
         p = clip(probs[values >= observed - tol].sum() / probs.sum())
         return EngineOutcome(NAMES[name], observed, p, "exact", ALGORITHMS["dp"],
                              arrangements=total, null_support=values,

@@ -14,7 +14,7 @@ from ...pipeline import Session
 from ..progress import ProgressLine
 from .completion import ShellCompleter
 from .history import open_history
-from .lexer import prompt_lexer, style
+from .lexer import deferred_lexer, style
 from .repl import CONTINUATION, PROMPT, Shell, unfinished
 from .running import StopFlag
 from .toolbar import toolbar
@@ -31,6 +31,7 @@ def make_prompt_session(session: Session, history, input=None, output=None):
     from prompt_toolkit.shortcuts import CompleteStyle
 
     holder = {}
+    lexer = deferred_lexer()
     ps = PromptSession(
         message=[("class:prompt", PROMPT)],
         prompt_continuation=lambda width, line, wrap: [("class:continuation", CONTINUATION)],
@@ -40,7 +41,7 @@ def make_prompt_session(session: Session, history, input=None, output=None):
         complete_style=CompleteStyle.COLUMN,
         auto_suggest=AutoSuggestFromHistory(),
         history=history,
-        lexer=prompt_lexer(),
+        lexer=lexer,
         style=style(),
         include_default_pygments_style=False,
         bottom_toolbar=lambda: toolbar(session, _columns(holder["ps"])),
@@ -49,6 +50,7 @@ def make_prompt_session(session: Session, history, input=None, output=None):
         output=output,
     )
     holder["ps"] = ps
+    ps.app.after_render += lexer.build      # the prompt is on the screen: now the highlighter
     return ps
 
 

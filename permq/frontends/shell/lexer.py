@@ -78,3 +78,29 @@ def prompt_lexer():
     from prompt_toolkit.lexers import PygmentsLexer
 
     return PygmentsLexer(lexer_class())
+
+
+def deferred_lexer():
+    """prompt_lexer, built when there is text to colour or when `build()` is called (the shell
+    calls it once its first prompt is on the screen): building it reads the grammar and every
+    family's words, which need not hold up the prompt."""
+    from prompt_toolkit.lexers import Lexer
+
+    class Deferred(Lexer):
+        def __init__(self):
+            self._built = None
+
+        def build(self, *_):
+            if self._built is None:
+                self._built = prompt_lexer()
+            return self._built
+
+        def lex_document(self, document):
+            if self._built is None and not document.text:
+                return lambda lineno: []                 # an empty line: nothing to colour
+            return self.build().lex_document(document)
+
+        def invalidation_hash(self):
+            return self._built is not None
+
+    return Deferred()

@@ -46,6 +46,10 @@ class Effect:
 def check_table(text, design, observed, check, seed, progress, picture, warnings, effect=None,
                 tests=None):
     effect = effect if effect is not None else effect_for(design, check.shift)
+    if tests is None and design.form == "paired-categories":
+        from . import paired_categories
+
+        tests = paired_categories.tests_for(design)
     tests = tests if tests is not None else CountTests(design)
     warnings = list(warnings)
     if effect.panel[0] is None and design.form == "table":
@@ -68,6 +72,10 @@ def effect_for(design, shift) -> Effect:
         return _proportion_effect(design, shift)
     if form == "paired":
         return _paired_effect(design, shift)
+    if form == "paired-categories":
+        from . import paired_categories
+
+        return paired_categories.effect_for(design, shift)
     if shift is not None and t.shape != (2, 2):
         raise BindError(f"'shift' has no meaning for a {t.shape[0]} x {t.shape[1]} table",
                         hint=_shift_hint(design))
