@@ -65,8 +65,13 @@ def permq_case(statement, repeat=3):
     return t, r
 
 
-def cases():
+def cases(only: str = ""):
     rng = np.random.default_rng(20261202)
+    if only:
+        groups = {"power": power_cases}
+        if only not in groups:
+            raise SystemExit(f"--only takes one of: {', '.join(groups)}")
+        return groups[only]()
     rows = []
 
     # difference in means, 15 + 15 recorded to 2 decimals (C(30,15) = 1.55e8 arrangements)
@@ -519,31 +524,25 @@ def robustness_cases(rng):
 
 
 def power_cases():
-    """The sample-size search of a two-group design (target: under 10 s), beside the t-test's
-    closed form (statsmodels TTestIndPower)."""
+    """Sample-size searches (target: under 10 s) beside their closed forms; the statements,
+    closed forms and the seeded words of each row are bench/power_cases.py's, which
+    tests/test_bench_power_rows.py holds README's rows to."""
     from types import SimpleNamespace
 
-    from statsmodels.stats.power import TTestIndPower
+    import power_cases as pc
 
     out = []
-    for label, text in (
-            ("power search, two groups, rank-sum, d = 1, for 80% (2,000 data sets an n)",
-             "power groups 6, 6 shift 1 sd using ranks for power 80% seed 3"),
-            ("power search, two groups, means, d = 0.5, for 90% (2,000 data sets an n)",
-             "power groups 6, 6 shift 0.5 sd for power 90% seed 3")):
+    for label, text, key in pc.CASES:
+        explained = permq.run("explain " + text)[0]
         cpu = time.process_time()
         t, pr = best(lambda: permq.run(text)[0], 1)
         cpu = time.process_time() - cpu
         if not hasattr(pr, "needed"):
             raise SystemExit(f"benchmark statement failed: {text}: {pr.message}")
-        d = 1.0 if "shift 1 sd" in text else 0.5
-        goal = 0.8 if "80%" in text else 0.9
-        closed = TTestIndPower().solve_power(d, power=goal, alpha=0.05)
-        row = SimpleNamespace(reference=f"{pr.datasets * len(pr.rows):,} simulated data sets "
-                                        "(exact reference sets up to 20,000)")
-        out.append((label, t, 10.0, row,
-                    f"n = {pr.needed['permutation']} a group ({len(pr.rows)} sizes simulated); "
-                    f"t-test closed form n = {closed:.1f}; {cpu:.1f} s of CPU"))
+        row = SimpleNamespace(reference=pc.reference_words(pr),
+                              extra={"estimated_seconds": explained.data["estimated_seconds"]})
+        _RAN[id(row)] = (row, text, None)
+        out.append((label, t, 10.0, row, f"{pc.result_words(pr, key)}; {cpu:.1f} s of CPU"))
     return out
 
 
@@ -681,7 +680,26 @@ def studentized_cases(rng):
     return rows
 
 
-def table(rows, whole=False) -> str:
+def replace_rows(readme: Path, lines: list) -> None:
+    """Write these rows into README's performance table in place of the rows of the same
+    design (added at the table's end when new), marked as measured in a later run."""
+    body = readme.read_text().splitlines()
+    head = next(i for i, line in enumerate(body) if line.startswith("| design | permq |"))
+    end = next(i for i in range(head, len(body)) if not body[i].startswith("|"))
+    mark = " (measured in a later run than the rows above) |"
+    for line in lines:
+        line = line if line.endswith(mark) else line[:-2] + mark
+        label = line.split(" | ")[0] + " | "
+        at = next((i for i in range(head, end) if body[i].startswith(label)), None)
+        if at is None:
+            body.insert(end, line)
+            end += 1
+        else:
+            body[at] = line
+    readme.write_text("\n".join(body) + "\n")
+
+
+def table(rows, whole=False, process_times=True) -> str:
     out = ["| design | permq | target | met | explain predicted | reference set | beside scipy |",
            "|---|---|---|---|---|---|---|"]
     if whole:
@@ -701,7 +719,7 @@ def table(rows, whole=False) -> str:
         pred = f"{predicted:.3g} s ({t / predicted:.2g}x)" if predicted else "-"
         cell = ""
         if whole:
-            ran = _RAN.get(id(r))
+            ran = _RAN.get(id(r)) if process_times else None
             cell = (f" {process.whole_process_seconds(ran[1], ran[2]):.3f} s |" if ran
                     else " - |")
         out.append(f"| {name} | {t:.3f} s |{cell} < {target:g} s | {'yes' if t < target else 'NO'} "
@@ -716,6 +734,8 @@ def main():
                     help="also time every statement, and start-up, in fresh processes")
     ap.add_argument("--python", default=sys.executable,
                     help="the interpreter of the whole-process runs (one with permq installed)")
+    ap.add_argument("--only", default="",
+                    help="run one group of cases (power); with --readme, write only their rows")
     ap.add_argument("--startup", action="store_true",
                     help="only the whole-process start-up, first-call and Monte Carlo figures "
                          "(with --readme: only that table is rewritten)")
@@ -734,6 +754,12 @@ def main():
             body = readme.read_text()
             readme.write_text(re.sub(r"Start-up, the first call and the steady state, .*?\n(?=\n## )",
                                      lambda m: text + "\n", body, flags=re.S))
+        return
+    if args.only:
+        text = table(cases(args.only), whole=True, process_times=args.process)
+        print(text)
+        if args.readme:
+            replace_rows(ROOT / "README.md", text.splitlines()[2:])
         return
     text = table(cases(), whole=args.process)
     if args.process:

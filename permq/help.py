@@ -115,7 +115,11 @@ every result also carries diagnostics: skewness, largest residual, spread ratio"
   power sample 12 shift 1 sd using signs                one sample; groups 5, 5, 5 for three groups
   power compare mass by recipe levels "A", "B" n 8       the pilot's design at 8 a group, its observed effect
   power compare mass by recipe levels "A", "B" law pilot shift 1 sd   the pilot's residuals resampled
-options: n N[, N ...] (a group), shift X [sd], law normal|t3|lognormal|exponential|contaminated|pilot,
+  power groups 6, 12 shift 1 sd for power 80%           unequal groups: the search keeps 1 : 2
+  power count proportions 0.2 vs 0.6 n 15               two proportions: exact power, summed over outcomes
+  power count proportion 0.7 vs 0.5 for power 80%       one proportion (true 0.7, tested against 0.5)
+  explain power groups 6, 6 shift 1 sd for power 80%    what the run would do and its time; nothing run
+options: n N[, N ...] (a group; several: the allocation a search keeps), shift X [sd], law normal|t3|lognormal|exponential|contaminated|pilot,
          for power 80%, datasets N, significance 1%, seed N, picture "power.png", and the test's own
 every line shows the permutation test, its normal-theory counterpart, and the smallest p the design can give""",
     "session": """session statements

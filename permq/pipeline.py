@@ -202,6 +202,11 @@ class Session:
 
                 note = robustness.explain(node.analysis, st.text, self.catalog, self.defaults,
                                           seed_for(node, st.text, self.defaults).seed)
+            elif isinstance(node.analysis, n.Power):
+                from .power.explain import explain as explain_power
+
+                note = explain_power(node.analysis, st.text, self.catalog, self.defaults,
+                                     seed_for(node, st.text, self.defaults).seed)
             else:
                 note = explain(node.analysis, st.text, self.catalog, self.defaults)
             note.line = st.line

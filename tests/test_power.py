@@ -124,7 +124,7 @@ def test_power_from_a_pilot_data_set():
     ("power groups 6, 6 shift 1 sd law pilot", "resamples a pilot's residuals"),
     ("power groups 6, 6 shift 1 sd law lognorml", "did you mean 'lognormal'"),
     ("power groups 6, 6 shift 1 sd for power 2%", "target power"),
-    ("power count 3 of 10 vs 0.5 shift 1 sd", "not available"),
+    ("power count 3 of 10 vs 0.5 shift 1 sd", "does not apply to counts"),
     ("compare [1, 2, 3] vs [4, 5, 6] n 8", "'n' goes with power"),
     ("compare [1, 2, 3] vs [4, 5, 6] law t3", "'law' goes with power"),
 ])

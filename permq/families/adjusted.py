@@ -127,6 +127,40 @@ def ancova_p(problem, Y, A):
     return stats.f.sf((ss / (k - 1)) / (rss / df), k - 1, df)
 
 
+def ancova_width(problem, Y, level):
+    """The ANCOVA t interval's width for the adjusted difference of each data set."""
+    from ..robustness.widths import t_quantile
+
+    q = problem.basis
+    R = Y - (Y @ q) @ q.T
+    z = (problem.codes == 0).astype(float)
+    mz = z - q @ (q.T @ z)
+    szz = float(mz @ mz)
+    df = problem.n - q.shape[1] - 1
+    rss = np.maximum((R * R).sum(axis=1) - (R @ mz) ** 2 / szz, 0.0)
+    return 2 * t_quantile(level, df) * np.sqrt(rss / df / szz)
+
+
+def exact_width(problem, A, reference, level):
+    """The exact interval's width for each data set (A: its covariate-adjusted residuals), the
+    engine's own confidence set over the reference's assignments (its hull)."""
+    w = problem.weights
+    q = problem.basis
+    mz = w - q @ (q.T @ w)
+    W = reference.matrix
+    c = W @ mz - float(w @ mz)
+    a = A @ W.T - (A @ w)[:, None]
+    identity, count = (0.0, float(reference.count)) if reference.exact else \
+        (1.0, float(reference.count + 1))
+    out = np.empty(A.shape[0])
+    for i in range(A.shape[0]):
+        scale = max(abs(float(A[i] @ w)), float(np.abs(A[i]).max()))
+        (lo, hi), _ = adjusted.confidence_set(a[i], c, identity, count, level, "two-sided",
+                                     tol=1e-9 * scale)
+        out[i] = hi - lo
+    return out
+
+
 def _check(design):
     from ..robustness import reported
     from ..robustness.spec import Check
@@ -137,7 +171,10 @@ def _check(design):
                    "ANCOVA F for groups adjusted for the covariates")
     if len(design.labels) == 2:
         shown = reported.as_is if fam == "ranks" else reported.mean_difference
-        return Check("linear", scores, counterpart, ancova_p, shown)
+        if fam == "ranks":
+            return Check("linear", scores, counterpart, ancova_p, shown)
+        return Check("linear", scores, counterpart, ancova_p, shown, width=ancova_width,
+                     exact_width=exact_width)
     return Check("quadratic", scores, counterpart, ancova_p,
                  reported.quadratic(ksample.FAMILIES[fam]))
 

@@ -57,9 +57,10 @@ def _spearman_weights(design):
     return rx - rx.mean()
 
 
-def _check(form, scores, counterpart, normal_p, reported, weights=None, inverts=False):
+def _check(form, scores, counterpart, normal_p, reported, weights=None, inverts=False,
+           width=None):
     def check(design):
-        from ..robustness import counterparts, reported as rep, scoring
+        from ..robustness import counterparts, reported as rep, scoring, widths
         from ..robustness.spec import Check
 
         if design.covariates is not None:     # the adjusted slope: residual permutation
@@ -67,7 +68,8 @@ def _check(form, scores, counterpart, normal_p, reported, weights=None, inverts=
                          "least-squares t test of the slope adjusted for covariates",
                          counterparts.adjusted_slope_t, rep.as_is)
         return Check(form, getattr(scoring, scores), counterpart, getattr(counterparts, normal_p),
-                     getattr(rep, reported), weights=weights, inverts=inverts)
+                     getattr(rep, reported), weights=weights, inverts=inverts,
+                     width=getattr(widths, width) if width else None)
     return check
 
 
@@ -96,7 +98,7 @@ FAMILIES = [
              "least-squares t test of the slope (and its HC3 form)",
              "slope; exact interval by inverting the test (none when adjusted)",
              _check("linear", "values", "least-squares t test of the slope", "slope_t", "slope",
-                    inverts=True),
+                    inverts=True, width="slope_t"),
              options=("adjusting",), effect_sizes=effect_pieces("standardised_slope")),
 ]
 

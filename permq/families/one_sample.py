@@ -81,15 +81,16 @@ def _sampled_words(method, draws, what):
     return f" (on the sampled {what})"
 
 
-def _check(scores, counterpart, normal_p, reported, effect, centre):
+def _check(scores, counterpart, normal_p, reported, effect, centre, width=None):
     """The robustness check of a sign-flip family (pieces named from robustness/)."""
     def check(design):
-        from ..robustness import counterparts, effects, reported as rep, scoring
+        from ..robustness import counterparts, effects, reported as rep, scoring, widths
         from ..robustness.spec import Check
 
         return Check("signs", getattr(scoring, scores), counterpart,
                      getattr(counterparts, normal_p), getattr(rep, reported),
-                     effect=getattr(effects, effect), centre=centre)
+                     effect=getattr(effects, effect), centre=centre,
+                     width=getattr(widths, width) if width else None)
     return check
 
 
@@ -108,7 +109,8 @@ FAMILIES = [
     _declare("means", "sign-flip permutation test of the mean (Fisher)",
              "mean difference, by sign flips", "one-sample t",
              "mean; exact interval by inverting the sign-flip test",
-             _check("values", _t_name, "one_sample_t", "mean_of_flips", "mean", "mean"),
+             _check("values", _t_name, "one_sample_t", "mean_of_flips", "mean", "mean",
+                    width="one_sample_t"),
              ("standardised_mean_difference_with_interval",), default=True),
     _declare("ranks", "Wilcoxon signed-rank test (mid-ranks, Pratt's rule for zeros)",
              "Wilcoxon signed ranks", "normal approximation to the signed-rank sum",

@@ -108,15 +108,16 @@ def _sampled_words(method, draws, what):
     return f" (on the sampled {what})"
 
 
-def _check(scores, counterpart, normal_p, reported, effect):
+def _check(scores, counterpart, normal_p, reported, effect, width=None):
     """The robustness check of a two-sample family (pieces named from robustness/)."""
     def check(design):
-        from ..robustness import counterparts, effects, reported as rep, scoring
+        from ..robustness import counterparts, effects, reported as rep, scoring, widths
         from ..robustness.spec import Check
 
         return Check("linear", getattr(scoring, scores), counterpart,
                      getattr(counterparts, normal_p), getattr(rep, reported),
-                     effect=getattr(effects, effect))
+                     effect=getattr(effects, effect),
+                     width=getattr(widths, width) if width else None)
     return check
 
 
@@ -131,7 +132,8 @@ FAMILIES = [
     _declare("means", "permutation test of the difference in means (Pitman)",
              "difference in means, by permutation", "Welch t (unequal variances)",
              "difference in means; exact interval by inverting the test under a shift",
-             _check("values", "Welch t", "welch_t", "mean_difference", "mean_difference"),
+             _check("values", "Welch t", "welch_t", "mean_difference", "mean_difference",
+                    width="welch"),
              ("standardised_difference_with_interval",), default=True,
              extra={"unequal_spread_test": "welch"}),
     _declare("ranks", "Wilcoxon rank-sum test (mid-ranks)", "Wilcoxon ranks with mid-ranks",

@@ -12,6 +12,7 @@ data's units (a pilot's sd), or, with a pilot and no shift, the pilot's observed
 from __future__ import annotations
 
 import dataclasses
+from typing import Callable, Optional
 
 import numpy as np
 
@@ -24,7 +25,7 @@ from ..robustness.executor import significance_value
 from ..robustness.problem import data_row, problem_for
 from ..syntax import nodes as n
 from ..bind.common import suggest
-from . import layout as lay
+from . import counts, layout as lay
 from .result import PowerResult
 from .simulate import floor_of, power_at, search
 
@@ -63,9 +64,43 @@ def _options(opts: dict, described: bool):
     return datasets, alpha, law, target, sizes, shift
 
 
-def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> PowerResult:
+@dataclasses.dataclass
+class Setup:
+    """A power statement taken apart: what `run` simulates and `explain` describes."""
+
+    design: object
+    base: object                  # the robustness problem at the design's own sizes
+    described: bool
+    alpha: float
+    target: Optional[float]
+    sizes: Optional[tuple]
+    datasets: int
+    law_key: str
+    law_words: str
+    shift_sd: float
+    words: str
+    errors: object
+    pattern_of: Callable
+    ratio: tuple                  # a search's allocation (layout.allocation), () for equal
+
+
+@dataclasses.dataclass
+class CountSetup:
+    """A count design's power statement: summed, not simulated (power/counts.py)."""
+
+    alpha: float
+    target: Optional[float]
+    sizes: Optional[tuple]
+    design: object = None         # a pilot's, bound; None for a described one
+
+
+def prepare(node: n.Power, catalog, defaults, seed: int):
+    """The statement's options checked, its analysis bound, its effect and errors set up."""
     inner = node.analysis
     described = isinstance(inner, n.Layout)
+    if described and inner.shape in counts.SHAPES:
+        _, alpha, _, target, sizes, _ = _options(n.options_of(inner), False)
+        return CountSetup(alpha, target, sizes)
     analysis = lay.described(inner) if described else inner
     opts = n.options_of(analysis)
     datasets, alpha, law_key, target, sizes, shift = _options(opts, described)
@@ -76,10 +111,13 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
                         opts["shift"].span, hint=f"give it in sd: shift {shift[0]:g} sd")
     design = bind(dataclasses.replace(analysis, options=tuple(
         o for o in analysis.options if o.key not in OPTIONS)), catalog, defaults)
+    if counts.is_count(design):
+        return CountSetup(alpha, target, sizes, design)
     if not isinstance(design, (designs.TwoSampleDesign, designs.OneSampleDesign,
                                designs.GroupsDesign, designs.AssociationDesign)):
         raise PlanError(f"power is not available for {design.kind} analyses here",
-                        hint="it covers two samples, pairs, one sample, groups and slopes")
+                        hint="it covers two samples, pairs, one sample, groups, slopes, "
+                             "two proportions and one proportion")
     if (sizes is not None or target is not None) and lay.can_resize(design):
         raise PlanError(lay.can_resize(design), span=(opts.get("sizes") or opts["target"]).span)
     base = problem_for(design)
@@ -102,17 +140,32 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
         law = L.BY_KEY[law_key]
         law_words = law.words
     errors = lay.Errors(law, base.kind, base.check.centre, datasets, int(seed), residuals)
+    ratio = _allocation(design, sizes, described) if target is not None else ()
+    return Setup(design, base, described, alpha, target, sizes, datasets, law_key, law_words,
+                 shift_sd, words, errors, pattern_of, ratio)
+
+
+def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> PowerResult:
+    s = prepare(node, catalog, defaults, seed)
+    if isinstance(s, CountSetup):
+        return counts.run(node, text, catalog, defaults, progress, s.alpha, s.target, s.sizes,
+                          s.design)
+    design, base, described, alpha, target, sizes = (s.design, s.base, s.described, s.alpha,
+                                                      s.target, s.sizes)
+    pattern_of, errors, ratio = s.pattern_of, s.errors, s.ratio
+    datasets, law_key, law_words, shift_sd, words = (s.datasets, s.law_key, s.law_words,
+                                                     s.shift_sd, s.words)
     warnings = list(design.warnings)
     if target is not None:
         def problem_at(k):
-            return problem_for(lay.resized(design, (k,)))
+            return problem_for(lay.resized(design, lay.allocated(k, ratio)))
         seen, needed = search(problem_at, pattern_of, errors, alpha, int(seed), target, progress)
         rows = [seen[k] for k in sorted(seen)]
         for which, k in needed.items():
             if k is None:
                 warnings.append(f"the {'permutation' if which == 'permutation' else 'normal-theory'} "
                                 f"test does not reach {target:.0%} power by {lay.MAX_UNITS} a group")
-        design_words = _shape_words(design, per_group_search=True)
+        design_words = _shape_words(design, per_group_search=True, ratio=ratio)
     else:
         problem = base if sizes is None else problem_for(lay.resized(design, sizes))
         rows = [power_at(problem, pattern_of, errors, alpha, int(seed), progress)]
@@ -139,7 +192,19 @@ def run(node: n.Power, text: str, catalog, defaults, progress, seed: int) -> Pow
     return PowerResult(text, title, normal_test_name(base), design_words,
                        "described" if described else "pilot", base.alternative, alpha,
                        law_key, law_words, shift_sd, words, datasets, int(seed), rows, target,
-                       needed, warnings)
+                       needed, warnings, allocation=list(ratio) or None)
+
+
+def _allocation(design, sizes, described) -> tuple:
+    """The search's allocation: `n`'s sizes when it gives several, else a described layout's
+    own; a pilot's sizes are what the pilot happened to be, so its search is equal."""
+    if sizes is not None and len(sizes) > 1:
+        k = len(lay.sizes_of(design))
+        if len(sizes) != k:
+            raise BindError(f"'n' gives {len(sizes)} sizes for {k} groups; give one (every "
+                            f"group) or {k}")
+        return lay.allocation(sizes)
+    return lay.allocation(lay.sizes_of(design)) if described else ()
 
 
 def _effect(base, shift, described) -> tuple[float, str]:
@@ -174,11 +239,14 @@ def _pilot_residuals(design, base) -> np.ndarray:
     return r / np.sqrt(ms)
 
 
-def _shape_words(design, per_group_search: bool = False) -> str:
+def _shape_words(design, per_group_search: bool = False, ratio: tuple = ()) -> str:
     sizes = lay.sizes_of(design)
     if per_group_search:
         if isinstance(design, designs.OneSampleDesign):
             return "pairs" if design.kind == "paired" else "one sample"
+        if ratio:
+            return f"{len(sizes)} groups of " + " + ".join(
+                "n" if r == 1 else f"{r:.3g} n" for r in ratio)
         return f"{len(sizes)} groups of n each"
     if isinstance(design, designs.OneSampleDesign):
         return f"{sizes[0]} pairs" if design.kind == "paired" else f"one sample of {sizes[0]}"

@@ -96,6 +96,22 @@ def resized(design, sizes: tuple):
     return dataclasses.replace(design, values=values, groups=groups)
 
 
+def allocation(sizes) -> tuple:
+    """Each group's size over the first's (a search keeps it): () when they are equal or
+    there is one group."""
+    sizes = tuple(int(s) for s in sizes or ())
+    if len(sizes) < 2 or len(set(sizes)) == 1:
+        return ()
+    return tuple(s / sizes[0] for s in sizes)
+
+
+def allocated(k: int, ratio: tuple) -> tuple:
+    """The sizes with k in the first group and the others in `ratio` (at least 2 a group)."""
+    if not ratio:
+        return (k,)
+    return tuple(max(2, int(round(k * r))) for r in ratio)
+
+
 def _stretch(v: np.ndarray, size: int) -> np.ndarray:
     """`size` values spread like v's (its quantiles), so the layout's spread is kept."""
     v = np.sort(np.asarray(v, dtype=float))

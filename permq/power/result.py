@@ -26,12 +26,18 @@ class PowerResult:
     warnings: list = field(default_factory=list)
     line: Optional[int] = None
     seed_source: str = ""
+    method: str = "simulation"    # "simulation", or "summation" over every outcome (counts)
+    formula_words: str = ""       # the closed form beside the tests (rows' `formula`), if any
+    allocation: Optional[list] = None   # a search's group sizes over the first's, if unequal
 
     def to_dict(self) -> dict:
         rows = [{"n": list(r.sizes), "power": r.permutation.value, "power_se": r.permutation.se,
                  "normal_power": r.normal.value, "normal_power_se": r.normal.se,
                  "exact": r.exact, "arrangements": r.arrangements,
                  "smallest_p": r.smallest_p} for r in self.rows]
+        if self.formula_words:
+            for row, r in zip(rows, self.rows):
+                row["normal_formula_power"] = r.formula
         return {"statement": self.statement, "family": "power", "test": self.test,
                 "normal_test": self.normal_test, "design": self.design, "source": self.source,
                 "alternative": self.alternative, "level": self.alpha, "law": self.law,
@@ -39,7 +45,8 @@ class PowerResult:
                 "shift": self.shift_words, "datasets": self.datasets, "seed": self.seed,
                 "rows": rows, "target": self.target,
                 "needed": dict(self.needed) if self.target is not None else None,
-                "warnings": list(self.warnings)}
+                "warnings": list(self.warnings), "method": self.method,
+                "formula": self.formula_words or None, "allocation": self.allocation}
 
     def sentence(self) -> str:
         from ..render.power import sentence

@@ -40,6 +40,7 @@ class AtN:
     arrangements: int             # listed, or drawn a block
     smallest_p: Optional[float]   # of the permutation test's side: at least 1 (or 2) / N
     seconds: float = field(default=0.0, compare=False)
+    formula: Optional[float] = None   # a closed-form approximation's power, where one is given
 
 
 def power_at(problem, pattern_of: Callable, errors, alpha: float, seed: int,

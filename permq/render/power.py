@@ -13,6 +13,8 @@ def _rate(r) -> str:
 
 
 def text_block(pr) -> str:
+    if pr.method == "summation":
+        return _summed_block(pr)
     lines = [fmt.heading(pr.statement)]
     lines.append(f"power · {pr.test} · {pr.design}")
     lines.append(f"  {'effect':<15}{pr.shift_words}")
@@ -32,6 +34,9 @@ def text_block(pr) -> str:
         for which, words in (("permutation", "permutation test"), ("normal", "normal theory")):
             k = pr.needed.get(which)
             got = f"{k} a group" if k is not None else "not reached"
+            if k is not None and pr.allocation:
+                row = next((r for r in pr.rows if r.sizes[0] == k), None)
+                got = f"n = {_n(row.sizes)}" if row is not None else f"{k} in the first group"
             if k is not None and pr.design in ("pairs", "one sample"):
                 got = f"{k} {'pairs' if pr.design == 'pairs' else 'units'}"
             lines.append(f"  {'n for ' + format(pr.target, '.0%'):<15}{words}: {got}")
@@ -40,7 +45,53 @@ def text_block(pr) -> str:
     return "\n".join(lines) + "\n"
 
 
+def _summed_block(pr) -> str:
+    """Counts: exact power of both tests, summed over every outcome, and the formula's."""
+    lines = [fmt.heading(pr.statement), f"power · {pr.test} · {pr.design}",
+             f"  {'effect':<15}{pr.shift_words}"]
+    side = "two-sided" if pr.alternative == "two-sided" else f"one-sided ({pr.alternative})"
+    lines.append(f"  {'level':<15}{pr.alpha:g}, {side}")
+    lines.append(f"  {'n':<15}{'exact test':<14}{'normal theory':<16}{'formula':<10}"
+                 f"{'outcomes':<10}smallest p")
+    for r in pr.rows:
+        lines.append(f"  {_n(r.sizes):<15}{r.permutation.value:<14.4f}{r.normal.value:<16.4f}"
+                     f"{r.formula:<10.4f}{r.arrangements:<10,}{fmt.p(r.smallest_p)}")
+    lines.append(f"  {'':<15}exact power: the sum over every outcome of its probability where "
+                 "the test rejects (no simulation)")
+    lines.append(f"  {'':<15}normal theory: {pr.normal_test}; formula: {pr.formula_words}")
+    if pr.target is not None:
+        for which, words in (("permutation", "exact test"), ("normal", "normal theory")):
+            k = pr.needed.get(which)
+            row = next((r for r in pr.rows if r.sizes[0] == k), None)
+            got = f"n = {_n(row.sizes)}" if row is not None else "not reached"
+            lines.append(f"  {'n for ' + format(pr.target, '.0%'):<15}{words}: {got}")
+    for w in pr.warnings:
+        lines.append(f"  {'note':<15}{w}")
+    return "\n".join(lines) + "\n"
+
+
+def _summed_sentence(r: dict) -> str:
+    side = "two-sided" if r["alternative"] == "two-sided" else f"one-sided ({r['alternative']})"
+    head = (f"Exact power, summed over every binomial outcome, of {r['test']} for {r['design']}, "
+            f"{r['shift']}, {side} at {r['level']:g}")
+    if r.get("target") is not None:
+        need = r["needed"] or {}
+        by_first = {row["n"][0]: row["n"] for row in r["rows"]}
+
+        def got(k):
+            return (f"n = {' + '.join(str(s) for s in by_first[k])}" if k in by_first
+                    else "not reached")
+        return (f"{head}: {r['target']:.0%} power needs {got(need.get('permutation'))} for the "
+                f"exact test and {got(need.get('normal'))} for the {r['normal_test']}.")
+    row = r["rows"][0]
+    return (f"{head}: power {row['power']:.3f} at n = {' + '.join(str(s) for s in row['n'])}, "
+            f"against {row['normal_power']:.3f} for the {r['normal_test']} and "
+            f"{row['normal_formula_power']:.3f} by the {r['formula']}.")
+
+
 def sentence(r: dict) -> str:
+    if r.get("method") == "summation":
+        return _summed_sentence(r)
     side = "two-sided" if r["alternative"] == "two-sided" else f"one-sided ({r['alternative']})"
     head = (f"Power by simulation of the {r['test']} for {r['design']}, {r['shift']}, "
             f"{r['law_words']}, {side} at {r['level']:g}, {r['datasets']:,} data sets a size")
@@ -48,8 +99,11 @@ def sentence(r: dict) -> str:
         need = r["needed"] or {}
 
         unit = {"pairs": " pairs", "one sample": " units"}.get(r["design"], " a group")
+        by_first = {row["n"][0]: row["n"] for row in r["rows"]}
 
         def got(k):
+            if k is not None and r.get("allocation") and k in by_first:
+                return f"n = {' + '.join(str(s) for s in by_first[k])}"
             return f"n = {k}{unit}" if k is not None else "not reached"
         return (f"{head}: {r['target']:.0%} power needs {got(need.get('permutation'))} "
                 f"for the permutation test and {got(need.get('normal'))} for "

@@ -76,16 +76,26 @@ def _coverage_table(rr, color) -> list:
     if not getattr(rr, "coverage", None):
         return []
     law_w = max(15, max(len(r.name) for r in rr.coverage) + 2)
+    widths = any(r.width_ratio is not None for r in rr.coverage)
+    ratio_head = f"{'width ratio':<16}" if widths else ""
     out = [f"  {'':<{law_w}}{f'coverage of the {rr.coverage_level:.0%} intervals':<36}"
            "misses above / below the truth",
            _c(f"  {'law':<{law_w}}{'exact':<18}{'normal theory':<18}{'exact':<18}"
-              f"{'normal theory':<18}verdict (exact; normal theory)", BOLD, color)]
+              f"{'normal theory':<18}{ratio_head}verdict (exact; normal theory)", BOLD, color)]
     for r in rr.coverage:
+        ratio = ""
+        if widths:
+            ratio = f"{_rate(r.width_ratio, r.width_ratio_se):<16}" if r.width_ratio is not None \
+                else f"{'-':<16}"
         out.append(f"  {r.name:<{law_w}}{_rate(r.exact, r.exact_se):<18}"
                    f"{_rate(r.normal, r.normal_se):<18}"
                    f"{f'{r.exact_above:.3f} / {r.exact_below:.3f}':<18}"
                    f"{f'{r.normal_above:.3f} / {r.normal_below:.3f}':<18}"
-                   f"{r.exact_verdict}; {r.normal_verdict}")
+                   f"{ratio}{r.exact_verdict}; {r.normal_verdict}")
+    if widths:
+        seen = max(r.width_datasets for r in rr.coverage)
+        out.append(f"  {'':<{law_w}}width ratio: mean of exact / normal-theory interval width "
+                   f"over {seen:,} data sets a law")
     return out
 
 

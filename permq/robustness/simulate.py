@@ -28,7 +28,7 @@ import numpy as np
 
 from ..engine.montecarlo import sampling
 from ..engine.core.progress import NO_PROGRESS
-from . import coverage
+from . import coverage, widths as W
 from . import laws as L
 from .arrangements import exact_reference, sampled_reference
 from .batch import normal_p, permutation_p, scores
@@ -54,6 +54,8 @@ class LawRates:
     not_exact: Optional[str]      # why the permutation test is not exact under this law
     misses: Optional[tuple] = None    # intervals (coverage.misses): exact above, below;
                                       # normal theory above, below (Rates), or None
+    widths: Optional[tuple] = None    # widths.summary: (mean exact / normal-theory width,
+                                      # its se, data sets with both finite, unbounded ones)
 
 
 @dataclass(frozen=True)
@@ -103,6 +105,7 @@ def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float,
 
     workers = max(1, min(workers or sampling.default_workers(), len(panel)))
     counts = run_parallel(one_law, len(panel), workers, tracker, progress)
+    with_widths = cover_level is not None and W.applies(problem)
     out = []
     for law, c in zip(panel, counts):
         rates = [rates_from_counts(c[:, i], c[:, 4], exact is None) for i in range(4)]
@@ -111,7 +114,8 @@ def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float,
         out.append(LawRates(law, *rates,
                             not_exact=L.breaks_exactness(law, problem.kind, problem.check.centre,
                                                             problem.form, problem.unit_sizes),
-                            misses=misses))
+                            misses=misses,
+                            widths=W.summary(c[:, 9:13].sum(axis=0)) if with_widths else None))
     return Simulation(tuple(out), datasets, alpha, exact is not None,
                       exact.count if exact is not None else permutations, seed)
 
@@ -122,6 +126,7 @@ def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutation
     the block's size, then (with `cover_level`) the intervals' misses on the null data sets."""
     f = factors(problem, law)
     rows = []
+    done = 0
     for _, size, rng in sampling.blocks(seed, datasets, BLOCK):
         tracker.check()
         e = errors(problem, law, rng, size, f)
@@ -135,7 +140,11 @@ def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutation
                 null_scores = a
         extra = [] if cover_level is None else coverage.misses(problem, e, null_scores, ref,
                                                                cover_level)
+        if cover_level is not None and W.applies(problem):
+            extra += (W.ratios(problem, e, null_scores, ref, cover_level)
+                      if W.wanted(problem, done) else [0.0, 0.0, 0, 0])
         rows.append(row + [size] + extra)
+        done += size
         tracker.add(size)
     return np.array(rows)
 

@@ -24,6 +24,11 @@ and runs both tests on each. A `Check` says, for the family:
   Ansari-Bradley AB is small when the first group is the more spread out);
 - `leaves_out`: laws of the panel the check leaves out, each with the reason (for a test of
   spread, unequal spread is its alternative, not a breach of its null);
+- `width(problem, Y, level)`: the normal-theory interval's width for each data set (one of
+  robustness/widths), where the scores are the values: the coverage table then gives the mean
+  ratio of the exact interval's width to it; `exact_width(problem, A, reference, level)`, the
+  exact interval's width for each data set, where the scores are not the values (else the
+  generic inversion of robustness/widths);
 - `recompute(problem, A, rows)`: for the form "recomputed" (a statistic that is no sum of
   arranged scores: studentized, or the largest of several), the statistic of each data set
   (rows of A) under each arrangement (rows of group codes), shape (data sets, arrangements).
@@ -53,6 +58,12 @@ class Check:
                                          # (its coverage is read off the simulated tests)
     matrix: Optional[Callable] = None    # "quadform": design -> M (groups x groups)
     recompute: Optional[Callable] = None  # form "recomputed": (problem, A, rows) -> (D, R)
+    width: Optional[Callable] = None     # the normal-theory interval's width per data set,
+                                         # (problem, Y, level) -> widths (robustness/widths),
+                                         # for scores that are the values: the width ratio
+    exact_width: Optional[Callable] = None   # (problem, A, reference, level) -> the exact
+                                         # interval's widths, where the generic inversion of
+                                         # robustness/widths does not fit the scores
 
     def counterpart_name(self, problem) -> str:
         return self.counterpart(problem) if callable(self.counterpart) else self.counterpart

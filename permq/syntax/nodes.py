@@ -162,12 +162,14 @@ class Robustness:
 
 @dataclass(frozen=True)
 class Layout:
-    """A design described before the data exist: `groups 6, 6`, `pairs 10`, `sample 12`."""
+    """A design described before the data exist: `groups 6, 6`, `pairs 10`, `sample 12`,
+    `count proportions 0.2 vs 0.6`, `count proportion 0.7 vs 0.5`."""
 
     span: Span
-    shape: str                   # "groups", "pairs", "sample"
+    shape: str                   # "groups", "pairs", "sample", "proportions", "proportion"
     sizes: tuple                 # units a group (one number for pairs and one sample)
     options: tuple = ()
+    values: tuple = ()           # count shapes: the two proportions (true, or true and null)
 
 
 @dataclass(frozen=True)

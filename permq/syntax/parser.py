@@ -242,6 +242,17 @@ class _ToNodes(Transformer):
     def layout_sample(self, meta, ch):
         return self._layout(meta, ch, "sample")
 
+    def _count_layout(self, meta, ch, shape):
+        values = tuple(float(c.value) for c in ch if not isinstance(c, n.Option))
+        options = tuple(c for c in ch if isinstance(c, n.Option))
+        return n.Layout(_span(meta), shape, (), options, values)
+
+    def layout_proportions(self, meta, ch):
+        return self._count_layout(meta, ch, "proportions")
+
+    def layout_proportion(self, meta, ch):
+        return self._count_layout(meta, ch, "proportion")
+
     def set_stmt(self, meta, ch):
         value = ch[1]
         v = value.value

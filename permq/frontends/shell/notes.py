@@ -18,6 +18,8 @@ KEYWORDS = {
     "groups": "group sizes of a layout: groups 6, 6",
     "pairs": "number of pairs of a layout",
     "sample": "size of one sample",
+    "proportions": "power count proportions 0.2 vs 0.6: two binomial samples, power summed",
+    "proportion": "power count proportion 0.7 vs 0.5: one proportion (true vs tested)",
     "datasets": "number of simulated data sets",
     "shift": "effect to simulate",
     "sd": "in standard deviations",
