@@ -7,9 +7,9 @@
 
 Fit: every design of `calibration_designs.fitting` runs through the pipeline as a user's
 statement does (bind, plan, the test, estimate, normal theory, diagnostics); its measured
-wall time T (best of two runs) is modelled as base + sum_j f_j e_j, where e_j are the plan's
-uncalibrated estimates of the chosen algorithm ("engine/algorithm") and of each other part of
-the statement ("statement/part"). The factors f_j and the base come from one non-negative
+wall time T (best of two runs after an untimed one, and planned after it) is modelled as
+base + sum_j f_j e_j, where e_j are the plan's uncalibrated estimates of the chosen algorithm
+("engine/algorithm") and of each other part of the statement ("statement/part"). The factors f_j and the base come from one non-negative
 least-squares fit of the relative errors (every design counts alike), refitted once without
 the designs more than 3x off. Memory: the peak bytes traced while the statement runs
 (tracemalloc: every numpy and Python allocation), over the base of a tiny statement, divided
@@ -60,8 +60,8 @@ class Design:
                                "d" if tables else None)
         self.defaults = Defaults()
         self.node = parse_statement(text)
-        design = bind(self.node, self.catalog, self.defaults)
-        self.plan = whole_plan(family_for(design), design, self.node)
+        self.design = bind(self.node, self.catalog, self.defaults)
+        self.plan = whole_plan(family_for(self.design), self.design, self.node)
 
     @property
     def key(self) -> str:
@@ -87,6 +87,11 @@ class Design:
         analyse(self.node, self.text, self.catalog, self.defaults, NO_PROGRESS)
 
     def seconds(self, repeat: int = 2) -> float:
+        """Best of `repeat` timed runs after one untimed run, and the plan made again after
+        that run: what is loaded once per process (compiled loops, a module's import) is
+        neither timed nor predicted, so the estimate and the time speak of the same work."""
+        self.run()
+        self.plan = whole_plan(family_for(self.design), self.design, self.node)
         best = float("inf")
         for _ in range(repeat):
             t = time.perf_counter()

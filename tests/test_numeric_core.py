@@ -79,7 +79,20 @@ def test_the_memory_set_chooses_the_algorithm_and_both_are_exact():
     x = [round(float(v), 2) for v in rng.uniform(0, 40, 8)]
     y = [round(float(v), 2) for v in rng.uniform(0, 40, 8)]
     want = brute.two_sample_p("means", x, y, "two-sided")
-    for memory, algorithm in (("2GB", "dynamic programming"), ("6MB", "complete enumeration")):
+    # the memory that admits listing but not counting, from the plan's own (calibrated) figures
+    from permq.bind.binder import bind
+    from permq.bind.common import Defaults
+    from permq.families.registry import family_for
+    from permq.syntax.parser import parse_script
+
+    s = Session()
+    text = f"compare {inline(x)} vs {inline(y)} exact"
+    design = bind(parse_script(text)[0].node, s.catalog, Defaults())
+    need = {c.algorithm: c.memory for c in family_for(design).plan(design).candidates}
+    assert need["enumeration"] < need["dp-integer"]
+    between = (need["enumeration"] + need["dp-integer"]) / 2 / 1e6
+    for memory, algorithm in (("2GB", "dynamic programming"),
+                              (f"{between:.3f}MB", "complete enumeration")):
         s = Session()
         s.run(f"set memory {memory}")
         r = s.run(f"compare {inline(x)} vs {inline(y)} exact")[-1]
