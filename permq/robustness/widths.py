@@ -33,6 +33,8 @@ time, is taken on the first ONE_BY_ONE data sets of each law.
 """
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from ..engine.core.confidence import alpha_side, rejected_up_to
@@ -122,38 +124,44 @@ def _by_order(values, Y, criticals) -> tuple:
     return np.concatenate(out[0]), np.concatenate(out[1])
 
 
-def hodges_lehmann(pb, Y, level) -> tuple:
-    """The Hodges-Lehmann shift's exact (rank-sum law) and normal-theory interval widths."""
+@lru_cache(maxsize=64)
+def _criticals(which: str, sizes: tuple, level) -> tuple:
+    """(exact c, normal c) of engine.rankintervals for a two-sided interval, found once per
+    design and level (the exact law is formed once, not once a block)."""
     from ..engine import rankintervals as R
 
+    if which == "two-sample":
+        return (R.two_sample_critical(*sizes, level, "two-sided")[0],
+                R.two_sample_normal_critical(*sizes, level, "two-sided"))
+    if which == "signed-rank":
+        return (R.one_sample_critical(*sizes, level, "two-sided")[0],
+                R.one_sample_normal_critical(*sizes, level, "two-sided"))
+    return (R.sign_critical(*sizes, level, "two-sided"),
+            R.sign_normal_critical(*sizes, level, "two-sided"))
+
+
+def hodges_lehmann(pb, Y, level) -> tuple:
+    """The Hodges-Lehmann shift's exact (rank-sum law) and normal-theory interval widths."""
     g1 = pb.codes == 0
     n1, n2 = int(g1.sum()), int((~g1).sum())
 
     def differences(Z):
         return (Z[:, g1][:, :, None] - Z[:, ~g1][:, None, :]).reshape(Z.shape[0], -1)
 
-    return _by_order(differences, Y, (R.two_sample_critical(n1, n2, level, "two-sided")[0],
-                                      R.two_sample_normal_critical(n1, n2, level, "two-sided")))
+    return _by_order(differences, Y, _criticals("two-sample", (n1, n2), level))
 
 
 def pseudo_median(pb, Y, level) -> tuple:
     """The Hodges-Lehmann pseudo-median's exact (signed-rank law) and normal-theory widths."""
-    from ..engine import rankintervals as R
-
     n = Y.shape[1]
     i, j = np.triu_indices(n)
     return _by_order(lambda Z: (Z[:, i] + Z[:, j]) / 2, Y,
-                     (R.one_sample_critical(n, level, "two-sided")[0],
-                      R.one_sample_normal_critical(n, level, "two-sided")))
+                     _criticals("signed-rank", (n,), level))
 
 
 def sign_interval(pb, Y, level) -> tuple:
     """The median's exact (binomial law) and normal-theory sign-interval widths."""
-    from ..engine import rankintervals as R
-
-    n = Y.shape[1]
-    return _by_order(lambda Z: Z, Y, (R.sign_critical(n, level, "two-sided"),
-                                      R.sign_normal_critical(n, level, "two-sided")))
+    return _by_order(lambda Z: Z, Y, _criticals("sign", (Y.shape[1],), level))
 
 
 def ratios(pb, E, A, reference, level) -> list:
