@@ -10,6 +10,11 @@
 - The normal-theory widths equal scipy's Welch and one-sample t intervals
   (scipy.stats.ttest_ind(..., equal_var=False).confidence_interval, ttest_1samp) and
   statsmodels' OLS interval for the slope.
+- Intervals at order statistics (the Hodges-Lehmann shift with the rank-sum test, the
+  pseudo-median with the signed-rank test, the sign interval; pairs and one sample): both
+  widths found for many data sets at once equal the widths of the exact and the
+  normal-theory interval the analysis reports on the same data, and the check's table gives
+  their ratio.
 - Under normal errors, at 15 a group, the exact interval of the difference in means is about as
   wide as the t interval (the permutation and the t test agree in large samples, common
   practice): the mean ratio within 0.03 of 1.
@@ -137,9 +142,9 @@ def test_width_ratio_near_one_under_normal_errors_at_moderate_n():
         rr.coverage[0].width_ratio)
 
 
-def test_no_width_ratio_where_the_scores_are_not_the_values():
+def test_no_width_ratio_for_a_one_sided_interval():
     rr = permq.run("robustness compare [4.1, 5.3, 4.8, 5.0, 6.2] vs [6.0, 5.9, 7.2, 6.6, 6.9] "
-                   "using ranks datasets 200 seed 1")[-1]
+                   "using ranks alternative lower datasets 200 seed 1")[-1]
     assert rr.coverage and all(r.width_ratio is None for r in rr.coverage)
     assert "width ratio" not in str(rr)
     jsonschema.validate([rr.to_dict()], schema())
@@ -191,3 +196,45 @@ def test_adjusted_robustness_gives_the_width_ratio_on_its_first_data_sets():
     assert 0.85 < normal.width_ratio < 1.15 and normal.width_ratio_se < 0.02
     assert f"over {ONE_BY_ONE} data sets a law" in str(rr)
     jsonschema.validate([rr.to_dict()], schema())
+
+
+@pytest.mark.parametrize("shape,using,piece", [
+    ("{x} vs {y}", "ranks", "hodges_lehmann"),
+    ("{x} vs {y} paired", "ranks", "pseudo_median"),
+    ("{x} vs 0", "ranks", "pseudo_median"),
+    ("{x} vs {y} paired", "signs", "sign_interval"),
+    ("{x} vs 0", "signs", "sign_interval")])
+def test_order_statistic_widths_are_the_analysis_interval_widths(shape, using, piece):
+    rng = np.random.default_rng(41)
+    for size in (7, 12, 30):
+        rows = []
+        for _ in range(3):
+            x = np.round(rng.normal(size=size), 3)
+            y = np.round(rng.normal(size=size - 2 if "paired" not in shape else size) + 0.3, 3)
+            text = "compare " + shape.format(x=_lst(x), y=_lst(y)) + f" using {using}"
+            r = permq.run(text)[-1]
+            d, pb = _problem(text)
+            assert pb.check.order_widths is getattr(widths, piece)
+            rows.append((_data(d), r.estimate.interval, r.normal.interval))
+        ex, nt = pb.check.order_widths(pb, np.array([v for v, _, _ in rows]), 0.95)
+        for i, (_, (lo, hi), (nlo, nhi)) in enumerate(rows):
+            assert ex[i] == pytest.approx(hi - lo, rel=1e-12, abs=1e-12)
+            assert nt[i] == pytest.approx(nhi - nlo, rel=1e-12, abs=1e-12)
+
+
+def test_rank_intervals_have_their_width_ratio_in_the_check():
+    rr = permq.run("robustness compare [1.1, 2.3, 1.9, 3.0, 2.2, 1.4, 0.3] vs "
+                   "[2.9, 3.1, 2.4, 3.8, 3.3, 2.2] using ranks datasets 200 seed 2")[-1]
+    assert isinstance(rr, RobustnessResult)
+    normal = next(r for r in rr.coverage if r.law == "normal")
+    # 7 + 6: the exact no-ties law gives P(U <= 6) = 0.0175, P(U <= 7) = 0.0256, so its
+    # interval ends at the order statistics c = 6 and 41 (from 0) of the 42 differences;
+    # normal ranks at floor(21 - 1.96 * 7) = 7: the exact interval is the wider
+    from permq.engine import rankintervals as R
+
+    assert R.two_sample_critical(7, 6, 0.95, "two-sided") == (6, True)
+    assert R.two_sample_normal_critical(7, 6, 0.95, "two-sided") == 7
+    assert normal.width_ratio > 1 and normal.width_datasets == 200
+    record = rr.to_dict()
+    assert record["coverage"]["laws"][0]["width_ratio"]["mean"] == pytest.approx(normal.width_ratio)
+    assert not list(jsonschema.Draft202012Validator(schema()).iter_errors([record]))

@@ -134,24 +134,30 @@ def pairwise_differences(x, y) -> np.ndarray:
     return grid.differences((z[:x.size, None] - z[None, x.size:]).ravel())
 
 
+def two_sample_critical(n1: int, n2: int, level, alternative) -> tuple:
+    """(c, exact): the order statistic (from 0) of the pairwise differences that ends the
+    interval, from the exact no-ties Mann-Whitney law where it is formed, else normal ranks."""
+    side = _side(level, alternative)
+    if mann_whitney_ops(n1, n2) <= EXACT_LAW_OPS:
+        return critical(mann_whitney_counts(n1, n2), side), True
+    return two_sample_normal_critical(n1, n2, level, alternative), False
+
+
+def two_sample_normal_critical(n1: int, n2: int, level, alternative) -> int:
+    return _normal_critical(n1 * n2 / 2, np.sqrt(n1 * n2 * (n1 + n2 + 1) / 12),
+                            _side(level, alternative))
+
+
 def hodges_lehmann_two_sample(x, y, level, alternative):
     x, y = np.asarray(x, float), np.asarray(y, float)
-    n1, n2 = len(x), len(y)
     diffs = pairwise_differences(x, y)
     est = float(median(diffs))
-    side = _side(level, alternative)
-    exact = mann_whitney_ops(n1, n2) <= EXACT_LAW_OPS
-    if exact:
-        c = critical(mann_whitney_counts(n1, n2), side)
-    else:
-        c = _normal_critical(n1 * n2 / 2, np.sqrt(n1 * n2 * (n1 + n2 + 1) / 12), side)
+    c, exact = two_sample_critical(len(x), len(y), level, alternative)
     return est, _interval_from_order(diffs, c, alternative), exact
 
 
 def hodges_lehmann_two_sample_normal(x, y, level, alternative):
-    n1, n2 = len(x), len(y)
-    c = _normal_critical(n1 * n2 / 2, np.sqrt(n1 * n2 * (n1 + n2 + 1) / 12),
-                         _side(level, alternative))
+    c = two_sample_normal_critical(len(x), len(y), level, alternative)
     return _interval_from_order(pairwise_differences(x, y), c, alternative)
 
 
@@ -167,37 +173,49 @@ def walsh_averages(d):
     return grid.means(z[i] + z[j], 2)
 
 
+def one_sample_critical(n: int, level, alternative) -> tuple:
+    """(c, exact): the order statistic (from 0) of the Walsh averages that ends the interval,
+    from the exact no-ties signed-rank law up to EXACT_ONE_SAMPLE_N, else normal ranks."""
+    if n <= EXACT_ONE_SAMPLE_N:
+        return critical(signed_rank_counts(n), _side(level, alternative)), True
+    return one_sample_normal_critical(n, level, alternative), False
+
+
+def one_sample_normal_critical(n: int, level, alternative) -> int:
+    return _normal_critical(n * (n + 1) / 4, np.sqrt(n * (n + 1) * (2 * n + 1) / 24),
+                            _side(level, alternative))
+
+
 def hodges_lehmann_one_sample(d, level, alternative):
     w = walsh_averages(d)
-    n = len(d)
     est = float(median(w))
-    side = _side(level, alternative)
-    exact = n <= EXACT_ONE_SAMPLE_N
-    if exact:
-        c = critical(signed_rank_counts(n), side)
-    else:
-        c = _normal_critical(n * (n + 1) / 4, np.sqrt(n * (n + 1) * (2 * n + 1) / 24), side)
+    c, exact = one_sample_critical(len(d), level, alternative)
     return est, _interval_from_order(w, c, alternative), exact
 
 
 def hodges_lehmann_one_sample_normal(d, level, alternative):
-    n = len(d)
-    c = _normal_critical(n * (n + 1) / 4, np.sqrt(n * (n + 1) * (2 * n + 1) / 24),
-                         _side(level, alternative))
+    c = one_sample_normal_critical(len(d), level, alternative)
     return _interval_from_order(walsh_averages(d), c, alternative)
+
+
+def sign_critical(n: int, level, alternative) -> int:
+    """The order statistic (from 0) that ends the sign-test interval (binomial law)."""
+    return binomial_critical(n, _side(level, alternative))
+
+
+def sign_normal_critical(n: int, level, alternative) -> int:
+    return _normal_critical(n / 2, np.sqrt(n) / 2, _side(level, alternative))
 
 
 def median_interval(d, level, alternative):
     d = np.sort(np.asarray(d, float))
-    n = len(d)
-    c = binomial_critical(n, _side(level, alternative))
+    c = sign_critical(len(d), level, alternative)
     return float(median(d)), _interval_from_order(d, c, alternative)
 
 
 def median_interval_normal(d, level, alternative):
     d = np.sort(np.asarray(d, float))
-    n = len(d)
-    c = _normal_critical(n / 2, np.sqrt(n) / 2, _side(level, alternative))
+    c = sign_normal_critical(len(d), level, alternative)
     return _interval_from_order(d, c, alternative)
 
 

@@ -58,7 +58,7 @@ def _spearman_weights(design):
 
 
 def _check(form, scores, counterpart, normal_p, reported, weights=None, inverts=False,
-           width=None):
+           width=None, interval=None):
     def check(design):
         from ..robustness import counterparts, reported as rep, scoring, widths
         from ..robustness.spec import Check
@@ -69,7 +69,8 @@ def _check(form, scores, counterpart, normal_p, reported, weights=None, inverts=
                          counterparts.adjusted_slope_t, rep.as_is)
         return Check(form, getattr(scoring, scores), counterpart, getattr(counterparts, normal_p),
                      getattr(rep, reported), weights=weights, inverts=inverts,
-                     width=getattr(widths, width) if width else None)
+                     width=getattr(widths, width) if width else None,
+                     interval=getattr(counterparts, interval) if interval else None)
     return check
 
 
@@ -81,7 +82,8 @@ def _declare(keyword, title, summary, normal, estimate, robustness, **more):
 FAMILIES = [
     _declare("pearson", "permutation test of Pearson's correlation", "Pearson correlation",
              "t test of Pearson's r", "sample correlation (no permutation interval)",
-             _check("linear", "values", "t test of Pearson's r", "slope_t", "correlation"),
+             _check("linear", "values", "t test of Pearson's r", "slope_t", "correlation",
+                    interval="fisher_z_interval"),
              default_in=("association",)),
     _declare("spearman", "permutation test of Spearman's rho (mid-ranks)",
              "Spearman rank correlation", "t approximation for Spearman's rho",

@@ -81,7 +81,8 @@ def _sampled_words(method, draws, what):
     return f" (on the sampled {what})"
 
 
-def _check(scores, counterpart, normal_p, reported, effect, centre, width=None):
+def _check(scores, counterpart, normal_p, reported, effect, centre, width=None,
+           order_widths=None):
     """The robustness check of a sign-flip family (pieces named from robustness/)."""
     def check(design):
         from ..robustness import counterparts, effects, reported as rep, scoring, widths
@@ -90,7 +91,8 @@ def _check(scores, counterpart, normal_p, reported, effect, centre, width=None):
         return Check("signs", getattr(scoring, scores), counterpart,
                      getattr(counterparts, normal_p), getattr(rep, reported),
                      effect=getattr(effects, effect), centre=centre,
-                     width=getattr(widths, width) if width else None)
+                     width=getattr(widths, width) if width else None,
+                     order_widths=getattr(widths, order_widths) if order_widths else None)
     return check
 
 
@@ -116,13 +118,14 @@ FAMILIES = [
              "Wilcoxon signed ranks", "normal approximation to the signed-rank sum",
              "Hodges-Lehmann pseudo-median; interval at the exact signed-rank quantiles",
              _check("signed_ranks", "normal approximation to the signed-rank sum",
-                    "signed_rank_z", "positive_sum", "pseudo_median", "pseudo-median"),
+                    "signed_rank_z", "positive_sum", "pseudo_median", "pseudo-median",
+                    order_widths="pseudo_median"),
              ("standardised_mean_difference", "matched_rank_biserial")),
     _declare("signs", "sign test", "sign test (paired, one sample)",
              "normal approximation to the sign count",
              "median; interval at binomial quantiles",
              _check("signs", "normal approximation to the sign count", "sign_z",
-                    "positive_sum", "median", "median"),
+                    "positive_sum", "median", "median", order_widths="sign_interval"),
              ("standardised_mean_difference", "positive_share")),
 ]
 

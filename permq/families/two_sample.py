@@ -108,7 +108,7 @@ def _sampled_words(method, draws, what):
     return f" (on the sampled {what})"
 
 
-def _check(scores, counterpart, normal_p, reported, effect, width=None):
+def _check(scores, counterpart, normal_p, reported, effect, width=None, order_widths=None):
     """The robustness check of a two-sample family (pieces named from robustness/)."""
     def check(design):
         from ..robustness import counterparts, effects, reported as rep, scoring, widths
@@ -117,7 +117,8 @@ def _check(scores, counterpart, normal_p, reported, effect, width=None):
         return Check("linear", getattr(scoring, scores), counterpart,
                      getattr(counterparts, normal_p), getattr(rep, reported),
                      effect=getattr(effects, effect),
-                     width=getattr(widths, width) if width else None)
+                     width=getattr(widths, width) if width else None,
+                     order_widths=getattr(widths, order_widths) if order_widths else None)
     return check
 
 
@@ -140,7 +141,7 @@ FAMILIES = [
              "normal approximation to the rank sum (tie-corrected)",
              "Hodges-Lehmann shift; interval at the exact rank-sum quantiles",
              _check("ranks", "normal approximation to the rank sum", "score_sum_z", "as_is",
-                    "hodges_lehmann_shift"),
+                    "hodges_lehmann_shift", order_widths="hodges_lehmann"),
              ("standardised_difference", "probability_of_superiority"),
              extra={"table_route": True,    # few categories: the 2 x c table's network
                     "unequal_spread_test": "brunner-munzel"}),

@@ -124,6 +124,8 @@ def _coverage_axes(fig, rr):
              [r.normal_se for r in rr.coverage]),
             (0.15, "exact", "#b03a2e", [r.exact for r in rr.coverage],
              [r.exact_se for r in rr.coverage])):
+        if any(v is None for v in vals):          # no exact interval
+            continue
         ax.errorbar([p + shift for p in pos], vals, yerr=[2 * s for s in ses], fmt="o",
                     color=colour, label=label, capsize=3)
     ax.axhline(rr.coverage_level, color="black", linestyle="--", linewidth=1)

@@ -87,9 +87,10 @@ def _coverage_table(rr, color) -> list:
         if widths:
             ratio = f"{_rate(r.width_ratio, r.width_ratio_se):<16}" if r.width_ratio is not None \
                 else f"{'-':<16}"
-        out.append(f"  {r.name:<{law_w}}{_rate(r.exact, r.exact_se):<18}"
+        none = r.exact is None          # the analysis gives no exact interval
+        out.append(f"  {r.name:<{law_w}}{'-' if none else _rate(r.exact, r.exact_se):<18}"
                    f"{_rate(r.normal, r.normal_se):<18}"
-                   f"{f'{r.exact_above:.3f} / {r.exact_below:.3f}':<18}"
+                   f"{'-' if none else f'{r.exact_above:.3f} / {r.exact_below:.3f}':<18}"
                    f"{f'{r.normal_above:.3f} / {r.normal_below:.3f}':<18}"
                    f"{ratio}{r.exact_verdict}; {r.normal_verdict}")
     if widths:

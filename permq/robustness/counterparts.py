@@ -5,6 +5,7 @@ approximations, Kendall's and Jonckheere-Terpstra's normal approximations).
 
 Each takes (problem, Y, A) — the data sets (rows of Y) and their scores (A) — and returns the
 p-value of each data set. A family's `Check` (robustness/spec.py) names one, or brings its own.
+`fisher_z_interval` gives a correlation's normal-theory interval instead (`Check.interval`).
 """
 from __future__ import annotations
 
@@ -143,6 +144,27 @@ def slope_t(pb, Y, A):
     r = np.clip(r, -1.0, 1.0)
     t = r * np.sqrt((n - 2) / (1 - r * r))
     return t_tails(t, n - 2, pb.alternative)
+
+
+def fisher_z_interval(pb, Y, level):
+    """Fisher's z interval for the correlation of each data set with the fixed weights (x),
+    tanh(atanh(r) -+ z / sqrt(n - 3)), as normal/association.fisher_interval: alpha/2 in each
+    tail, or alpha in the one tail of a one-sided interval (its other end +-1)."""
+    from scipy import stats
+
+    n = Y.shape[1]
+    w = pb.weights - pb.weights.mean()
+    a = Y - Y.mean(axis=1, keepdims=True)
+    r = np.clip((a @ w) / np.sqrt((a * a).sum(axis=1) * (w @ w)), -1.0, 1.0)
+    z = np.arctanh(np.clip(r, -1 + 1e-15, 1 - 1e-15))
+    one = 1.0 - level
+    h = stats.norm.isf(one / 2 if pb.alternative == "two-sided" else one) / np.sqrt(n - 3)
+    low, high = np.tanh(z - h), np.tanh(z + h)
+    if pb.alternative == "higher":
+        high = np.ones_like(high)
+    elif pb.alternative == "lower":
+        low = -np.ones_like(low)
+    return low, high
 
 
 def adjusted_slope_t(pb, Y, A):

@@ -12,6 +12,12 @@ errors alone, the null data sets the check simulates anyway:
   p <= alpha/2, wholly below when "lower" has;
 - coverage = 1 - the two miss rates, each with its binomial Monte Carlo error.
 
+A normal-theory interval that does not invert the counterpart test (`Check.interval`:
+Fisher's z interval for a correlation) is computed on each null data set and counted as
+missing when it lies wholly above or below the null's truth, zero; its coverage depends on
+the true correlation, so it is the coverage at no association. A design whose analysis has no
+exact interval (Pearson's r) shows the normal-theory interval alone.
+
 (Ties at an end of an interval count as covered by the engines and as rejected here: with
 continuous errors they have probability zero.) The level is the statement's `confidence`.
 Widths: `widths.py` (the mean ratio of the exact to the normal-theory width, where the
@@ -32,7 +38,15 @@ Z = 3.0
 
 
 def applies(problem, observed) -> str:
-    """"" when the design's intervals are the inverted tests, else why no coverage is shown."""
+    """"" when the design's intervals are the inverted tests (or the family declares its
+    normal-theory interval), else why no coverage is shown."""
+    if problem.check is not None and problem.check.interval is not None:
+        return ""
+    return exact_applies(problem, observed)
+
+
+def exact_applies(problem, observed) -> str:
+    """"" when the analysis's exact interval inverts the simulated test, else why not."""
     est = getattr(observed, "estimate", None)
     if est is None or est.interval is None:
         return "the analysis gives no exact interval"
@@ -54,12 +68,21 @@ def tails(alternative: str, level: float):
     return a / 2, a / 2
 
 
-def misses(problem, E, A, reference, level: float) -> list:
+def misses(problem, E, A, reference, level: float, exact: bool = True) -> list:
     """Counts on the null data sets E (scores A): [exact above, exact below, normal above,
-    normal below] (above: the interval lies wholly above the true effect)."""
+    normal below] (above: the interval lies wholly above the true effect); the exact ones
+    zero without an exact interval (`exact`)."""
     up, down = tails(problem.alternative, level)
     out = []
+    interval = problem.check.interval if problem.check is not None else None
     for kind in ("permutation", "normal"):
+        if kind == "permutation" and not exact:
+            out += [0, 0]
+            continue
+        if kind == "normal" and interval is not None:
+            low, high = interval(problem, E, level)
+            out += [int(np.count_nonzero(low > 0)), int(np.count_nonzero(high < 0))]
+            continue
         for side, a in (("higher", up), ("lower", down)):
             if a is None:
                 out.append(0)
@@ -75,10 +98,10 @@ def misses(problem, E, A, reference, level: float) -> list:
 class CoverageRow:
     law: str
     name: str
-    exact: float
-    exact_se: float
-    exact_above: float
-    exact_below: float
+    exact: Optional[float]                   # None: the analysis gives no exact interval
+    exact_se: Optional[float]
+    exact_above: Optional[float]
+    exact_below: Optional[float]
     normal: float
     normal_se: float
     normal_above: float
@@ -92,9 +115,10 @@ class CoverageRow:
 
     def to_dict(self) -> dict:
         return {"law": self.law, "name": self.name,
-                "exact": {"coverage": self.exact, "se": self.exact_se,
-                          "misses_above": self.exact_above, "misses_below": self.exact_below,
-                          "verdict": self.exact_verdict},
+                "exact": None if self.exact is None else {
+                    "coverage": self.exact, "se": self.exact_se,
+                    "misses_above": self.exact_above, "misses_below": self.exact_below,
+                    "verdict": self.exact_verdict},
                 "normal_theory": {"coverage": self.normal, "se": self.normal_se,
                                   "misses_above": self.normal_above,
                                   "misses_below": self.normal_below,
@@ -115,8 +139,12 @@ def verdict(cov: float, level: float, datasets: int, not_exact: str = "") -> str
     return f"not exact here, {words}" if not_exact else words
 
 
-def rows(rates, level: float, datasets: int) -> list:
-    """CoverageRow per law from simulate.LawRates (their `misses`)."""
+NO_EXACT = "no exact interval"
+
+
+def rows(rates, level: float, datasets: int, exact: bool = True) -> list:
+    """CoverageRow per law from simulate.LawRates (their `misses`); `exact`: the analysis has
+    an exact interval (else its columns are None)."""
     out = []
     for r in rates:
         if r.misses is None:
@@ -128,9 +156,11 @@ def rows(rates, level: float, datasets: int) -> list:
             ratio, ratio_se, finite, infinite = r.widths
             seen = finite + infinite
             unbounded = infinite / max(seen, 1)
-        out.append(CoverageRow(r.law.key, r.law.name, ec, _se(ec, datasets), ea, eb,
+        exact_part = (ec, _se(ec, datasets), ea, eb) if exact else (None,) * 4
+        out.append(CoverageRow(r.law.key, r.law.name, *exact_part,
                                nc, _se(nc, datasets), na, nb,
-                               verdict(ec, level, datasets, r.not_exact or ""),
+                               verdict(ec, level, datasets, r.not_exact or "") if exact
+                               else NO_EXACT,
                                verdict(nc, level, datasets), ratio, ratio_se, unbounded, seen))
     return out
 
@@ -139,18 +169,27 @@ def _se(p: float, m: int) -> float:
     return math.sqrt(max(p * (1 - p), 0.0) / m)
 
 
-def summary(table: list, level: float) -> list:
-    """One sentence on the intervals' coverage across the laws."""
+def summary(table: list, level: float, at_null: bool = False) -> list:
+    """One sentence on the intervals' coverage across the laws; `at_null`: the normal-theory
+    interval is counted at the null's truth only (`Check.interval`)."""
     if not table:
         return []
     pct = f"{level:.0%}"
     low = [r.name for r in table if r.normal_verdict == "undercovers"]
     exact_low = [r.name for r in table if r.exact_verdict.endswith("undercovers")]
-    parts = [f"Intervals at {pct}: the normal-theory interval "
-             + (f"undercovers under {', '.join(low)}" if low else "keeps its level under every law")
-             + "; the exact interval "
-             + (f"undercovers under {', '.join(exact_low)}" if exact_low
-                else "keeps its level under every law") + "."]
+    where = " at no association" if at_null else ""
+    normal = (f"the normal-theory interval{where} "
+              + (f"undercovers under {', '.join(low)}" if low
+                 else "keeps its level under every law"))
+    if all(r.exact is None for r in table):
+        exact = "the analysis gives no exact interval"
+    else:
+        exact = "the exact interval " + (f"undercovers under {', '.join(exact_low)}" if exact_low
+                                         else "keeps its level under every law")
+    parts = [f"Intervals at {pct}: {normal}; {exact}."]
+    if at_null:
+        parts.append("The normal-theory interval's coverage depends on the true value; it is "
+                     "checked on the null data sets, where the truth is zero.")
     ratios = [r for r in table if r.width_ratio is not None]
     if ratios:
         lo = min(ratios, key=lambda r: r.width_ratio)

@@ -105,7 +105,8 @@ def run(node: n.Robustness, text: str, catalog, defaults, progress, seed: int):
     no_cover = coverage.applies(problem, observed)
     level = design.settings.level
     sim = simulate(problem, pattern, check.datasets, check.alpha, int(seed), progress,
-                   cover_level=None if no_cover else level)
+                   cover_level=None if no_cover else level,
+                   cover_exact=not coverage.exact_applies(problem, observed))
     picture = null_picture(design, observed.outcome, int(seed))
     warnings = list(design.warnings) + [why for _, why in problem.check.leaves_out]
     from .control import spread_note

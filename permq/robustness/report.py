@@ -187,7 +187,8 @@ def build(statement, problem, observed, sim: Simulation, shift, shift_sd,
           shift_words, picture, warnings, cover=None) -> RobustnessResult:
     table = rows(sim)
     level, no_cover = cover if cover is not None else (None, "not asked")
-    intervals = [] if no_cover else coverage.rows(sim.rates, level, sim.datasets)
+    intervals = [] if no_cover else coverage.rows(
+        sim.rates, level, sim.datasets, exact=not coverage.exact_applies(problem, observed))
     if sim.exact:
         ref = f"exact: all {sim.arrangements:,} arrangements, for every data set"
     else:
@@ -195,7 +196,8 @@ def build(statement, problem, observed, sim: Simulation, shift, shift_sd,
                f"for every block of data sets; p = (b + 1) / (m + 1)")
     normal_test = normal_test_name(problem)
     lines = summary(table, sim.alpha, normal_test, shift_words) + precision_lines(sim)
-    lines += coverage.summary(intervals, level) if intervals else []
+    lines += coverage.summary(intervals, level, problem.check.interval is not None) \
+        if intervals else []
     if all(r.permutation_rate == 0 and r.permutation_power == 0 for r in table):
         lines.insert(1, f"The permutation test never rejected a data set at {sim.alpha:.0%}: with "
                         f"{sim.arrangements:,} arrangements its p-values do not fall that low.")

@@ -93,15 +93,16 @@ def errors(problem: Problem, law: L.ErrorLaw, rng, size: int, f: np.ndarray) -> 
 def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float, seed: int,
              progress=NO_PROGRESS, permutations: int = PERMUTATIONS,
              panel: Optional[tuple] = None, workers: Optional[int] = None,
-             cover_level: Optional[float] = None) -> Simulation:
-    """`cover_level`: also count the intervals' misses on the null data sets (coverage.py)."""
+             cover_level: Optional[float] = None, cover_exact: bool = True) -> Simulation:
+    """`cover_level`: also count the intervals' misses on the null data sets (coverage.py);
+    `cover_exact`: the analysis has an exact interval to count them for."""
     panel = panel or L.panel_for(problem)
     exact = exact_reference(problem)
     tracker = Tracker(len(panel) * datasets)
 
     def one_law(j):
         return _law_counts(problem, panel[j], pattern, datasets, alpha, 1000 * seed + j, exact,
-                           permutations, tracker, cover_level)
+                           permutations, tracker, cover_level, cover_exact)
 
     workers = max(1, min(workers or sampling.default_workers(), len(panel)))
     counts = run_parallel(one_law, len(panel), workers, tracker, progress)
@@ -121,7 +122,7 @@ def simulate(problem: Problem, pattern: np.ndarray, datasets: int, alpha: float,
 
 
 def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutations, tracker,
-                cover_level=None):
+                cover_level=None, cover_exact=True):
     """Rejections per block: columns normal/permutation under the null, then at the shift,
     the block's size, then (with `cover_level`) the intervals' misses on the null data sets."""
     f = factors(problem, law)
@@ -139,7 +140,7 @@ def _law_counts(problem, law, pattern, datasets, alpha, seed, exact, permutation
             if y is e:
                 null_scores = a
         extra = [] if cover_level is None else coverage.misses(problem, e, null_scores, ref,
-                                                               cover_level)
+                                                               cover_level, cover_exact)
         if cover_level is not None and W.applies(problem):
             extra += (W.ratios(problem, e, null_scores, ref, cover_level)
                       if W.wanted(problem, done) else [0.0, 0.0, 0, 0])

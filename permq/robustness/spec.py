@@ -29,6 +29,12 @@ and runs both tests on each. A `Check` says, for the family:
   ratio of the exact interval's width to it; `exact_width(problem, A, reference, level)`, the
   exact interval's width for each data set, where the scores are not the values (else the
   generic inversion of robustness/widths);
+- `order_widths(problem, Y, level)`: both intervals' widths for each data set where both
+  are order statistics of the values (Hodges-Lehmann, the sign interval; robustness/widths);
+- `interval(problem, Y, level)`: the normal-theory interval (low, high) of each data set
+  where it is not the counterpart test inverted (Fisher's z interval for a correlation, whose
+  coverage depends on the true correlation): its coverage is counted at the null data sets,
+  where the truth is zero;
 - `recompute(problem, A, rows)`: for the form "recomputed" (a statistic that is no sum of
   arranged scores: studentized, or the largest of several), the statistic of each data set
   (rows of A) under each arrangement (rows of group codes), shape (data sets, arrangements).
@@ -64,6 +70,13 @@ class Check:
     exact_width: Optional[Callable] = None   # (problem, A, reference, level) -> the exact
                                          # interval's widths, where the generic inversion of
                                          # robustness/widths does not fit the scores
+    order_widths: Optional[Callable] = None  # (problem, Y, level) -> (exact widths,
+                                         # normal-theory widths): intervals at order
+                                         # statistics of the values (robustness/widths)
+    interval: Optional[Callable] = None  # (problem, Y, level) -> (low, high) per data set: the
+                                         # normal-theory interval where it does not invert the
+                                         # counterpart test (Fisher's z for a correlation);
+                                         # its coverage is counted at the null's truth, zero
 
     def counterpart_name(self, problem) -> str:
         return self.counterpart(problem) if callable(self.counterpart) else self.counterpart

@@ -19,12 +19,21 @@ arrangement's own count). Where K < 1 no arrangement can reject: the interval is
 The normal-theory interval is the counterpart's t interval, 2 t(1 - alpha_side; df) se,
 written here for each counterpart a family declares (`Check.width`).
 
+Intervals at order statistics of the values (`Check.order_widths`: the Hodges-Lehmann
+interval of the pairwise differences with the rank-sum test, of the Walsh averages with the
+signed-rank test, the sign interval of the values) have their ends at fixed ranks, c and
+m - 1 - c from 0: the exact interval's c from the test's exact law, the normal-theory one's
+from normal-approximation ranks, both by engine.rankintervals as the analysis finds them; so
+both widths are read off each data set's order statistics.
+
 The ratio reported is the mean over data sets of exact width / normal-theory width, with its
 standard error (the spread of the ratios over sqrt of their number); data sets whose exact
 interval is unbounded are counted apart. A family's own exact width, found one data set at a
 time, is taken on the first ONE_BY_ONE data sets of each law.
 """
 from __future__ import annotations
+
+from functools import lru_cache
 
 import numpy as np
 
@@ -89,11 +98,80 @@ def exact(pb, A, reference, level) -> np.ndarray:
     return high - low
 
 
+CHUNK = 4_000_000        # values held at once for the order statistics of many data sets
+
+
+def _order_widths(V, c: int) -> np.ndarray:
+    """Width between the order statistics c and m - 1 - c (from 0) of each row of V, inf where
+    c < 0 (no arrangement can reject)."""
+    m = V.shape[1]
+    if c < 0 or 2 * c >= m:
+        return np.full(V.shape[0], np.inf)
+    P = np.partition(V, [c, m - 1 - c], axis=1)
+    return P[:, m - 1 - c] - P[:, c]
+
+
+def _by_order(values, Y, criticals) -> tuple:
+    """(exact widths, normal-theory widths) from the order statistics of values(rows of Y), in
+    chunks of data sets."""
+    m = values(Y[:1]).shape[1]
+    step = max(1, CHUNK // max(m, 1))
+    out = [[], []]
+    for start in range(0, Y.shape[0], step):
+        V = values(Y[start:start + step])
+        for i, c in enumerate(criticals):
+            out[i].append(_order_widths(V, c))
+    return np.concatenate(out[0]), np.concatenate(out[1])
+
+
+@lru_cache(maxsize=64)
+def _criticals(which: str, sizes: tuple, level) -> tuple:
+    """(exact c, normal c) of engine.rankintervals for a two-sided interval, found once per
+    design and level (the exact law is formed once, not once a block)."""
+    from ..engine import rankintervals as R
+
+    if which == "two-sample":
+        return (R.two_sample_critical(*sizes, level, "two-sided")[0],
+                R.two_sample_normal_critical(*sizes, level, "two-sided"))
+    if which == "signed-rank":
+        return (R.one_sample_critical(*sizes, level, "two-sided")[0],
+                R.one_sample_normal_critical(*sizes, level, "two-sided"))
+    return (R.sign_critical(*sizes, level, "two-sided"),
+            R.sign_normal_critical(*sizes, level, "two-sided"))
+
+
+def hodges_lehmann(pb, Y, level) -> tuple:
+    """The Hodges-Lehmann shift's exact (rank-sum law) and normal-theory interval widths."""
+    g1 = pb.codes == 0
+    n1, n2 = int(g1.sum()), int((~g1).sum())
+
+    def differences(Z):
+        return (Z[:, g1][:, :, None] - Z[:, ~g1][:, None, :]).reshape(Z.shape[0], -1)
+
+    return _by_order(differences, Y, _criticals("two-sample", (n1, n2), level))
+
+
+def pseudo_median(pb, Y, level) -> tuple:
+    """The Hodges-Lehmann pseudo-median's exact (signed-rank law) and normal-theory widths."""
+    n = Y.shape[1]
+    i, j = np.triu_indices(n)
+    return _by_order(lambda Z: (Z[:, i] + Z[:, j]) / 2, Y,
+                     _criticals("signed-rank", (n,), level))
+
+
+def sign_interval(pb, Y, level) -> tuple:
+    """The median's exact (binomial law) and normal-theory sign-interval widths."""
+    return _by_order(lambda Z: Z, Y, _criticals("sign", (Y.shape[1],), level))
+
+
 def ratios(pb, E, A, reference, level) -> list:
     """[sum of ratios, sum of squared ratios, data sets with both widths finite, data sets
     whose exact interval is unbounded] on these null data sets."""
-    ex = (pb.check.exact_width or exact)(pb, A, reference, level)
-    nt = pb.check.width(pb, E, level)
+    if pb.check.order_widths is not None:
+        ex, nt = pb.check.order_widths(pb, E, level)
+    else:
+        ex = (pb.check.exact_width or exact)(pb, A, reference, level)
+        nt = pb.check.width(pb, E, level)
     finite = np.isfinite(ex) & np.isfinite(nt) & (nt > 0)
     r = ex[finite] / nt[finite]
     return [float(r.sum()), float((r * r).sum()), int(finite.sum()),
@@ -106,14 +184,17 @@ def wanted(problem, done: int) -> bool:
 
 
 def applies(problem) -> bool:
-    """The family declares the normal-theory width, the exact width is its own or the generic
-    inversion fits (a statistic linear in the values), and the interval is two-sided (a
-    one-sided interval has no width)."""
+    """The family declares both widths at order statistics, or the normal-theory width with
+    an exact width of its own or one the generic inversion fits (a statistic linear in the
+    values); and the interval is two-sided (a one-sided interval has no width)."""
     from . import scoring
 
     check = problem.check
-    if getattr(check, "width", None) is None or problem.alternative != "two-sided" or \
-            problem.strata is not None:
+    if problem.alternative != "two-sided" or problem.strata is not None:
+        return False
+    if getattr(check, "order_widths", None) is not None:
+        return True
+    if getattr(check, "width", None) is None:
         return False
     return check.exact_width is not None or (check.scores is scoring.values
                                              and problem.form in ("linear", "signs"))
