@@ -102,8 +102,6 @@ def _control(opt, present, column) -> str:
 
 
 def _levels(opts, present, column, control) -> list:
-    from .common import chosen_levels
-
     if "levels" not in opts:
         return [control] + [v for v in present if v != control]
     chosen = [v for v in _chosen(opts["levels"], present, column) if v != control]

@@ -203,6 +203,19 @@ def _tail(cum, low, high, a0, a1, tot, t):
 
 
 @njit
+def _split(c, u, z, lf, base, r):
+    """The hypergeometric weight of the left half's column counts u and its score total U;
+    the right half's counts c - u go into r."""
+    lw = -base
+    U = 0
+    for j in range(c.shape[0]):
+        lw += _lchoose(lf, c[j], u[j])
+        U += u[j] * z[j]
+        r[j] = c[j] - u[j]
+    return np.exp(lw), U
+
+
+@njit
 def extreme_mass(c, z, left, aleft, right, aright, q, lf, ch):
     """P(Q >= q) over the tables with column margins c and the groups' sizes, where
     Q = sum_g a_g S_g^2. `left` holds one or two group sizes (a second size 0: one group),
@@ -227,13 +240,7 @@ def extreme_mass(c, z, left, aleft, right, aright, q, lf, ch):
     total = 0.0
     for m in range(us.shape[0]):
         u = us[m]
-        lw = -base
-        U = 0
-        for j in range(K):
-            lw += _lchoose(lf, c[j], u[j])
-            U += u[j] * z[j]
-            r[j] = c[j] - u[j]
-        wu = np.exp(lw)
+        wu, U = _split(c, u, z, lf, base, r)
         T = ztot - U
         # the range of each half's statistic, for settling u whole
         if left[1] == 0:
@@ -302,13 +309,7 @@ def law_entries(c, z, left, aleft, right, aright, lf, ch, cap):
     n = 0
     for m in range(us.shape[0]):
         u = us[m]
-        lw = -base
-        U = 0
-        for j in range(K):
-            lw += _lchoose(lf, c[j], u[j])
-            U += u[j] * z[j]
-            r[j] = c[j] - u[j]
-        wu = np.exp(lw)
+        wu, U = _split(c, u, z, lf, base, r)
         T = ztot - U
         if left[1] == 0:
             llo = lhi = U
