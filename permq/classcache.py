@@ -16,7 +16,6 @@ import dataclasses
 import marshal
 import os
 import sys
-import tempfile
 import threading
 from contextlib import contextmanager
 from pathlib import Path
@@ -42,6 +41,8 @@ def _read() -> dict:
 def _write(codes: dict, used: set) -> None:
     if len(codes) > MAX_ENTRIES:
         codes = {k: v for k, v in codes.items() if k in used}
+    import tempfile            # only when the file is written: not on every start
+
     target = cache_file()
     try:
         target.parent.mkdir(parents=True, exist_ok=True)

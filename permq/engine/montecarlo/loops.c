@@ -219,44 +219,80 @@ EXPORT int permq_subset_sums_pcg(const double *a, int64_t N, int64_t n1, uint64_
  * 64-bit sum carries both the score sum (its high bits) and the count u (its low bits). Exact
  * integer sums are the floating-point sums of permq_subset_sums, bit for bit, when the caller
  * has checked that every partial sum stays below 2^53 (and the packed ones below 2^62). */
+/* One integer subset draw (the n1 steps of rr on w), its packed sum; w is put back after. */
+static inline int64_t int_subset_draw(int64_t *w, const int64_t *v, int64_t N, int64_t n1,
+                                      const uint32_t *rr, int64_t *js, int copy) {
+    int64_t t = 0;
+    for (int64_t i = 0; i < n1; i++) {
+        int64_t j = pick(rr[i], i, N - i);
+        js[i] = j;
+        int64_t x = w[i]; w[i] = w[j]; w[j] = x;
+        t += w[i];
+    }
+    if (copy) {
+        memcpy(w, v, sizeof(int64_t) * (size_t)N);
+    } else {
+        for (int64_t i = n1 - 1; i >= 0; i--) {
+            int64_t j = js[i];
+            int64_t x = w[i]; w[i] = w[j]; w[j] = x;
+        }
+    }
+    return t;
+}
+
 EXPORT int permq_subset_sums_pcg_int(const int64_t *v, int64_t N, int64_t n1, int64_t shift,
                                      uint64_t *state, int64_t size, double *s_out,
                                      int64_t *u_out) {
     int64_t per_row = (n1 + 1) / 2;
-    int64_t *w = malloc(sizeof(int64_t) * (size_t)(N > 0 ? N : 1));
-    int64_t *js = malloc(sizeof(int64_t) * (size_t)(n1 > 0 ? n1 : 1));
+    size_t nb = sizeof(int64_t) * (size_t)(N > 0 ? N : 1), kb = sizeof(int64_t) * (size_t)(n1 > 0 ? n1 : 1);
+    int64_t *wa = malloc(nb), *wb = malloc(nb), *ja = malloc(kb), *jb = malloc(kb);
     uint64_t *raw = malloc(sizeof(uint64_t) * (size_t)(per_row > 0 ? per_row : 1) * PCG_ROWS);
-    if (!w || !js || !raw) { free(w); free(js); free(raw); return -1; }
-    memcpy(w, v, sizeof(int64_t) * (size_t)N);
+    if (!wa || !wb || !ja || !jb || !raw) {
+        free(wa); free(wb); free(ja); free(jb); free(raw);
+        return -1;
+    }
+    memcpy(wa, v, nb); memcpy(wb, v, nb);
     int copy = N <= 4 * n1;
     int64_t low = ((int64_t)1 << shift) - 1;
     u128 st = ((u128)state[0] << 64) | state[1], inc = ((u128)state[2] << 64) | state[3];
     for (int64_t done = 0; done < size; done += PCG_ROWS) {
         int64_t rows = size - done < PCG_ROWS ? size - done : PCG_ROWS;
         pcg64_fill(&st, inc, raw, rows * per_row);
-        for (int64_t row = 0; row < rows; row++) {
-            const uint32_t *rr = (const uint32_t *)raw + row * 2 * per_row;
-            int64_t t = 0;
+        const uint32_t *r32 = (const uint32_t *)raw;
+        int64_t row = 0;
+        /* two draws side by side (each on its own copy, the same numbers as one at a time):
+         * the processor overlaps their chains of swaps and additions */
+        for (; row + 1 < rows; row += 2) {
+            const uint32_t *ra = r32 + row * 2 * per_row, *rb = ra + 2 * per_row;
+            int64_t ta = 0, tb = 0;
             for (int64_t i = 0; i < n1; i++) {
-                int64_t j = pick(rr[i], i, N - i);
-                js[i] = j;
-                int64_t x = w[i]; w[i] = w[j]; w[j] = x;
-                t += w[i];
+                int64_t pa = pick(ra[i], i, N - i), pb = pick(rb[i], i, N - i);
+                ja[i] = pa; jb[i] = pb;
+                int64_t x = wa[i]; wa[i] = wa[pa]; wa[pa] = x;
+                int64_t y = wb[i]; wb[i] = wb[pb]; wb[pb] = y;
+                ta += wa[i];
+                tb += wb[i];
             }
-            s_out[done + row] = (double)(t >> shift);     /* floor: exact for negative sums */
-            if (u_out) u_out[done + row] = t & low;
             if (copy) {
-                memcpy(w, v, sizeof(int64_t) * (size_t)N);
+                memcpy(wa, v, nb); memcpy(wb, v, nb);
             } else {
                 for (int64_t i = n1 - 1; i >= 0; i--) {
-                    int64_t j = js[i];
-                    int64_t x = w[i]; w[i] = w[j]; w[j] = x;
+                    int64_t x = wa[i]; wa[i] = wa[ja[i]]; wa[ja[i]] = x;
+                    int64_t y = wb[i]; wb[i] = wb[jb[i]]; wb[jb[i]] = y;
                 }
             }
+            s_out[done + row] = (double)(ta >> shift);     /* floor: exact for negative sums */
+            s_out[done + row + 1] = (double)(tb >> shift);
+            if (u_out) { u_out[done + row] = ta & low; u_out[done + row + 1] = tb & low; }
+        }
+        for (; row < rows; row++) {
+            int64_t t = int_subset_draw(wa, v, N, n1, r32 + row * 2 * per_row, ja, copy);
+            s_out[done + row] = (double)(t >> shift);
+            if (u_out) u_out[done + row] = t & low;
         }
     }
     state[0] = (uint64_t)(st >> 64); state[1] = (uint64_t)st;
-    free(w); free(js); free(raw);
+    free(wa); free(wb); free(ja); free(jb); free(raw);
     return 0;
 }
 #endif

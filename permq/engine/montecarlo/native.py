@@ -13,11 +13,7 @@ from __future__ import annotations
 
 import ctypes
 import os
-import shutil
-import subprocess
 import sys
-import sysconfig
-import tempfile
 import threading
 import zlib
 from pathlib import Path
@@ -50,6 +46,9 @@ def source_crc(source: Path = SOURCE) -> int:
 
 def compiler() -> Optional[list]:
     """The C compiler command (CC, else the one Python was built with, else cc / gcc / clang)."""
+    import shutil
+    import sysconfig
+
     for cand in (os.environ.get("CC"), sysconfig.get_config_var("CC"), "cc", "gcc", "clang"):
         if not cand:
             continue
@@ -63,6 +62,9 @@ def build(target: Path, source: Path = SOURCE) -> bool:
     """Compile `source` into the shared library `target`; False (and nothing written) when
     there is no compiler or it fails. Writes a temporary file first, so that processes
     building at the same time never load a half-written library."""
+    import subprocess
+    import tempfile
+
     cc = compiler()
     if cc is None or sys.platform == "win32":
         return False
