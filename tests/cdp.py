@@ -20,7 +20,10 @@ def page_report(browser: str, flags: list, url: str, profile, websocket, checks:
         targets = json.loads(urllib.request.urlopen(f"http://127.0.0.1:{port}/json/list",
                                                     timeout=10).read())
         target = next(t for t in targets if t["type"] == "page")
-        ws = websocket.create_connection(target["webSocketDebuggerUrl"], timeout=timeout)
+        # no Origin header: newer Chromium refuses a debugging socket from an origin it was
+        # not told to allow, and a local client has none to give
+        ws = websocket.create_connection(target["webSocketDebuggerUrl"], timeout=timeout,
+                                         suppress_origin=True)
         try:
             return _visit(ws, url, checks, timeout)
         finally:

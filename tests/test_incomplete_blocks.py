@@ -127,7 +127,10 @@ def test_skillings_mack_with_ties_matches_brute_force_covariance():
     t = 4
     every = _every_sum(_sm_weighted(v, b), g, b, t)
     sigma = every.T @ every / len(every)
-    inv = np.linalg.pinv(sigma)
+    # the sums add to a constant, so sigma is singular: its null eigenvalue is rounding (about
+    # 1e-15 of the largest), kept or dropped by numpy's fixed default cutoff as the order of the
+    # sums falls; a cutoff far above rounding drops it on every machine
+    inv = np.linalg.pinv(sigma, rcond=1e-10)
     stat = np.einsum("nj,jl,nl->n", every, inv, every)
     a_obs = _sm_scores(v, g, b, t)
     obs = float(a_obs @ inv @ a_obs)
@@ -153,7 +156,7 @@ def test_skillings_mack_untied_uses_the_papers_covariance():
             lam[j, l] += 1
     sigma = np.diag(lam.sum(axis=1)) - lam
     a = _sm_scores(v, g, b, t)
-    expected = float(a @ np.linalg.pinv(sigma) @ a)
+    expected = float(a @ np.linalg.pinv(sigma, rcond=1e-10) @ a)
     out = incomplete.run("skillings-mack", v, g, b, "dp-split", n_groups=t)
     assert out.statistic == pytest.approx(expected, rel=1e-10)
 

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..engine.core.inverse import generalized_inverse
 from ..result import NormalTheory
 from .events import NAMES
 
@@ -46,9 +47,10 @@ def chi_square(kind, time, event, groups, k: int) -> NormalTheory:
     name = NAMES[kind] + f", {k} groups"
     _, u, cov = observed_expected(kind, time, event, groups, k)
     sub, us = cov[:k - 1, :k - 1], u[:k - 1]
-    rank = int(np.linalg.matrix_rank(sub))
+    inv, rank = generalized_inverse(sub)
+    rank = int(rank)
     if rank == 0:
         return undefined(name, "no event time where two groups are at risk")
-    chi2 = float(us @ np.linalg.pinv(sub) @ us)
+    chi2 = float(us @ inv @ us)
     return NormalTheory(name, chi2, float(rank), float(stats.chi2.sf(chi2, rank)),
                         None, "")

@@ -40,6 +40,7 @@ import numpy as np
 
 from ...errors import BindError, DataError
 from ..core.grid import MAX_DECIMALS
+from ..core.inverse import generalized_inverse
 
 TESTS = ("within-block-f", "skillings-mack", "durbin")
 STATISTIC_NAMES = {
@@ -128,10 +129,8 @@ def information(t: int, rows_list, g, weights=None) -> np.ndarray:
 
 
 def _pinv(C: np.ndarray) -> tuple[np.ndarray, int]:
-    w, V = np.linalg.eigh((C + C.T) / 2)
-    keep = w > 1e-9 * max(float(w.max(initial=0.0)), 1e-300)
-    inv = (V[:, keep] / w[keep]) @ V[:, keep].T
-    return inv, int(keep.sum())
+    inv, rank = generalized_inverse(C)
+    return inv, int(rank)
 
 
 def _decimal_ints(v):

@@ -25,6 +25,7 @@ import numpy as np
 
 from ...plan.cost import Candidate
 from ...result import EngineOutcome
+from ..core.inverse import generalized_inverse
 from ..core.progress import NO_PROGRESS, Progress
 from ..core.pvalues import RTOL, clip, monte_carlo_p
 from ..montecarlo.sampling import iter_blocks
@@ -70,10 +71,10 @@ def stuart_maxwell(table) -> tuple[float, int]:
     """(W, its degrees of freedom: the rank of V)."""
     v = null_covariance(table)
     d = margin_differences(table)
-    rank = int(np.linalg.matrix_rank(v)) if v.any() else 0
-    if rank == 0:
+    inv, rank = generalized_inverse(v)
+    if not v.any() or rank == 0:
         return 0.0, 0
-    return float(d @ np.linalg.pinv(v) @ d), rank
+    return float(d @ inv @ d), int(rank)
 
 
 def statistic(name: str, table) -> float:
@@ -172,7 +173,7 @@ def _margin_law(table, progress: Progress):
 
 
 def _w_of(d: np.ndarray, table) -> np.ndarray:
-    vp = np.linalg.pinv(null_covariance(table))
+    vp, _ = generalized_inverse(null_covariance(table))
     return np.einsum("ni,ij,nj->n", d, vp, d)
 
 

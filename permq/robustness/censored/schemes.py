@@ -21,6 +21,8 @@ from typing import Callable, Optional
 
 import numpy as np
 
+from ...engine.core.inverse import generalized_inverse
+
 CALIBRATION = 4000          # baseline times drawn once to set a scheme's censoring bound
 NOT_EXCHANGEABLE = ("the censoring depends on the group (heavier in the first), so under "
                     "the null the labels are not exchangeable given the times and censoring")
@@ -208,7 +210,7 @@ def normal_p(rs: RiskSets, a: np.ndarray, codes: np.ndarray, alternative: str) -
     cov = (np.einsum("dj,djg->dg", c, p)[:, :, None] * np.eye(k)
            - np.einsum("dj,djg,djh->dgh", c, p, p))
     sub, us = cov[:, :k - 1, :k - 1], u[:, :k - 1]
-    rank = np.linalg.matrix_rank(sub)
-    chi2 = np.einsum("dg,dgh,dh->d", us, np.linalg.pinv(sub), us)
+    inv, rank = generalized_inverse(sub)
+    chi2 = np.einsum("dg,dgh,dh->d", us, inv, us)
     out = stats.chi2.sf(chi2, np.maximum(rank, 1))
     return np.where(rank > 0, out, 1.0)
