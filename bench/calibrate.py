@@ -8,12 +8,13 @@
 Fit: every design of `calibration_designs.fitting` runs through the pipeline as a user's
 statement does (bind, plan, the test, estimate, normal theory, diagnostics); its measured
 wall time T (best of two runs after an untimed one, and planned after it) is modelled as
-base + sum_j f_j e_j, where e_j are the plan's uncalibrated estimates of the chosen algorithm
-("engine/algorithm") and of each other part of the statement ("statement/part"). The factors f_j and the base come from one non-negative
-least-squares fit of the relative errors (every design counts alike), refitted once without
-the designs more than 3x off. Memory: the peak bytes traced while the statement runs
-(tracemalloc: every numpy and Python allocation), over the base of a tiny statement, divided
-by the chosen algorithm's estimate; the median per algorithm is its memory factor.
+base_engine + sum_j f_j e_j, where e_j are the plan's uncalibrated estimates of the chosen
+algorithm ("engine/algorithm") and of each other part of the statement ("statement/part").
+The factors f_j and one fixed cost per engine come from one non-negative least-squares fit of
+the relative errors (every design counts alike), refitted once without the designs more than
+3x off. Memory: the peak bytes traced while the statement runs (tracemalloc: every numpy and
+Python allocation), over the median peak of that engine's tiny statements (its base bytes),
+divided by the chosen algorithm's estimate; the median per algorithm is its memory factor.
 
 Check: designs drawn at random (another seed, wider ranges: `random_design`), kept when the
 plan predicts under MAX_PREDICTED seconds (so the check ends), none of them in the fitting
@@ -112,27 +113,32 @@ class Design:
 
 # ---------------------------------------------------------------- fitting
 
-def fit(rows: list) -> tuple[dict, float]:
-    """Non-negative least squares on relative errors: T = base + sum_j f_j e_j."""
+def fit(rows: list) -> tuple[dict, dict]:
+    """Non-negative least squares on relative errors: T = base_engine + sum_j f_j e_j, one
+    fixed cost per engine (its binding, setup and result differ) and one factor per part."""
     from scipy.optimize import nnls
 
-    keys = sorted({k for comps, _ in rows for k in comps})
-    A = np.array([[1.0] + [comps.get(k, 0.0) for k in keys] for comps, _ in rows])
-    T = np.array([took for _, took in rows])
+    engines = sorted({engine for engine, _, _ in rows})
+    keys = sorted({k for _, comps, _ in rows for k in comps})
+    A = np.array([[float(engine == e) for e in engines] + [comps.get(k, 0.0) for k in keys]
+                  for engine, comps, _ in rows])
+    T = np.array([took for *_, took in rows])
     use = np.ones(len(rows), dtype=bool)
     for _ in range(2):
         coef, _ = nnls(A[use] / T[use, None], np.ones(int(use.sum())))
         ratio = (A @ coef) / T
         keep = (ratio >= 1 / 3) & (ratio <= 3)
-        if keep.sum() > len(keys):
+        if keep.sum() > len(keys) + len(engines):
             use = keep
-    factors = {k: float(f) for k, f in zip(keys, coef[1:]) if f > 0}
-    return factors, float(coef[0])
+    factors = {k: float(f) for k, f in zip(keys, coef[len(engines):]) if f > 0}
+    bases = {e: max(float(b), 1e-4) for e, b in zip(engines, coef[:len(engines)])}
+    return factors, bases
 
 
-def memory_fit(rows: list, base: float) -> dict:
+def memory_fit(rows: list, bases: dict, common: float) -> dict:
     per: dict = {}
-    for key, est, peak in rows:
+    for engine, key, est, peak in rows:
+        base = bases.get(engine, common)
         if est >= 1e6 and peak > base:
             per.setdefault(key, []).append((peak - base) / est)
     return {k: float(statistics.median(v)) for k, v in per.items()}
@@ -140,7 +146,7 @@ def memory_fit(rows: list, base: float) -> dict:
 
 def calibrate(seed: int) -> None:
     rng = np.random.default_rng(seed)
-    rows, memory_rows, tiny = [], [], []
+    rows, memory_rows, tiny = [], [], {}
     items = fitting(rng)
     for i, (text, tables) in enumerate(items):
         try:
@@ -149,20 +155,25 @@ def calibrate(seed: int) -> None:
             print(f"skipped (fit): {text[:60]} ... {exc.message}")
             continue
         took = d.seconds()
-        rows.append((d.components(), took))
+        rows.append((d.plan.engine, d.components(), took))
         peak = d.peak_bytes()
-        memory_rows.append((d.key, d.algorithm_bytes(), peak))
+        memory_rows.append((d.plan.engine, d.key, d.algorithm_bytes(), peak))
         if took < TINY:
-            tiny.append(peak)
+            tiny.setdefault(d.plan.engine, []).append(peak)
         print(f"fit {i + 1:3d}/{len(items)} {d.key:<34} {took:8.3f} s {peak / 1e6:9.2f} MB",
               flush=True)
-    factors, base = fit(rows)
-    base_bytes = float(statistics.median(tiny)) if tiny else cost.BASE_BYTES
+    factors, bases = fit(rows)
+    every_tiny = [p for peaks in tiny.values() for p in peaks]
+    common_bytes = float(statistics.median(every_tiny)) if every_tiny else cost.BASE_BYTES
+    bytes_by_engine = {e: float(statistics.median(p)) for e, p in sorted(tiny.items())}
     data = {"machine": "2-core CPU (calibrated by bench/calibrate.py)",
             "factors": dict(sorted(factors.items())),
-            "base_seconds": max(base, 1e-3),
-            "memory_factors": dict(sorted(memory_fit(memory_rows, base_bytes).items())),
-            "base_bytes": base_bytes,
+            "base_seconds": float(statistics.median(bases.values())),
+            "base_seconds_by_engine": bases,
+            "memory_factors": dict(sorted(memory_fit(memory_rows, bytes_by_engine,
+                                                     common_bytes).items())),
+            "base_bytes": common_bytes,
+            "base_bytes_by_engine": bytes_by_engine,
             "fitted_on": len(rows)}
     cost.CALIBRATION_FILE.write_text(json.dumps(data, indent=2) + "\n")
     cost.reload()

@@ -63,12 +63,19 @@ def memory_calibration() -> dict:
             for k, v in _calibration_file().get("memory_factors", {}).items()}
 
 
-def base_seconds() -> float:
-    return float(_calibration_file().get("base_seconds", BASE_SECONDS))
+def base_seconds(engine: str = "") -> float:
+    """The fixed cost of a statement, in seconds: the engine's own when calibrated (a
+    statement of one engine carries more setup than another's), else the common one."""
+    data = _calibration_file()
+    common = float(data.get("base_seconds", BASE_SECONDS))
+    return float(data.get("base_seconds_by_engine", {}).get(engine, common))
 
 
-def base_bytes() -> float:
-    return float(_calibration_file().get("base_bytes", BASE_BYTES))
+def base_bytes(engine: str = "") -> float:
+    """The bytes any statement of that engine holds besides its algorithm and parts."""
+    data = _calibration_file()
+    common = float(data.get("base_bytes", BASE_BYTES))
+    return float(data.get("base_bytes_by_engine", {}).get(engine, common))
 
 
 def calibrated(engine: str, c: Candidate) -> Candidate:

@@ -17,7 +17,7 @@ from typing import Callable, Optional
 
 from ..errors import PlanError
 from ..engine.core.limits import DEFAULT_DRAWS, EXACT_CEILING_SECONDS, Limits, limits_for
-from .cost import Candidate, base_bytes, calibrated
+from .cost import OPS_PER_SECOND, Candidate, base_bytes, base_seconds, calibrated
 from .sizes import words
 
 
@@ -40,13 +40,15 @@ class Plan:
 
     @property
     def seconds(self) -> float:
-        """The whole statement: the chosen algorithm (with the fixed cost) and every part."""
-        return self.chosen.seconds + sum(p.seconds for p in self.parts)
+        """The whole statement: the engine's fixed cost, the chosen algorithm, every part."""
+        return (base_seconds(self.engine) + self.chosen.ops / OPS_PER_SECOND
+                + sum(p.seconds for p in self.parts))
 
     @property
     def memory(self) -> float:
         """Peak bytes: the largest of the algorithm and the other parts, over the base."""
-        return base_bytes() + max([self.chosen.memory] + [p.memory for p in self.parts])
+        return base_bytes(self.engine) + max([self.chosen.memory]
+                                             + [p.memory for p in self.parts])
 
     def with_parts(self, parts) -> "Plan":
         return replace(self, parts=tuple(parts))
