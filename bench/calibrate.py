@@ -8,13 +8,14 @@
 Fit: every design of `calibration_designs.fitting` runs through the pipeline as a user's
 statement does (bind, plan, the test, estimate, normal theory, diagnostics); its measured
 wall time T (best of two runs after an untimed one, and planned after it) is modelled as
-base_engine + sum_j f_j e_j, where e_j are the plan's uncalibrated estimates of the chosen
+base + sum_j f_j e_j, where e_j are the plan's uncalibrated estimates of the chosen
 algorithm ("engine/algorithm") and of each other part of the statement ("statement/part").
-The factors f_j and one fixed cost per engine come from one non-negative least-squares fit of
-the relative errors (every design counts alike), refitted once without the designs more than
-3x off. Memory: the peak bytes traced while the statement runs (tracemalloc: every numpy and
-Python allocation), over the median peak of that engine's tiny statements (its base bytes),
-divided by the chosen algorithm's estimate; the median per algorithm is its memory factor.
+The factors f_j and one fixed cost per engine and family come from one non-negative
+least-squares fit of the relative errors (every design counts alike), refitted once without
+the designs more than 3x off; a family the set lacks takes its engine's median. Memory: the
+peak bytes traced while the statement runs (tracemalloc: every numpy and Python allocation),
+over the least peak of that engine and family's tiny statements (its base bytes), divided by
+the chosen algorithm's estimate; the median per algorithm is its memory factor.
 
 Check: designs drawn at random (another seed, wider ranges: `random_design`), kept when the
 plan predicts under MAX_PREDICTED seconds (so the check ends), none of them in the fitting
@@ -68,6 +69,11 @@ class Design:
     def key(self) -> str:
         return f"{self.plan.engine}/{self.plan.chosen.algorithm}"
 
+    @property
+    def fixed_key(self) -> str:
+        """Whose fixed cost the statement carries: its engine and family."""
+        return f"{self.plan.engine}/{self.plan.family}"
+
     def components(self) -> dict:
         """Uncalibrated estimated seconds of the chosen algorithm and of each other part."""
         c = self.plan.chosen
@@ -114,8 +120,9 @@ class Design:
 # ---------------------------------------------------------------- fitting
 
 def fit(rows: list) -> tuple[dict, dict]:
-    """Non-negative least squares on relative errors: T = base_engine + sum_j f_j e_j, one
-    fixed cost per engine (its binding, setup and result differ) and one factor per part."""
+    """Non-negative least squares on relative errors: T = base + sum_j f_j e_j, one fixed cost
+    per engine and family (its binding, setup, estimate and result differ) and one factor per
+    part."""
     from scipy.optimize import nnls
 
     engines = sorted({engine for engine, _, _ in rows})
@@ -130,15 +137,27 @@ def fit(rows: list) -> tuple[dict, dict]:
         keep = (ratio >= 1 / 3) & (ratio <= 3)
         if keep.sum() > len(keys) + len(engines):
             use = keep
-    factors = {k: float(f) for k, f in zip(keys, coef[len(engines):]) if f > 0}
-    bases = {e: max(float(b), 1e-4) for e, b in zip(engines, coef[:len(engines)])}
-    return factors, bases
+    # an engine's fixed cost is what its tiny statements take beyond their parts (the joint fit
+    # trades it against the parts that grow slowest); the parts are then fitted again on it
+    E, P = A[:, :len(engines)], A[:, len(engines):]
+    bases = coef[:len(engines)].copy()
+    resid = T - P @ coef[len(engines):]
+    for j in range(len(engines)):
+        tiny = (E[:, j] > 0) & (T < TINY)
+        if tiny.any():
+            bases[j] = max(float(np.median(resid[tiny])), 0.5 * float(T[tiny].min()))
+    rest = T - E @ bases
+    part, _ = nnls(P[use] / T[use, None], rest[use] / T[use])
+    # a part the fit finds negligible keeps a fiftieth of its count (left out, it would fall
+    # back to the uncalibrated factor of 1)
+    factors = {k: max(float(f), 0.02) for k, f in zip(keys, part)}
+    return factors, {e: max(float(b), 1e-4) for e, b in zip(engines, bases)}
 
 
 def memory_fit(rows: list, bases: dict, common: float) -> dict:
     per: dict = {}
-    for engine, key, est, peak in rows:
-        base = bases.get(engine, common)
+    for fixed, key, est, peak in rows:
+        base = bases.get(fixed, bases.get(fixed.split("/")[0], common))
         if est >= 1e6 and peak > base:
             per.setdefault(key, []).append((peak - base) / est)
     return {k: float(statistics.median(v)) for k, v in per.items()}
@@ -155,25 +174,33 @@ def calibrate(seed: int) -> None:
             print(f"skipped (fit): {text[:60]} ... {exc.message}")
             continue
         took = d.seconds()
-        rows.append((d.plan.engine, d.components(), took))
+        rows.append((d.fixed_key, d.components(), took))
         peak = d.peak_bytes()
-        memory_rows.append((d.plan.engine, d.key, d.algorithm_bytes(), peak))
+        memory_rows.append((d.fixed_key, d.key, d.algorithm_bytes(), peak))
         if took < TINY:
-            tiny.setdefault(d.plan.engine, []).append(peak)
+            tiny.setdefault(d.fixed_key, []).append(peak)
         print(f"fit {i + 1:3d}/{len(items)} {d.key:<34} {took:8.3f} s {peak / 1e6:9.2f} MB",
               flush=True)
     factors, bases = fit(rows)
+    for engine in {k.split("/")[0] for k in bases}:
+        bases[engine] = float(statistics.median(
+            [b for k, b in bases.items() if k.startswith(engine + "/")]))
+    # what every statement of an engine holds: the least a tiny one of it peaks at (the
+    # others' parts are in their estimates)
     every_tiny = [p for peaks in tiny.values() for p in peaks]
     common_bytes = float(statistics.median(every_tiny)) if every_tiny else cost.BASE_BYTES
-    bytes_by_engine = {e: float(statistics.median(p)) for e, p in sorted(tiny.items())}
+    bytes_by_engine = {e: float(min(p)) for e, p in sorted(tiny.items())}
+    for engine in {k.split("/")[0] for k in tiny}:
+        bytes_by_engine[engine] = float(min(p for k, peaks in tiny.items()
+                                            if k.startswith(engine + "/") for p in peaks))
     data = {"machine": "2-core CPU (calibrated by bench/calibrate.py)",
             "factors": dict(sorted(factors.items())),
             "base_seconds": float(statistics.median(bases.values())),
-            "base_seconds_by_engine": bases,
+            "base_seconds_by_engine": dict(sorted(bases.items())),
             "memory_factors": dict(sorted(memory_fit(memory_rows, bytes_by_engine,
                                                      common_bytes).items())),
             "base_bytes": common_bytes,
-            "base_bytes_by_engine": bytes_by_engine,
+            "base_bytes_by_engine": dict(sorted(bytes_by_engine.items())),
             "fitted_on": len(rows)}
     cost.CALIBRATION_FILE.write_text(json.dumps(data, indent=2) + "\n")
     cost.reload()

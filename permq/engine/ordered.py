@@ -153,7 +153,9 @@ class JonckheereTerpstra:
         if ranked.offered(x):
             out.append(ranked.candidate(ranked.ordered_table(x, groups), "concordance",
                                         "groups x categories", arr))
-        return out + [monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes))]
+        # a block's one-hot labels and their running counts: about 36 bytes a group an item
+        return out + [monte_carlo_candidate(len(x), arr, draws, per_item=4.0 * len(sizes),
+                                            item_bytes=36.0 * len(sizes))]
 
     def run(self, values, groups, alternative: str, algorithm: str, draws: Optional[int] = None,
             seed: Optional[int] = None, progress: Progress = NO_PROGRESS) -> EngineOutcome:

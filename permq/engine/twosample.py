@@ -26,7 +26,7 @@ from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
 from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
 from .montecarlo.draws import subset_sums_drawn
 from .core.progress import NO_PROGRESS, Progress
-from .montecarlo.sampling import iter_blocks
+from .montecarlo.sampling import c_loops_present, iter_blocks, sampled_bytes
 from .core.scores import median_scores, midranks, normal_scores
 
 
@@ -91,8 +91,13 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
     out.append(Candidate("enumeration", "complete enumeration", True, total * (m * 8 + 600),
                          _enumeration_bytes(rule.mean_difference, m, total), arrangements=count,
                          note=f"{words(count)} arrangements"))
+    # the C loops hold no random integers; the other paths a block of them for the first group
+    # (4 bytes an item a draw); for means every draw's jump is kept for the interval
+    held = 0.0 if c_loops_present() else 4.0
+    memory = sampled_bytes(draws, n1, held, 24.0 if rule.mean_difference else 0.0)
+    # a draw takes n1 steps of a partial shuffle (the first group, as named), then its tail test
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
-                         draws * N * 12.0, min(draws, 8192) * N * 8 * 4, arrangements=count,
+                         draws * (n1 * 12.0 + 250.0), memory, arrangements=count,
                          note=f"{draws:,} draws"))
     return out
 

@@ -63,19 +63,24 @@ def memory_calibration() -> dict:
             for k, v in _calibration_file().get("memory_factors", {}).items()}
 
 
-def base_seconds(engine: str = "") -> float:
-    """The fixed cost of a statement, in seconds: the engine's own when calibrated (a
-    statement of one engine carries more setup than another's), else the common one."""
+def _fixed(table: str, common_key: str, default: float, engine: str, family: str) -> float:
     data = _calibration_file()
-    common = float(data.get("base_seconds", BASE_SECONDS))
-    return float(data.get("base_seconds_by_engine", {}).get(engine, common))
+    by = data.get(table, {})
+    common = float(data.get(common_key, default))
+    return float(by.get(f"{engine}/{family}", by.get(engine, common)))
 
 
-def base_bytes(engine: str = "") -> float:
-    """The bytes any statement of that engine holds besides its algorithm and parts."""
-    data = _calibration_file()
-    common = float(data.get("base_bytes", BASE_BYTES))
-    return float(data.get("base_bytes_by_engine", {}).get(engine, common))
+def base_seconds(engine: str = "", family: str = "") -> float:
+    """The fixed cost of a statement, in seconds: its engine and family's own when calibrated
+    (a rank statement's estimate and interval cost more than a median's), else the engine's,
+    else the common one."""
+    return _fixed("base_seconds_by_engine", "base_seconds", BASE_SECONDS, engine, family)
+
+
+def base_bytes(engine: str = "", family: str = "") -> float:
+    """The bytes any statement of that engine and family holds besides its algorithm and
+    parts (looked up as base_seconds is)."""
+    return _fixed("base_bytes_by_engine", "base_bytes", BASE_BYTES, engine, family)
 
 
 def calibrated(engine: str, c: Candidate) -> Candidate:

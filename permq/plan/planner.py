@@ -41,13 +41,13 @@ class Plan:
     @property
     def seconds(self) -> float:
         """The whole statement: the engine's fixed cost, the chosen algorithm, every part."""
-        return (base_seconds(self.engine) + self.chosen.ops / OPS_PER_SECOND
+        return (base_seconds(self.engine, self.family) + self.chosen.ops / OPS_PER_SECOND
                 + sum(p.seconds for p in self.parts))
 
     @property
     def memory(self) -> float:
         """Peak bytes: the largest of the algorithm and the other parts, over the base."""
-        return base_bytes(self.engine) + max([self.chosen.memory]
+        return base_bytes(self.engine, self.family) + max([self.chosen.memory]
                                              + [p.memory for p in self.parts])
 
     def with_parts(self, parts) -> "Plan":

@@ -283,9 +283,12 @@ def enumeration_candidate(arr: int, N: int, k: int) -> Candidate:
 
 
 def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item: float = 6.0,
-                          description: str = "Monte Carlo: random assignments to groups") -> Candidate:
+                          description: str = "Monte Carlo: random assignments to groups",
+                          item_bytes: float = 6.0) -> Candidate:
+    # a block of assignments and its group sums; every draw's statistic is kept
     return Candidate("monte-carlo", description, False, float(draws) * N * per_item,
-                     float(sampling.BLOCK) * N * 8 * 3, note=f"cost for {draws:,} draws",
+                     sampling.sampled_bytes(draws, N, item_bytes, 40.0),
+                     note=f"cost for {draws:,} draws",
                      arrangements=arr)
 
 

@@ -13,10 +13,31 @@ from typing import Callable, Iterator, Optional
 
 import numpy as np
 
+from ..core.limits import INTERVAL_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 
 STREAM_UNIT = 8192   # draws per random stream: part of what a seed means; never changes
 BLOCK = STREAM_UNIT  # default batch size (how many draws are handled at once)
+
+
+def c_loops_present() -> bool:
+    """Whether the C loops will run (their library is there; checked without loading it).
+    They step the generator themselves, so no block of random integers is held."""
+    import os
+
+    from .native import LIBRARY
+
+    return LIBRARY.exists() and not os.environ.get("PERMQ_NO_C_LOOPS")
+
+
+def sampled_bytes(draws: int, items: float, item_bytes: float, draw_bytes: float = 0.0,
+                  kept: int = INTERVAL_DRAWS) -> float:
+    """Peak bytes of a Monte Carlo run, for the planner: one block of draws over `items` (its
+    random integers or shuffled copies, `item_bytes` an item a draw), the block's statistics
+    (16 bytes a draw) and what is kept for each of the first `kept` draws (an interval's
+    jumps, `draw_bytes` each)."""
+    block = min(draws, BLOCK)
+    return block * (items * item_bytes + 16.0) + min(draws, kept) * draw_bytes
 
 
 def fresh_seed() -> int:

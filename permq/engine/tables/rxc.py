@@ -135,7 +135,7 @@ def network_candidate(t, counts, statistic, words: str = NETWORK_WORDS,
     compiled = compiled_route(integer)
     ops = network_ops(moves, arrangements or states ** 1.5, statistic, compiled)
     memory = (moves * 16.0 + states * 48.0 if compiled else states * 64.0)
-    memory += min(ops * 0.2, 4.0 * MAX_ENTRIES * 24.0) + 2e6
+    memory += min(ops * 0.2, 4.0 * MAX_ENTRIES * 24.0) + 2e4
     note = f"{_count_words(states)} states"
     return Candidate(algorithm, words, True, ops, memory, note=note, arrangements=arrangements)
 
