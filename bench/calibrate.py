@@ -3,7 +3,8 @@
     python bench/calibrate.py                 # fit, write permq/plan/calibration.json, check
     python bench/calibrate.py --check         # check the current calibration only
     python bench/calibrate.py --readme        # ... and write the check's figures into README.md
-    options: --designs N (held-out designs, default 80), --seed S (of the held-out draw)
+    options: --designs N (held-out designs, default 80), --seed S (of the held-out draw),
+             --rows FILE (keep the fitting set's measurements there, or refit on them)
 
 Fit: every design of `calibration_designs.fitting` runs through the pipeline as a user's
 statement does (bind, plan, the test, estimate, normal theory, diagnostics); its measured
@@ -163,7 +164,18 @@ def memory_fit(rows: list, bases: dict, common: float) -> dict:
     return {k: float(statistics.median(v)) for k, v in per.items()}
 
 
-def calibrate(seed: int) -> None:
+def calibrate(seed: int, rows_file: str = "") -> None:
+    """Measure the fitting set (or read what an earlier run measured, `--rows`), fit, write."""
+    if rows_file and Path(rows_file).exists():
+        measured = json.loads(Path(rows_file).read_text())
+    else:
+        measured = measure(seed)
+        if rows_file:
+            Path(rows_file).write_text(json.dumps(measured))
+    write_calibration(*measured)
+
+
+def measure(seed: int) -> tuple:
     rng = np.random.default_rng(seed)
     rows, memory_rows, tiny = [], [], {}
     items = fitting(rng)
@@ -181,6 +193,10 @@ def calibrate(seed: int) -> None:
             tiny.setdefault(d.fixed_key, []).append(peak)
         print(f"fit {i + 1:3d}/{len(items)} {d.key:<34} {took:8.3f} s {peak / 1e6:9.2f} MB",
               flush=True)
+    return rows, memory_rows, tiny
+
+
+def write_calibration(rows: list, memory_rows: list, tiny: dict) -> None:
     factors, bases = fit(rows)
     for engine in {k.split("/")[0] for k in bases}:
         bases[engine] = float(statistics.median(
@@ -280,9 +296,11 @@ def main():
     ap.add_argument("--readme", action="store_true", help="write the figures into README.md")
     ap.add_argument("--designs", type=int, default=80)
     ap.add_argument("--seed", type=int, default=20261203)
+    ap.add_argument("--rows", default="", help="keep the fitting set's measurements in this "
+                    "file, or fit on the ones it holds (to try a change of the fit alone)")
     args = ap.parse_args()
     if not args.check:
-        calibrate(7)
+        calibrate(7, args.rows)
     summary = check(args.designs, args.seed)
     if args.readme:
         readme(summary)

@@ -95,9 +95,22 @@ def fitting(rng) -> list:
     for n in (7, 8, 9):
         out.append(("relate y to x", _pairs_table(rng, n, None)))
         out.append(("relate y to x using slope", _pairs_table(rng, n, None)))
+    for sizes, ties in (((10, 12, 9), None), ((40, 40, 40), None), ((25, 25, 25, 25), None),
+                        ((6, 20, 30, 12, 9), 7), ((60, 70, 80), 5)):  # Monte Carlo of the trend
+        tables = _groups_table(rng, sizes, 1, ties)
+        k = len(sizes)
+        out.append((f"compare y by g ordered {_levels(k)} using ranks sampled 20000 seed 1",
+                    tables))
+        out.append((f"compare y by g ordered {_levels(k)} sampled 20000 seed 1", tables))
     for shape, n in (((3, 4), 60), ((2, 6), 120), ((4, 4), 50), ((3, 3), 40), ((2, 2), 300)):
         t = rng.multinomial(n, np.full(shape[0] * shape[1], 1 / (shape[0] * shape[1])))
         out.append((_table_text(t.reshape(shape)), None))
+    for shape in ((2, 3), (2, 5), (3, 3), (3, 5), (4, 3), (4, 5)):   # the network's range
+        cells = shape[0] * shape[1]
+        for per_cell in (3, 8):
+            t = rng.multinomial(per_cell * cells, np.full(cells, 1 / cells)).reshape(shape)
+            out.append((_table_text(t), None))
+            out.append((_table_text(t) + " using chi-square", None))
     return out
 
 

@@ -162,8 +162,8 @@ class Session:
         except KeyboardInterrupt:
             return failure(st, Cancelled("cancelled; no result kept for this statement"))
         except (MemoryError, RecursionError) as exc:
-            return failure(st, PermqError(f"ran out of {type(exc).__name__[:-5].lower()}; "
-                                          "try 'sampled N' for Monte Carlo"))
+            what = "memory" if isinstance(exc, MemoryError) else "recursion depth"
+            return failure(st, PermqError(f"ran out of {what}; try 'sampled N' for Monte Carlo"))
         except Exception as exc:  # noqa: BLE001 - a bug must still not end the session
             return failure(st, PermqError(f"internal error ({type(exc).__name__}: {exc}); "
                                           "please report this statement"))

@@ -476,3 +476,21 @@ def test_binomial_blocks_speak_of_outcomes():
         else:
             assert "permutation (exact)" in block and "arrangements" in block
     assert "reference set: 21 outcomes" in permq.run("explain count 7 of 20")[0].text
+
+
+def test_network_past_its_limits_answers_by_monte_carlo(monkeypatch):
+    """A planned exact network that outgrows its limits mid-pass (the plan cannot count the
+    pairs it will carry) still answers: by Monte Carlo, labelled so, with the reason."""
+    from permq.engine.tables import network, rxc
+    from permq.errors import PlanError
+
+    t = [[3, 5, 2], [4, 1, 6], [2, 6, 3]]
+    exact = rxc.run(t, "fisher", seed=5)
+    monkeypatch.setattr(network, "MAX_ENTRIES", 5)
+    out = rxc.run(t, "fisher", seed=5, draws=20000)
+    assert out.method == "monte-carlo" and out.draws == 20000
+    assert any("outgrew its limits" in w for w in out.warnings)
+    lo, hi = out.p_interval
+    assert lo <= exact.p_value <= hi
+    with pytest.raises(PlanError, match="no exact p-value"):
+        rxc.run(t, "fisher")                      # no seed: a clear refusal, not a crash

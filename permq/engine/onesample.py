@@ -27,7 +27,7 @@ from .core.jumps import JumpStream, collect_sampled, interval_from_jumps
 from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
 from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
 from .montecarlo.draws import flip_sums, random_bits
-from .montecarlo.sampling import c_loops_present, iter_blocks, sampled_bytes
+from .montecarlo.sampling import c_loops_present, iter_blocks, parallel_ops, sampled_bytes
 from .core.progress import NO_PROGRESS, Progress
 from .core.scores import midranks
 
@@ -116,7 +116,7 @@ def candidates(rule, d, draws: int) -> list[Candidate]:
     held = 0.0 if c_loops_present() else 8.0
     memory = sampled_bytes(draws, n, held, 24.0 if rule.mean else 0.0)
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of sign patterns", False,
-                         draws * n * 6.0, memory, arrangements=count,
+                         parallel_ops(draws * n * 6.0, draws), memory, arrangements=count,
                          note=f"{draws:,} draws"))
     return out
 

@@ -26,7 +26,7 @@ from .core.limits import EXACT_COUNT_LIMIT, INTERVAL_DRAWS
 from .core.tally import BYTES_PER_VALUE as TALLY_BYTES, DEFAULT_LIMIT as TALLY_LIMIT, Tally
 from .montecarlo.draws import subset_sums_drawn
 from .core.progress import NO_PROGRESS, Progress
-from .montecarlo.sampling import c_loops_present, iter_blocks, sampled_bytes
+from .montecarlo.sampling import c_loops_present, iter_blocks, parallel_ops, sampled_bytes
 from .core.scores import median_scores, midranks, normal_scores
 
 
@@ -97,7 +97,7 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
     memory = sampled_bytes(draws, n1, held, 24.0 if rule.mean_difference else 0.0)
     # a draw takes n1 steps of a partial shuffle (the first group, as named), then its tail test
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
-                         draws * (n1 * 12.0 + 250.0), memory, arrangements=count,
+                         parallel_ops(draws * (n1 * 12.0 + 250.0), draws), memory, arrangements=count,
                          note=f"{draws:,} draws"))
     return out
 

@@ -63,8 +63,13 @@ def _estimate_and_normal(design) -> list:
     fam = design.settings.family
     if isinstance(design, d.TwoSampleDesign):
         n1, n2 = len(design.x), len(design.y)
+        normal = Part("normal", "normal theory", 40.0 * (n1 + n2))
+        if fam == "normal-scores":     # its shift is the median of the pairwise differences
+            pairs = float(n1) * n2
+            return [normal, Part("pairs", "Hodges-Lehmann shift (pairwise differences)",
+                                 pairs * 2, pairs * 8 * 3)]
         if fam != "ranks":
-            return [Part("normal", "normal theory", 40.0 * (n1 + n2))]
+            return [normal]
         from ..engine.rankintervals import EXACT_LAW_OPS, mann_whitney_ops
 
         pairs = float(n1) * n2

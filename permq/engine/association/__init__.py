@@ -35,7 +35,7 @@ from ..core.counting import multinomial
 from ..core.limits import DEFAULT_DRAWS
 from ..core.progress import NO_PROGRESS, Progress
 from ..core.scores import midranks
-from ..montecarlo.sampling import require_seed, sampled_bytes
+from ..montecarlo.sampling import parallel_ops, require_seed, sampled_bytes
 from ..tables import ranked
 from .adjusted import _run_freedman_lane, adjusted_coefficient
 from .pairings import (CHUNK, DESCRIPTIONS, _big, _has_ties, _run_enumeration, _run_monte_carlo,
@@ -93,7 +93,7 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
     per_draw = {"kendall": 6 * n + 4 * n * np.log2(n), "slope": 12.0 * n}.get(statistic, 6.0 * n)
     # a block of shuffles and the gathered scores; the slope also holds its shuffled copies
     item_bytes = 38.0 if statistic == "slope" else 8.0
-    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * per_draw,
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, parallel_ops(draws * per_draw, draws),
                          sampled_bytes(draws, n, item_bytes), arrangements=count,
                          note=f"{draws:,} draws"))
     return out

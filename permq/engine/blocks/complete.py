@@ -19,7 +19,7 @@ from ..core import pvalues
 from ..core.grid import MAX_DECIMALS, centred, integer_grid, negligible
 from ..core.progress import NO_PROGRESS, Progress
 from ..core.scores import midranks
-from ..montecarlo.sampling import iter_blocks
+from ..montecarlo.sampling import iter_blocks, parallel_ops
 from .shared import (CHUNK_ROWS, DESCRIPTIONS, PAGE_MAX_TREATMENTS, STATISTIC_NAMES,
                      VECTOR_MAX_TREATMENTS, _fraction_sum, _merge_tallies, _name, _outcome,
                      convolve_exact, design_arrays, integer_tail_mask)
@@ -235,7 +235,7 @@ def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
                              note=f"{words(count)} arrangements "
                                   f"({words(count // factorial(prep.k))} after fixing block 1)"))
     n = prep.b * prep.k
-    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, parallel_ops(draws * n * 15.0, draws),
                          min(draws, 8192) * prep.k * 8 * 4, arrangements=count,
                          note=f"{draws:,} draws"))
     return out

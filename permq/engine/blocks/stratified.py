@@ -19,7 +19,7 @@ from ..core.counting import counts_by_size, rescale, top_row_work
 from ..core.grid import MAX_DECIMALS, centred, integer_grid
 from ..core.limits import EXACT_COUNT_LIMIT
 from ..core.scores import midranks
-from ..montecarlo.sampling import iter_blocks
+from ..montecarlo.sampling import iter_blocks, parallel_ops
 from .shared import (DESCRIPTIONS, STATISTIC_NAMES, _fraction_sum, _merge_tallies, _name,
                      _outcome, convolve_exact, design_arrays, integer_tail_mask)
 
@@ -143,7 +143,7 @@ def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
                          arrangements=count,
                          note=f"{words(count)} arrangements"))
     n = sum(b.n for b in prep.blocks)
-    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, draws * n * 15.0,
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, parallel_ops(draws * n * 15.0, draws),
                          min(draws, 8192) * max(b.n for b in prep.blocks) * 8 * 4,
                          arrangements=count, note=f"{draws:,} draws"))
     return out

@@ -18,6 +18,8 @@ from ..core.progress import NO_PROGRESS, Progress
 
 STREAM_UNIT = 8192   # draws per random stream: part of what a seed means; never changes
 BLOCK = STREAM_UNIT  # default batch size (how many draws are handled at once)
+PARALLEL_GAIN = 0.7     # what each worker thread past the first adds (measured)
+PER_DRAW_BYTES = 32.0  # a block's statistics and its tail tests' temporaries, a draw (measured)
 
 
 def c_loops_present() -> bool:
@@ -31,13 +33,24 @@ def c_loops_present() -> bool:
 
 
 def sampled_bytes(draws: int, items: float, item_bytes: float, draw_bytes: float = 0.0,
-                  kept: int = INTERVAL_DRAWS) -> float:
+                  kept: int = INTERVAL_DRAWS, workers: Optional[int] = None) -> float:
     """Peak bytes of a Monte Carlo run, for the planner: one block of draws over `items` (its
-    random integers or shuffled copies, `item_bytes` an item a draw), the block's statistics
-    (16 bytes a draw) and what is kept for each of the first `kept` draws (an interval's
-    jumps, `draw_bytes` each)."""
+    random integers or shuffled copies, `item_bytes` an item a draw) and the block's
+    statistics and tail tests (about 32 bytes a draw), on each worker thread that has a stream
+    unit of its own (iter_blocks), and what is kept for each of the first `kept` draws (an
+    interval's jumps, `draw_bytes` each)."""
     block = min(draws, BLOCK)
-    return block * (items * item_bytes + 16.0) + min(draws, kept) * draw_bytes
+    concurrent = min(-(-int(draws) // STREAM_UNIT), workers or default_workers())
+    return (concurrent * block * (items * item_bytes + PER_DRAW_BYTES)
+            + min(draws, kept) * draw_bytes)
+
+
+def parallel_ops(ops: float, draws: int, workers: Optional[int] = None) -> float:
+    """The share of `ops` one core sees when iter_blocks spreads the draws' stream units over
+    the worker threads: each thread past the first adds about 0.7 of a core (measured at 2
+    workers: 1.4-1.9 times faster than one, `bench/calibrate.py`); one unit runs on one."""
+    concurrent = min(-(-int(draws) // STREAM_UNIT), workers or default_workers())
+    return ops / (1.0 + PARALLEL_GAIN * (max(concurrent, 1) - 1))
 
 
 def fresh_seed() -> int:

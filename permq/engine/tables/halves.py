@@ -31,6 +31,7 @@ import numpy as np
 from ...errors import PlanError
 from ...lazy import gammaln
 from ...plan.cost import OPS_PER_SECOND, Candidate, calibration
+from ..core.limits import NULL_KEEP_MAX
 from ..core.progress import NO_PROGRESS, Progress
 
 HALVES = "table-halves"
@@ -171,7 +172,9 @@ def _pairs(cols, a: int, b: int) -> float:
 
 def cost(lay: Layout) -> tuple[float, float]:
     """(estimated operations, peak bytes): every u is listed with its K cells, each half's
-    draws are visited once per u (K cells each), and each left value reads two tails."""
+    draws are visited once per u (K cells each), and each left value reads two tails; the
+    null law kept for the result (`null_law`) holds its entries, their sort and their sums,
+    about 48 bytes each."""
     K = lay.cols.size
     nl = int(lay.left.sum())
     us = float(_law_count(lay.cols, nl)[nl])
@@ -180,6 +183,12 @@ def cost(lay: Layout) -> tuple[float, float]:
     ops = us * (6.0 * K + 40.0) + (right + left) * (3.0 * K + 6.0) + us * 30.0 * int(lay.z[-1])
     width = (sum(lay.sizes) + 1) * (int(lay.z[-1]) + 1)
     memory = us * K * 8.0 + 3 * width * 8.0 + 8.0 * K * max(right, left) / max(us, 1.0) + 1e6
+    zmax = int(lay.z[-1])
+    wide_left = 1 if lay.left[1] == 0 else int(lay.left.min()) * zmax + 1
+    # the law's entries (law_bound) are about half of every u times the widest halves' sums
+    # (measured 1.96-2.29 times fewer); past NULL_KEEP_MAX the law is not listed at all
+    entries = 0.5 * us * wide_left * (int(lay.right.min()) * zmax + 1)
+    memory += 48.0 * entries if entries <= NULL_KEEP_MAX else 0.0
     return ops, memory
 
 
@@ -230,11 +239,13 @@ def null_law(x, g, z_units, keep: int) -> tuple | None:
     if lay is None or kernels is None:
         return None
     cols, z = lay.cols.astype(np.int64), lay.z.astype(np.int64)
-    if kernels.law_bound(cols, z, lay.left, lay.right) > keep:
+    bound = kernels.law_bound(cols, z, lay.left, lay.right)
+    if bound > keep:
         return None
     lf, ch = _tables(int(lay.cols.sum()))
+    # room for the bound's entries, not for `keep` of them (the bound is often far smaller)
     qs, ws, n = kernels.law_entries(cols, z, lay.left, lay.aleft, lay.right, lay.aright, lf, ch,
-                                    int(keep))
+                                    max(1, int(bound)))
     if n < 0:
         return None
     support, inverse = np.unique(qs, return_inverse=True)

@@ -23,6 +23,7 @@ from ..core.pvalues import clip, monte_carlo_p
 from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import iter_blocks, require_seed
 from .join import Turn
+from ...errors import PlanError
 from .network import (MAX_ENTRIES, MAX_STAGE_STATES, NetworkTooLarge, count_tables, forward,
                       make_layout, path_bounds)
 from .states import processing_order
@@ -182,10 +183,21 @@ def run(table, statistic: str = "fisher", alternative: str = "two-sided",
         return _single(statistic, warnings)
     prep = prepare(t, statistic, alternative, u, v, stages=t.size)
     if algorithm == NETWORK:
-        if counts.max() > MAX_STAGE_STATES:
-            raise NetworkTooLarge(f"the network would hold {counts.max():.3g} states at one "
-                                  "stage; use Monte Carlo")
-        return _exact(t, prep, progress, warnings)
+        try:
+            if counts.max() > MAX_STAGE_STATES:
+                raise NetworkTooLarge(f"the network would hold {counts.max():.3g} states at "
+                                      "one stage")
+            return _exact(t, prep, progress, warnings)
+        except NetworkTooLarge as exc:
+            # the plan cannot see how many (state, partial sum) pairs the pass will carry;
+            # past the network's limits the statement still answers, by Monte Carlo, and says so
+            if seed is None:
+                raise PlanError(f"no exact p-value: {exc}",
+                                hint="use 'sampled N' for Monte Carlo") from None
+            why = (f"the exact network outgrew its limits ({exc}); the p-value is Monte Carlo "
+                   f"instead ({draws or DEFAULT_DRAWS:,} draws)")
+            return _sampled(t, prep, draws or DEFAULT_DRAWS, seed, progress,
+                            list(warnings) + [why])
     if algorithm == MONTE_CARLO:
         return _sampled(t, prep, draws or DEFAULT_DRAWS, seed, progress, warnings)
     raise ValueError(f"unknown algorithm {algorithm!r} for tables; choose network or monte-carlo")
