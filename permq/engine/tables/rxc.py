@@ -134,9 +134,9 @@ def network_candidate(t, counts, statistic, words: str = NETWORK_WORDS,
         arrangements = tables_with_margins(rows, cols, integer)
     moves = estimated_moves(rows, cols, counts)
     compiled = compiled_route(integer)
-    ops = network_ops(moves, arrangements or states ** 1.5, statistic, compiled)
+    ops = network_ops(moves, states, arrangements or states ** 1.5, compiled)
     memory = (moves * 16.0 + states * 48.0 if compiled else states * 64.0)
-    memory += min(ops * 0.2, 4.0 * MAX_ENTRIES * 24.0) + 2e4
+    memory += _pairs_bytes(moves, arrangements or states ** 1.5, statistic, compiled) + 2e4
     note = f"{_count_words(states)} states"
     return Candidate(algorithm, words, True, ops, memory, note=note, arrangements=arrangements)
 
@@ -153,17 +153,27 @@ def _count_words(v: float) -> str:
     return f"{int(v):,}" if v < 1e7 else f"{v:.3g}"
 
 
-def network_ops(moves, tables, statistic, compiled: bool = False) -> float:
-    """Estimated work of the network: laying it out and the bounds (per move), and the pass
-    over the pairs, which grows like the square root of the number of tables (an empirical
-    fit on this class of machine, `bench/calibrate.py`); Pearson's X^2 settles fewer pairs
-    early and costs about twice as much; the compiled pass for integer statistics about a
-    quarter."""
-    factor = 2.0 if statistic == "chi-square" else 1.0
+def _pairs_bytes(moves, tables, statistic, compiled: bool) -> float:
+    """The (state, partial sum) pairs held at the widest step, in bytes: a fifth of a byte for
+    each move's and each square root of a table's work (Pearson's X^2 settles fewer pairs
+    early: twice), up to the network's limit (MAX_ENTRIES pairs in four arrays)."""
+    work = moves * 30.0 * (0.3 if compiled else 1.0) + (
+        (2.0 if statistic == "chi-square" else 1.0) * (0.25 if compiled else 1.0)
+        * 1.0e4 * float(np.sqrt(max(tables, 1.0))))
+    return min(work * 0.2, 4.0 * MAX_ENTRIES * 24.0)
+
+
+def network_ops(moves, states, tables, compiled: bool = False) -> float:
+    """Estimated work of the network. The compiled pass for integer statistics: laying it out
+    (per move) and the pass over the pairs, which grows like the square root of the number of
+    tables, a quarter of it compiled. The sorting network for Fisher's and Pearson's
+    statistics: per move, per state (the bounds) and the pairs' pass, which grows like the
+    cube root of the number of tables, the pruning settling most pairs early (least squares
+    on 111 tables of 2-4 rows and 2-6 columns, 13 to 212 counts, `bench/calibrate.py`:
+    95% of the times within 2x)."""
     if compiled:
-        factor *= 0.25
-    return moves * 30.0 * (0.3 if compiled else 1.0) + factor * 1.0e4 * float(
-        np.sqrt(max(tables, 1.0)))
+        return moves * 9.0 + 0.25 * 1.0e4 * float(np.sqrt(max(tables, 1.0)))
+    return moves * 3.0 + states * 94.0 + 9.5e3 * float(np.cbrt(max(tables, 1.0)))
 
 
 @lru_cache(maxsize=4)
