@@ -699,6 +699,16 @@ def replace_rows(readme: Path, lines: list) -> None:
     readme.write_text("\n".join(body) + "\n")
 
 
+def _count(v) -> str:
+    """A reference set's size, 3 significant digits, also past the float range."""
+    from permq.plan.sizes import words
+
+    try:
+        return f"{float(v):.3g}"
+    except OverflowError:
+        return words(v)
+
+
 def table(rows, whole=False, process_times=True) -> str:
     out = ["| design | permq | target | met | explain predicted | reference set | beside scipy |",
            "|---|---|---|---|---|---|---|"]
@@ -707,12 +717,12 @@ def table(rows, whole=False, process_times=True) -> str:
     for name, t, target, r, note in rows:
         o = getattr(r, "outcome", None)
         if o is None and hasattr(r, "rows"):        # several tests on one reference set
-            ref = (f"{r.arrangements:.3g} joint arrangements, {r.algorithm}"
+            ref = (f"{_count(r.arrangements)} joint arrangements, {r.algorithm}"
                    if r.method == "exact" else f"{r.draws:,} joint draws")
         elif o is None:
             ref = getattr(r, "reference", "")
         else:
-            ref = (f"{o.arrangements:.3g} arrangements, {o.algorithm}" if o.method == "exact"
+            ref = (f"{_count(o.arrangements)} arrangements, {o.algorithm}" if o.method == "exact"
                    else f"{o.draws:,} draws")
         extra = getattr(r, "extra", {}) or {}
         predicted = extra.get("estimated_seconds")
