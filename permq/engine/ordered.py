@@ -41,7 +41,9 @@ from .ksample.counting import compositions, rescale_ways
 from .core.progress import NO_PROGRESS, Progress
 from .tables import ranked
 
-_CHUNK_ROWS = 1 << 16   # labels x groups cells in one chunk of draws (2^16 ran fastest of 2^14-2^21, and holds 1/32 of 2^21)
+# labels x groups cells in one chunk of draws (2^16 ran fastest of 2^14-2^21 in fresh
+# processes, and holds 1/32 of what 2^21 did)
+_CHUNK_ROWS = 1 << 16
 # listing one assignment for the slope interval costs about this many operations per item
 _SLOPE_OPS_PER_ITEM = 16.0
 
@@ -118,9 +120,9 @@ def _jt_monte_carlo(N: int, k: int, blocks: int, arr, draws: int) -> Candidate:
     rows = max(1, _CHUNK_ROWS // (N * k))
     chunk = 8.0 * rows * (2.0 * N * k + 5.0 * blocks * k)
     block = 8.0 * min(draws, sampling.BLOCK) * N
-    concurrent = min(-(-int(draws) // sampling.STREAM_UNIT), sampling.default_workers())
     return Candidate("monte-carlo", "Monte Carlo: random assignments to groups", False,
-                     sampling.parallel_ops(ops, draws), concurrent * (chunk + block),
+                     sampling.parallel_ops(ops, draws),
+                     sampling.concurrent_units(draws) * (chunk + block),
                      note=f"cost for {draws:,} draws", arrangements=arr)
 
 

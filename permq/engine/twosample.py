@@ -97,7 +97,8 @@ def candidates(rule, x, y, draws: int) -> list[Candidate]:
     memory = sampled_bytes(draws, n1, held, 24.0 if rule.mean_difference else 0.0)
     # a draw takes n1 steps of a partial shuffle (the first group, as named), then its tail test
     out.append(Candidate("monte-carlo", "Monte Carlo sampling of arrangements", False,
-                         parallel_ops(draws * (n1 * 12.0 + 250.0), draws), memory, arrangements=count,
+                         parallel_ops(draws * (n1 * 12.0 + 250.0), draws), memory,
+                         arrangements=count,
                          note=f"{draws:,} draws"))
     return out
 

@@ -93,8 +93,8 @@ def candidates(statistic: str, y, x, draws: int = DEFAULT_DRAWS, covariates=None
     per_draw = {"kendall": 6 * n + 4 * n * np.log2(n), "slope": 12.0 * n}.get(statistic, 6.0 * n)
     # a block of shuffles and the gathered scores; the slope also holds its shuffled copies
     item_bytes = 38.0 if statistic == "slope" else 8.0
-    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, parallel_ops(draws * per_draw, draws),
-                         sampled_bytes(draws, n, item_bytes), arrangements=count,
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False,
+                         parallel_ops(draws * per_draw, draws), sampled_bytes(draws, n, item_bytes), arrangements=count,
                          note=f"{draws:,} draws"))
     return out
 

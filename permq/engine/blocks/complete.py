@@ -235,7 +235,8 @@ def _complete_candidates(prep: Complete, draws: int) -> list[Candidate]:
                              note=f"{words(count)} arrangements "
                                   f"({words(count // factorial(prep.k))} after fixing block 1)"))
     n = prep.b * prep.k
-    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, parallel_ops(draws * n * 15.0, draws),
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False,
+                         parallel_ops(draws * n * 15.0, draws),
                          min(draws, 8192) * prep.k * 8 * 4, arrangements=count,
                          note=f"{draws:,} draws"))
     return out

@@ -143,7 +143,8 @@ def _stratified_candidates(prep: Stratified, draws: int) -> list[Candidate]:
                          arrangements=count,
                          note=f"{words(count)} arrangements"))
     n = sum(b.n for b in prep.blocks)
-    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False, parallel_ops(draws * n * 15.0, draws),
+    out.append(Candidate("monte-carlo", DESCRIPTIONS["monte-carlo"], False,
+                         parallel_ops(draws * n * 15.0, draws),
                          min(draws, 8192) * max(b.n for b in prep.blocks) * 8 * 4,
                          arrangements=count, note=f"{draws:,} draws"))
     return out

@@ -286,7 +286,8 @@ def monte_carlo_candidate(N: int, arr: int, draws: int = DEFAULT_DRAWS, per_item
                           description: str = "Monte Carlo: random assignments to groups",
                           item_bytes: float = 6.0) -> Candidate:
     # a block of assignments and its group sums; every draw's statistic is kept
-    return Candidate("monte-carlo", description, False, sampling.parallel_ops(float(draws) * N * per_item, draws),
+    return Candidate("monte-carlo", description, False,
+                     sampling.parallel_ops(float(draws) * N * per_item, draws),
                      sampling.sampled_bytes(draws, N, item_bytes, 40.0),
                      note=f"cost for {draws:,} draws",
                      arrangements=arr)

@@ -40,17 +40,21 @@ def sampled_bytes(draws: int, items: float, item_bytes: float, draw_bytes: float
     unit of its own (iter_blocks), and what is kept for each of the first `kept` draws (an
     interval's jumps, `draw_bytes` each)."""
     block = min(draws, BLOCK)
-    concurrent = min(-(-int(draws) // STREAM_UNIT), workers or default_workers())
-    return (concurrent * block * (items * item_bytes + PER_DRAW_BYTES)
+    return (concurrent_units(draws, workers) * block * (items * item_bytes + PER_DRAW_BYTES)
             + min(draws, kept) * draw_bytes)
+
+
+def concurrent_units(draws: int, workers: Optional[int] = None) -> int:
+    """How many stream units iter_blocks works on at once: one a worker thread, at most as
+    many as the draws fill."""
+    return max(1, min(-(-int(draws) // STREAM_UNIT), workers or default_workers()))
 
 
 def parallel_ops(ops: float, draws: int, workers: Optional[int] = None) -> float:
     """The share of `ops` one core sees when iter_blocks spreads the draws' stream units over
     the worker threads: each thread past the first adds about 0.7 of a core (measured at 2
     workers: 1.4-1.9 times faster than one, `bench/calibrate.py`); one unit runs on one."""
-    concurrent = min(-(-int(draws) // STREAM_UNIT), workers or default_workers())
-    return ops / (1.0 + PARALLEL_GAIN * (max(concurrent, 1) - 1))
+    return ops / (1.0 + PARALLEL_GAIN * (concurrent_units(draws, workers) - 1))
 
 
 def fresh_seed() -> int:

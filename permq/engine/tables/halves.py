@@ -180,10 +180,10 @@ def cost(lay: Layout) -> tuple[float, float]:
     us = float(_law_count(lay.cols, nl)[nl])
     right = _pairs(lay.cols, int(lay.right[0]), int(lay.right[1]))
     left = 0.0 if lay.left[1] == 0 else _pairs(lay.cols, int(lay.left[0]), int(lay.left[1]))
-    ops = us * (6.0 * K + 40.0) + (right + left) * (3.0 * K + 6.0) + us * 30.0 * int(lay.z[-1])
-    width = (sum(lay.sizes) + 1) * (int(lay.z[-1]) + 1)
-    memory = us * K * 8.0 + 3 * width * 8.0 + 8.0 * K * max(right, left) / max(us, 1.0) + 1e6
     zmax = int(lay.z[-1])
+    ops = us * (6.0 * K + 40.0) + (right + left) * (3.0 * K + 6.0) + us * 30.0 * zmax
+    width = (sum(lay.sizes) + 1) * (zmax + 1)
+    memory = us * K * 8.0 + 3 * width * 8.0 + 8.0 * K * max(right, left) / max(us, 1.0) + 1e6
     wide_left = 1 if lay.left[1] == 0 else int(lay.left.min()) * zmax + 1
     # the law's entries (law_bound) are about half of every u times the widest halves' sums
     # (measured 1.96-2.29 times fewer); past NULL_KEEP_MAX the law is not listed at all

@@ -204,10 +204,10 @@ def run(table, statistic: str = "fisher", alternative: str = "two-sided",
             if seed is None:
                 raise PlanError(f"no exact p-value: {exc}",
                                 hint="use 'sampled N' for Monte Carlo") from None
+            draws = draws or DEFAULT_DRAWS
             why = (f"the exact network outgrew its limits ({exc}); the p-value is Monte Carlo "
-                   f"instead ({draws or DEFAULT_DRAWS:,} draws)")
-            return _sampled(t, prep, draws or DEFAULT_DRAWS, seed, progress,
-                            list(warnings) + [why])
+                   f"instead ({draws:,} draws)")
+            return _sampled(t, prep, draws, seed, progress, list(warnings) + [why])
     if algorithm == MONTE_CARLO:
         return _sampled(t, prep, draws or DEFAULT_DRAWS, seed, progress, warnings)
     raise ValueError(f"unknown algorithm {algorithm!r} for tables; choose network or monte-carlo")
