@@ -111,6 +111,12 @@ def fitting(rng) -> list:
             t = rng.multinomial(per_cell * cells, np.full(cells, 1 / cells)).reshape(shape)
             out.append((_table_text(t), None))
             out.append((_table_text(t) + " using chi-square", None))
+    for n in (6, 9):         # tiny one-sample statements: what each of its families costs at least
+        d = _values(rng, n, 1, 0.2)
+        for opts in ("", " using ranks", " using signs", " alternative higher"):
+            out.append((f"compare {lst(d)} vs 0{opts}", None))
+    for b, k in ((400, 5), (700, 3)):   # many blocks: the normal theory's least squares shows
+        out.append(("compare y by t within b sampled 2000 seed 1", _blocks_table(rng, b, k, 1)))
     return out
 
 

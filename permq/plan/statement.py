@@ -98,11 +98,14 @@ def _estimate_and_normal(design) -> list:
         out = [Part("normal", "normal theory", 60.0 * n)]
         if design.blocks is not None and fam == "means":
             # means within blocks: least squares on block and treatment dummies
-            # (normal/blocks.py additive_f, stratified_mean_t); the dummies
-            # and the full model's copy of them are held; LAPACK's work is not in numpy's
+            # (normal/blocks.py additive_f, stratified_mean_t), two fits; LAPACK's n p^2
+            # runs at about 0.1-0.3 ns each on two cores (numpy.linalg.lstsq measured at
+            # n p^2 from 2e3 to 9e8), each call costs about 40 us; the dummies and the full
+            # model's copy of them are held; LAPACK's work is not in numpy's
             p = float(len(np.unique(design.blocks)) + design.groups.max() + 1)
             out.append(Part("least-squares", "normal theory's least squares on block and "
-                                             "treatment dummies", 0.2 * n * p * p, 2.0 * 8.0 * n * p))
+                                             "treatment dummies",
+                            0.05 * n * p * p + 8.0 * n * p + 1.6e4, 2.0 * 8.0 * n * p))
         if design.ordered and design.blocks is None:
             from ..engine.core.counting import multinomial
             from ..engine.core.limits import limits_for

@@ -190,7 +190,7 @@ def _vector_dp_cost(ints: np.ndarray) -> tuple[float, float, bool, str]:
     spread = ints - ints.min(axis=1, keepdims=True)
     unit = reduce(gcd, (int(x) for x in np.unique(spread) if x), 0) or 1
     for row in ints:
-        p = factorial(k)
+        p = _distinct_count(row)           # the block's distinct orders (ties repeat none)
         ops += states * p * k * 12
         mem = max(mem, min(states * p, CHUNK_ROWS) * k * 8 * 4 + states * k * 8 * 2)
         reach += int(row.max() - row.min()) // unit
