@@ -19,6 +19,7 @@ from .data import decimals
 from .errors import Cancelled, PermqError
 from .families.registry import family_for
 from .engine.core.progress import Progress
+from .engine.core.limits import using_memory
 from .engine.montecarlo.sampling import using_workers
 from .plan import seeds, smallest
 from .plan import statement as statement_costs
@@ -48,6 +49,11 @@ def bind_seeded(node, text: str, catalog: Catalog, defaults: Defaults):
 
 def analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Progress):
     """One analysis statement, end to end."""
+    with using_memory(defaults.memory_bytes):        # engines whose peak the data decide read it
+        return _analyse(node, text, catalog, defaults, progress)
+
+
+def _analyse(node, text: str, catalog: Catalog, defaults: Defaults, progress: Progress):
     from . import margins
 
     design, choice = bind_seeded(node, text, catalog, defaults)

@@ -96,11 +96,14 @@ def result_block(r: Result, color: bool = False) -> str:
     method_word = "exact" if o.method == "exact" else "Monte Carlo"
     heading = (r.exact_heading if o.method == "exact" and r.exact_heading
                else "permutation (" + method_word + ")")
-    lines.append(f"  {'':<15}{heading:<28}normal theory")
     p_label = f"p ({r.alternative})"
     normal_p = fmt.normal_p(nt)
     exact_p = fmt.p(o.p_value) if o.method == "exact" else fmt.sampled_p(o.p_value, o.p_interval)
-    lines.append(_c(f"  {p_label:<15}{exact_p:<28}{normal_p}", BOLD, color))
+    exact_iv = _interval_or_why(est.interval) if est is not None else ""
+    # the permutation column is 28 wide, wider when its longest entry needs it
+    w = max(28, *(len(v) + 2 for v in (heading, exact_p, exact_iv)))
+    lines.append(f"  {'':<15}{heading:<{w}}normal theory")
+    lines.append(_c(f"  {p_label:<15}{exact_p:<{w}}{normal_p}", BOLD, color))
     if o.method != "exact" and o.draws and fmt.as_extreme(o.p_value, o.draws) == 0:
         lines.append(f"  {'':<15}no draw as extreme as the observed: p = 1 / ({o.draws:,} + 1)")
     if nt:
@@ -114,9 +117,8 @@ def result_block(r: Result, color: bool = False) -> str:
     if est is not None:
         lines.append(f"  {'estimate':<15}{est.name} = {fmt.num(est.value)}")
         lvl = f"{est.level * 100:g}% interval"
-        exact_iv = _interval_or_why(est.interval)
         normal_iv = fmt.interval(nt.interval) if nt and nt.interval is not None else "-"
-        lines.append(f"  {lvl:<15}{exact_iv:<28}{normal_iv}")
+        lines.append(f"  {lvl:<15}{exact_iv:<{w}}{normal_iv}")
         lines.append(_c(f"  {'':<15}{est.method}", DIM, color))
         for x in r.also_normal:          # further textbook intervals, one line each
             if x.interval is not None:

@@ -12,6 +12,8 @@ count below which double precision holds every count exactly.
 """
 from __future__ import annotations
 
+from contextlib import contextmanager
+from contextvars import ContextVar
 from dataclasses import dataclass
 
 from ...plan.cost import OPS_PER_SECOND
@@ -43,3 +45,22 @@ def limits_for(settings) -> Limits:
 
 
 NO_LIMITS_GIVEN = Limits()
+
+
+# `set memory` for the statement being run (the pipeline sets it around the whole statement)
+_MEMORY: ContextVar = ContextVar("permq_memory", default=DEFAULT_MEMORY_BYTES)
+
+
+def memory_budget() -> float:
+    """The memory the running statement may use, in bytes."""
+    return float(_MEMORY.get())
+
+
+@contextmanager
+def using_memory(memory_bytes: float):
+    """Run the statement inside within `memory_bytes` (its `set memory`)."""
+    token = _MEMORY.set(float(memory_bytes))
+    try:
+        yield
+    finally:
+        _MEMORY.reset(token)

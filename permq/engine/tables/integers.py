@@ -18,17 +18,39 @@ from ...lazy import gammaln
 
 from ..core.progress import NO_PROGRESS, Progress
 from .concordance import ConcordanceGain
+from ..core.limits import memory_budget
 from .network import MAX_CODE, NetworkTooLarge, dense_size
 
 # Most moves the layout may keep, and most pairs one stage may carry.
 MAX_MOVES = 80_000_000
 MAX_PAIRS = 40_000_000
+# Bytes one pair holds at the peak: its sum and mass and the scratch they are merged in
+# (tracemalloc over Kendall and Jonckheere-Terpstra tables, `rxc.integer_pairs`).
+PAIR_BYTES = 50
 # Sums added up at once in one dense window (a run of states; small enough to stay in cache).
 WINDOW = 1 << 16
 
 
 class TooWide(MemoryError):
-    """The compiled pass would hold too much; the sorting network takes over."""
+    """The compiled pass would hold too much: past its own limits the sorting network takes
+    over; past the statement's memory budget (`budget`) no exact network does."""
+
+    def __init__(self, message: str, budget: bool = False):
+        super().__init__(message)
+        self.budget = budget
+
+
+def pair_limit(held: float = 0.0) -> int:
+    """Most pairs one stage may carry: MAX_PAIRS, or fewer when the statement's memory budget
+    (`set memory`), less the `held` bytes of the layout and its bounds, holds fewer."""
+    return int(max(0.0, min(MAX_PAIRS, (memory_budget() - held) / PAIR_BYTES)))
+
+
+def _too_wide(what: str, max_pairs: int) -> TooWide:
+    if max_pairs < MAX_PAIRS:
+        return TooWide(f"{what}, past the memory budget of {memory_budget() / 1e9:g} GB "
+                       "('set memory')", budget=True)
+    return TooWide(what)
 
 
 @lru_cache(maxsize=1)
@@ -69,6 +91,13 @@ class CompiledLayout:
         return len(self.rows) - 1
 
     @property
+    def nbytes(self) -> int:
+        """Bytes the layout holds, with the bounds a pass adds (three doubles a state)."""
+        held = sum(a.nbytes for part in (self.reach, self.digits, self.offsets, self.dst)
+                   for a in part)
+        return held + 24 * sum(a.size for a in self.reach)
+
+    @property
     def stages(self) -> int:
         return self.per_column * len(self.cols)
 
@@ -88,18 +117,24 @@ def layout(rows: tuple, cols: tuple) -> CompiledLayout:
     after = tuple(int(sum(cols[j + 1:])) for j in range(len(cols)))
     shell = CompiledLayout(rows, cols, radix, base, after, (), (), (), (), 0.0)
     reach = [np.array([int(np.dot(rows, radix))], np.int64)]
-    offsets, dst, paths, moves = [], [], np.ones(1), 0
+    offsets, dst, paths, moves, held = [], [], np.ones(1), 0, 0
     for stage in range(shell.stages):
         i, j, after_j, col_j, fold = shell.stage_args(stage)
         off, nxt = k.moves_of(reach[-1], radix, base, i, after_j, col_j, fold)
         moves += nxt.size
         if moves > MAX_MOVES:
             raise NetworkTooLarge(f"the network has more than {MAX_MOVES:,} moves")
+        # what the layout keeps, this stage's moves and the scratch that places them (a
+        # dense index up to 8 codes a move, the paths' weights) and the digits to come
+        if held + off.nbytes + nxt.nbytes + 92 * nxt.size > memory_budget():
+            raise TooWide(f"a layout past the memory budget of {memory_budget() / 1e9:g} GB "
+                          "('set memory')", budget=True)
         codes, pos = k.locate(nxt, max(8 * nxt.size, 1 << 20))
         paths = np.bincount(pos, weights=np.repeat(paths, np.diff(off)), minlength=codes.size)
         reach.append(codes)
         offsets.append(off)
         dst.append(pos)
+        held += off.nbytes + pos.nbytes + codes.nbytes * (1 + len(rows))
     digits = tuple(k.digits_of(codes, radix, base) for codes in reach)
     return CompiledLayout(rows, cols, radix, base, after, tuple(reach), digits, tuple(offsets),
                           tuple(dst), float(paths[0]))
@@ -145,13 +180,13 @@ def _forward_stage(k, lay, f, active, start, vals, mass, kind, table, rows, lf, 
     i, j, after_j, col_j, fold = lay.stage_args(f)
     moves = int(np.sum(lay.offsets[f][active + 1] - lay.offsets[f][active]))
     if moves > max_pairs:
-        raise TooWide(f"{moves:,} moves at one stage")
+        raise _too_wide(f"{moves:,} moves at one stage", max_pairs)
     n_start, vals, mass = k.spread_stage(
         active, start, vals, mass, lay.digits[f], lay.offsets[f], lay.dst[f], i, j,
         after_j, col_j, fold, kind, table, rows, lf, lay.reach[f + 1].size,
         WINDOW)
     if vals.size > max_pairs:
-        raise TooWide(f"{vals.size:,} pairs at one stage")
+        raise _too_wide(f"{vals.size:,} pairs at one stage", max_pairs)
     n_next = lay.reach[f + 1].size
     nb_hi = hi_b[f + 1] if prune else np.zeros(n_next)
     nb_lo = lo_b[f + 1] if prune else np.zeros(n_next)
@@ -161,7 +196,7 @@ def _forward_stage(k, lay, f, active, start, vals, mass, kind, table, rows, lf, 
 
 
 def forward(lay: CompiledLayout, cell, region, progress: Progress = NO_PROGRESS,
-            max_pairs: int = MAX_PAIRS) -> Result:
+            max_pairs: int | None = None) -> Result:
     """Extreme and settled-ordinary mass for the region (lo, hi), or with region None the
     whole null distribution of S.
 
@@ -169,6 +204,11 @@ def forward(lay: CompiledLayout, cell, region, progress: Progress = NO_PROGRESS,
     S (from the end backwards) are grown one stage at a time, always the smaller side, and
     where they meet each pair is settled against its state's law (`compiled.join_stage`)."""
     k = kernels()
+    if max_pairs is None:
+        max_pairs = pair_limit(lay.nbytes)
+        if max_pairs == 0:
+            raise TooWide(f"{lay.nbytes / 1e6:.3g} MB of layout, past the memory budget of "
+                          f"{memory_budget() / 1e9:g} GB ('set memory')", budget=True)
     kind, table, rows = _gain_args(cell)
     prune = region is not None
     lo_thr, hi_thr = (float(region[0]), float(region[1])) if prune else (-np.inf, np.inf)
@@ -209,7 +249,8 @@ def forward(lay: CompiledLayout, cell, region, progress: Progress = NO_PROGRESS,
                     j, after_j, col_j, fold, kind, table, rows, lf, b_start, b_vals, b_mass,
                     WINDOW)
                 if b_vals.size > max_pairs:
-                    raise TooWide(f"{b_vals.size:,} sums in the laws of the rest at one stage")
+                    raise _too_wide(f"{b_vals.size:,} sums in the laws of the rest at one stage",
+                                    max_pairs)
     progress.step(1.0, "network")
     if not prune:
         return Result(0.0, 0.0, vals.astype(float), mass)

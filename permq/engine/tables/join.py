@@ -14,19 +14,21 @@ from __future__ import annotations
 
 import numpy as np
 
-from .network import MAX_ENTRIES, Layout, gains, log_factorials, merge, step
+from .network import Layout, entry_limit, gains, log_factorials, merge, step
 
 # Turn round when the lists would hold at most this many sums per pair carried (or this many).
 TURN_RATIO = 4.0
 TURN_FLOOR = 200_000
 
 
-def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf, budget=MAX_ENTRIES):
+def future_lists(layout: Layout, cell, codes, stage: int, quantum, lf, budget=None):
     """Distribution of the rest of S from each of `codes` at `stage` (a column boundary).
 
     Returns (code, rest, probability) sorted by code, then rest; each code's probabilities
-    sum to 1. Returns None when a step would hold more than `budget` sums.
+    sum to 1. Returns None when a step would hold more than `budget` sums (None: the
+    network's limit for one step).
     """
+    budget = entry_limit() if budget is None else budget
     reach = [np.unique(codes)]
     for s in range(stage, layout.stages):
         reach.append(np.unique(step(layout, s, reach[-1]).nxt))
@@ -109,7 +111,7 @@ class Turn:
         j = stage // self.layout.per_column
         if j >= len(self.layout.cols) - 1:
             return None
-        budget = min(max(TURN_RATIO * codes.size, TURN_FLOOR), MAX_ENTRIES)
+        budget = min(max(TURN_RATIO * codes.size, TURN_FLOOR), entry_limit())
         at = self.layout.position(stage, np.unique(codes))
         if float(self.ways[stage][at].sum()) > 1e3 * budget:
             return None                       # hopeless: not worth an attempt

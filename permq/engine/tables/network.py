@@ -32,10 +32,15 @@ from dataclasses import dataclass, replace
 import numpy as np
 from ...lazy import gammaln
 
+from ..core.limits import memory_budget
 from ..core.progress import NO_PROGRESS, Progress
 
 # Most (state, partial sum) pairs one step may create; beyond it the exact network gives way.
 MAX_ENTRIES = 40_000_000
+# Bytes one pair of a step holds at the peak: its state, sum and mass, the move it came by and
+# the merge's scratch (tracemalloc over Fisher's and Pearson's tables: 65-83, more where the
+# layout's states weigh).
+ENTRY_BYTES = 80
 # Most states one stage may hold when the network is laid out.
 MAX_STAGE_STATES = 20_000_000
 # Mixed-radix codes must fit in a signed 64-bit integer.
@@ -44,6 +49,20 @@ MAX_CODE = 2 ** 62
 
 class NetworkTooLarge(MemoryError):
     """The exact network would need more memory than it is allowed."""
+
+
+def entry_limit() -> int:
+    """Most pairs one step may create: MAX_ENTRIES, or fewer when the statement's memory
+    budget (`set memory`) holds fewer."""
+    return int(min(MAX_ENTRIES, memory_budget() / ENTRY_BYTES))
+
+
+def too_many(total: int, limit: int, what: str = "pairs at one step") -> NetworkTooLarge:
+    """The error for a pass that would outgrow its limit, naming the budget when it binds."""
+    words = f"the network would carry {total:,} {what}"
+    if limit < MAX_ENTRIES and limit == int(memory_budget() / ENTRY_BYTES):
+        words += f", past the memory budget of {memory_budget() / 1e9:g} GB ('set memory')"
+    return NetworkTooLarge(words)
 
 
 @dataclass(frozen=True)
@@ -165,8 +184,9 @@ def step(layout: Layout, stage: int, codes, lf=None) -> Step:
     hi = np.where((left >= 0) & (left <= layout.cols[j]), np.minimum(digit, left), -1)
     cnt = np.maximum(hi - lo + 1, 0)
     total = int(cnt.sum())
-    if total > MAX_ENTRIES:
-        raise NetworkTooLarge(f"the network would carry {total:,} pairs at one step")
+    limit = entry_limit()
+    if total > limit:
+        raise too_many(total, limit)
     rep = np.repeat(np.arange(codes.size), cnt)
     x = np.arange(total) - np.repeat(np.cumsum(cnt) - cnt - lo, cnt)
     nxt = codes[rep] - x * layout.radix[i]
@@ -260,8 +280,9 @@ def _expand(layout, stage, at, vals, mass, cell, lf):
     which = np.repeat(np.arange(first.size), np.diff(np.r_[first, at.size]))
     per = cnt[which]
     total = int(per.sum())
-    if total > MAX_ENTRIES:
-        raise NetworkTooLarge(f"the network would carry {total:,} pairs at one step")
+    limit = entry_limit()
+    if total > limit:
+        raise too_many(total, limit)
     rep = np.repeat(np.arange(at.size), per)
     move = np.arange(total) + np.repeat(starts[which] - (np.cumsum(per) - per), per)
     return nxt[move], vals[rep] + g[move], mass[rep] * w[move]

@@ -24,8 +24,8 @@ from ..core.progress import NO_PROGRESS, Progress
 from ..montecarlo.sampling import iter_blocks, require_seed
 from .join import Turn
 from ...errors import PlanError
-from .network import (MAX_ENTRIES, MAX_STAGE_STATES, NetworkTooLarge, count_tables, forward,
-                      make_layout, path_bounds)
+from .network import (ENTRY_BYTES, MAX_STAGE_STATES, NetworkTooLarge, count_tables, entry_limit,
+                      forward, make_layout, path_bounds)
 from .states import processing_order
 from . import concordance, integers
 from .stats import NAMES, Prepared, check_choice, prepare as prepare_cells
@@ -138,7 +138,7 @@ def network_candidate(t, counts, statistic, words: str = NETWORK_WORDS,
     if compiled:
         pairs = integer_pairs(moves, tables)
         ops = moves * 9.0 + pairs * 18.0
-        memory = moves * 16.0 + states * 48.0 + min(pairs, integers.MAX_PAIRS) * 50.0
+        memory = moves * 16.0 + states * 48.0 + pairs * integers.PAIR_BYTES
     else:
         ops = network_ops(moves, states, tables)
         memory = states * 64.0 + _pairs_bytes(moves, tables, statistic)
@@ -173,11 +173,11 @@ def integer_pairs(moves, tables) -> float:
 def _pairs_bytes(moves, tables, statistic) -> float:
     """The sorting network's (state, partial sum) pairs held at the widest step, in bytes: a
     fifth of a byte for each move's and each square root of a table's work (Pearson's X^2
-    settles fewer pairs early: twice), up to the network's limit (MAX_ENTRIES pairs in four
-    arrays)."""
+    settles fewer pairs early: twice), up to the network's limit (`network.entry_limit`
+    pairs)."""
     work = moves * 30.0 + ((2.0 if statistic == "chi-square" else 1.0)
                            * 1.0e4 * float(np.sqrt(max(tables, 1.0))))
-    return min(work * 0.2, 4.0 * MAX_ENTRIES * 24.0)
+    return min(work * 0.2, entry_limit() * ENTRY_BYTES)
 
 
 def network_ops(moves, states, tables) -> float:
@@ -258,7 +258,10 @@ def _exact(t, prep: Prepared, progress, warnings) -> EngineOutcome:
             return EngineOutcome(prep.name, float(prep.reported(prep.observed)),
                                  clip(res.extreme), "exact", NETWORK_WORDS,
                                  arrangements=lay.tables, warnings=tuple(warnings))
-        except (integers.TooWide, NetworkTooLarge):
+        except integers.TooWide as exc:
+            if exc.budget:                 # the sorting network holds more per pair
+                raise NetworkTooLarge(f"the network would carry {exc}") from None
+        except NetworkTooLarge:
             pass                           # the sorting network below holds sparse lists
     layout = cached_layout(rows, cols)
     arrangements = count_tables(layout)
