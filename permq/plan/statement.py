@@ -109,14 +109,18 @@ def _estimate_and_normal(design) -> list:
         if design.ordered and design.blocks is None:
             from ..engine.core.counting import multinomial
             from ..engine.core.limits import limits_for
+            from ..engine.ksample.sums import ROWS
             from ..engine.ordered import _SLOPE_OPS_PER_ITEM
 
             sizes = np.bincount(design.groups)
             listed = big(multinomial(sizes))
             # listed when it fits the statement's limits (engine/ordered.py, slope_estimate)
             if limits_for(design.settings).fits(listed * n * _SLOPE_OPS_PER_ITEM, listed * 8.0 * 3):
+                # the ratios held three times (their chunks, joined, sorted) and the listing's
+                # chunks of up to ROWS assignments, their remaining units and sums
+                chunk = min(listed, float(ROWS)) * n * 8.0 * 3
                 out.append(Part("listing", "the exact trend-slope interval (every assignment)",
-                                listed * n, listed * n * 8 * 2))
+                                listed * n, listed * 8.0 * 3 + chunk))
         return out
     if isinstance(design, d.AssociationDesign):
         n = len(design.y)

@@ -103,9 +103,9 @@ class QuadraticFamily:
         grid = self.grid(x) if self.grid and dense_tables.applies(sizes) else None
         if grid is None:
             return None
-        cells, peak = dense_tables.work(grid.integers, sizes)
-        fits = math.isfinite(cells)
-        return Candidate("dp-dense", DENSE_WORDS, True, cells * 2.0, peak * 8.0 * 2.5 + 1e5,
+        ops, peak = dense_tables.work(grid.integers, sizes)
+        fits = math.isfinite(ops)
+        return Candidate("dp-dense", DENSE_WORDS, True, ops, peak * 8.0 * 2.5 + 1e5,
                          feasible=fits, note="" if fits else "the tables of sums are too large",
                          arrangements=arr)
 
